@@ -1,0 +1,18 @@
+//! loopwright: design printed-circuit shielded H-field loop probes, from a stackup and a loop
+//! size to fabrication files and predicted response.
+//!
+//! The crate is a pipeline (see `docs/architecture.md`): [`spec`] (TOML, serde) →
+//! [`model`] (validated stackup and probe) → [`solve`] (impedance and other solved values) →
+//! geometry → artwork → emitters. The command-line program in `src/main.rs` is a thin layer
+//! over [`cli`].
+
+#![forbid(unsafe_code)]
+#![warn(missing_docs)]
+
+pub mod cli;
+pub mod error;
+pub mod model;
+pub mod solve;
+pub mod spec;
+
+pub use error::{Error, FieldError};

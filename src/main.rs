@@ -1,0 +1,20 @@
+//! The `loopwright` binary: parses the command line and reports errors.
+//!
+//! Exit codes: 0 success; 2 bad input or a request that cannot be met (the message names the
+//! field, the value and the allowed range).
+
+use clap::Parser;
+use std::process::ExitCode;
+
+fn main() -> ExitCode {
+    let cli = loopwright::cli::Cli::parse();
+    match loopwright::cli::run(cli) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            for line in e.to_string().lines() {
+                eprintln!("loopwright: error: {line}");
+            }
+            ExitCode::from(2)
+        }
+    }
+}

@@ -1,0 +1,7 @@
+//! The validated model: what the spec says, checked across fields, in millimetres and SI,
+//! with no optional value waiting for a default and no unresolved name.
+//!
+//! The model does no IO except through [`stackup::load`], which resolves a name or a path.
+
+pub mod stackup;
+pub mod units;

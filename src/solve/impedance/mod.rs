@@ -1,0 +1,479 @@
+//! The impedance engine: quasi-static Z0 and εeff of the trace structures a probe
+//! or a test fixture uses, by published closed forms.
+//!
+//! One type per structure ([`Microstrip`], [`CoatedMicrostrip`], [`Stripline`],
+//! [`Cpwg`], gathered in [`Line`]); the formula family is a value ([`Method`]).
+//! Every result carries [`Warning`]s when the geometry is outside the method's
+//! published validity range; the answer is still given.
+//!
+//! All lengths are millimetres; the formulas only use ratios, so any unit works.
+//! The formulas, their validity ranges, accuracies and sources are collected in
+//! `docs/formulas.md`.
+
+mod cpwg;
+mod microstrip;
+mod spread;
+mod stripline;
+mod width;
+
+pub use spread::{Spread, Tolerances, spread};
+pub use width::{SolveLimits, solve_width};
+
+use crate::error::{FieldError, check_positive, check_range, fmt_num};
+use std::fmt;
+
+/// Free-space wave impedance η0 = μ0·c0 in ohms (CODATA 2022 μ0 = 1.25663706127e-6 H/m,
+/// c0 = 299 792 458 m/s exact).
+pub const ETA0: f64 = 376.730_313_412;
+
+/// Largest length accepted anywhere in the engine, in millimetres.
+pub const MAX_LENGTH_MM: f64 = 1000.0;
+/// Largest relative permittivity accepted.
+pub const MAX_ER: f64 = 200.0;
+
+/// The transmission-line structures the engine knows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Structure {
+    /// Trace on an outer layer over one plane, air above.
+    Microstrip,
+    /// Microstrip under a solder-mask coat.
+    CoatedMicrostrip,
+    /// Trace between two planes, centred or offset.
+    Stripline,
+    /// Grounded coplanar waveguide: trace with coplanar ground on both sides and a plane below.
+    Cpwg,
+}
+
+impl Structure {
+    /// Every structure, in the order the command line lists them.
+    pub const ALL: [Structure; 4] = [
+        Structure::Microstrip,
+        Structure::CoatedMicrostrip,
+        Structure::Stripline,
+        Structure::Cpwg,
+    ];
+
+    /// The name used on the command line and in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Structure::Microstrip => "microstrip",
+            Structure::CoatedMicrostrip => "coated-microstrip",
+            Structure::Stripline => "stripline",
+            Structure::Cpwg => "cpwg",
+        }
+    }
+
+    /// Parses a command-line name.
+    pub fn parse(s: &str) -> Option<Structure> {
+        Structure::ALL.into_iter().find(|m| m.name() == s)
+    }
+
+    /// The methods that apply to this structure, most accurate first (the first is the default
+    /// for typical geometries; see [`default_method`]).
+    pub fn methods(self) -> &'static [Method] {
+        match self {
+            Structure::Microstrip => &[Method::HammerstadJensen, Method::Ipc2141],
+            Structure::CoatedMicrostrip => &[Method::CoverBlend, Method::Ipc2141],
+            Structure::Stripline => &[Method::Wheeler, Method::Cohn, Method::Ipc2141],
+            Structure::Cpwg => &[Method::Conformal],
+        }
+    }
+}
+
+impl fmt::Display for Structure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// A closed-form method (a family of published formulas).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Method {
+    /// Hammerstad & Jensen 1980 microstrip, with their thickness correction.
+    HammerstadJensen,
+    /// The IPC-2141A equations (microstrip, embedded microstrip, symmetric and asymmetric stripline).
+    Ipc2141,
+    /// Hammerstad–Jensen microstrip with the exponential cover blend for a solder-mask coat.
+    CoverBlend,
+    /// Cohn 1954, exact for zero-thickness centred stripline (offset: parallel combination).
+    Cohn,
+    /// Wheeler 1978 finite-thickness stripline as given by Wadell (offset: parallel combination).
+    Wheeler,
+    /// Conformal mapping for grounded CPW (Ghione & Naldi 1983), thickness-corrected.
+    Conformal,
+}
+
+impl Method {
+    /// Every method.
+    pub const ALL: [Method; 6] = [
+        Method::HammerstadJensen,
+        Method::Ipc2141,
+        Method::CoverBlend,
+        Method::Cohn,
+        Method::Wheeler,
+        Method::Conformal,
+    ];
+
+    /// The name used on the command line and in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Method::HammerstadJensen => "hammerstad-jensen",
+            Method::Ipc2141 => "ipc-2141",
+            Method::CoverBlend => "cover-blend",
+            Method::Cohn => "cohn",
+            Method::Wheeler => "wheeler",
+            Method::Conformal => "conformal",
+        }
+    }
+
+    /// Parses a command-line name.
+    pub fn parse(s: &str) -> Option<Method> {
+        Method::ALL.into_iter().find(|m| m.name() == s)
+    }
+}
+
+impl fmt::Display for Method {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// Microstrip: a trace of width `width` and thickness `t` on a dielectric of height `h`
+/// (trace underside to plane) and permittivity `er`, air above.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Microstrip {
+    /// Trace width, mm.
+    pub width: f64,
+    /// Dielectric height from the trace's underside to the plane, mm.
+    pub h: f64,
+    /// Trace thickness, mm (0 allowed: the zero-thickness idealisation).
+    pub t: f64,
+    /// Relative permittivity of the substrate.
+    pub er: f64,
+}
+
+/// Microstrip under a solder-mask coat of thickness `mask_t` (measured over the substrate
+/// beside the trace) and permittivity `mask_er`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CoatedMicrostrip {
+    /// The uncoated line.
+    pub line: Microstrip,
+    /// Mask thickness over the substrate, mm.
+    pub mask_t: f64,
+    /// Mask relative permittivity.
+    pub mask_er: f64,
+}
+
+/// Stripline between two planes: `h1` of dielectric from the upper plane to the trace's top,
+/// `h2` from the trace's bottom to the lower plane (equal: centred). The two dielectrics
+/// may differ (`er1` above, `er2` below), as in a real stackup.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Stripline {
+    /// Trace width, mm.
+    pub width: f64,
+    /// Dielectric between the upper plane and the trace's top, mm.
+    pub h1: f64,
+    /// Dielectric between the trace's bottom and the lower plane, mm.
+    pub h2: f64,
+    /// Trace thickness, mm.
+    pub t: f64,
+    /// Relative permittivity above the trace.
+    pub er1: f64,
+    /// Relative permittivity below the trace.
+    pub er2: f64,
+}
+
+impl Stripline {
+    /// Plane-to-plane spacing b = h1 + t + h2.
+    pub fn b(&self) -> f64 {
+        self.h1 + self.t + self.h2
+    }
+
+    /// True when the trace is centred between the planes (to 1e-9 relative).
+    pub fn is_centred(&self) -> bool {
+        (self.h1 - self.h2).abs() <= 1e-9 * self.h1.max(self.h2)
+    }
+}
+
+/// Grounded coplanar waveguide: trace of `width`, `gap` to coplanar grounds on both sides
+/// (taken as wide and tied to the plane), dielectric `h` to the plane, air above.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Cpwg {
+    /// Trace width, mm.
+    pub width: f64,
+    /// Gap from the trace edge to the coplanar ground, mm.
+    pub gap: f64,
+    /// Dielectric height to the plane, mm.
+    pub h: f64,
+    /// Trace and ground thickness, mm.
+    pub t: f64,
+    /// Substrate relative permittivity.
+    pub er: f64,
+}
+
+/// A trace cross-section of any structure.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Line {
+    /// See [`Microstrip`].
+    Microstrip(Microstrip),
+    /// See [`CoatedMicrostrip`].
+    CoatedMicrostrip(CoatedMicrostrip),
+    /// See [`Stripline`].
+    Stripline(Stripline),
+    /// See [`Cpwg`].
+    Cpwg(Cpwg),
+}
+
+impl Line {
+    /// The structure of this line.
+    pub fn structure(&self) -> Structure {
+        match self {
+            Line::Microstrip(_) => Structure::Microstrip,
+            Line::CoatedMicrostrip(_) => Structure::CoatedMicrostrip,
+            Line::Stripline(_) => Structure::Stripline,
+            Line::Cpwg(_) => Structure::Cpwg,
+        }
+    }
+
+    /// Trace width, mm.
+    pub fn width(&self) -> f64 {
+        match self {
+            Line::Microstrip(m) => m.width,
+            Line::CoatedMicrostrip(c) => c.line.width,
+            Line::Stripline(s) => s.width,
+            Line::Cpwg(c) => c.width,
+        }
+    }
+
+    /// The same line with another width.
+    pub fn with_width(&self, w: f64) -> Line {
+        let mut l = *self;
+        match &mut l {
+            Line::Microstrip(m) => m.width = w,
+            Line::CoatedMicrostrip(c) => c.line.width = w,
+            Line::Stripline(s) => s.width = w,
+            Line::Cpwg(c) => c.width = w,
+        }
+        l
+    }
+
+    /// The dielectric height that sets the line's scale (h, or b for stripline), mm.
+    pub fn scale_height(&self) -> f64 {
+        match self {
+            Line::Microstrip(m) => m.h,
+            Line::CoatedMicrostrip(c) => c.line.h,
+            Line::Stripline(s) => s.b(),
+            Line::Cpwg(c) => c.h,
+        }
+    }
+
+    /// Every length multiplied by `k` (permittivities unchanged).
+    pub fn scaled(&self, k: f64) -> Line {
+        match *self {
+            Line::Microstrip(m) => Line::Microstrip(scale_ms(m, k)),
+            Line::CoatedMicrostrip(c) => Line::CoatedMicrostrip(CoatedMicrostrip {
+                line: scale_ms(c.line, k),
+                mask_t: c.mask_t * k,
+                mask_er: c.mask_er,
+            }),
+            Line::Stripline(s) => Line::Stripline(Stripline {
+                width: s.width * k,
+                h1: s.h1 * k,
+                h2: s.h2 * k,
+                t: s.t * k,
+                ..s
+            }),
+            Line::Cpwg(c) => Line::Cpwg(Cpwg {
+                width: c.width * k,
+                gap: c.gap * k,
+                h: c.h * k,
+                t: c.t * k,
+                er: c.er,
+            }),
+        }
+    }
+
+    /// Checks every field; the names are the command-line flag names without dashes.
+    /// An empty list means the line can be analysed.
+    pub fn validate(&self) -> Vec<FieldError> {
+        let mut e = Vec::new();
+        let er = |e: &mut Vec<FieldError>, name: &str, v: f64| check_range(e, name, v, 1.0, MAX_ER);
+        let t = |e: &mut Vec<FieldError>, name: &str, v: f64| {
+            check_range(e, name, v, 0.0, MAX_LENGTH_MM)
+        };
+        match self {
+            Line::Microstrip(m) => validate_ms(&mut e, m),
+            Line::CoatedMicrostrip(c) => {
+                validate_ms(&mut e, &c.line);
+                t(&mut e, "mask-t", c.mask_t);
+                er(&mut e, "mask-er", c.mask_er);
+            }
+            Line::Stripline(s) => {
+                check_positive(&mut e, "width", s.width, MAX_LENGTH_MM);
+                check_positive(&mut e, "h1", s.h1, MAX_LENGTH_MM);
+                check_positive(&mut e, "h2", s.h2, MAX_LENGTH_MM);
+                t(&mut e, "t", s.t);
+                er(&mut e, "er", s.er1);
+                if s.er2 != s.er1 {
+                    er(&mut e, "er (lower dielectric)", s.er2);
+                }
+            }
+            Line::Cpwg(c) => {
+                check_positive(&mut e, "width", c.width, MAX_LENGTH_MM);
+                check_positive(&mut e, "gap", c.gap, MAX_LENGTH_MM);
+                check_positive(&mut e, "h", c.h, MAX_LENGTH_MM);
+                t(&mut e, "t", c.t);
+                er(&mut e, "er", c.er);
+            }
+        }
+        e
+    }
+}
+
+fn scale_ms(m: Microstrip, k: f64) -> Microstrip {
+    Microstrip {
+        width: m.width * k,
+        h: m.h * k,
+        t: m.t * k,
+        er: m.er,
+    }
+}
+
+fn validate_ms(e: &mut Vec<FieldError>, m: &Microstrip) {
+    check_positive(e, "width", m.width, MAX_LENGTH_MM);
+    check_positive(e, "h", m.h, MAX_LENGTH_MM);
+    check_range(e, "t", m.t, 0.0, MAX_LENGTH_MM);
+    check_range(e, "er", m.er, 1.0, MAX_ER);
+}
+
+/// How serious a warning is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum WarningKind {
+    /// The geometry is outside the method's stated validity range: the answer may be off
+    /// by more than the method's stated accuracy. The width solver refuses such solutions.
+    OutsideValidity,
+    /// Information on how the answer was obtained, or a known accuracy limit inside the range.
+    Note,
+}
+
+/// A warning attached to a result.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Warning {
+    /// Its kind.
+    pub kind: WarningKind,
+    /// The text shown to the user.
+    pub text: String,
+}
+
+impl Warning {
+    pub(crate) fn outside(text: impl Into<String>) -> Self {
+        Warning {
+            kind: WarningKind::OutsideValidity,
+            text: text.into(),
+        }
+    }
+
+    pub(crate) fn note(text: impl Into<String>) -> Self {
+        Warning {
+            kind: WarningKind::Note,
+            text: text.into(),
+        }
+    }
+}
+
+/// Records an `OutsideValidity` warning when `value` is not inside the open range `(lo, hi)`.
+pub(crate) fn range_warning(
+    w: &mut Vec<Warning>,
+    method: &str,
+    what: &str,
+    value: f64,
+    lo: f64,
+    hi: f64,
+) {
+    if !(value > lo && value < hi) {
+        w.push(Warning::outside(format!(
+            "{method}: {what} = {} is outside its validity range {lo} < {what} < {hi}",
+            sig(value)
+        )));
+    }
+}
+
+/// A number with 4 significant digits, for messages.
+pub(crate) fn sig(v: f64) -> String {
+    if !v.is_finite() {
+        return fmt_num(v);
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let digits = (3 - v.abs().log10().floor() as i32).max(0) as usize;
+    format!("{v:.digits$}")
+}
+
+/// The quasi-static solution for one line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Solution {
+    /// Characteristic impedance, Ω.
+    pub z0: f64,
+    /// Effective relative permittivity.
+    pub eps_eff: f64,
+    /// The method that produced it.
+    pub method: Method,
+    /// What the method did and where it is out of its depth.
+    pub warnings: Vec<Warning>,
+}
+
+impl Solution {
+    /// True when some warning says the geometry is outside the method's validity range.
+    pub fn outside_validity(&self) -> bool {
+        self.warnings
+            .iter()
+            .any(|w| w.kind == WarningKind::OutsideValidity)
+    }
+}
+
+/// The most accurate closed form for this line: Hammerstad–Jensen for microstrip, the
+/// cover blend for coated microstrip, Cohn's exact solution for zero-thickness stripline and
+/// Wheeler's finite-thickness formula otherwise, conformal mapping for grounded CPW.
+pub fn default_method(line: &Line) -> Method {
+    match line {
+        Line::Microstrip(_) => Method::HammerstadJensen,
+        Line::CoatedMicrostrip(_) => Method::CoverBlend,
+        Line::Stripline(s) if s.t == 0.0 => Method::Cohn,
+        Line::Stripline(_) => Method::Wheeler,
+        Line::Cpwg(_) => Method::Conformal,
+    }
+}
+
+/// Analyses a line with a method (`None`: [`default_method`]).
+///
+/// Fails with a field error when the line is invalid or the method does not apply to
+/// the structure. A geometry outside the method's validity range still gets its answer,
+/// with an `OutsideValidity` warning.
+pub fn analyse(line: &Line, method: Option<Method>) -> Result<Solution, Vec<FieldError>> {
+    let errors = line.validate();
+    if !errors.is_empty() {
+        return Err(errors);
+    }
+    let method = method.unwrap_or_else(|| default_method(line));
+    let s = line.structure();
+    if !s.methods().contains(&method) {
+        let names: Vec<_> = s.methods().iter().map(|m| m.name()).collect();
+        return Err(vec![FieldError::new(
+            "method",
+            method.name(),
+            format!("for {} the methods are: {}", s.name(), names.join(", ")),
+        )]);
+    }
+    let sol = match line {
+        Line::Microstrip(m) => microstrip::analyse(m, method),
+        Line::CoatedMicrostrip(c) => microstrip::analyse_coated(c, method),
+        Line::Stripline(st) => stripline::analyse(st, method),
+        Line::Cpwg(c) => cpwg::analyse(c),
+    };
+    Ok(sol)
+}
+
+pub use cpwg::ghione_naldi;
+pub use microstrip::{hammerstad_jensen, ipc_embedded, ipc_microstrip};
+pub use stripline::{cohn_centred, ipc_asymmetric, ipc_symmetric, wheeler_centred};

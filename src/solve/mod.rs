@@ -1,0 +1,5 @@
+//! Solved values: numbers computed from the validated model (impedance, and later via pitch).
+
+pub mod elliptic;
+pub mod impedance;
+pub mod roots;

@@ -1,0 +1,123 @@
+//! Bracketed root finding (Brent's method).
+//!
+//! R. P. Brent, *Algorithms for Minimization without Derivatives*, Prentice-Hall
+//! 1973, ch. 4: inverse quadratic interpolation and secant steps, falling back
+//! to bisection, so that the bracket always shrinks and convergence is
+//! guaranteed for any continuous function with a sign change.
+
+/// Why a root search failed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum RootError {
+    /// f(a) and f(b) have the same sign (or one is not finite).
+    NotBracketed {
+        /// f at the lower end.
+        fa: f64,
+        /// f at the upper end.
+        fb: f64,
+    },
+    /// The function returned a non-finite value inside the bracket.
+    NotFinite(f64),
+}
+
+/// Finds x in [a, b] with f(x) = 0 to within `xtol` (absolute), given a sign change.
+pub fn brent(mut f: impl FnMut(f64) -> f64, a: f64, b: f64, xtol: f64) -> Result<f64, RootError> {
+    let (mut a, mut b) = (a, b);
+    let mut fa = f(a);
+    let mut fb = f(b);
+    if !(fa.is_finite() && fb.is_finite()) || fa * fb > 0.0 {
+        return Err(RootError::NotBracketed { fa, fb });
+    }
+    if fa == 0.0 {
+        return Ok(a);
+    }
+    if fb == 0.0 {
+        return Ok(b);
+    }
+    let (mut c, mut fc) = (a, fa);
+    let mut d = b - a;
+    let mut e = d;
+    for _ in 0..200 {
+        if fb * fc > 0.0 {
+            c = a;
+            fc = fa;
+            d = b - a;
+            e = d;
+        }
+        if fc.abs() < fb.abs() {
+            a = b;
+            b = c;
+            c = a;
+            fa = fb;
+            fb = fc;
+            fc = fa;
+        }
+        let tol = 2.0 * f64::EPSILON * b.abs() + 0.5 * xtol;
+        let m = 0.5 * (c - b);
+        if m.abs() <= tol || fb == 0.0 {
+            return Ok(b);
+        }
+        if e.abs() >= tol && fa.abs() > fb.abs() {
+            let s = fb / fa;
+            let (mut p, mut q);
+            if a == c {
+                p = 2.0 * m * s;
+                q = 1.0 - s;
+            } else {
+                let qq = fa / fc;
+                let r = fb / fc;
+                p = s * (2.0 * m * qq * (qq - r) - (b - a) * (r - 1.0));
+                q = (qq - 1.0) * (r - 1.0) * (s - 1.0);
+            }
+            if p > 0.0 {
+                q = -q;
+            } else {
+                p = -p;
+            }
+            if 2.0 * p < (3.0 * m * q - (tol * q).abs()).min((e * q).abs()) {
+                e = d;
+                d = p / q;
+            } else {
+                d = m;
+                e = m;
+            }
+        } else {
+            d = m;
+            e = m;
+        }
+        a = b;
+        fa = fb;
+        b += if d.abs() > tol { d } else { tol.copysign(m) };
+        fb = f(b);
+        if !fb.is_finite() {
+            return Err(RootError::NotFinite(b));
+        }
+    }
+    Ok(b)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // √2 is the positive root of x² − 2 (arithmetic fact).
+    #[test]
+    fn finds_sqrt2() {
+        let r = brent(|x| x * x - 2.0, 0.0, 2.0, 1e-14).unwrap();
+        assert!((r - std::f64::consts::SQRT_2).abs() < 1e-13);
+    }
+
+    // Dottie number: the fixed point of cos, 0.7390851332151607 (OEIS A003957).
+    #[test]
+    fn finds_cos_fixed_point() {
+        let r = brent(|x| x.cos() - x, 0.0, 1.0, 1e-15).unwrap();
+        assert!((r - 0.739_085_133_215_160_7).abs() < 1e-13);
+    }
+
+    #[test]
+    fn refuses_unbracketed() {
+        assert!(matches!(
+            brent(|x| x * x + 1.0, -1.0, 1.0, 1e-12),
+            Err(RootError::NotBracketed { .. })
+        ));
+    }
+}
