@@ -148,6 +148,15 @@ fn width_solver_round_trips() {
     }
 }
 
+// The default method of every structure reaches 50 Ω on these everyday geometries.
+#[test]
+fn default_methods_solve_fifty_ohms() {
+    for l in lines() {
+        let (_, sol) = solve_width(&l, None, 50.0, &SolveLimits::default()).unwrap();
+        assert!((sol.z0 - 50.0).abs() < 0.05, "{l:?}");
+    }
+}
+
 #[test]
 fn unreachable_target_is_refused() {
     let l = lines()[0];

@@ -10,6 +10,7 @@ use serde_json::{Value, json};
 
 /// Arguments of `loopwright impedance`. Lengths in millimetres.
 #[derive(Debug, Clone, Default, clap::Args)]
+#[command(allow_negative_numbers = true)]
 pub struct ImpedanceArgs {
     /// Trace structure: microstrip, coated-microstrip, stripline or cpwg. With --stackup it
     /// defaults to the layer's natural structure.

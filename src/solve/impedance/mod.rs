@@ -407,7 +407,12 @@ pub(crate) fn sig(v: f64) -> String {
         return "0".into();
     }
     let digits = (3 - v.abs().log10().floor() as i32).max(0) as usize;
-    format!("{v:.digits$}")
+    let s = format!("{v:.digits$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
 }
 
 /// The quasi-static solution for one line.

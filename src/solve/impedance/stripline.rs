@@ -190,9 +190,9 @@ pub(super) fn analyse(s: &Stripline, method: Method) -> Solution {
         let pct = parallel_error_pct(w / b, near / b);
         let text = format!(
             "offset stripline by parallel combination of two centred lines: an upper bound \
-             on Z0, expected about {}% high here (h_near/b = {}, w/b = {}; 2-D field \
+             on Z0, expected about {:.1} % high here (h_near/b = {}, w/b = {}; 2-D field \
              comparison, t = 0)",
-            sig(pct),
+            pct,
             sig(near / b),
             sig(w / b)
         );

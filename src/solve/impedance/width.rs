@@ -35,9 +35,9 @@ pub fn solve_width(
     let mut errs = Vec::new();
     check_range(&mut errs, "target", target_ohms, 1.0, 1000.0);
     check_range(&mut errs, "min-trace", limits.min_trace_mm, 0.0, 100.0);
-    // Validate the rest of the line with a placeholder width.
-    let probe = template.with_width(template.scale_height());
-    errs.extend(probe.validate());
+    // Validate the rest of the line; its width is what we solve for.
+    let probe = template.with_width(1.0);
+    errs.extend(probe.validate().into_iter().filter(|e| e.field != "width"));
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }

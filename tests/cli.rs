@@ -1,0 +1,541 @@
+//! The `loopwright` binary: its documented interface, and its refusals of bad input.
+
+use std::path::PathBuf;
+use std::process::{Command, Output};
+
+fn run(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .args(args)
+        .output()
+        .expect("run loopwright")
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+fn json(args: &[&str]) -> serde_json::Value {
+    let o = run(args);
+    assert!(o.status.success(), "{args:?}: {}", stderr(&o));
+    serde_json::from_slice(&o.stdout).expect("JSON output")
+}
+
+/// A refusal: exit code 2, no panic, and a message naming every given fragment.
+fn refused(args: &[&str], fragments: &[&str]) {
+    let o = run(args);
+    let err = stderr(&o);
+    assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+    assert!(!err.contains("panicked"), "{args:?}: {err}");
+    assert!(o.stdout.is_empty(), "{args:?} printed a result");
+    for f in fragments {
+        assert!(err.contains(f), "{args:?}: '{f}' not in: {err}");
+    }
+}
+
+fn tmp_file(name: &str, text: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("loopwright-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+#[test]
+fn json_has_the_documented_keys_for_every_structure() {
+    let cases: [&[&str]; 4] = [
+        &[
+            "--structure",
+            "microstrip",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--t",
+            "0.035",
+        ],
+        &[
+            "--structure",
+            "coated-microstrip",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--mask-t",
+            "0.02",
+            "--mask-er",
+            "3.5",
+        ],
+        &[
+            "--structure",
+            "stripline",
+            "--er",
+            "4.3",
+            "--h1",
+            "0.2",
+            "--h2",
+            "1.0",
+            "--t",
+            "0",
+        ],
+        &[
+            "--structure",
+            "cpwg",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--gap",
+            "0.15",
+            "--t",
+            "0",
+        ],
+    ];
+    for c in cases {
+        for extra in [&["--width", "0.3"][..], &["--target", "50"][..]] {
+            let mut args = vec!["impedance", "--json"];
+            args.extend_from_slice(c);
+            args.extend_from_slice(extra);
+            let v = json(&args);
+            for k in ["z0_ohms", "eps_eff", "width_mm"] {
+                assert!(v[k].as_f64().unwrap() > 0.0, "{k} in {v}");
+            }
+            assert!(v["method"].is_string());
+            assert!(v["warnings"].is_array());
+            if extra[0] == "--target" {
+                assert!((v["z0_ohms"].as_f64().unwrap() - 50.0).abs() < 0.05);
+            } else {
+                assert_eq!(v["width_mm"].as_f64().unwrap(), 0.3);
+            }
+        }
+    }
+}
+
+// Cohn's exact value for w/b = 0.5, εr = 4.3: 48.4328 Ω (scipy, see tests/data).
+#[test]
+fn stripline_default_method_is_cohn_at_zero_thickness() {
+    let v = json(&[
+        "impedance",
+        "--json",
+        "--structure",
+        "stripline",
+        "--er",
+        "4.3",
+        "--h1",
+        "0.5",
+        "--h2",
+        "0.5",
+        "--t",
+        "0",
+        "--width",
+        "0.5",
+    ]);
+    assert_eq!(v["method"], "cohn");
+    assert!((v["z0_ohms"].as_f64().unwrap() - 48.4328).abs() < 1e-4);
+}
+
+#[test]
+fn method_flag_selects_the_formula() {
+    let v = json(&[
+        "impedance",
+        "--json",
+        "--structure",
+        "microstrip",
+        "--er",
+        "4.3",
+        "--h",
+        "1",
+        "--t",
+        "0",
+        "--width",
+        "1",
+        "--method",
+        "ipc-2141",
+    ]);
+    assert_eq!(v["method"], "ipc-2141");
+    // IPC-2141 worked value at w/h = 1, t = 0, εr = 4.3: 73.238 Ω (tests/data).
+    assert!((v["z0_ohms"].as_f64().unwrap() - 73.238).abs() < 1e-3);
+}
+
+#[test]
+fn outside_validity_still_answers_with_a_warning() {
+    let o = run(&[
+        "impedance",
+        "--json",
+        "--structure",
+        "microstrip",
+        "--er",
+        "4.3",
+        "--h",
+        "1",
+        "--t",
+        "0",
+        "--width",
+        "5",
+        "--method",
+        "ipc-2141",
+    ]);
+    assert!(o.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let w = v["warnings"].as_array().unwrap();
+    assert!(
+        w.iter()
+            .any(|x| x.as_str().unwrap().contains("validity range")),
+        "{v}"
+    );
+}
+
+#[test]
+fn geometry_from_a_builtin_stackup() {
+    let v = json(&[
+        "impedance",
+        "--json",
+        "--stackup",
+        "common-4l-1.6",
+        "--layer",
+        "2",
+    ]);
+    assert_eq!(v["structure"], "stripline");
+    assert!((v["z0_ohms"].as_f64().unwrap() - 50.0).abs() < 0.05);
+    assert_eq!(v["geometry"]["h1_mm"].as_f64().unwrap(), 0.21);
+    assert_eq!(v["geometry"]["h2_mm"].as_f64().unwrap(), 1.065);
+    let top = json(&[
+        "impedance",
+        "--json",
+        "--stackup",
+        "common-4l-1.6",
+        "--layer",
+        "1",
+    ]);
+    assert_eq!(top["structure"], "coated-microstrip");
+}
+
+#[test]
+fn table_output_shows_z0_and_spread() {
+    let o = run(&[
+        "impedance",
+        "--stackup",
+        "slim-4l-0.8",
+        "--layer",
+        "2",
+        "--target",
+        "50",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let s = stdout(&o);
+    assert!(
+        s.contains("Z0") && s.contains("50.00 Ω") && s.contains("spread"),
+        "{s}"
+    );
+}
+
+#[test]
+fn bad_numbers_are_refused_naming_field_value_and_range() {
+    let base = [
+        "impedance",
+        "--structure",
+        "microstrip",
+        "--h",
+        "0.2",
+        "--width",
+        "0.3",
+    ];
+    let with = |extra: &[&'static str]| {
+        let mut v = base.to_vec();
+        v.extend_from_slice(extra);
+        v
+    };
+    refused(&with(&["--er", "-4"]), &["--er", "-4", "from 1 to 200"]);
+    refused(&with(&["--er", "0"]), &["--er", "0", "from 1 to 200"]);
+    refused(&with(&["--er", "NaN"]), &["--er", "NaN", "from 1 to 200"]);
+    refused(
+        &with(&["--er", "4", "--t", "-0.1"]),
+        &["--t", "-0.1", "from 0 to"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4",
+            "--h",
+            "0",
+            "--width",
+            "0.3",
+        ],
+        &["--h", "= 0", "greater than 0"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4",
+            "--h",
+            "0.2",
+            "--width",
+            "-1",
+        ],
+        &["--width", "-1", "greater than 0"],
+    );
+    // Every problem at once.
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "stripline",
+            "--er",
+            "0.5",
+            "--h1",
+            "-1",
+            "--h2",
+            "inf",
+        ],
+        &["--er = 0.5", "--h1 = -1", "--h2 = inf"],
+    );
+}
+
+#[test]
+fn missing_and_misplaced_flags_are_refused() {
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "stripline",
+            "--er",
+            "4",
+            "--h1",
+            "0.2",
+        ],
+        &["--h2", "(missing)"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4",
+            "--h",
+            "0.2",
+            "--h1",
+            "0.3",
+        ],
+        &["--h1", "not used by microstrip", "--h"],
+    );
+    refused(
+        &["impedance", "--er", "4"],
+        &["--structure", "(missing)", "microstrip"],
+    );
+}
+
+#[test]
+fn unreachable_target_is_refused() {
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--target",
+            "600",
+        ],
+        &["target", "600", "out of reach", "Ω"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--target",
+            "5000",
+        ],
+        &["--target", "5000", "from 1 to 1000"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "stripline",
+            "--er",
+            "4.3",
+            "--h1",
+            "0.1",
+            "--h2",
+            "0.1",
+        ],
+        &["below the fab minimum trace", "0.1 mm"],
+    );
+}
+
+#[test]
+fn unknown_names_are_refused() {
+    refused(
+        &["impedance", "--structure", "coax", "--er", "4"],
+        &[
+            "structure",
+            "'coax'",
+            "microstrip, coated-microstrip, stripline, cpwg",
+        ],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4",
+            "--h",
+            "0.2",
+            "--method",
+            "magic",
+        ],
+        &["method", "'magic'", "hammerstad-jensen"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4",
+            "--h",
+            "0.2",
+            "--method",
+            "cohn",
+        ],
+        &["--method", "cohn", "hammerstad-jensen, ipc-2141"],
+    );
+    refused(
+        &["impedance", "--stackup", "no-such-build", "--layer", "2"],
+        &["stackup", "'no-such-build'", "common-4l-1.6"],
+    );
+    refused(
+        &["impedance", "--stackup", "common-4l-1.6", "--layer", "7"],
+        &["layer", "7", "1 to 4"],
+    );
+    refused(
+        &[
+            "impedance",
+            "--stackup",
+            "common-4l-1.6",
+            "--layer",
+            "2",
+            "--structure",
+            "microstrip",
+        ],
+        &["structure", "inner layer"],
+    );
+}
+
+#[test]
+fn malformed_stackup_files_are_refused() {
+    let syntax = tmp_file("syntax.toml", "name = \"x\"\n[[layer]\ntype = \"copper\"\n");
+    refused(
+        &[
+            "impedance",
+            "--stackup",
+            syntax.to_str().unwrap(),
+            "--layer",
+            "1",
+        ],
+        &["syntax.toml", "line 2"],
+    );
+    let values = tmp_file(
+        "values.toml",
+        "name = \"bad\"\n[[layer]]\ntype = \"copper\"\nname = \"L1\"\nthickness_oz = 1\n\
+         [[layer]]\ntype = \"dielectric\"\nname = \"core\"\nthickness_mm = -0.2\ner = 4\n\
+         [[layer]]\ntype = \"copper\"\nname = \"L2\"\nthickness_mm = 0.035\n\
+         [[layer]]\ntype = \"glass\"\nname = \"x\"\n",
+    );
+    refused(
+        &[
+            "impedance",
+            "--stackup",
+            values.to_str().unwrap(),
+            "--layer",
+            "1",
+        ],
+        &[
+            "layer[2].thickness_mm = -0.2",
+            "greater than 0",
+            "layer[4].type",
+            "\"glass\"",
+        ],
+    );
+    let unknown = tmp_file("unknown.toml", "name = \"x\"\ncolour = \"green\"\n");
+    refused(
+        &[
+            "impedance",
+            "--stackup",
+            unknown.to_str().unwrap(),
+            "--layer",
+            "1",
+        ],
+        &["unknown.toml", "colour"],
+    );
+}
+
+#[test]
+fn width_and_target_together_are_refused() {
+    let o = run(&[
+        "impedance",
+        "--structure",
+        "microstrip",
+        "--er",
+        "4",
+        "--h",
+        "0.2",
+        "--width",
+        "0.3",
+        "--target",
+        "50",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("--target"));
+}
+
+#[test]
+fn demo_runs_and_shows_the_cautions() {
+    let o = run(&["demo"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let s = stdout(&o);
+    assert!(s.contains("50.00 Ω") && s.contains("SAFETY"), "{s}");
+}
+
+#[test]
+fn help_shows_the_cautions() {
+    let o = run(&["--help"]);
+    assert!(stdout(&o).contains("SAFETY"));
+}
+
+#[test]
+fn stackups_lists_and_prints_builtins() {
+    let o = run(&["stackups"]);
+    assert!(stdout(&o).contains("common-4l-1.6") && stdout(&o).contains("slim-4l-0.8"));
+    let o = run(&["stackups", "--show", "slim-4l-0.8"]);
+    let text = stdout(&o);
+    // What it prints is a valid stackup file.
+    let p = tmp_file("roundtrip.toml", &text);
+    let v = json(&[
+        "impedance",
+        "--json",
+        "--stackup",
+        p.to_str().unwrap(),
+        "--layer",
+        "2",
+    ]);
+    assert_eq!(v["stackup"]["name"], "slim-4l-0.8");
+}
