@@ -11,6 +11,7 @@
 
 pub mod cli;
 pub mod error;
+pub mod field;
 pub mod model;
 pub mod solve;
 pub mod spec;

@@ -1,0 +1,1 @@
+//! 2-D quasi-static field solver for transmission-line cross-sections (being built; issue 5).
