@@ -94,6 +94,14 @@ pub enum Error {
     /// A width solve for a target impedance failed; the text says why.
     #[error("{0}")]
     Unsolvable(String),
+    /// The design-rule check found violations; nothing was written.
+    #[error("design-rule check failed for probe '{probe}' ({} violation(s)); nothing was written (--force writes anyway and marks the notes):\n{}", .violations.len(), .violations.join("\n"))]
+    Drc {
+        /// The probe.
+        probe: String,
+        /// Each violation, as text (rule, layer, location, measurement).
+        violations: Vec<String>,
+    },
     /// A file could not be read or written.
     #[error("{path}: {source}")]
     Io {

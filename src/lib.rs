@@ -9,10 +9,15 @@
 #![forbid(unsafe_code)]
 #![warn(missing_docs)]
 
+pub mod artwork;
 pub mod cli;
+pub mod drc;
+pub mod emit;
 pub mod error;
 pub mod field;
+pub mod geom;
 pub mod model;
+pub mod pipeline;
 pub mod solve;
 pub mod spec;
 

@@ -508,11 +508,27 @@ fn width_and_target_together_are_refused() {
 }
 
 #[test]
-fn demo_runs_and_shows_the_cautions() {
-    let o = run(&["demo"]);
+fn demo_builds_its_family_and_shows_the_cautions() {
+    let dir = std::env::temp_dir().join(format!("loopwright-cli-demo-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let o = run(&["demo", "--out", dir.to_str().unwrap()]);
     assert!(o.status.success(), "{}", stderr(&o));
     let s = stdout(&o);
-    assert!(s.contains("50.00 Ω") && s.contains("SAFETY"), "{s}");
+    assert!(s.contains("50.00") && s.contains("SAFETY"), "{s}");
+    // The spec is written beside the probes, and at least three round sizes plus one
+    // flat-tipped loop are built.
+    assert!(dir.join("fenwick-marsh-probes.toml").is_file());
+    for name in ["FM-R20", "FM-R10", "FM-R5", "FM-T12x6"] {
+        assert!(
+            dir.join(name).join(format!("{name}-L2.gbr")).is_file(),
+            "{name}"
+        );
+        assert!(
+            dir.join(name).join(format!("{name}.toml")).is_file(),
+            "{name}"
+        );
+    }
+    let _ = std::fs::remove_dir_all(&dir);
 }
 
 #[test]

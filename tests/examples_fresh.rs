@@ -1,67 +1,71 @@
-//! `out_examples/` must match what the current code produces. Set `UPDATE_EXAMPLES=1` to
-//! rewrite the files, then review the diff.
+//! `out_examples/` must match what the current code produces: the demo's output folder
+//! (`out_examples/demo/`) and what the demo prints (`out_examples/demo.txt`). Set
+//! `UPDATE_EXAMPLES=1` to rewrite them, then review the diff.
 
+use std::path::{Path, PathBuf};
 use std::process::Command;
 
-fn check(args: &[&str], file: &str) {
+fn files_under(root: &Path) -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    let mut stack = vec![root.to_path_buf()];
+    while let Some(d) = stack.pop() {
+        let Ok(rd) = std::fs::read_dir(&d) else {
+            continue;
+        };
+        for e in rd.flatten() {
+            let p = e.path();
+            if p.is_dir() {
+                stack.push(p);
+            } else {
+                out.push(p.strip_prefix(root).unwrap().to_path_buf());
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+#[test]
+fn demo_output_is_fresh() {
+    let work = std::env::temp_dir().join(format!("loopwright-examples-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&work);
+    std::fs::create_dir_all(&work).unwrap();
     let out = Command::new(env!("CARGO_BIN_EXE_loopwright"))
-        .args(args)
+        .args(["demo", "--out", "demo"])
+        .current_dir(&work)
         .output()
         .expect("run loopwright");
-    assert!(out.status.success());
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("out_examples")
-        .join(file);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let examples = Path::new(env!("CARGO_MANIFEST_DIR")).join("out_examples");
+    let fresh = work.join("demo");
     if std::env::var_os("UPDATE_EXAMPLES").is_some() {
-        std::fs::write(&path, &out.stdout).unwrap();
+        let _ = std::fs::remove_dir_all(examples.join("demo"));
+        for f in files_under(&fresh) {
+            let dest = examples.join("demo").join(&f);
+            std::fs::create_dir_all(dest.parent().unwrap()).unwrap();
+            std::fs::copy(fresh.join(&f), dest).unwrap();
+        }
+        std::fs::write(examples.join("demo.txt"), &out.stdout).unwrap();
         return;
     }
-    let committed = std::fs::read(&path).unwrap_or_default();
+    let hint = "regenerate with: UPDATE_EXAMPLES=1 cargo test --test examples_fresh";
+    let committed = std::fs::read(examples.join("demo.txt")).unwrap_or_default();
     assert!(
         committed == out.stdout,
-        "out_examples/{file} is stale: regenerate with UPDATE_EXAMPLES=1 cargo test --test examples_fresh"
+        "out_examples/demo.txt is stale; {hint}"
     );
-}
-
-#[test]
-fn demo_text_is_fresh() {
-    check(&["demo"], "demo.txt");
-}
-
-/// JSON equality with a 1e-12 relative tolerance on numbers, so that a last-bit difference in
-/// the platform's `ln`/`exp` does not count as staleness.
-fn same(a: &serde_json::Value, b: &serde_json::Value) -> bool {
-    use serde_json::Value::*;
-    match (a, b) {
-        (Number(x), Number(y)) => {
-            let (x, y) = (x.as_f64().unwrap(), y.as_f64().unwrap());
-            (x - y).abs() <= 1e-12 * x.abs().max(y.abs())
-        }
-        (Array(x), Array(y)) => x.len() == y.len() && x.iter().zip(y).all(|(p, q)| same(p, q)),
-        (Object(x), Object(y)) => {
-            x.len() == y.len() && x.iter().all(|(k, v)| y.get(k).is_some_and(|w| same(v, w)))
-        }
-        _ => a == b,
+    let (a, b) = (files_under(&examples.join("demo")), files_under(&fresh));
+    assert_eq!(a, b, "out_examples/demo/ lists other files; {hint}");
+    for f in a {
+        let (x, y) = (
+            std::fs::read(examples.join("demo").join(&f)).unwrap(),
+            std::fs::read(fresh.join(&f)).unwrap(),
+        );
+        assert!(x == y, "out_examples/demo/{} is stale; {hint}", f.display());
     }
-}
-
-#[test]
-fn demo_json_is_fresh() {
-    let out = Command::new(env!("CARGO_BIN_EXE_loopwright"))
-        .args(["demo", "--json"])
-        .output()
-        .expect("run loopwright");
-    assert!(out.status.success());
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("out_examples/demo.json");
-    if std::env::var_os("UPDATE_EXAMPLES").is_some() {
-        std::fs::write(&path, &out.stdout).unwrap();
-        return;
-    }
-    let now: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let committed: serde_json::Value =
-        serde_json::from_slice(&std::fs::read(&path).unwrap_or_default()).unwrap_or_default();
-    assert!(
-        same(&now, &committed),
-        "out_examples/demo.json is stale: regenerate with UPDATE_EXAMPLES=1 cargo test --test examples_fresh"
-    );
+    let _ = std::fs::remove_dir_all(&work);
 }

@@ -1,6 +1,7 @@
 //! The command-line interface: argument definitions (clap derive) and the glue that runs each
 //! command. Only this module and `main.rs` print.
 
+mod build;
 mod demo;
 mod impedance;
 mod stackups;
@@ -37,7 +38,9 @@ pub struct Cli {
 pub enum Command {
     /// Characteristic impedance of a trace, or the width for a target impedance.
     Impedance(Box<impedance::ImpedanceArgs>),
-    /// Run the built-in demo scenario.
+    /// Build probe boards from a spec: Gerber X2, Excellon, SVG previews, fab notes.
+    Build(build::BuildArgs),
+    /// Build the built-in demo family into a folder.
     Demo(demo::DemoArgs),
     /// List the built-in stackups, or print one as a TOML file to start from.
     Stackups(stackups::StackupsArgs),
@@ -47,6 +50,7 @@ pub enum Command {
 pub fn run(cli: Cli) -> Result<(), Error> {
     match cli.command {
         Command::Impedance(a) => impedance::run(&a),
+        Command::Build(a) => build::run(&a),
         Command::Demo(a) => demo::run(&a),
         Command::Stackups(a) => stackups::run(&a),
     }

@@ -3,5 +3,7 @@
 //!
 //! The model does no IO except through [`stackup::load`], which resolves a name or a path.
 
+pub mod fab;
+pub mod probe;
 pub mod stackup;
 pub mod units;

@@ -2,4 +2,5 @@
 
 pub mod elliptic;
 pub mod impedance;
+pub mod probe;
 pub mod roots;

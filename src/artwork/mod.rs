@@ -1,0 +1,331 @@
+//! Layer artwork: what each fabrication layer holds, as regions, flashes and strokes, with every
+//! coordinate snapped to the 1 nm grid the Gerber files use. The emitters write this one-to-one
+//! (they compute no geometry) and the design-rule check reads it, so the check sees exactly what
+//! is emitted.
+
+use crate::geom::{Board, Pad, ViaRole, circle, rect, stroke_butt};
+use crate::model::probe::Probe;
+use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
+use kurbo::Point;
+
+/// The net every copper object belongs to: the loop trace is shorted to the shield at its far
+/// end, so the whole probe is one net at DC (the fab's electrical test must expect the centre
+/// pad to be continuous with the shield).
+pub const NET: &str = "PROBE";
+
+/// What a flash is for (its Gerber aperture function).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum PadFunction {
+    /// A via pad.
+    Via,
+    /// A connector pad (surface, edge launch).
+    Connector,
+    /// A pad around a plated component hole.
+    Component,
+    /// A solder-mask opening (on mask layers).
+    MaskOpening,
+}
+
+/// An aperture shape (mm, snapped to nm).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Shape {
+    /// Circle of diameter.
+    Circle(f64),
+    /// Rectangle w × h.
+    Rect(f64, f64),
+}
+
+/// A flashed pad.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Flash {
+    /// Centre, mm (snapped).
+    pub at: Point,
+    /// Shape.
+    pub shape: Shape,
+    /// Function.
+    pub function: PadFunction,
+}
+
+/// Which side an outer layer faces.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Side {
+    /// Top.
+    Top,
+    /// Inner.
+    Inner,
+    /// Bottom.
+    Bottom,
+}
+
+/// One copper layer.
+#[derive(Debug, Clone)]
+pub struct CopperLayer {
+    /// Layer number, 1 = top.
+    pub n: usize,
+    /// Side.
+    pub side: Side,
+    /// True for the loop's signal layer.
+    pub signal: bool,
+    /// Copper regions (nm-snapped; holes are interiors).
+    pub regions: MultiPolygon<f64>,
+    /// Flashed pads.
+    pub flashes: Vec<Flash>,
+}
+
+/// A drilled hole.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Drill {
+    /// Centre, mm.
+    pub at: Point,
+    /// Finished diameter, mm.
+    pub d: f64,
+    /// Plated.
+    pub plated: bool,
+    /// A via (true) or a component hole.
+    pub via: bool,
+}
+
+/// All artwork of one probe board.
+#[derive(Debug, Clone)]
+pub struct Artwork {
+    /// Copper layers, top to bottom.
+    pub copper: Vec<CopperLayer>,
+    /// Solder-mask openings, top side.
+    pub mask_top: Vec<Flash>,
+    /// Solder-mask openings, bottom side.
+    pub mask_bottom: Vec<Flash>,
+    /// Silkscreen strokes, top (nm-snapped).
+    pub silk_top: Vec<Vec<Point>>,
+    /// Silkscreen strokes, bottom.
+    pub silk_bottom: Vec<Vec<Point>>,
+    /// Silk line width, mm.
+    pub silk_width: f64,
+    /// Board outline rings (exterior first), closed.
+    pub profile: Vec<Vec<Point>>,
+    /// Holes.
+    pub drills: Vec<Drill>,
+    /// The shield gap rectangle (x0, y0, x1, y1), for checks.
+    pub gap_rect: (f64, f64, f64, f64),
+}
+
+/// Rounds a length to the 1 nm grid.
+pub fn snap(v: f64) -> f64 {
+    (v * 1e6).round() / 1e6
+}
+
+fn snap_pt(p: Point) -> Point {
+    Point::new(snap(p.x), snap(p.y))
+}
+
+fn snap_ring(ls: &LineString<f64>) -> LineString<f64> {
+    let mut v: Vec<Coord<f64>> = ls
+        .coords()
+        .map(|c| Coord {
+            x: snap(c.x),
+            y: snap(c.y),
+        })
+        .collect();
+    v.dedup();
+    // Drop collinear middle points (exactly collinear after snapping) to keep files small.
+    let mut out: Vec<Coord<f64>> = Vec::with_capacity(v.len());
+    for c in v {
+        while out.len() >= 2 {
+            let (a, b) = (out[out.len() - 2], out[out.len() - 1]);
+            let cross = (b.x - a.x) * (c.y - a.y) - (b.y - a.y) * (c.x - a.x);
+            if cross.abs() < 1e-18 && (b.x - a.x) * (c.x - b.x) + (b.y - a.y) * (c.y - b.y) > 0.0 {
+                out.pop();
+            } else {
+                break;
+            }
+        }
+        out.push(c);
+    }
+    let mut ls = LineString::from(out);
+    ls.close();
+    ls
+}
+
+/// Snaps every coordinate of a region set to the nm grid and drops slivers below 1e-6 mm².
+pub fn snap_regions(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
+    use geo::Area;
+    MultiPolygon(
+        m.0.iter()
+            .map(|p| {
+                Polygon::new(
+                    snap_ring(p.exterior()),
+                    p.interiors()
+                        .iter()
+                        .map(snap_ring)
+                        .filter(|r| r.0.len() >= 4)
+                        .collect(),
+                )
+            })
+            .filter(|p| p.exterior().0.len() >= 4 && p.unsigned_area() > 1e-6)
+            .collect(),
+    )
+}
+
+fn pad_flash(pd: &Pad) -> Flash {
+    Flash {
+        at: snap_pt(pd.at),
+        shape: Shape::Rect(snap(pd.w), snap(pd.h)),
+        function: PadFunction::Connector,
+    }
+}
+
+/// Turns the board into layer artwork.
+pub fn compose(p: &Probe, b: &Board) -> Artwork {
+    let n_layers = p.stackup.copper_count();
+    let c = b.clearance;
+    let sv = b
+        .vias
+        .iter()
+        .find(|v| v.role == ViaRole::Signal)
+        .expect("a board always has its signal via");
+    let g2 = b.gap / 2.0;
+    let gap = MultiPolygon(vec![rect(-g2, b.gap_y.0, g2, b.gap_y.1)]);
+    let antipad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0 + c)]);
+    let sv_pad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0)]);
+    let shield_cut = b.shield.difference(&gap);
+    let mut copper = Vec::new();
+    for n in 1..=n_layers {
+        let side = if n == 1 {
+            Side::Top
+        } else if n == n_layers {
+            Side::Bottom
+        } else {
+            Side::Inner
+        };
+        let signal = n == p.signal_layer;
+        let regions = if signal {
+            let channel = stroke_butt(&b.trace_path[..=b.exit_index], b.trace_width / 2.0 + c);
+            let trace = stroke_butt(&b.trace_path, b.trace_width / 2.0);
+            shield_cut
+                .difference(&channel)
+                .difference(&antipad)
+                .union(&trace)
+                .union(&sv_pad)
+        } else if n == 1 {
+            let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
+            let pad_clear = MultiPolygon(vec![rect(
+                centre.at.x - centre.w / 2.0 - c,
+                centre.at.y - centre.h / 2.0 - 1.0,
+                centre.at.x + centre.w / 2.0 + c,
+                centre.at.y + centre.h / 2.0 + c,
+            )]);
+            let channel = stroke_butt(&b.top_path, b.top_width / 2.0 + c);
+            let link = stroke_butt(&b.top_path, b.top_width / 2.0);
+            shield_cut
+                .difference(&channel)
+                .difference(&antipad)
+                .difference(&pad_clear)
+                .union(&link)
+                .union(&sv_pad)
+        } else {
+            shield_cut.difference(&antipad)
+        };
+        let mut flashes = Vec::new();
+        for v in &b.vias {
+            let joins = v.role != ViaRole::Signal || n == 1 || signal;
+            if joins {
+                flashes.push(Flash {
+                    at: snap_pt(v.at),
+                    shape: Shape::Circle(snap(v.pad)),
+                    function: PadFunction::Via,
+                });
+            }
+        }
+        for h in &b.holes {
+            flashes.push(Flash {
+                at: snap_pt(h.at),
+                shape: Shape::Circle(snap(h.pad)),
+                function: PadFunction::Component,
+            });
+        }
+        for pd in &b.pads {
+            if (pd.top && n == 1) || (!pd.top && n == n_layers) {
+                flashes.push(pad_flash(pd));
+            }
+        }
+        copper.push(CopperLayer {
+            n,
+            side,
+            signal,
+            regions: snap_regions(&regions),
+            flashes,
+        });
+    }
+    let exp = p.fab.mask_expansion;
+    let opening = |pd: &Pad| Flash {
+        at: snap_pt(pd.at),
+        shape: Shape::Rect(snap(pd.w + 2.0 * exp), snap(pd.h + 2.0 * exp)),
+        function: PadFunction::MaskOpening,
+    };
+    let hole_openings = b.holes.iter().map(|h| Flash {
+        at: snap_pt(h.at),
+        shape: Shape::Circle(snap(h.pad + 2.0 * exp)),
+        function: PadFunction::MaskOpening,
+    });
+    let mask_top = b
+        .pads
+        .iter()
+        .filter(|pd| pd.top)
+        .map(opening)
+        .chain(hole_openings.clone())
+        .collect();
+    let mask_bottom = b
+        .pads
+        .iter()
+        .filter(|pd| !pd.top)
+        .map(opening)
+        .chain(hole_openings)
+        .collect();
+    let snap_strokes = |v: &[Vec<Point>]| -> Vec<Vec<Point>> {
+        v.iter()
+            .map(|s| {
+                let mut s: Vec<Point> = s.iter().map(|q| snap_pt(*q)).collect();
+                s.dedup();
+                if s.len() == 1 {
+                    s.push(s[0]);
+                }
+                s
+            })
+            .collect()
+    };
+    let mut profile = vec![ring_points(b.outline.exterior())];
+    for r in b.outline.interiors() {
+        profile.push(ring_points(r));
+    }
+    let mut drills: Vec<Drill> = b
+        .vias
+        .iter()
+        .map(|v| Drill {
+            at: snap_pt(v.at),
+            d: snap(v.drill),
+            plated: true,
+            via: true,
+        })
+        .collect();
+    drills.extend(b.holes.iter().map(|h| Drill {
+        at: snap_pt(h.at),
+        d: snap(h.drill),
+        plated: true,
+        via: false,
+    }));
+    Artwork {
+        copper,
+        mask_top,
+        mask_bottom,
+        silk_top: snap_strokes(&b.silk_top),
+        silk_bottom: snap_strokes(&b.silk_bottom),
+        silk_width: snap(p.fab.silk_width),
+        profile,
+        drills,
+        gap_rect: (-g2, b.gap_y.0, g2, b.gap_y.1),
+    }
+}
+
+fn ring_points(ls: &LineString<f64>) -> Vec<Point> {
+    let r = snap_ring(ls);
+    r.coords().map(|c| Point::new(c.x, c.y)).collect()
+}

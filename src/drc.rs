@@ -1,0 +1,539 @@
+//! Design-rule check on the artwork as emitted (nm-snapped regions, flashes, strokes, drills and
+//! outline), against the fab profile and the probe's own rules.
+//!
+//! Width and spacing use one boundary test: for every pair of copper boundary segments closer
+//! than the larger of the two limits (pairs on the same ring that are close *along* the ring are
+//! corners, not features, and are skipped), the midpoint between their closest points is tested:
+//! inside copper means a neck narrower than the minimum trace, outside means a space narrower
+//! than the minimum space.
+
+use crate::artwork::{Artwork, Flash, PadFunction, Shape};
+use crate::geom::TOL;
+use crate::geom::{Board, circle, rect, stroke_round};
+use crate::model::probe::Probe;
+use crate::solve::probe::SolvedProbe;
+use geo::{Area, BooleanOps, Contains, Coord, Distance, Euclidean, LineString, MultiPolygon};
+use kurbo::Point;
+use std::fmt;
+
+/// One rule violation.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Violation {
+    /// The rule broken.
+    pub rule: &'static str,
+    /// The layer (file) where it is.
+    pub layer: String,
+    /// Where, mm.
+    pub at: Point,
+    /// What was measured against what was required.
+    pub detail: String,
+}
+
+impl fmt::Display for Violation {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "{} on {} at ({:.3}, {:.3}) mm: {}",
+            self.rule, self.layer, self.at.x, self.at.y, self.detail
+        )
+    }
+}
+
+/// A flash as a polygon.
+pub fn flash_polygon(fl: &Flash) -> geo::Polygon<f64> {
+    match fl.shape {
+        Shape::Circle(d) => circle(fl.at, d / 2.0),
+        Shape::Rect(w, h) => rect(
+            fl.at.x - w / 2.0,
+            fl.at.y - h / 2.0,
+            fl.at.x + w / 2.0,
+            fl.at.y + h / 2.0,
+        ),
+    }
+}
+
+/// A layer's copper: regions ∪ flashes.
+pub fn layer_copper(regions: &MultiPolygon<f64>, flashes: &[Flash]) -> MultiPolygon<f64> {
+    let pads = MultiPolygon(flashes.iter().map(flash_polygon).collect());
+    if pads.0.is_empty() {
+        return regions.clone();
+    }
+    // Union pads one by one with the regions: pads may overlap each other.
+    let mut u = regions.clone();
+    for p in pads.0 {
+        u = u.union(&MultiPolygon(vec![p]));
+    }
+    u
+}
+
+struct Seg {
+    a: Point,
+    b: Point,
+    ring: usize,
+    s0: f64,
+    k: usize,
+    nseg: usize,
+}
+
+fn rings_of(m: &MultiPolygon<f64>) -> Vec<Vec<Point>> {
+    let mut out = Vec::new();
+    for p in &m.0 {
+        for r in std::iter::once(p.exterior()).chain(p.interiors()) {
+            out.push(r.coords().map(|c| Point::new(c.x, c.y)).collect());
+        }
+    }
+    out
+}
+
+fn segments(rings: &[Vec<Point>]) -> (Vec<Seg>, Vec<f64>) {
+    let mut segs = Vec::new();
+    let mut lens = Vec::new();
+    for (ri, r) in rings.iter().enumerate() {
+        let mut s = 0.0;
+        let nseg = r.len().saturating_sub(1);
+        for (k, w) in r.windows(2).enumerate() {
+            segs.push(Seg {
+                a: w[0],
+                b: w[1],
+                ring: ri,
+                s0: s,
+                k,
+                nseg,
+            });
+            s += (w[1] - w[0]).hypot();
+        }
+        lens.push(s);
+    }
+    (segs, lens)
+}
+
+/// Closest points between two segments: (distance, t on first, u on second).
+fn seg_seg(a: Point, b: Point, c: Point, d: Point) -> (f64, f64, f64) {
+    let mut best = (f64::INFINITY, 0.0, 0.0);
+    let proj = |p: Point, a: Point, b: Point| -> f64 {
+        let ab = b - a;
+        let l2 = ab.hypot2();
+        if l2 == 0.0 {
+            0.0
+        } else {
+            ((p - a).dot(ab) / l2).clamp(0.0, 1.0)
+        }
+    };
+    for (t, u) in [
+        (0.0, proj(a, c, d)),
+        (1.0, proj(b, c, d)),
+        (proj(c, a, b), 0.0),
+        (proj(d, a, b), 1.0),
+    ] {
+        let p = a + (b - a) * t;
+        let q = c + (d - c) * u;
+        let dist = (p - q).hypot();
+        if dist < best.0 {
+            best = (dist, t, u);
+        }
+    }
+    // Proper crossing.
+    let cross = |o: Point, p: Point, q: Point| (p - o).cross(q - o);
+    let (d1, d2) = (cross(a, b, c), cross(a, b, d));
+    let (d3, d4) = (cross(c, d, a), cross(c, d, b));
+    if d1 * d2 < 0.0 && d3 * d4 < 0.0 {
+        let t = d3 / (d3 - d4);
+        let u = d1 / (d1 - d2);
+        return (0.0, t, u);
+    }
+    best
+}
+
+/// Pairs of segments whose bounding boxes, grown by `grow`, overlap (sweep over x).
+fn near_pairs(segs: &[Seg], grow: f64) -> Vec<(usize, usize)> {
+    let mut idx: Vec<usize> = (0..segs.len()).collect();
+    let xmin = |s: &Seg| s.a.x.min(s.b.x);
+    let xmax = |s: &Seg| s.a.x.max(s.b.x);
+    idx.sort_by(|&i, &j| xmin(&segs[i]).partial_cmp(&xmin(&segs[j])).unwrap());
+    let mut out = Vec::new();
+    for (k, &i) in idx.iter().enumerate() {
+        let si = &segs[i];
+        let (ylo, yhi) = (si.a.y.min(si.b.y) - grow, si.a.y.max(si.b.y) + grow);
+        for &j in &idx[k + 1..] {
+            let sj = &segs[j];
+            if xmin(sj) > xmax(si) + grow {
+                break;
+            }
+            if sj.a.y.max(sj.b.y) < ylo || sj.a.y.min(sj.b.y) > yhi {
+                continue;
+            }
+            out.push((i.min(j), i.max(j)));
+        }
+    }
+    out
+}
+
+/// Checks that every ring is closed and simple (no self-intersection or self-touch).
+fn check_rings(out: &mut Vec<Violation>, layer: &str, m: &MultiPolygon<f64>) {
+    let rings = rings_of(m);
+    for r in &rings {
+        if r.len() < 4 || r.first() != r.last() {
+            out.push(Violation {
+                rule: "region not closed",
+                layer: layer.into(),
+                at: r.first().copied().unwrap_or(Point::ZERO),
+                detail: format!("{} points, first ≠ last", r.len()),
+            });
+        }
+    }
+    // Each contour is written as its own region (holes as clear regions), so each must be
+    // simple on its own.
+    let (segs, _) = segments(&rings);
+    for (i, j) in near_pairs(&segs, 0.0) {
+        let (a, b) = (&segs[i], &segs[j]);
+        if a.ring != b.ring {
+            continue;
+        }
+        let dk = a.k.abs_diff(b.k);
+        if dk == 1 || dk + 1 == a.nseg {
+            continue;
+        }
+        let (d, t, _) = seg_seg(a.a, a.b, b.a, b.b);
+        if d < 1e-7 {
+            out.push(Violation {
+                rule: "region not simple",
+                layer: layer.into(),
+                at: a.a + (a.b - a.a) * t,
+                detail: "a contour crosses or touches itself".into(),
+            });
+        }
+    }
+}
+
+/// Width and spacing on one layer's copper.
+fn check_width_space(
+    out: &mut Vec<Violation>,
+    layer: &str,
+    copper: &MultiPolygon<f64>,
+    min_w: f64,
+    min_s: f64,
+) {
+    let rings = rings_of(copper);
+    let (segs, lens) = segments(&rings);
+    let dmax = min_w.max(min_s);
+    let mut reported: Vec<Point> = Vec::new();
+    for (i, j) in near_pairs(&segs, dmax) {
+        let (a, b) = (&segs[i], &segs[j]);
+        let (d, t, u) = seg_seg(a.a, a.b, b.a, b.b);
+        if d >= dmax - 1e-6 || d < 1e-9 {
+            continue;
+        }
+        if a.ring == b.ring {
+            let pa = a.s0 + t * (a.b - a.a).hypot();
+            let pb = b.s0 + u * (b.b - b.a).hypot();
+            let along = (pa - pb).abs();
+            let along = along.min(lens[a.ring] - along);
+            if along < 2.5 * dmax {
+                continue;
+            }
+        }
+        let p = a.a + (a.b - a.a) * t;
+        let q = b.a + (b.b - b.a) * u;
+        let m = p.midpoint(q);
+        let inside = copper.contains(&geo::Point::new(m.x, m.y));
+        let (rule, limit) = if inside {
+            ("minimum trace width", min_w)
+        } else {
+            ("minimum space", min_s)
+        };
+        if d < limit - 1e-6 && !reported.iter().any(|r| (*r - m).hypot() < dmax) {
+            reported.push(m);
+            out.push(Violation {
+                rule,
+                layer: layer.into(),
+                at: m,
+                detail: format!("{d:.4} mm < {limit:.4} mm"),
+            });
+        }
+    }
+}
+
+fn ring_ls(pts: &[Point]) -> LineString<f64> {
+    LineString::from(
+        pts.iter()
+            .map(|p| Coord { x: p.x, y: p.y })
+            .collect::<Vec<_>>(),
+    )
+}
+
+/// Runs every check. Returns the violations (empty: clean).
+pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
+    let fab = &p.fab;
+    let mut out = Vec::new();
+    let outline = {
+        let mut poly = geo::Polygon::new(ring_ls(&art.profile[0]), vec![]);
+        for r in &art.profile[1..] {
+            poly.interiors_push(ring_ls(r));
+        }
+        poly
+    };
+    let edge = |pt: &geo::Point<f64>| -> f64 {
+        std::iter::once(outline.exterior())
+            .chain(outline.interiors())
+            .map(|r| Euclidean.distance(pt, r))
+            .fold(f64::INFINITY, f64::min)
+    };
+    let (gx0, gy0, gx1, gy1) = art.gap_rect;
+    let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
+    let interior = MultiPolygon(vec![b.interior.clone()]);
+    for l in &art.copper {
+        let name = format!("L{}", l.n);
+        check_rings(&mut out, &name, &l.regions);
+        let copper = layer_copper(&l.regions, &l.flashes);
+        check_width_space(&mut out, &name, &copper, fab.min_trace, fab.min_space);
+        // Copper to edge: regions and non-connector pads.
+        let others: Vec<Flash> = l
+            .flashes
+            .iter()
+            .filter(|f| f.function != PadFunction::Connector)
+            .copied()
+            .collect();
+        let body = layer_copper(&l.regions, &others);
+        for poly in &body.0 {
+            for c in poly.exterior().coords() {
+                let pt = geo::Point::new(c.x, c.y);
+                let inside = outline.contains(&pt);
+                let d = edge(&pt);
+                if !inside || d < fab.copper_to_edge - TOL {
+                    out.push(Violation {
+                        rule: "copper to edge",
+                        layer: name.clone(),
+                        at: Point::new(c.x, c.y),
+                        detail: format!("{d:.4} mm < {:.4} mm", fab.copper_to_edge),
+                    });
+                    break;
+                }
+            }
+        }
+        // No copper inside the loop.
+        let inside = body.intersection(&interior).unsigned_area();
+        if inside > 1e-4 {
+            out.push(Violation {
+                rule: "copper inside the loop",
+                layer: name.clone(),
+                at: Point::ZERO,
+                detail: format!("{inside:.4} mm² of copper where flux must pass"),
+            });
+        }
+        // The gap.
+        let in_gap = copper.intersection(&gap).unsigned_area();
+        if l.signal {
+            let allowed = b.trace_width * (gx1 - gx0) * 1.02;
+            if in_gap > allowed || in_gap < 0.5 * allowed {
+                out.push(Violation {
+                    rule: "gap must hold only the trace",
+                    layer: name.clone(),
+                    at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                    detail: format!(
+                        "{in_gap:.5} mm² of copper in the gap; the trace alone is {:.5} mm²",
+                        b.trace_width * (gx1 - gx0)
+                    ),
+                });
+            }
+        } else if in_gap > 1e-9 {
+            out.push(Violation {
+                rule: "gap free of copper",
+                layer: name.clone(),
+                at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                detail: format!("{in_gap:.6} mm² of copper in the shield gap"),
+            });
+        }
+    }
+    // Drills: size, annular ring, hole gap, inside the board, clear of the gap.
+    for (i, d) in art.drills.iter().enumerate() {
+        if d.d < fab.min_drill - 1e-9 {
+            out.push(Violation {
+                rule: "minimum drill",
+                layer: "drill".into(),
+                at: d.at,
+                detail: format!("{:.3} mm < {:.3} mm", d.d, fab.min_drill),
+            });
+        }
+        let mut pads = 0;
+        for l in &art.copper {
+            for f in l.flashes.iter().filter(|f| (f.at - d.at).hypot() < 1e-6) {
+                pads += 1;
+                let dia = match f.shape {
+                    Shape::Circle(x) => x,
+                    Shape::Rect(w, h) => w.min(h),
+                };
+                let ring = (dia - d.d) / 2.0;
+                if ring < fab.min_annular_ring - 1e-9 {
+                    out.push(Violation {
+                        rule: "annular ring",
+                        layer: format!("L{}", l.n),
+                        at: d.at,
+                        detail: format!("{ring:.4} mm < {:.4} mm", fab.min_annular_ring),
+                    });
+                }
+            }
+        }
+        if d.plated && pads < 2 {
+            out.push(Violation {
+                rule: "plated hole without pads",
+                layer: "drill".into(),
+                at: d.at,
+                detail: format!("pads on {pads} layer(s); a plated hole joins at least 2"),
+            });
+        }
+        for e in &art.drills[i + 1..] {
+            let gap_mm = (e.at - d.at).hypot() - (d.d + e.d) / 2.0;
+            if gap_mm < fab.min_hole_gap - 1e-9 {
+                out.push(Violation {
+                    rule: "hole to hole",
+                    layer: "drill".into(),
+                    at: d.at,
+                    detail: format!("{gap_mm:.4} mm < {:.4} mm", fab.min_hole_gap),
+                });
+            }
+        }
+        let pt = geo::Point::new(d.at.x, d.at.y);
+        if !outline.contains(&pt) || edge(&pt) < d.d / 2.0 + fab.copper_to_edge - 1e-6 {
+            out.push(Violation {
+                rule: "hole inside the outline",
+                layer: "drill".into(),
+                at: d.at,
+                detail: "hole outside the board or too near its edge".into(),
+            });
+        }
+        if d.via {
+            let dx = (d.at.x.abs() - gx1).max(0.0);
+            let dy = (gy0 - d.at.y).max(d.at.y - gy1).max(0.0);
+            if dx.hypot(dy) < p.vias.pad / 2.0 + 1e-6 {
+                out.push(Violation {
+                    rule: "via in the gap",
+                    layer: "drill".into(),
+                    at: d.at,
+                    detail: "a via stands in or touches the shield gap".into(),
+                });
+            }
+        }
+    }
+    // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
+    let vias: Vec<Point> = art.drills.iter().filter(|d| d.via).map(|d| d.at).collect();
+    for (i, v) in vias.iter().enumerate() {
+        let nn = vias
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| *j != i)
+            .map(|(_, w)| (*w - *v).hypot())
+            .fold(f64::INFINITY, f64::min);
+        if nn > s.pitch_max + 1e-6 {
+            out.push(Violation {
+                rule: "via pitch above the limit",
+                layer: "drill".into(),
+                at: *v,
+                detail: format!("nearest via {nn:.3} mm > {:.3} mm (λ/N)", s.pitch_max),
+            });
+        }
+        if nn < s.pitch_min - 1e-6 {
+            out.push(Violation {
+                rule: "via pitch below the fab minimum",
+                layer: "drill".into(),
+                at: *v,
+                detail: format!("nearest via {nn:.3} mm < {:.3} mm", s.pitch_min),
+            });
+        }
+    }
+    // Stitching rows along the loop: consecutive vias no farther apart than the limit, except
+    // across the gap and where the feed and the short cross the outer row.
+    for off in [-s.fence_offset, s.fence_offset] {
+        let half = crate::geom::shape::left_half(&p.shape, off);
+        let sl = crate::geom::shape::arclengths(&half);
+        let mut on_row: Vec<f64> = vias
+            .iter()
+            .filter(|v| v.x <= 1e-9)
+            .filter_map(|v| {
+                let d = crate::geom::shape::dist_to_polyline(*v, &half);
+                (d < 0.01).then(|| {
+                    // Arc-length position of the closest point.
+                    let mut best = (f64::INFINITY, 0.0);
+                    for (k, w) in half.windows(2).enumerate() {
+                        let ab = w[1] - w[0];
+                        let t = ((*v - w[0]).dot(ab) / ab.hypot2()).clamp(0.0, 1.0);
+                        let dd = (*v - (w[0] + ab * t)).hypot();
+                        if dd < best.0 {
+                            best = (dd, sl[k] + t * ab.hypot());
+                        }
+                    }
+                    best.1
+                })
+            })
+            .collect();
+        on_row.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        for w in on_row.windows(2) {
+            let (q, _) = crate::geom::shape::point_at(&half, &sl, w[1]);
+            let exempt =
+                off > 0.0 && q.x.abs() < s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
+            if w[1] - w[0] > s.pitch_max * 1.02 && !exempt {
+                out.push(Violation {
+                    rule: "stitching row pitch above the limit",
+                    layer: "drill".into(),
+                    at: q,
+                    detail: format!(
+                        "{:.3} mm > {:.3} mm along the row",
+                        w[1] - w[0],
+                        s.pitch_max
+                    ),
+                });
+            }
+        }
+    }
+    // Mask web between openings.
+    for (openings, name) in [
+        (&art.mask_top, "mask-top"),
+        (&art.mask_bottom, "mask-bottom"),
+    ] {
+        for (i, a) in openings.iter().enumerate() {
+            for bb in &openings[i + 1..] {
+                let d = Euclidean.distance(&flash_polygon(a), &flash_polygon(bb));
+                if d < fab.mask_web - 1e-6 {
+                    out.push(Violation {
+                        rule: "mask web",
+                        layer: name.into(),
+                        at: a.at,
+                        detail: format!("{d:.4} mm < {:.4} mm", fab.mask_web),
+                    });
+                }
+            }
+        }
+    }
+    // Silkscreen off the pads.
+    for (strokes, openings, name) in [
+        (&art.silk_top, &art.mask_top, "legend-top"),
+        (&art.silk_bottom, &art.mask_bottom, "legend-bottom"),
+    ] {
+        for st in strokes.iter() {
+            let ink = stroke_round(st, art.silk_width / 2.0);
+            for o in openings.iter() {
+                let d = Euclidean.distance(&ink, &MultiPolygon(vec![flash_polygon(o)]));
+                if d < fab.silk_to_pad - 1e-6 {
+                    out.push(Violation {
+                        rule: "silkscreen on a pad",
+                        layer: name.into(),
+                        at: st[0],
+                        detail: format!("{d:.4} mm from a pad opening < {:.4} mm", fab.silk_to_pad),
+                    });
+                }
+            }
+            for q in st {
+                let pt = geo::Point::new(q.x, q.y);
+                if !outline.contains(&pt) {
+                    out.push(Violation {
+                        rule: "silkscreen off the board",
+                        layer: name.into(),
+                        at: *q,
+                        detail: "stroke outside the outline".into(),
+                    });
+                    break;
+                }
+            }
+        }
+    }
+    out
+}

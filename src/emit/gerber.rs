@@ -1,0 +1,352 @@
+//! Gerber X2 (RS-274X) writer, through the `gerber-types` crate. Coordinates are integer
+//! nanometres (format 4.6, metric); every aperture carries `.AperFunction`, copper objects carry
+//! the `.N` net; no creation date is written, so the output is the same run to run.
+
+use crate::artwork::{Artwork, CopperLayer, Flash, NET, PadFunction, Shape, Side};
+use geo::{Area, MultiPolygon};
+use gerber_types::*;
+use kurbo::Point;
+
+/// Software identity written into every file.
+pub fn generation_software() -> GenerationSoftware {
+    GenerationSoftware::new(
+        "loopwright project",
+        "loopwright",
+        Some(env!("CARGO_PKG_VERSION")),
+    )
+}
+
+fn fmt() -> CoordinateFormat {
+    CoordinateFormat::new(ZeroOmission::Leading, CoordinateMode::Absolute, 4, 6)
+}
+
+fn nm(v: f64) -> CoordinateNumber {
+    CoordinateNumber::new((v * 1e6).round() as i64)
+}
+
+fn xy(p: Point) -> Coordinates {
+    Coordinates {
+        x: Some(nm(p.x)),
+        y: Some(nm(p.y)),
+        format: fmt(),
+    }
+}
+
+/// A Gerber file under construction.
+struct Writer {
+    cmds: Vec<Command>,
+    apertures: Vec<(Shape, ApertureFunction, i32)>,
+    next_code: i32,
+    copper: bool,
+}
+
+fn ext(c: ExtendedCode) -> Command {
+    Command::ExtendedCode(c)
+}
+
+fn func(c: impl Into<FunctionCode>) -> Command {
+    Command::FunctionCode(c.into())
+}
+
+impl Writer {
+    fn new(
+        function: FileFunction,
+        polarity: FilePolarity,
+        same_coords: &str,
+        copper: bool,
+    ) -> Self {
+        let cmds = vec![
+            ext(ExtendedCode::CoordinateFormat(fmt())),
+            ext(ExtendedCode::Unit(Unit::Millimeters)),
+            ext(ExtendedCode::FileAttribute(
+                FileAttribute::GenerationSoftware(generation_software()),
+            )),
+            ext(ExtendedCode::FileAttribute(FileAttribute::SameCoordinates(
+                Some(Ident::Name(same_coords.to_string())),
+            ))),
+            ext(ExtendedCode::FileAttribute(FileAttribute::FileFunction(
+                function,
+            ))),
+            ext(ExtendedCode::FileAttribute(FileAttribute::FilePolarity(
+                polarity,
+            ))),
+            ext(ExtendedCode::FileAttribute(FileAttribute::Part(
+                Part::Single,
+            ))),
+        ];
+        Writer {
+            cmds,
+            apertures: Vec::new(),
+            next_code: 10,
+            copper,
+        }
+    }
+
+    /// Defines (once) and returns the D code of an aperture with a function.
+    fn aperture(&mut self, shape: Shape, function: ApertureFunction) -> i32 {
+        if let Some((_, _, code)) = self
+            .apertures
+            .iter()
+            .find(|(s, f, _)| *s == shape && *f == function)
+        {
+            return *code;
+        }
+        let code = self.next_code;
+        self.next_code += 1;
+        self.cmds.push(ext(ExtendedCode::ApertureAttribute(
+            ApertureAttribute::ApertureFunction(function.clone()),
+        )));
+        let ap = match shape {
+            Shape::Circle(d) => Aperture::Circle(Circle::new(d)),
+            Shape::Rect(w, h) => Aperture::Rectangle(Rectangular::new(w, h)),
+        };
+        self.cmds.push(ext(ExtendedCode::ApertureDefinition(
+            ApertureDefinition::new(code, ap),
+        )));
+        self.cmds.push(ext(ExtendedCode::DeleteAttribute(
+            AttributeDeletionCriterion::AllApertureAndObjectAttributes,
+        )));
+        self.apertures.push((shape, function, code));
+        code
+    }
+
+    fn net(&mut self) {
+        if self.copper {
+            self.cmds
+                .push(ext(ExtendedCode::ObjectAttribute(ObjectAttribute::Net(
+                    Net::Connected(vec![NET.to_string()]),
+                ))));
+        }
+    }
+
+    fn clear_attrs(&mut self) {
+        self.cmds.push(ext(ExtendedCode::DeleteAttribute(
+            AttributeDeletionCriterion::AllApertureAndObjectAttributes,
+        )));
+    }
+
+    fn polarity(&mut self, dark: bool) {
+        self.cmds.push(ext(ExtendedCode::LoadPolarity(if dark {
+            Polarity::Dark
+        } else {
+            Polarity::Clear
+        })));
+    }
+
+    /// One closed contour as a region (G36/G37).
+    fn region(&mut self, ring: &[Point], function: &ApertureFunction) {
+        self.cmds.push(ext(ExtendedCode::ApertureAttribute(
+            ApertureAttribute::ApertureFunction(function.clone()),
+        )));
+        self.net();
+        self.cmds.push(func(GCode::RegionMode(true)));
+        self.cmds
+            .push(func(DCode::Operation(Operation::Move(Some(xy(ring[0]))))));
+        for p in &ring[1..] {
+            self.cmds.push(func(DCode::Operation(Operation::Interpolate(
+                Some(xy(*p)),
+                None,
+            ))));
+        }
+        self.cmds.push(func(GCode::RegionMode(false)));
+        self.clear_attrs();
+    }
+
+    fn regions(&mut self, m: &MultiPolygon<f64>, function: ApertureFunction) {
+        // Containers before what they contain: by decreasing exterior area.
+        let mut polys: Vec<_> = m.0.iter().collect();
+        polys.sort_by(|a, b| {
+            let (aa, bb) = (
+                geo::Polygon::new(a.exterior().clone(), vec![]).unsigned_area(),
+                geo::Polygon::new(b.exterior().clone(), vec![]).unsigned_area(),
+            );
+            bb.partial_cmp(&aa).unwrap_or(std::cmp::Ordering::Equal)
+        });
+        for poly in polys {
+            let pts = |ls: &geo::LineString<f64>| -> Vec<Point> {
+                ls.coords().map(|c| Point::new(c.x, c.y)).collect()
+            };
+            self.polarity(true);
+            self.region(&pts(poly.exterior()), &function);
+            if !poly.interiors().is_empty() {
+                self.polarity(false);
+                for hole in poly.interiors() {
+                    self.region(&pts(hole), &function);
+                }
+            }
+        }
+        self.polarity(true);
+    }
+
+    fn flash(&mut self, f: &Flash, function: ApertureFunction) {
+        let code = self.aperture(f.shape, function);
+        self.cmds.push(func(DCode::SelectAperture(code)));
+        self.net();
+        self.cmds
+            .push(func(DCode::Operation(Operation::Flash(Some(xy(f.at))))));
+        if self.copper {
+            self.clear_attrs();
+        }
+    }
+
+    fn stroke(&mut self, pts: &[Point], width: f64, function: ApertureFunction) {
+        let code = self.aperture(Shape::Circle(width), function);
+        self.cmds.push(func(DCode::SelectAperture(code)));
+        self.cmds
+            .push(func(DCode::Operation(Operation::Move(Some(xy(pts[0]))))));
+        for p in &pts[1..] {
+            self.cmds.push(func(DCode::Operation(Operation::Interpolate(
+                Some(xy(*p)),
+                None,
+            ))));
+        }
+    }
+
+    fn finish(mut self) -> String {
+        self.cmds.push(func(MCode::EndOfFile));
+        let mut buf = Vec::new();
+        self.cmds
+            .serialize(&mut buf)
+            .expect("writing to memory cannot fail");
+        String::from_utf8(buf).expect("Gerber text is ASCII")
+    }
+}
+
+fn pad_function(f: PadFunction) -> ApertureFunction {
+    match f {
+        PadFunction::Via => ApertureFunction::ViaPad,
+        PadFunction::Connector => ApertureFunction::ConnectorPad,
+        PadFunction::Component => ApertureFunction::ComponentPad,
+        PadFunction::MaskOpening => ApertureFunction::Material,
+    }
+}
+
+/// A copper layer file.
+pub fn copper(layer: &CopperLayer, same_coords: &str) -> String {
+    let pos = match layer.side {
+        Side::Top => ExtendedPosition::Top,
+        Side::Inner => ExtendedPosition::Inner,
+        Side::Bottom => ExtendedPosition::Bottom,
+    };
+    let kind = if layer.signal {
+        CopperType::Signal
+    } else {
+        CopperType::Plane
+    };
+    let mut w = Writer::new(
+        FileFunction::Copper {
+            layer: layer.n as i32,
+            pos,
+            copper_type: Some(kind),
+        },
+        FilePolarity::Positive,
+        same_coords,
+        true,
+    );
+    // Define the flash apertures first, then draw regions, then flash pads over them.
+    for f in &layer.flashes {
+        w.aperture(f.shape, pad_function(f.function));
+    }
+    w.cmds
+        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
+    w.regions(&layer.regions, ApertureFunction::Conductor);
+    for f in &layer.flashes {
+        w.flash(f, pad_function(f.function));
+    }
+    w.finish()
+}
+
+/// A solder-mask file (negative polarity: the image is the openings).
+pub fn mask(openings: &[Flash], top: bool, same_coords: &str) -> String {
+    let pos = if top { Position::Top } else { Position::Bottom };
+    let mut w = Writer::new(
+        FileFunction::SolderMask { pos, index: None },
+        FilePolarity::Negative,
+        same_coords,
+        false,
+    );
+    w.cmds
+        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
+    w.polarity(true);
+    for f in openings {
+        w.flash(f, ApertureFunction::Material);
+    }
+    w.finish()
+}
+
+/// A legend (silkscreen) file.
+pub fn legend(strokes: &[Vec<Point>], width: f64, top: bool, same_coords: &str) -> String {
+    let pos = if top { Position::Top } else { Position::Bottom };
+    let mut w = Writer::new(
+        FileFunction::Legend { pos, index: None },
+        FilePolarity::Positive,
+        same_coords,
+        false,
+    );
+    w.cmds
+        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
+    w.polarity(true);
+    for s in strokes {
+        w.stroke(s, width, ApertureFunction::Other("Legend".into()));
+    }
+    w.finish()
+}
+
+/// The board profile (outline) file.
+pub fn profile(rings: &[Vec<Point>], same_coords: &str) -> String {
+    let mut w = Writer::new(
+        FileFunction::Profile(Some(Profile::NonPlated)),
+        FilePolarity::Positive,
+        same_coords,
+        false,
+    );
+    w.cmds
+        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
+    w.polarity(true);
+    for r in rings {
+        w.stroke(r, 0.05, ApertureFunction::Profile);
+    }
+    w.finish()
+}
+
+/// The `.FileFunction` value string of each kind of file, for the job file.
+pub fn file_function_text(text: &str) -> String {
+    text.lines()
+        .find_map(|l| l.strip_prefix("%TF.FileFunction,"))
+        .map(|s| s.trim_end_matches("*%").to_string())
+        .unwrap_or_default()
+}
+
+/// The `.FilePolarity` value of a file.
+pub fn file_polarity_text(text: &str) -> String {
+    text.lines()
+        .find_map(|l| l.strip_prefix("%TF.FilePolarity,"))
+        .map(|s| s.trim_end_matches("*%").to_string())
+        .unwrap_or_default()
+}
+
+/// Every file of an artwork: (file-name suffix, text).
+pub fn all(art: &Artwork, same_coords: &str) -> Vec<(String, String)> {
+    let mut out = Vec::new();
+    for l in &art.copper {
+        out.push((format!("L{}.gbr", l.n), copper(l, same_coords)));
+    }
+    out.push((
+        "mask-top.gbr".into(),
+        mask(&art.mask_top, true, same_coords),
+    ));
+    out.push((
+        "mask-bottom.gbr".into(),
+        mask(&art.mask_bottom, false, same_coords),
+    ));
+    out.push((
+        "legend-top.gbr".into(),
+        legend(&art.silk_top, art.silk_width, true, same_coords),
+    ));
+    out.push((
+        "legend-bottom.gbr".into(),
+        legend(&art.silk_bottom, art.silk_width, false, same_coords),
+    ));
+    out.push(("profile.gbr".into(), profile(&art.profile, same_coords)));
+    out
+}

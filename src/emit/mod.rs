@@ -1,0 +1,8 @@
+//! Emitters: they serialise the artwork and the model's numbers into files, and compute no
+//! geometry of their own.
+
+pub mod excellon;
+pub mod gerber;
+pub mod job;
+pub mod notes;
+pub mod svg;

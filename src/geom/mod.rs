@@ -1,0 +1,605 @@
+//! The geometry core: from a probe and its solved values to the board model (paths, regions,
+//! vias, pads, outline, silkscreen strokes), in millimetres.
+//!
+//! Coordinates: origin at the loop centre, loop axis along +y (tip up, connector down), outline
+//! symmetric about x = 0. Everything is mirror-symmetric about x = 0 except the **feed** (the
+//! line enters the loop at x = −e) and the **short** (the trace ends at x = +e and is tied to
+//! the shield there), with e = half the fence offset, and the vias that follow them (the feed's
+//! via fences and the short vias). The shield copper itself stays symmetric: vias sit inside
+//! the pour, and the signal via is on the axis.
+
+pub mod font;
+pub mod shape;
+
+use crate::model::probe::{LoopShape, Probe};
+use crate::solve::probe::{RING_RIM, SolvedProbe, VIA_WEB};
+use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
+use kurbo::{Affine, Point, Vec2};
+use shape::{arc_points, arclengths, closed, dist_to_polyline, left_half, mirror, point_at};
+
+/// What a via is for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ViaRole {
+    /// Stitching row inside the trace, around the loop.
+    InnerRow,
+    /// Stitching row outside the trace, around the loop.
+    OuterRow,
+    /// Fence along the feed line in the handle.
+    Fence,
+    /// Ties the trace's far end to the shield.
+    Short,
+    /// Carries the signal from the loop's layer to the connector's layer.
+    Signal,
+    /// Ground via around the signal via.
+    SignalGround,
+}
+
+/// A plated via (through all layers).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Via {
+    /// Centre, mm.
+    pub at: Point,
+    /// Finished drill, mm.
+    pub drill: f64,
+    /// Pad diameter, mm.
+    pub pad: f64,
+    /// Role.
+    pub role: ViaRole,
+}
+
+/// A rectangular pad on an outer layer.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Pad {
+    /// Centre, mm.
+    pub at: Point,
+    /// Size along x, mm.
+    pub w: f64,
+    /// Size along y, mm.
+    pub h: f64,
+    /// On the top (true) or bottom (false) layer.
+    pub top: bool,
+    /// The connector's centre pad (false: a ground pad).
+    pub centre: bool,
+}
+
+/// A plated hole that is not a via (connector ground legs).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Hole {
+    /// Centre, mm.
+    pub at: Point,
+    /// Finished drill, mm.
+    pub drill: f64,
+    /// Pad diameter on the outer layers, mm.
+    pub pad: f64,
+}
+
+/// The board model of one probe.
+#[derive(Debug, Clone)]
+pub struct Board {
+    /// Signal-layer trace centreline: from the signal via, through the feed, around the loop, to
+    /// the end of the short stub.
+    pub trace_path: Vec<Point>,
+    /// Index in `trace_path` of the loop exit E_out (the channel around the trace ends there).
+    pub exit_index: usize,
+    /// Index in `trace_path` of the loop entry E_in.
+    pub entry_index: usize,
+    /// Trace width, mm.
+    pub trace_width: f64,
+    /// Top-layer link centreline from the connector's centre pad to the signal via.
+    pub top_path: Vec<Point>,
+    /// Top-layer link width, mm.
+    pub top_width: f64,
+    /// Clearance from traces to coplanar ground, mm.
+    pub clearance: f64,
+    /// Shield outline (ring ∪ handle) before the gap and clearances, pulled back from the edge.
+    pub shield: MultiPolygon<f64>,
+    /// The shield gap: x from −gap/2 to +gap/2, y from `gap_y.0` to `gap_y.1`.
+    pub gap_y: (f64, f64),
+    /// Gap width, mm.
+    pub gap: f64,
+    /// Every via.
+    pub vias: Vec<Via>,
+    /// Connector pads.
+    pub pads: Vec<Pad>,
+    /// Connector ground-leg holes.
+    pub holes: Vec<Hole>,
+    /// Board outline: exterior ring, and the milled interior if any (closed, counter-clockwise).
+    pub outline: Polygon<f64>,
+    /// Area inside the loop where no copper may be.
+    pub interior: Polygon<f64>,
+    /// Silkscreen strokes on the top side.
+    pub silk_top: Vec<Vec<Point>>,
+    /// Silkscreen strokes on the bottom side (as seen from the top).
+    pub silk_bottom: Vec<Vec<Point>>,
+    /// y of the board edge at the connector, mm.
+    pub edge_y: f64,
+    /// Board bounding box (min, max), mm.
+    pub bbox: (Point, Point),
+}
+
+/// A closed polygon from points (the ring is closed by geo).
+pub fn polygon(pts: &[Point]) -> Polygon<f64> {
+    Polygon::new(
+        LineString::from(
+            pts.iter()
+                .map(|p| Coord { x: p.x, y: p.y })
+                .collect::<Vec<_>>(),
+        ),
+        vec![],
+    )
+}
+
+/// A circle polygon.
+pub fn circle(c: Point, r: f64) -> Polygon<f64> {
+    let mut pts = arc_points(c, r, 0.0, std::f64::consts::TAU);
+    pts.pop();
+    polygon(&pts)
+}
+
+/// An axis-aligned rectangle polygon.
+pub fn rect(x0: f64, y0: f64, x1: f64, y1: f64) -> Polygon<f64> {
+    polygon(&[
+        Point::new(x0, y0),
+        Point::new(x1, y0),
+        Point::new(x1, y1),
+        Point::new(x0, y1),
+    ])
+}
+
+/// The region within `r` of a polyline, with flat (butt) ends and round joins.
+pub fn stroke_butt(path: &[Point], r: f64) -> MultiPolygon<f64> {
+    use geo::algorithm::buffer::{Buffer, BufferStyle, LineCap, LineJoin};
+    let ls = LineString::from(
+        path.iter()
+            .map(|p| Coord { x: p.x, y: p.y })
+            .collect::<Vec<_>>(),
+    );
+    let step = 2.0 * (1.0 - shape::ARC_TOLERANCE / r).clamp(-1.0, 1.0).acos();
+    ls.buffer_with_style(
+        BufferStyle::new(r)
+            .line_cap(LineCap::Butt)
+            .line_join(LineJoin::Round(step.max(0.01))),
+    )
+}
+
+/// The region within `r` of a polyline, with round ends (a silkscreen stroke).
+pub fn stroke_round(path: &[Point], r: f64) -> MultiPolygon<f64> {
+    use geo::algorithm::buffer::{Buffer, BufferStyle, LineCap, LineJoin};
+    if path.len() == 1 {
+        return MultiPolygon(vec![circle(path[0], r)]);
+    }
+    let ls = LineString::from(
+        path.iter()
+            .map(|p| Coord { x: p.x, y: p.y })
+            .collect::<Vec<_>>(),
+    );
+    let step = 2.0 * (1.0 - shape::ARC_TOLERANCE / r).clamp(-1.0, 1.0).acos();
+    let a = step.max(0.01);
+    ls.buffer_with_style(
+        BufferStyle::new(r)
+            .line_cap(LineCap::Round(a))
+            .line_join(LineJoin::Round(a)),
+    )
+}
+
+/// Builds the board of a probe.
+pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
+    let w = s.trace_width;
+    let c = p.clearance;
+    let pad = p.vias.pad;
+    let f = s.fence_offset;
+    let hr = s.ring_half_width;
+    let e = s.feed_offset;
+    let cte = p.fab.copper_to_edge;
+    let shape = &p.shape;
+
+    // --- Loop part of the trace: E_in (x = −e, lower left) → top → E_out (x = +e).
+    let left = left_half(shape, 0.0);
+    // The last segment (from the top) where the left half crosses x = −e on its way back to the
+    // axis at the bottom.
+    let k = (0..left.len() - 1)
+        .rev()
+        .find(|&i| left[i].x <= -e && left[i + 1].x > -e)
+        .expect("the loop is wider than the feed offset (checked in solve)");
+    let (a, b) = (left[k], left[k + 1]);
+    let t = (-e - a.x) / (b.x - a.x);
+    let e_in = Point::new(-e, a.y + t * (b.y - a.y));
+    let mut loop_part: Vec<Point> = vec![e_in];
+    loop_part.extend(left[..=k].iter().rev().copied());
+    loop_part.extend(left[1..=k].iter().map(|q| mirror(*q)));
+    loop_part.push(mirror(e_in));
+    dedup(&mut loop_part);
+
+    // --- Board frame: connector edge and signal via.
+    let bottom = left.last().unwrap().y; // centreline bottom (on the axis)
+    let ring_bottom = bottom - hr;
+    let edge_y = ring_bottom - p.handle.length;
+    let cp_len = p.connector.centre_pad_length;
+    let sv = Point::new(0.0, edge_y + cp_len + c + pad / 2.0 + 0.3);
+    let jog_y = sv.y + pad / 2.0 + c + pad;
+    let feed = vec![sv, Point::new(0.0, jog_y), Point::new(-e, jog_y + e), e_in];
+    let mut trace_path = feed.clone();
+    let entry_index = trace_path.len() - 1;
+    trace_path.extend(loop_part.iter().skip(1).copied());
+    let exit_index = trace_path.len() - 1;
+    let e_out = *trace_path.last().unwrap();
+    let stub_end = Point::new(e, e_out.y - (w / 2.0 + c + 2.0 * pad));
+    trace_path.push(stub_end);
+
+    // --- Top-layer link: from the centre pad's inner end to the signal via.
+    let top_path = vec![
+        Point::new(
+            0.0,
+            edge_y + cp_len - 0.5 * p.connector.centre_pad_width.min(cp_len),
+        ),
+        sv,
+    ];
+
+    // --- Shield: ring ∪ handle, pulled back from the board edge.
+    let ring = {
+        let mut outer = polygon(&closed(shape, hr));
+        let inner = closed(shape, -hr);
+        outer.interiors_push(LineString::from(
+            inner
+                .iter()
+                .map(|q| Coord { x: q.x, y: q.y })
+                .collect::<Vec<_>>(),
+        ));
+        outer
+    };
+    let hw = p.handle.width / 2.0;
+    let handle = rect(-hw, edge_y + cte, hw, bottom);
+    let shield = MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle]));
+
+    // --- Gap over the top of the ring.
+    let top = left[0].y;
+    let gap_y = (top - hr - 0.5, top + hr + 0.5);
+
+    // --- Outline: the copper extent grown by the copper-to-edge rule (round joins), which puts
+    // the connector edge at `edge_y`.
+    let outline = {
+        use geo::algorithm::buffer::{Buffer, BufferStyle, LineCap, LineJoin};
+        let extent = MultiPolygon(vec![polygon(&closed(shape, hr))])
+            .union(&MultiPolygon(vec![rect(-hw, edge_y + cte, hw, bottom)]));
+        let step = 2.0 * (1.0 - shape::ARC_TOLERANCE / cte.max(0.01)).acos();
+        extent
+            .buffer_with_style(
+                BufferStyle::new(cte)
+                    .line_cap(LineCap::Round(step))
+                    .line_join(LineJoin::Round(step)),
+            )
+            .0
+            .into_iter()
+            .max_by(|a, b| {
+                use geo::Area;
+                a.unsigned_area().partial_cmp(&b.unsigned_area()).unwrap()
+            })
+            .expect("outline is one piece")
+    };
+    let mut outline = Polygon::new(outline.exterior().clone(), vec![]);
+    let interior = polygon(&closed(shape, -hr));
+    if p.mill_interior {
+        let cut = closed(shape, -hr - cte);
+        outline.interiors_push(LineString::from(
+            cut.iter()
+                .map(|q| Coord { x: q.x, y: q.y })
+                .collect::<Vec<_>>(),
+        ));
+    }
+
+    // --- Connector pads and holes.
+    let con = &p.connector;
+    let mut pads = vec![Pad {
+        at: Point::new(0.0, edge_y + cp_len / 2.0),
+        w: con.centre_pad_width,
+        h: cp_len,
+        top: true,
+        centre: true,
+    }];
+    let mut holes = Vec::new();
+    for side in [-1.0, 1.0] {
+        for top_side in [true, false] {
+            pads.push(Pad {
+                at: Point::new(
+                    side * con.ground_pad_offset,
+                    edge_y + con.ground_pad_length / 2.0,
+                ),
+                w: con.ground_pad_width,
+                h: con.ground_pad_length,
+                top: top_side,
+                centre: false,
+            });
+        }
+        if con.ground_hole_drill > 0.0 {
+            holes.push(Hole {
+                at: Point::new(
+                    side * con.ground_pad_offset,
+                    edge_y + con.ground_pad_length / 2.0,
+                ),
+                drill: con.ground_hole_drill,
+                pad: (con.ground_hole_drill + 2.0 * p.fab.min_annular_ring.max(0.15))
+                    .min(con.ground_pad_width),
+            });
+        }
+    }
+
+    // --- Vias.
+    let mut placer = ViaPlacer {
+        p,
+        s,
+        vias: Vec::new(),
+        trace: trace_path[..=exit_index].to_vec(),
+        top_path: top_path.clone(),
+        shield: shield.clone(),
+        pads: pads.clone(),
+        sv,
+    };
+    placer.vias.push(Via {
+        at: sv,
+        drill: p.vias.drill,
+        pad,
+        role: ViaRole::Signal,
+    });
+    // Short vias on the stub, in solid ground below the channel.
+    let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
+    for q in [short1, Point::new(e, short1.y - s.pitch_min)] {
+        placer.vias.push(Via {
+            at: q,
+            drill: p.vias.drill,
+            pad,
+            role: ViaRole::Short,
+        });
+    }
+    placer.rows(shape, -f, ViaRole::InnerRow);
+    placer.rows(shape, f, ViaRole::OuterRow);
+    // Ground vias around the signal via.
+    let rg = pad / 2.0 + c + pad / 2.0 + VIA_WEB + 0.05;
+    for i in 0..8 {
+        let ang = std::f64::consts::FRAC_PI_8 + i as f64 * std::f64::consts::FRAC_PI_4;
+        placer.try_add(
+            sv + Vec2::new(ang.cos(), ang.sin()) * rg,
+            ViaRole::SignalGround,
+        );
+    }
+    placer.fences(&feed);
+    let vias = placer.vias;
+
+    // --- Silkscreen.
+    let (silk_top, silk_bottom) = silk(p, s, edge_y, bottom, hw);
+
+    let (mut lo, mut hi) = (
+        Point::new(f64::MAX, f64::MAX),
+        Point::new(f64::MIN, f64::MIN),
+    );
+    for q in outline.exterior().coords() {
+        lo = Point::new(lo.x.min(q.x), lo.y.min(q.y));
+        hi = Point::new(hi.x.max(q.x), hi.y.max(q.y));
+    }
+    let _ = RING_RIM;
+    Board {
+        trace_path,
+        exit_index,
+        entry_index,
+        trace_width: w,
+        top_path,
+        top_width: s.top_width,
+        clearance: c,
+        shield,
+        gap_y,
+        gap: p.gap,
+        vias,
+        pads,
+        holes,
+        outline,
+        interior,
+        silk_top,
+        silk_bottom,
+        edge_y,
+        bbox: (lo, hi),
+    }
+}
+
+fn dedup(v: &mut Vec<Point>) {
+    v.dedup_by(|a, b| (*a - *b).hypot() < 1e-9);
+}
+
+/// Geometric tolerance of the construction rules, mm: twice the arc flattening tolerance.
+pub const TOL: f64 = 2.0 * shape::ARC_TOLERANCE;
+
+struct ViaPlacer<'a> {
+    p: &'a Probe,
+    s: &'a SolvedProbe,
+    vias: Vec<Via>,
+    trace: Vec<Point>,
+    top_path: Vec<Point>,
+    shield: MultiPolygon<f64>,
+    pads: Vec<Pad>,
+    sv: Point,
+}
+
+impl ViaPlacer<'_> {
+    /// True when a via at `q` keeps every construction rule.
+    fn ok(&self, q: Point) -> bool {
+        use geo::{Contains, Distance, Euclidean};
+        let pad = self.p.vias.pad;
+        let f = self.s.fence_offset;
+        let c = self.p.clearance;
+        // Clear of the loop trace and its channel, and of the top link's channel.
+        if dist_to_polyline(q, &self.trace) < f - TOL {
+            return false;
+        }
+        let f_top = self.s.top_width / 2.0 + c + pad / 2.0 + VIA_WEB;
+        if dist_to_polyline(q, &self.top_path) < f_top - TOL {
+            return false;
+        }
+        if (q - self.sv).hypot() < pad + c + VIA_WEB - TOL {
+            return false;
+        }
+        // Clear of the gap.
+        if q.y > 0.0 && q.x.abs() < self.p.gap / 2.0 + pad / 2.0 + 0.1 {
+            return false;
+        }
+        // Clear of the connector pads.
+        for pd in &self.pads {
+            if (q.x - pd.at.x).abs() < pd.w / 2.0 + pad / 2.0 + 0.1
+                && (q.y - pd.at.y).abs() < pd.h / 2.0 + pad / 2.0 + 0.1
+            {
+                return false;
+            }
+        }
+        // Inside the shield with a rim.
+        let pt = geo::Point::new(q.x, q.y);
+        if !self.shield.contains(&pt) {
+            return false;
+        }
+        let edge = self
+            .shield
+            .0
+            .iter()
+            .map(|poly| {
+                std::iter::once(poly.exterior())
+                    .chain(poly.interiors())
+                    .map(|r| Euclidean.distance(&pt, r))
+                    .fold(f64::INFINITY, f64::min)
+            })
+            .fold(f64::INFINITY, f64::min);
+        if edge < pad / 2.0 + VIA_WEB - TOL {
+            return false;
+        }
+        // Fab via pitch.
+        self.vias
+            .iter()
+            .all(|v| (v.at - q).hypot() >= self.s.pitch_min - TOL)
+    }
+
+    fn try_add(&mut self, q: Point, role: ViaRole) -> bool {
+        if self.ok(q) {
+            self.vias.push(Via {
+                at: q,
+                drill: self.p.vias.drill,
+                pad: self.p.vias.pad,
+                role,
+            });
+            true
+        } else {
+            false
+        }
+    }
+
+    /// A stitching row along the loop at offset `off`, in mirror pairs.
+    fn rows(&mut self, shape: &LoopShape, off: f64, role: ViaRole) {
+        let half = left_half(shape, off);
+        let s = arclengths(&half);
+        let total = *s.last().unwrap();
+        let keep = self.p.gap / 2.0 + self.p.vias.pad / 2.0 + 0.1;
+        // Start where the row leaves the gap's keep-out.
+        let s0 = (0..half.len())
+            .find(|&i| half[i].x <= -keep)
+            .map(|i| {
+                if i == 0 {
+                    0.0
+                } else {
+                    let (a, b) = (half[i - 1], half[i]);
+                    let t = (-keep - a.x) / (b.x - a.x);
+                    s[i - 1] + t * (s[i] - s[i - 1])
+                }
+            })
+            .unwrap_or(total);
+        let span = total - s0;
+        let n = ((span / (0.95 * self.s.pitch_max)).ceil() as usize).max(1);
+        for i in 0..=n {
+            let (q, _) = point_at(&half, &s, s0 + span * i as f64 / n as f64);
+            if q.x.abs() < 1e-9 {
+                let q = Point::new(0.0, q.y);
+                self.try_add(q, role);
+                continue;
+            }
+            if self.ok(q) && self.ok(mirror(q)) {
+                self.try_add(q, role);
+                if !self.try_add(mirror(q), role) {
+                    self.vias.pop();
+                }
+            }
+        }
+    }
+
+    /// Fences on both sides of the feed line, up to where it joins the loop.
+    fn fences(&mut self, feed: &[Point]) {
+        let f = self.s.fence_offset;
+        let s = arclengths(feed);
+        let total = *s.last().unwrap();
+        // Half the pitch limit: a tight fence beside the feed, where the line leaves the loop.
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min);
+        let mut t = 0.0;
+        while t <= total + 1e-9 {
+            let (q, dir) = point_at(feed, &s, t.min(total));
+            let normal = Vec2::new(-dir.y, dir.x);
+            for side in [-1.0, 1.0] {
+                self.try_add(q + normal * (side * f), ViaRole::Fence);
+            }
+            t += step;
+        }
+    }
+}
+
+/// Silkscreen: name, size and stackup along the handle, and the sensitive-direction mark.
+fn silk(
+    p: &Probe,
+    s: &SolvedProbe,
+    edge_y: f64,
+    loop_bottom: f64,
+    hw: f64,
+) -> (Vec<Vec<Point>>, Vec<Vec<Point>>) {
+    let h = p.fab.silk_text_height;
+    let right = format!(
+        "{} {} {}",
+        p.name,
+        p.shape.kind().to_uppercase(),
+        p.shape.size_tag()
+    );
+    let mut left = p.stackup.name().to_uppercase();
+    if !p.silk_text.is_empty() {
+        left = format!("{left} {}", p.silk_text);
+    }
+    // Text runs up the handle (rotated 90°: the glyphs' tops face −x), one column on each side
+    // of the feed's via fences.
+    let clear = s.fence_offset + p.vias.pad / 2.0 + 0.3;
+    let y_start = edge_y + p.connector.ground_pad_length + p.fab.silk_to_pad + 1.0;
+    let y_end = loop_bottom - s.ring_half_width - 1.0;
+    let mark_c = Point::new(-hw + 0.6 + h, y_end - h);
+    let mut top = Vec::new();
+    let columns = [
+        (s.feed_offset + clear + h, right, y_end - y_start),
+        (
+            -s.feed_offset - clear,
+            left,
+            mark_c.y - 2.5 * h - 0.5 - y_start,
+        ),
+    ];
+    for (x, text, room) in columns {
+        // The column must fit between the fences and the handle's copper edge.
+        if x - h < -hw + 0.3 || x > hw - 0.3 || room <= 0.0 {
+            continue;
+        }
+        let mut t = text;
+        while !t.is_empty() && font::text_width(&t, h) > room {
+            t.pop();
+        }
+        let place =
+            Affine::translate(Vec2::new(x, y_start)) * Affine::rotate(std::f64::consts::FRAC_PI_2);
+        top.extend(font::text_strokes(t.trim_end(), h, place));
+    }
+    // Sensitive-direction mark on the left of the handle: ⊙ (the probe responds to the field
+    // component normal to the board), with "H" below it.
+    let r = 0.5 * h;
+    top.push(arc_points(mark_c, r, 0.0, std::f64::consts::TAU));
+    top.push(vec![mark_c, mark_c + Vec2::new(0.01, 0.0)]);
+    let place = Affine::translate(Vec2::new(
+        mark_c.x - 2.0 / 3.0 * h / 2.0,
+        mark_c.y - r - 0.4 - h,
+    ));
+    top.extend(font::text_strokes("H", h, place));
+    // Bottom: the same mark, seen from the top (mirrored).
+    let bottom: Vec<Vec<Point>> = vec![arc_points(mirror(mark_c), r, 0.0, std::f64::consts::TAU)];
+    (top, bottom)
+}

@@ -1,0 +1,542 @@
+//! Validated probe model: a loop shape on a stackup, with its construction settings.
+//!
+//! Size definition (printed everywhere): a round loop's size is the **mean diameter of the
+//! trace centreline**; a square's is the **side of the trace centreline**; a rectangle's are
+//! the **width × height of the trace centreline** (width across the axis, height along it).
+
+use super::fab::FabProfile;
+use super::stackup::{Stackup, load};
+use crate::error::{Error, FieldError, check_positive, check_range};
+use crate::spec::probe::{LoopSpec, ProbeFileSpec};
+use std::path::Path;
+
+/// The loop's shape, by its trace centreline.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum LoopShape {
+    /// Circle of mean diameter `diameter`.
+    Round {
+        /// Mean diameter of the trace centreline, mm.
+        diameter: f64,
+    },
+    /// Rounded rectangle (a square when width = height) with a flat tip edge.
+    Rect {
+        /// Width across the axis, mm.
+        width: f64,
+        /// Height along the axis, mm.
+        height: f64,
+        /// Corner radius of the centreline, mm.
+        corner_radius: f64,
+        /// True when the spec said `square`.
+        square: bool,
+    },
+}
+
+impl LoopShape {
+    /// `round`, `square` or `rectangle`.
+    pub fn kind(&self) -> &'static str {
+        match self {
+            LoopShape::Round { .. } => "round",
+            LoopShape::Rect { square: true, .. } => "square",
+            LoopShape::Rect { .. } => "rectangle",
+        }
+    }
+
+    /// The size as printed: "Ø10 mm mean" or "8 × 8 mm".
+    pub fn size_text(&self) -> String {
+        match *self {
+            LoopShape::Round { diameter } => format!("{} mm mean diameter", num(diameter)),
+            LoopShape::Rect { width, height, .. } => {
+                format!("{} × {} mm centreline", num(width), num(height))
+            }
+        }
+    }
+
+    /// Short size tag for silkscreen ("D10", "S8", "12X6").
+    pub fn size_tag(&self) -> String {
+        match *self {
+            LoopShape::Round { diameter } => format!("D{}", num(diameter)),
+            LoopShape::Rect {
+                width,
+                height,
+                square: true,
+                ..
+            } => {
+                let _ = height;
+                format!("S{}", num(width))
+            }
+            LoopShape::Rect { width, height, .. } => format!("{}X{}", num(width), num(height)),
+        }
+    }
+
+    /// Smallest centreline dimension, mm.
+    pub fn min_dimension(&self) -> f64 {
+        match *self {
+            LoopShape::Round { diameter } => diameter,
+            LoopShape::Rect { width, height, .. } => width.min(height),
+        }
+    }
+
+    /// Area enclosed by the trace centreline, mm².
+    pub fn centreline_area(&self) -> f64 {
+        match *self {
+            LoopShape::Round { diameter } => std::f64::consts::PI * diameter * diameter / 4.0,
+            LoopShape::Rect {
+                width,
+                height,
+                corner_radius: r,
+                ..
+            } => width * height - (4.0 - std::f64::consts::PI) * r * r,
+        }
+    }
+
+    /// Length of the trace centreline, mm.
+    pub fn circumference(&self) -> f64 {
+        match *self {
+            LoopShape::Round { diameter } => std::f64::consts::PI * diameter,
+            LoopShape::Rect {
+                width,
+                height,
+                corner_radius: r,
+                ..
+            } => 2.0 * (width + height) - (8.0 - 2.0 * std::f64::consts::PI) * r,
+        }
+    }
+}
+
+/// Trims a number for labels: 10 → "10", 2.5 → "2.5".
+pub fn num(v: f64) -> String {
+    let s = format!("{v:.3}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
+/// Via settings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Vias {
+    /// Finished drill, mm.
+    pub drill: f64,
+    /// Pad diameter, mm.
+    pub pad: f64,
+    /// Pitch rule N (pitch ≤ λ/N).
+    pub pitch_n: f64,
+    /// Highest frequency of interest, Hz.
+    pub f_max_hz: f64,
+}
+
+/// Handle settings (mm).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Handle {
+    /// Length from the loop's shield to the board edge.
+    pub length: f64,
+    /// Width.
+    pub width: f64,
+}
+
+/// Edge-launch connector footprint (mm).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Connector {
+    /// Centre pad width.
+    pub centre_pad_width: f64,
+    /// Centre pad length.
+    pub centre_pad_length: f64,
+    /// Ground pad width.
+    pub ground_pad_width: f64,
+    /// Ground pad length.
+    pub ground_pad_length: f64,
+    /// Axis to ground-pad centre.
+    pub ground_pad_offset: f64,
+    /// Ground-leg hole drill (0 = none).
+    pub ground_hole_drill: f64,
+}
+
+impl Connector {
+    /// Generic edge-launch numbers of our own (not any maker's part): 0.8 × 3.0 mm centre pad,
+    /// 1.5 × 3.0 mm ground pads at ±2.5 mm on top and bottom, no ground holes.
+    pub const GENERIC: Connector = Connector {
+        centre_pad_width: 0.8,
+        centre_pad_length: 3.0,
+        ground_pad_width: 1.5,
+        ground_pad_length: 3.0,
+        ground_pad_offset: 2.5,
+        ground_hole_drill: 0.0,
+    };
+}
+
+/// One validated probe.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Probe {
+    /// Name as given.
+    pub name: String,
+    /// Folder-safe name.
+    pub folder: String,
+    /// Loop shape.
+    pub shape: LoopShape,
+    /// Stackup.
+    pub stackup: Stackup,
+    /// Copper layer of the loop trace (1 = top).
+    pub signal_layer: usize,
+    /// Target Z0, Ω.
+    pub target_z0: f64,
+    /// Trace to coplanar ground clearance, mm.
+    pub clearance: f64,
+    /// Shield gap width, mm.
+    pub gap: f64,
+    /// Vias.
+    pub vias: Vias,
+    /// Handle.
+    pub handle: Handle,
+    /// Connector.
+    pub connector: Connector,
+    /// Fab profile.
+    pub fab: FabProfile,
+    /// Mill the loop interior.
+    pub mill_interior: bool,
+    /// Extra silkscreen text.
+    pub silk_text: String,
+}
+
+/// A validated family: one or more probes sharing stackup, handle and connector.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Family {
+    /// Family name.
+    pub name: String,
+    /// Its probes, in spec order.
+    pub probes: Vec<Probe>,
+}
+
+/// Default settings (documented in docs/probe-spec.md).
+pub mod defaults {
+    /// Target Z0, Ω.
+    pub const TARGET_Z0: f64 = 50.0;
+    /// Trace to coplanar ground clearance, mm.
+    pub const CLEARANCE: f64 = 0.2;
+    /// Shield gap, mm.
+    pub const GAP: f64 = 0.4;
+    /// Via drill, mm.
+    pub const VIA_DRILL: f64 = 0.3;
+    /// Via pad, mm.
+    pub const VIA_PAD: f64 = 0.6;
+    /// Pitch rule λ/N with N = 20 (common practice; 10 is the looser bound).
+    pub const PITCH_N: f64 = 20.0;
+    /// Highest frequency of interest, Hz.
+    pub const F_MAX_HZ: f64 = 3e9;
+    /// Handle length, mm.
+    pub const HANDLE_LENGTH: f64 = 40.0;
+    /// Handle width, mm.
+    pub const HANDLE_WIDTH: f64 = 8.0;
+}
+
+/// Makes a name safe as a folder name: letters, digits, `-`, `_` and `.` are kept, anything
+/// else becomes `-`; leading dots are removed. Returns `None` when nothing usable is left.
+pub fn sanitise(name: &str) -> Option<String> {
+    let s: String = name
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' || c == '_' || c == '.' {
+                c
+            } else {
+                '-'
+            }
+        })
+        .collect();
+    let s = s.trim_start_matches('.').to_string();
+    if s.is_empty() || s.chars().all(|c| c == '-' || c == '.') {
+        None
+    } else {
+        Some(s)
+    }
+}
+
+fn shape_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> LoopShape {
+    let mut get = |field: &str, v: Option<f64>| -> f64 {
+        match v {
+            Some(v) => {
+                check_positive(out, &format!("{p}.{field}"), v, 200.0);
+                v
+            }
+            None => {
+                out.push(FieldError::new(
+                    format!("{p}.{field}"),
+                    "(missing)",
+                    "a size in mm, greater than 0 and at most 200",
+                ));
+                10.0
+            }
+        }
+    };
+    match l.shape.as_deref() {
+        Some("round") => LoopShape::Round {
+            diameter: get("size_mm", l.size_mm),
+        },
+        Some(kind @ ("square" | "rectangle")) => {
+            let (w, h) = if kind == "square" {
+                let s = get("size_mm", l.size_mm);
+                (s, s)
+            } else {
+                (get("width_mm", l.width_mm), get("height_mm", l.height_mm))
+            };
+            let r = l.corner_radius_mm.unwrap_or(0.2 * w.min(h));
+            check_range(
+                out,
+                &format!("{p}.corner_radius_mm"),
+                r,
+                0.0,
+                0.5 * w.min(h),
+            );
+            LoopShape::Rect {
+                width: w,
+                height: h,
+                corner_radius: r,
+                square: kind == "square",
+            }
+        }
+        Some(other) => {
+            out.push(FieldError::new(
+                format!("{p}.shape"),
+                format!("\"{other}\""),
+                "must be \"round\", \"square\" or \"rectangle\"",
+            ));
+            LoopShape::Round { diameter: 10.0 }
+        }
+        None => {
+            out.push(FieldError::new(
+                format!("{p}.shape"),
+                "(missing)",
+                "\"round\", \"square\" or \"rectangle\"",
+            ));
+            LoopShape::Round { diameter: 10.0 }
+        }
+    }
+}
+
+/// Validates a probe file spec. `base` is the folder of the spec file (stackup paths are
+/// relative to it). Every problem is reported, with its field path.
+pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Error> {
+    let mut out = Vec::new();
+    let stackup_name = spec
+        .stackup
+        .clone()
+        .unwrap_or_else(|| "common-4l-1.6".into());
+    let stackup = if super::stackup::builtin(&stackup_name).is_some() {
+        load(&stackup_name)
+    } else {
+        load(&base.join(&stackup_name).to_string_lossy())
+    };
+    let stackup = match stackup {
+        Ok(s) => Some(s),
+        Err(Error::Invalid(v)) => {
+            out.extend(v.into_iter().map(|e| e.prefixed("stackup: ")));
+            None
+        }
+        Err(e) => {
+            out.push(FieldError::new("stackup", &stackup_name, e.to_string()));
+            None
+        }
+    };
+    let signal_layer = spec.signal_layer.unwrap_or(2);
+    if let Some(st) = &stackup {
+        let n = st.copper_count();
+        if n < 3 {
+            out.push(FieldError::new(
+                "stackup",
+                &stackup_name,
+                format!("has {n} copper layers; a shielded loop needs at least 3"),
+            ));
+        } else if signal_layer < 2 || signal_layer > n - 1 {
+            out.push(FieldError::new(
+                "signal_layer",
+                signal_layer,
+                format!(
+                    "must be an inner layer, 2 to {} (the trace needs a shield layer on each side)",
+                    n - 1
+                ),
+            ));
+        }
+    }
+    let target = spec.target_z0_ohms.unwrap_or(defaults::TARGET_Z0);
+    check_range(&mut out, "target_z0_ohms", target, 10.0, 200.0);
+    let fab = FabProfile::from_spec(spec.fab.as_ref(), &mut out);
+    let clearance = spec.clearance_mm.unwrap_or(defaults::CLEARANCE);
+    check_range(&mut out, "clearance_mm", clearance, fab.min_space, 5.0);
+    let gap = spec.gap_mm.unwrap_or(defaults::GAP);
+    check_range(&mut out, "gap_mm", gap, fab.min_space, 10.0);
+    let v = spec.via.clone().unwrap_or_default();
+    let vias = Vias {
+        drill: v.drill_mm.unwrap_or(defaults::VIA_DRILL),
+        pad: v.pad_mm.unwrap_or(defaults::VIA_PAD),
+        pitch_n: v.pitch_n.unwrap_or(defaults::PITCH_N),
+        f_max_hz: v.f_max_hz.unwrap_or(defaults::F_MAX_HZ),
+    };
+    check_range(&mut out, "via.drill_mm", vias.drill, fab.min_drill, 3.0);
+    let min_pad = vias.drill + 2.0 * fab.min_annular_ring;
+    check_range(&mut out, "via.pad_mm", vias.pad, min_pad, 5.0);
+    check_range(&mut out, "via.pitch_n", vias.pitch_n, 4.0, 100.0);
+    check_range(&mut out, "via.f_max_hz", vias.f_max_hz, 1e6, 1e11);
+    let h = spec.handle.clone().unwrap_or_default();
+    let handle = Handle {
+        length: h.length_mm.unwrap_or(defaults::HANDLE_LENGTH),
+        width: h.width_mm.unwrap_or(defaults::HANDLE_WIDTH),
+    };
+    check_range(&mut out, "handle.length_mm", handle.length, 5.0, 300.0);
+    check_range(&mut out, "handle.width_mm", handle.width, 2.0, 100.0);
+    let c = spec.connector.clone().unwrap_or_default();
+    let g = Connector::GENERIC;
+    let connector = Connector {
+        centre_pad_width: c.centre_pad_width_mm.unwrap_or(g.centre_pad_width),
+        centre_pad_length: c.centre_pad_length_mm.unwrap_or(g.centre_pad_length),
+        ground_pad_width: c.ground_pad_width_mm.unwrap_or(g.ground_pad_width),
+        ground_pad_length: c.ground_pad_length_mm.unwrap_or(g.ground_pad_length),
+        ground_pad_offset: c.ground_pad_offset_mm.unwrap_or(g.ground_pad_offset),
+        ground_hole_drill: c.ground_hole_drill_mm.unwrap_or(g.ground_hole_drill),
+    };
+    for (f, v) in [
+        ("centre_pad_width_mm", connector.centre_pad_width),
+        ("centre_pad_length_mm", connector.centre_pad_length),
+        ("ground_pad_width_mm", connector.ground_pad_width),
+        ("ground_pad_length_mm", connector.ground_pad_length),
+        ("ground_pad_offset_mm", connector.ground_pad_offset),
+    ] {
+        check_positive(&mut out, &format!("connector.{f}"), v, 20.0);
+    }
+    check_range(
+        &mut out,
+        "connector.ground_hole_drill_mm",
+        connector.ground_hole_drill,
+        0.0,
+        3.0,
+    );
+    let pad_gap = connector.ground_pad_offset
+        - 0.5 * (connector.ground_pad_width + connector.centre_pad_width);
+    if pad_gap < fab.min_space.max(2.0 * fab.mask_expansion + fab.mask_web) {
+        out.push(FieldError::new(
+            "connector.ground_pad_offset_mm",
+            connector.ground_pad_offset,
+            format!(
+                "leaves {:.3} mm between centre and ground pads; needs at least {:.3} mm \
+                 (fab space, or mask expansion on both pads plus the mask web)",
+                pad_gap,
+                fab.min_space.max(2.0 * fab.mask_expansion + fab.mask_web)
+            ),
+        ));
+    }
+    if 2.0 * connector.ground_pad_offset + connector.ground_pad_width > handle.width {
+        out.push(FieldError::new(
+            "handle.width_mm",
+            handle.width,
+            format!(
+                "must hold the connector's ground pads: at least {:.3} mm",
+                2.0 * connector.ground_pad_offset + connector.ground_pad_width
+            ),
+        ));
+    }
+    let mill_interior = spec.mill_interior.unwrap_or(false);
+    if spec.probe.is_empty() {
+        out.push(FieldError::new(
+            "probe",
+            "(none)",
+            "at least one [[probe]] table with name, shape and size",
+        ));
+    }
+    let mut probes = Vec::new();
+    let mut folders: Vec<String> = Vec::new();
+    for (i, l) in spec.probe.iter().enumerate() {
+        let p = format!("probe[{}]", i + 1);
+        let name = l.name.clone().unwrap_or_default();
+        let folder = match sanitise(&name) {
+            Some(f) => f,
+            None => {
+                out.push(FieldError::new(
+                    format!("{p}.name"),
+                    format!("\"{name}\""),
+                    "a name with at least one letter or digit (it names the output folder)",
+                ));
+                String::new()
+            }
+        };
+        if !folder.is_empty() && folders.contains(&folder) {
+            out.push(FieldError::new(
+                format!("{p}.name"),
+                format!("\"{name}\""),
+                format!("names the same output folder \"{folder}\" as an earlier probe"),
+            ));
+        }
+        folders.push(folder.clone());
+        let shape = shape_from(&mut out, &p, l);
+        if gap >= 0.5 * shape.min_dimension() {
+            out.push(FieldError::new(
+                "gap_mm",
+                gap,
+                format!(
+                    "is too wide for {p} ({}): must be less than half the loop's smallest size",
+                    shape.size_text()
+                ),
+            ));
+        }
+        let silk_text = l.silk_text.clone().unwrap_or_default();
+        if silk_text.chars().count() > 40 {
+            out.push(FieldError::new(
+                format!("{p}.silk_text"),
+                format!("\"{silk_text}\""),
+                "at most 40 characters",
+            ));
+        }
+        if let Some(st) = &stackup {
+            probes.push(Probe {
+                name,
+                folder,
+                shape,
+                stackup: st.clone(),
+                signal_layer,
+                target_z0: target,
+                clearance,
+                gap,
+                vias,
+                handle,
+                connector,
+                fab,
+                mill_interior,
+                silk_text,
+            });
+        }
+    }
+    let family = spec.family.clone().unwrap_or_else(|| {
+        probes
+            .first()
+            .map(|p| p.name.clone())
+            .unwrap_or_else(|| "probe".into())
+    });
+    if !out.is_empty() {
+        return Err(Error::Invalid(out));
+    }
+    Ok(Family {
+        name: family,
+        probes,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sanitise_blocks_path_tricks() {
+        assert_eq!(sanitise("../../x").as_deref(), Some("-..-x"));
+        assert_eq!(sanitise("..").as_deref(), None);
+        assert_eq!(sanitise("/").as_deref(), None);
+        assert_eq!(sanitise("R10 mm").as_deref(), Some("R10-mm"));
+        assert!(!sanitise("a/b\\c").unwrap().contains(['/', '\\']));
+    }
+
+    #[test]
+    fn shape_measures() {
+        let r = LoopShape::Round { diameter: 10.0 };
+        assert!((r.centreline_area() - 78.539_816_339_744_83).abs() < 1e-9);
+        let s = LoopShape::Rect {
+            width: 8.0,
+            height: 8.0,
+            corner_radius: 0.0,
+            square: true,
+        };
+        assert_eq!(s.centreline_area(), 64.0);
+        assert_eq!(s.circumference(), 32.0);
+    }
+}

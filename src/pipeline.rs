@@ -1,0 +1,268 @@
+//! The whole pipeline for probe boards: spec → model → solved values → geometry → artwork →
+//! design-rule check → files, written atomically (temporary folder, then rename).
+
+use crate::artwork::{Artwork, compose};
+use crate::drc::{Violation, check};
+use crate::emit;
+use crate::error::Error;
+use crate::geom::{Board, build};
+use crate::model::probe::{Family, Probe, family_from_spec};
+use crate::solve::probe::{SolvedProbe, solve};
+use crate::spec::probe::ProbeFileSpec;
+use std::path::{Path, PathBuf};
+
+/// One probe carried through the pipeline, with its files in memory.
+#[derive(Debug, Clone)]
+pub struct BuiltProbe {
+    /// The validated probe.
+    pub probe: Probe,
+    /// Its solved values.
+    pub solved: SolvedProbe,
+    /// Its board model.
+    pub board: Board,
+    /// Its artwork.
+    pub artwork: Artwork,
+    /// Design-rule violations (empty unless forced).
+    pub violations: Vec<Violation>,
+    /// Its files: (name inside the probe's folder, content).
+    pub files: Vec<(String, Vec<u8>)>,
+}
+
+/// Builds one probe in memory. `spec_copy` is the TOML written beside its files.
+pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe, Error> {
+    let solved = solve(p)?;
+    let board = build(p, &solved);
+    let artwork = compose(p, &board);
+    let violations = check(p, &solved, &board, &artwork);
+    if !violations.is_empty() && !force {
+        return Err(Error::Drc {
+            probe: p.name.clone(),
+            violations: violations.iter().map(|v| v.to_string()).collect(),
+        });
+    }
+    let base = &p.folder;
+    let same = format!("loopwright-{base}");
+    let gerbers: Vec<(String, String)> = emit::gerber::all(&artwork, &same)
+        .into_iter()
+        .map(|(suffix, text)| (format!("{base}-{suffix}"), text))
+        .collect();
+    let n = p.stackup.copper_count();
+    let mut files: Vec<(String, Vec<u8>)> = gerbers
+        .iter()
+        .map(|(name, text)| (name.clone(), text.clone().into_bytes()))
+        .collect();
+    files.push((
+        format!("{base}-PTH.drl"),
+        emit::excellon::drill_file(&artwork.drills, true, n).into_bytes(),
+    ));
+    // A non-plated drill file only when there are non-plated holes (an empty drill file is
+    // not a file readers accept).
+    if artwork.drills.iter().any(|d| !d.plated) {
+        files.push((
+            format!("{base}-NPTH.drl"),
+            emit::excellon::drill_file(&artwork.drills, false, n).into_bytes(),
+        ));
+    }
+    let (lo, hi) = board.bbox;
+    files.push((
+        format!("{base}.gbrjob"),
+        emit::job::job(p, (hi.x - lo.x, hi.y - lo.y), &gerbers).into_bytes(),
+    ));
+    files.push((
+        format!("{base}.svg"),
+        emit::svg::composite(&artwork, &format!("{} — {}", p.name, p.shape.size_text()))
+            .into_bytes(),
+    ));
+    for l in &artwork.copper {
+        files.push((
+            format!("{base}-L{}.svg", l.n),
+            emit::svg::copper_layer(&artwork, l).into_bytes(),
+        ));
+    }
+    files.push((
+        format!("{base}-mask-top.svg"),
+        emit::svg::openings_layer(&artwork, &artwork.mask_top, "mask-top").into_bytes(),
+    ));
+    files.push((
+        format!("{base}-legend-top.svg"),
+        emit::svg::legend_layer(&artwork, &artwork.silk_top, "legend-top").into_bytes(),
+    ));
+    files.push((format!("{base}.toml"), spec_copy.as_bytes().to_vec()));
+    let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
+    let notes_name = format!("{base}-fab-notes.md");
+    names.push(notes_name.clone());
+    let notes = emit::notes::notes(p, &solved, &board, &artwork, &names, &violations);
+    files.push((notes_name, notes.into_bytes()));
+    Ok(BuiltProbe {
+        probe: p.clone(),
+        solved,
+        board,
+        artwork,
+        violations,
+        files,
+    })
+}
+
+/// The spec text of one probe of a family: the shared settings and its own `[[probe]]`.
+pub fn probe_spec_copy(spec: &ProbeFileSpec, index: usize, stackup_file: Option<&str>) -> String {
+    let mut one = spec.clone();
+    one.probe = vec![spec.probe[index].clone()];
+    one.family = None;
+    if let Some(f) = stackup_file {
+        one.stackup = Some(f.to_string());
+    }
+    let body = toml::to_string(&one).unwrap_or_default();
+    format!(
+        "# Spec of probe '{}', as built by loopwright {}.\n{body}",
+        spec.probe[index].name.clone().unwrap_or_default(),
+        env!("CARGO_PKG_VERSION")
+    )
+}
+
+/// Validates and builds every probe of a spec in memory; nothing is written.
+pub fn build_family(
+    spec: &ProbeFileSpec,
+    base: &Path,
+    force: bool,
+) -> Result<(Family, Vec<BuiltProbe>, Option<(String, Vec<u8>)>), Error> {
+    let family = family_from_spec(spec, base)?;
+    // A stackup given as a file travels with each probe's spec copy.
+    let stackup_file = match &spec.stackup {
+        Some(s) if crate::model::stackup::builtin(s).is_none() => {
+            let path = base.join(s);
+            let text = std::fs::read(&path).map_err(|e| Error::Io {
+                path: path.display().to_string(),
+                source: e,
+            })?;
+            Some(("stackup.toml".to_string(), text))
+        }
+        _ => None,
+    };
+    let mut built = Vec::new();
+    for (i, p) in family.probes.iter().enumerate() {
+        let copy = probe_spec_copy(spec, i, stackup_file.as_ref().map(|(n, _)| n.as_str()));
+        built.push(build_probe(p, &copy, force)?);
+    }
+    Ok((family, built, stackup_file))
+}
+
+/// Writes entries (relative path, bytes) under `out` atomically: everything goes to a temporary
+/// folder beside `out` first; only when all is written are the entries moved into place.
+pub fn write_atomically(out: &Path, entries: &[(PathBuf, Vec<u8>)]) -> Result<(), Error> {
+    let io = |path: &Path| {
+        let path = path.display().to_string();
+        move |e: std::io::Error| Error::Io { path, source: e }
+    };
+    let parent = match out.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    std::fs::create_dir_all(&parent).map_err(io(&parent))?;
+    let leaf = out
+        .file_name()
+        .map(|s| s.to_string_lossy().to_string())
+        .unwrap_or_else(|| "out".into());
+    let tmp = parent.join(format!(".{leaf}.loopwright-tmp-{}", std::process::id()));
+    let result = (|| -> Result<(), Error> {
+        if tmp.exists() {
+            std::fs::remove_dir_all(&tmp).map_err(io(&tmp))?;
+        }
+        for (rel, bytes) in entries {
+            let path = tmp.join(rel);
+            if let Some(d) = path.parent() {
+                std::fs::create_dir_all(d).map_err(io(d))?;
+            }
+            std::fs::write(&path, bytes).map_err(io(&path))?;
+        }
+        if !out.exists() {
+            std::fs::rename(&tmp, out).map_err(io(out))?;
+            return Ok(());
+        }
+        // Replace the entries we own, leave anything else in `out` alone.
+        let mut tops: Vec<PathBuf> = entries
+            .iter()
+            .filter_map(|(rel, _)| {
+                rel.components()
+                    .next()
+                    .map(|c| PathBuf::from(c.as_os_str()))
+            })
+            .collect();
+        tops.sort();
+        tops.dedup();
+        for top in tops {
+            let dest = out.join(&top);
+            if dest.is_dir() {
+                std::fs::remove_dir_all(&dest).map_err(io(&dest))?;
+            } else if dest.exists() {
+                std::fs::remove_file(&dest).map_err(io(&dest))?;
+            }
+            std::fs::rename(tmp.join(&top), &dest).map_err(io(&dest))?;
+        }
+        std::fs::remove_dir_all(&tmp).map_err(io(&tmp))?;
+        Ok(())
+    })();
+    if result.is_err() && tmp.exists() {
+        let _ = std::fs::remove_dir_all(&tmp);
+    }
+    result
+}
+
+/// The family summary (Markdown) written at the top of the output folder.
+pub fn summary(family: &Family, built: &[BuiltProbe]) -> String {
+    let mut o = format!(
+        "# {}: probe family\n\nBuilt by loopwright {}. Size = mean diameter (round) or side \
+         lengths (square, rectangle) of the loop trace's centreline.\n\n\
+         | probe | shape | size | trace w (mm) | Z0 (Ω) | board (mm) | vias | DRC |\n\
+         |---|---|---|---|---|---|---|---|\n",
+        family.name,
+        env!("CARGO_PKG_VERSION")
+    );
+    for b in built {
+        let (lo, hi) = b.board.bbox;
+        o.push_str(&format!(
+            "| {} | {} | {} | {:.3} | {:.2} | {:.1} × {:.1} | {} | {} |\n",
+            b.probe.name,
+            b.probe.shape.kind(),
+            b.probe.shape.size_text(),
+            b.solved.trace_width,
+            b.solved.solution.z0,
+            hi.x - lo.x,
+            hi.y - lo.y,
+            b.board.vias.len(),
+            if b.violations.is_empty() {
+                "clean".to_string()
+            } else {
+                format!("{} VIOLATIONS (forced)", b.violations.len())
+            }
+        ));
+    }
+    o.push_str(&format!("\n{}\n", crate::cli::CAUTIONS));
+    o
+}
+
+/// Builds a spec and writes its family under `out`; returns what was built.
+pub fn build_to_dir(
+    spec: &ProbeFileSpec,
+    base: &Path,
+    out: &Path,
+    force: bool,
+    extra: Vec<(PathBuf, Vec<u8>)>,
+) -> Result<(Family, Vec<BuiltProbe>), Error> {
+    let (family, built, stackup_file) = build_family(spec, base, force)?;
+    let mut entries = extra;
+    for b in &built {
+        for (name, bytes) in &b.files {
+            entries.push((PathBuf::from(&b.probe.folder).join(name), bytes.clone()));
+        }
+        if let Some((name, bytes)) = &stackup_file {
+            entries.push((PathBuf::from(&b.probe.folder).join(name), bytes.clone()));
+        }
+    }
+    let fam = crate::model::probe::sanitise(&family.name).unwrap_or_else(|| "family".into());
+    entries.push((
+        PathBuf::from(format!("{fam}-summary.md")),
+        summary(&family, &built).into_bytes(),
+    ));
+    write_atomically(out, &entries)?;
+    Ok((family, built))
+}

@@ -1,0 +1,127 @@
+//! The probe spec format (TOML): shared settings at the top level and one `[[probe]]` table per
+//! loop. A single probe is a family of one. See `docs/probe-spec.md` for the commented format.
+
+use serde::{Deserialize, Serialize};
+
+/// A probe or family spec as written in a file. Every field is optional here; the model stage
+/// applies defaults and reports every problem at once.
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ProbeFileSpec {
+    /// Name of the family (used for the summary and report).
+    pub family: Option<String>,
+    /// Stackup: a built-in name or a path to a stackup TOML file (relative to the spec file).
+    pub stackup: Option<String>,
+    /// Copper layer carrying the loop trace, 1 = top; every other copper layer is shield.
+    pub signal_layer: Option<usize>,
+    /// Target characteristic impedance of the loop trace, Ω (default 50).
+    pub target_z0_ohms: Option<f64>,
+    /// Clearance from the trace to the coplanar ground on its layer, mm.
+    pub clearance_mm: Option<f64>,
+    /// Width of the shield gap at the apex, mm.
+    pub gap_mm: Option<f64>,
+    /// Stitching vias.
+    pub via: Option<ViaSpec>,
+    /// Handle (the straight part carrying the line to the connector).
+    pub handle: Option<HandleSpec>,
+    /// Coaxial edge-launch connector footprint.
+    pub connector: Option<ConnectorSpec>,
+    /// Fab capability profile: overrides of the built-in standard profile.
+    pub fab: Option<FabSpec>,
+    /// Mill out the laminate inside the loop (default false: keep it).
+    pub mill_interior: Option<bool>,
+    /// The loops.
+    #[serde(default)]
+    pub probe: Vec<LoopSpec>,
+}
+
+/// One loop of the family.
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct LoopSpec {
+    /// Probe name; also names its output folder (sanitised).
+    pub name: Option<String>,
+    /// `round`, `square` or `rectangle` (rectangle: flat tip edge).
+    pub shape: Option<String>,
+    /// Round: mean diameter of the trace centreline; square: side of the trace centreline, mm.
+    pub size_mm: Option<f64>,
+    /// Rectangle: width (across the axis) of the trace centreline, mm.
+    pub width_mm: Option<f64>,
+    /// Rectangle: height (along the axis) of the trace centreline, mm.
+    pub height_mm: Option<f64>,
+    /// Square and rectangle: corner radius of the trace centreline, mm.
+    pub corner_radius_mm: Option<f64>,
+    /// Extra silkscreen text (default: none).
+    pub silk_text: Option<String>,
+}
+
+/// Stitching-via settings.
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ViaSpec {
+    /// Finished drill diameter, mm.
+    pub drill_mm: Option<f64>,
+    /// Pad diameter, mm.
+    pub pad_mm: Option<f64>,
+    /// Pitch rule: at most λ/N in the dielectric at `f_max_hz`.
+    pub pitch_n: Option<f64>,
+    /// Highest frequency of interest for the pitch rule, Hz.
+    pub f_max_hz: Option<f64>,
+}
+
+/// Handle settings.
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct HandleSpec {
+    /// Length from the loop's shield to the board edge at the connector, mm.
+    pub length_mm: Option<f64>,
+    /// Width, mm.
+    pub width_mm: Option<f64>,
+}
+
+/// A generic coaxial edge-launch footprint (our own default numbers; check your connector's
+/// data sheet).
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ConnectorSpec {
+    /// Centre pad width (across), mm.
+    pub centre_pad_width_mm: Option<f64>,
+    /// Centre pad length (from the edge inward), mm.
+    pub centre_pad_length_mm: Option<f64>,
+    /// Ground pad width, mm.
+    pub ground_pad_width_mm: Option<f64>,
+    /// Ground pad length, mm.
+    pub ground_pad_length_mm: Option<f64>,
+    /// Centre-to-centre distance from the axis to each ground pad, mm.
+    pub ground_pad_offset_mm: Option<f64>,
+    /// Optional plated ground-leg holes through the ground pads: drill diameter, mm (0 = none).
+    pub ground_hole_drill_mm: Option<f64>,
+}
+
+/// Fab capability overrides (mm).
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct FabSpec {
+    /// Minimum trace width.
+    pub min_trace_mm: Option<f64>,
+    /// Minimum copper-to-copper space.
+    pub min_space_mm: Option<f64>,
+    /// Minimum finished drill.
+    pub min_drill_mm: Option<f64>,
+    /// Minimum annular ring.
+    pub min_annular_ring_mm: Option<f64>,
+    /// Minimum hole-edge to hole-edge distance.
+    pub min_hole_gap_mm: Option<f64>,
+    /// Minimum copper to board edge.
+    pub copper_to_edge_mm: Option<f64>,
+    /// Solder-mask expansion per side.
+    pub mask_expansion_mm: Option<f64>,
+    /// Minimum solder-mask web between openings.
+    pub mask_web_mm: Option<f64>,
+    /// Silkscreen line width.
+    pub silk_width_mm: Option<f64>,
+    /// Silkscreen text height.
+    pub silk_text_height_mm: Option<f64>,
+    /// Silkscreen to pad-opening clearance.
+    pub silk_to_pad_mm: Option<f64>,
+}
