@@ -119,12 +119,22 @@ pub fn probe_spec_copy(spec: &ProbeFileSpec, index: usize, stackup_file: Option<
     )
 }
 
+/// A file in memory: (name, bytes).
+pub type FileEntry = (String, Vec<u8>);
+
+/// A whole family built in memory.
+#[derive(Debug, Clone)]
+pub struct FamilyBuild {
+    /// The validated family.
+    pub family: Family,
+    /// Each probe.
+    pub probes: Vec<BuiltProbe>,
+    /// The stackup file that travels with each probe's spec copy, if the stackup is a file.
+    pub stackup_file: Option<FileEntry>,
+}
+
 /// Validates and builds every probe of a spec in memory; nothing is written.
-pub fn build_family(
-    spec: &ProbeFileSpec,
-    base: &Path,
-    force: bool,
-) -> Result<(Family, Vec<BuiltProbe>, Option<(String, Vec<u8>)>), Error> {
+pub fn build_family(spec: &ProbeFileSpec, base: &Path, force: bool) -> Result<FamilyBuild, Error> {
     let family = family_from_spec(spec, base)?;
     // A stackup given as a file travels with each probe's spec copy.
     let stackup_file = match &spec.stackup {
@@ -143,7 +153,11 @@ pub fn build_family(
         let copy = probe_spec_copy(spec, i, stackup_file.as_ref().map(|(n, _)| n.as_str()));
         built.push(build_probe(p, &copy, force)?);
     }
-    Ok((family, built, stackup_file))
+    Ok(FamilyBuild {
+        family,
+        probes: built,
+        stackup_file,
+    })
 }
 
 /// Writes entries (relative path, bytes) under `out` atomically: everything goes to a temporary
@@ -248,7 +262,11 @@ pub fn build_to_dir(
     force: bool,
     extra: Vec<(PathBuf, Vec<u8>)>,
 ) -> Result<(Family, Vec<BuiltProbe>), Error> {
-    let (family, built, stackup_file) = build_family(spec, base, force)?;
+    let FamilyBuild {
+        family,
+        probes: built,
+        stackup_file,
+    } = build_family(spec, base, force)?;
     let mut entries = extra;
     for b in &built {
         for (name, bytes) in &b.files {
