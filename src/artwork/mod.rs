@@ -126,20 +126,37 @@ fn snap_ring(ls: &LineString<f64>) -> LineString<f64> {
         })
         .collect();
     v.dedup();
-    // Drop collinear middle points (exactly collinear after snapping) to keep files small.
-    let mut out: Vec<Coord<f64>> = Vec::with_capacity(v.len());
-    for c in v {
-        while out.len() >= 2 {
-            let (a, b) = (out[out.len() - 2], out[out.len() - 1]);
-            let cross = (b.x - a.x) * (c.y - a.y) - (b.y - a.y) * (c.x - a.x);
-            if cross.abs() < 1e-18 && (b.x - a.x) * (c.x - b.x) + (b.y - a.y) * (c.y - b.y) > 0.0 {
-                out.pop();
+    // Drop exactly collinear vertices (after snapping), and the sub-micrometre spikes polygon
+    // offsetting can leave at joins (a vertex where the contour turns back on itself over less
+    // than 0.1 µm). Both tests are exact or mirror-invariant, so symmetric input stays symmetric.
+    if v.len() > 1 && v.first() == v.last() {
+        v.pop();
+    }
+    let drop = |a: Coord<f64>, b: Coord<f64>, c: Coord<f64>| -> bool {
+        let (ux, uy, wx, wy) = (b.x - a.x, b.y - a.y, c.x - b.x, c.y - b.y);
+        let cross = ux * wy - uy * wx;
+        let dot = ux * wx + uy * wy;
+        let (lu, lw) = ((ux * ux + uy * uy).sqrt(), (wx * wx + wy * wy).sqrt());
+        let collinear = cross == 0.0 && dot > 0.0;
+        let spike = dot < 0.0 && cross.abs() <= 0.2 * (-dot) && lu.min(lw) < 1e-4;
+        collinear || spike || lu == 0.0
+    };
+    let mut changed = true;
+    while changed && v.len() > 3 {
+        changed = false;
+        let mut i = 0;
+        while i < v.len() && v.len() > 3 {
+            let n = v.len();
+            let (a, b, c) = (v[(i + n - 1) % n], v[i], v[(i + 1) % n]);
+            if drop(a, b, c) {
+                v.remove(i);
+                changed = true;
             } else {
-                break;
+                i += 1;
             }
         }
-        out.push(c);
     }
+    let out = v;
     let mut ls = LineString::from(out);
     ls.close();
     ls
@@ -184,7 +201,9 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         .expect("a board always has its signal via");
     let g2 = b.gap / 2.0;
     let gap = MultiPolygon(vec![rect(-g2, b.gap_y.0, g2, b.gap_y.1)]);
-    let antipad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0 + c)]);
+    // The anti-pad clears the via pad and the ends of both lines that meet it.
+    let antipad_r = sv.pad.max(b.trace_width).max(b.top_width) / 2.0 + c;
+    let antipad = MultiPolygon(vec![circle(sv.at, antipad_r)]);
     let sv_pad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0)]);
     let shield_cut = b.shield.difference(&gap);
     let mut copper = Vec::new();

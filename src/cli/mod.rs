@@ -3,6 +3,7 @@
 
 mod build;
 mod demo;
+pub use demo::{DEMO_SPEC, DEMO_SPEC_NAME};
 mod impedance;
 mod stackups;
 

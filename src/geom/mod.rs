@@ -130,8 +130,11 @@ pub fn polygon(pts: &[Point]) -> Polygon<f64> {
 }
 
 /// A circle polygon.
+///
+/// The vertices start at the top, so a circle on the axis is exactly its own mirror image.
 pub fn circle(c: Point, r: f64) -> Polygon<f64> {
-    let mut pts = arc_points(c, r, 0.0, std::f64::consts::TAU);
+    let a0 = std::f64::consts::FRAC_PI_2;
+    let mut pts = arc_points(c, r, a0, a0 + std::f64::consts::TAU);
     pts.pop();
     polygon(&pts)
 }
@@ -204,9 +207,12 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let (a, b) = (left[k], left[k + 1]);
     let t = (-e - a.x) / (b.x - a.x);
     let e_in = Point::new(-e, a.y + t * (b.y - a.y));
+    // Flattened-curve points very close to the entry or exit would make segments too short to
+    // have a direction (the offset of such a segment is noise): skip them.
+    let far = |q: &Point| (*q - e_in).hypot() > 1e-3;
     let mut loop_part: Vec<Point> = vec![e_in];
-    loop_part.extend(left[..=k].iter().rev().copied());
-    loop_part.extend(left[1..=k].iter().map(|q| mirror(*q)));
+    loop_part.extend(left[..=k].iter().rev().copied().filter(far));
+    loop_part.extend(left[1..=k].iter().filter(|q| far(q)).map(|q| mirror(*q)));
     loop_part.push(mirror(e_in));
     dedup(&mut loop_part);
 
@@ -235,21 +241,24 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         sv,
     ];
 
-    // --- Shield: ring ∪ handle, pulled back from the board edge.
-    let ring = {
-        let mut outer = polygon(&closed(shape, hr));
-        let inner = closed(shape, -hr);
-        outer.interiors_push(LineString::from(
-            inner
-                .iter()
-                .map(|q| Coord { x: q.x, y: q.y })
-                .collect::<Vec<_>>(),
-        ));
-        outer
-    };
+    // --- Shield: ring ∪ handle, pulled back from the board edge. Where the handle meets the
+    // ring the union can leave a sharp notch; a closing (grow, then shrink, by more than the fab
+    // space) fills every notch narrower than that, and the loop interior is then taken out again.
     let hw = p.handle.width / 2.0;
-    let handle = rect(-hw, edge_y + cte, hw, bottom);
-    let shield = MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle]));
+    let interior = polygon(&closed(shape, -hr));
+    let r_close = p.fab.min_space.max(p.clearance) + 0.05;
+    let extent = MultiPolygon(vec![polygon(&closed(shape, hr))]).union(&MultiPolygon(vec![rect(
+        -hw,
+        edge_y + cte,
+        hw,
+        bottom,
+    )]));
+    let extent = largest(&symmetrise(&round_buffer(
+        &round_buffer(&extent, r_close),
+        -r_close,
+    )));
+    let shield =
+        MultiPolygon(vec![extent.clone()]).difference(&MultiPolygon(vec![interior.clone()]));
 
     // --- Gap over the top of the ring.
     let top = left[0].y;
@@ -257,27 +266,8 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
 
     // --- Outline: the copper extent grown by the copper-to-edge rule (round joins), which puts
     // the connector edge at `edge_y`.
-    let outline = {
-        use geo::algorithm::buffer::{Buffer, BufferStyle, LineCap, LineJoin};
-        let extent = MultiPolygon(vec![polygon(&closed(shape, hr))])
-            .union(&MultiPolygon(vec![rect(-hw, edge_y + cte, hw, bottom)]));
-        let step = 2.0 * (1.0 - shape::ARC_TOLERANCE / cte.max(0.01)).acos();
-        extent
-            .buffer_with_style(
-                BufferStyle::new(cte)
-                    .line_cap(LineCap::Round(step))
-                    .line_join(LineJoin::Round(step)),
-            )
-            .0
-            .into_iter()
-            .max_by(|a, b| {
-                use geo::Area;
-                a.unsigned_area().partial_cmp(&b.unsigned_area()).unwrap()
-            })
-            .expect("outline is one piece")
-    };
-    let mut outline = Polygon::new(outline.exterior().clone(), vec![]);
-    let interior = polygon(&closed(shape, -hr));
+    let grown = largest(&symmetrise(&round_buffer(&MultiPolygon(vec![extent]), cte)));
+    let mut outline = Polygon::new(grown.exterior().clone(), vec![]);
     if p.mill_interior {
         let cut = closed(shape, -hr - cte);
         outline.interiors_push(LineString::from(
@@ -342,7 +332,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     });
     // Short vias on the stub, in solid ground below the channel.
     let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
-    for q in [short1, Point::new(e, short1.y - s.pitch_min)] {
+    for q in [short1, Point::new(e, short1.y - s.pitch_min - 1e-4)] {
         placer.vias.push(Via {
             at: q,
             drill: p.vias.drill,
@@ -353,7 +343,8 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     placer.rows(shape, -f, ViaRole::InnerRow);
     placer.rows(shape, f, ViaRole::OuterRow);
     // Ground vias around the signal via.
-    let rg = pad / 2.0 + c + pad / 2.0 + VIA_WEB + 0.05;
+    let antipad = pad.max(w).max(s.top_width) / 2.0 + c;
+    let rg = antipad + pad / 2.0 + VIA_WEB + 0.05;
     for i in 0..8 {
         let ang = std::f64::consts::FRAC_PI_8 + i as f64 * std::f64::consts::FRAC_PI_4;
         placer.try_add(
@@ -399,6 +390,133 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     }
 }
 
+/// The arc position, after `from`, of the first point at straight-line distance `d` from the
+/// point at `from` (None when the path ends first).
+fn next_at(path: &[Point], s: &[f64], from: f64, d: f64) -> Option<f64> {
+    let total = *s.last().unwrap();
+    let p0 = point_at(path, s, from).0;
+    let dist = |t: f64| (point_at(path, s, t).0 - p0).hypot();
+    // March in small steps to the first crossing, then bisect.
+    let h = (d / 16.0).max(1e-4);
+    let mut t = from;
+    while t < total {
+        let t1 = (t + h).min(total);
+        if dist(t1) >= d {
+            let (mut lo, mut hi) = (t, t1);
+            for _ in 0..60 {
+                let mid = 0.5 * (lo + hi);
+                if dist(mid) >= d {
+                    hi = mid;
+                } else {
+                    lo = mid;
+                }
+            }
+            return Some(hi);
+        }
+        t = t1;
+    }
+    None
+}
+
+/// `n + 1` arc positions from `from`, each at straight-line distance `d` from the previous.
+fn walk(path: &[Point], s: &[f64], from: f64, d: f64, n: usize) -> Vec<f64> {
+    let mut out = vec![from];
+    let mut t = from;
+    for _ in 0..n {
+        match next_at(path, s, t, d) {
+            Some(t1) => {
+                out.push(t1);
+                t = t1;
+            }
+            None => break,
+        }
+    }
+    // The last one lands on the end (within the bisection's precision): put it there.
+    if let Some(last) = out.last_mut() {
+        let total = *s.last().unwrap();
+        if (total - *last).abs() < 1e-6 {
+            *last = total;
+        }
+    }
+    out
+}
+
+/// The step length for which `n` equal straight-line steps from `from` end exactly at the end of
+/// the path.
+fn steps_to_end(path: &[Point], s: &[f64], from: f64, n: usize) -> Option<f64> {
+    let total = *s.last().unwrap();
+    let reach = |d: f64| -> f64 {
+        let w = walk(path, s, from, d, n);
+        if w.len() == n + 1 {
+            w[n]
+        } else {
+            f64::INFINITY
+        }
+    };
+    let (mut lo, mut hi) = (1e-4, total - from + 1e-9);
+    if hi <= lo {
+        return None;
+    }
+    if reach(hi) < total - 1e-6 {
+        return None;
+    }
+    for _ in 0..50 {
+        let mid = 0.5 * (lo + hi);
+        if reach(mid) >= total - 1e-9 {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    Some(hi)
+}
+
+/// Grows (d > 0) or shrinks (d < 0) a region with round corners.
+pub fn round_buffer(m: &MultiPolygon<f64>, d: f64) -> MultiPolygon<f64> {
+    use geo::algorithm::buffer::{Buffer, BufferStyle, LineCap, LineJoin};
+    let step = 2.0 * (1.0 - shape::ARC_TOLERANCE / d.abs().max(0.01)).acos();
+    m.buffer_with_style(
+        BufferStyle::new(d)
+            .line_cap(LineCap::Round(step))
+            .line_join(LineJoin::Round(step)),
+    )
+}
+
+/// The left half of a region and its mirror image: offsetting re-flattens curves with vertices
+/// that are not mirror images of each other, and this restores exact symmetry about x = 0.
+pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
+    let (lo, hi) = match geo::BoundingRect::bounding_rect(m) {
+        Some(r) => (r.min(), r.max()),
+        None => return m.clone(),
+    };
+    let big = lo.x.abs().max(hi.x.abs()) + 1.0;
+    let left = m.intersection(&MultiPolygon(vec![rect(-big, lo.y - 1.0, 0.0, hi.y + 1.0)]));
+    let flip = |ls: &LineString<f64>| -> LineString<f64> {
+        LineString::from(
+            ls.coords()
+                .rev()
+                .map(|c| Coord { x: -c.x, y: c.y })
+                .collect::<Vec<_>>(),
+        )
+    };
+    let right = MultiPolygon(
+        left.0
+            .iter()
+            .map(|p| Polygon::new(flip(p.exterior()), p.interiors().iter().map(flip).collect()))
+            .collect(),
+    );
+    left.union(&right)
+}
+
+/// The largest polygon of a set.
+fn largest(m: &MultiPolygon<f64>) -> Polygon<f64> {
+    use geo::Area;
+    m.0.iter()
+        .max_by(|a, b| a.unsigned_area().partial_cmp(&b.unsigned_area()).unwrap())
+        .cloned()
+        .expect("a non-empty region")
+}
+
 fn dedup(v: &mut Vec<Point>) {
     v.dedup_by(|a, b| (*a - *b).hypot() < 1e-9);
 }
@@ -432,7 +550,8 @@ impl ViaPlacer<'_> {
         if dist_to_polyline(q, &self.top_path) < f_top - TOL {
             return false;
         }
-        if (q - self.sv).hypot() < pad + c + VIA_WEB - TOL {
+        let antipad = pad.max(self.s.trace_width).max(self.s.top_width) / 2.0 + c;
+        if (q - self.sv).hypot() < antipad + pad / 2.0 + VIA_WEB - TOL {
             return false;
         }
         // Clear of the gap.
@@ -469,7 +588,7 @@ impl ViaPlacer<'_> {
         // Fab via pitch.
         self.vias
             .iter()
-            .all(|v| (v.at - q).hypot() >= self.s.pitch_min - TOL)
+            .all(|v| (v.at - q).hypot() >= self.s.pitch_min + 1e-5)
     }
 
     fn try_add(&mut self, q: Point, role: ViaRole) -> bool {
@@ -505,11 +624,19 @@ impl ViaPlacer<'_> {
                 }
             })
             .unwrap_or(total);
-        let span = total - s0;
-        let n = ((span / (0.95 * self.s.pitch_max)).ceil() as usize).max(1);
-        for i in 0..=n {
-            let (q, _) = point_at(&half, &s, s0 + span * i as f64 / n as f64);
-            if q.x.abs() < 1e-9 {
+        // Equal straight-line spacing from the gap's edge to the axis, so that corners do not
+        // bring two vias closer than the fab allows: the fewest steps whose length is within
+        // the pitch limit.
+        let positions = (1..=200)
+            .find_map(|n| {
+                let d = steps_to_end(&half, &s, s0, n)?;
+                (d <= 0.95 * self.s.pitch_max).then_some((n, d))
+            })
+            .map(|(n, d)| walk(&half, &s, s0, d, n))
+            .unwrap_or_else(|| vec![s0]);
+        for t in positions {
+            let (q, _) = point_at(&half, &s, t);
+            if q.x.abs() < 1e-6 {
                 let q = Point::new(0.0, q.y);
                 self.try_add(q, role);
                 continue;
@@ -529,7 +656,7 @@ impl ViaPlacer<'_> {
         let s = arclengths(feed);
         let total = *s.last().unwrap();
         // Half the pitch limit: a tight fence beside the feed, where the line leaves the loop.
-        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min);
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
         let mut t = 0.0;
         while t <= total + 1e-9 {
             let (q, dir) = point_at(feed, &s, t.min(total));

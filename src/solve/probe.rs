@@ -88,7 +88,10 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         .stackup
         .line_for_layer(1, Structure::Cpwg, 1.0, Some(p.clearance))?;
     let (top_width, top_z0) = match solve_width(&top_template, None, p.target_z0, &limits) {
-        Ok((l, s)) => (l.width().min(p.connector.centre_pad_width), s.z0),
+        Ok((l, s)) => (
+            l.width().min(p.connector.centre_pad_width).min(p.vias.pad),
+            s.z0,
+        ),
         Err(_) => (p.connector.centre_pad_width, f64::NAN),
     };
     let fence_offset = w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB;

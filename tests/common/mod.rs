@@ -1,0 +1,261 @@
+//! Shared helpers of the integration tests: the demo family built once into a temporary
+//! folder, and a reader for the Gerber and Excellon files loopwright writes.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
+
+/// The demo family, built once per test binary with the library pipeline.
+pub fn demo_dir() -> &'static Path {
+    static DIR: OnceLock<PathBuf> = OnceLock::new();
+    DIR.get_or_init(|| {
+        let dir = std::env::temp_dir().join(format!(
+            "loopwright-demo-{}-{}",
+            std::process::id(),
+            std::thread::current().name().unwrap_or("t").len()
+        ));
+        let _ = std::fs::remove_dir_all(&dir);
+        let spec: loopwright::spec::probe::ProbeFileSpec =
+            toml::from_str(loopwright::cli::DEMO_SPEC).unwrap();
+        loopwright::pipeline::build_to_dir(&spec, Path::new("."), &dir, false, Vec::new())
+            .expect("demo builds");
+        dir
+    })
+}
+
+/// Every file with an extension below a folder.
+pub fn files_with_ext(root: &Path, ext: &str) -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    let mut stack = vec![root.to_path_buf()];
+    while let Some(d) = stack.pop() {
+        for e in std::fs::read_dir(&d).unwrap().flatten() {
+            let p = e.path();
+            if p.is_dir() {
+                stack.push(p);
+            } else if p.extension().is_some_and(|x| x == ext) {
+                out.push(p);
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
+
+/// An aperture of our files.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Ap {
+    /// `C` or `R`.
+    pub kind: char,
+    /// Diameter or width, mm.
+    pub a: f64,
+    /// Height (rectangles), mm.
+    pub b: f64,
+    /// The `.AperFunction` in force when it was defined.
+    pub function: String,
+}
+
+/// A flash read back from a file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReadFlash {
+    /// Centre, mm.
+    pub x: f64,
+    /// Centre, mm.
+    pub y: f64,
+    /// Its aperture.
+    pub ap: Ap,
+}
+
+/// What a Gerber file of ours holds, read back independently of the writer.
+#[derive(Debug)]
+pub struct ReadGerber {
+    /// `%TF.` attributes, as raw strings after `TF.`.
+    pub file_attrs: Vec<String>,
+    /// Dark regions after clear regions are subtracted in order.
+    pub regions: MultiPolygon<f64>,
+    /// Flashes.
+    pub flashes: Vec<ReadFlash>,
+    /// Draws (strokes): each a polyline with its aperture.
+    pub strokes: Vec<(Vec<(f64, f64)>, Ap)>,
+}
+
+fn coord(s: &str, key: char) -> Option<f64> {
+    let i = s.find(key)?;
+    let rest = &s[i + 1..];
+    let end = rest
+        .find(|c: char| !(c.is_ascii_digit() || c == '-'))
+        .unwrap_or(rest.len());
+    rest[..end].parse::<i64>().ok().map(|v| v as f64 / 1e6)
+}
+
+fn to_poly(pts: &[(f64, f64)]) -> Polygon<f64> {
+    Polygon::new(
+        LineString::from(pts.iter().map(|&(x, y)| Coord { x, y }).collect::<Vec<_>>()),
+        vec![],
+    )
+}
+
+/// Reads one of our Gerber files (format 4.6 mm, linear interpolation, regions, flashes).
+pub fn read_gerber(path: &Path) -> ReadGerber {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut g = ReadGerber {
+        file_attrs: Vec::new(),
+        regions: MultiPolygon(vec![]),
+        flashes: Vec::new(),
+        strokes: Vec::new(),
+    };
+    let mut apertures: std::collections::HashMap<i32, Ap> = Default::default();
+    let mut function = String::new();
+    let mut current: Option<Ap> = None;
+    let mut dark = true;
+    let mut in_region = false;
+    let mut contour: Vec<(f64, f64)> = Vec::new();
+    let mut stroke: Vec<(f64, f64)> = Vec::new();
+    let (mut x, mut y) = (0.0, 0.0);
+    let flush_stroke = |g: &mut ReadGerber, stroke: &mut Vec<(f64, f64)>, ap: &Option<Ap>| {
+        if stroke.len() >= 2 {
+            g.strokes
+                .push((std::mem::take(stroke), ap.clone().unwrap()));
+        }
+        stroke.clear();
+    };
+    for line in text.lines() {
+        let l = line.trim();
+        if let Some(a) = l.strip_prefix("%TF.") {
+            g.file_attrs.push(a.trim_end_matches("*%").to_string());
+        } else if let Some(a) = l.strip_prefix("%TA.AperFunction,") {
+            function = a.trim_end_matches("*%").to_string();
+        } else if l.starts_with("%TD") {
+            function.clear();
+        } else if let Some(a) = l.strip_prefix("%ADD") {
+            let a = a.trim_end_matches("*%");
+            let code: i32 = a[..a.find(|c: char| !c.is_ascii_digit()).unwrap()]
+                .parse()
+                .unwrap();
+            let rest = &a[code.to_string().len()..];
+            let kind = rest.chars().next().unwrap();
+            let nums: Vec<f64> = rest[2..].split('X').map(|v| v.parse().unwrap()).collect();
+            apertures.insert(
+                code,
+                Ap {
+                    kind,
+                    a: nums[0],
+                    b: *nums.get(1).unwrap_or(&nums[0]),
+                    function: function.clone(),
+                },
+            );
+        } else if l == "%LPD*%" {
+            dark = true;
+        } else if l == "%LPC*%" {
+            dark = false;
+        } else if l == "G36*" {
+            flush_stroke(&mut g, &mut stroke, &current);
+            in_region = true;
+            contour.clear();
+        } else if l == "G37*" {
+            in_region = false;
+            let poly = MultiPolygon(vec![to_poly(&contour)]);
+            g.regions = if dark {
+                g.regions.union(&poly)
+            } else {
+                g.regions.difference(&poly)
+            };
+        } else if l.starts_with('D') && l.ends_with('*') && !l.starts_with("D0") {
+            flush_stroke(&mut g, &mut stroke, &current);
+            let code: i32 = l[1..l.len() - 1].parse().unwrap();
+            current = Some(apertures[&code].clone());
+        } else if l.starts_with('X') || l.starts_with('Y') {
+            let nx = coord(l, 'X').unwrap_or(x);
+            let ny = coord(l, 'Y').unwrap_or(y);
+            if l.ends_with("D02*") {
+                if in_region {
+                    contour.clear();
+                } else {
+                    flush_stroke(&mut g, &mut stroke, &current);
+                }
+                contour.push((nx, ny));
+                stroke.push((nx, ny));
+            } else if l.ends_with("D01*") {
+                if in_region {
+                    contour.push((nx, ny));
+                } else {
+                    stroke.push((nx, ny));
+                }
+            } else if l.ends_with("D03*") {
+                flush_stroke(&mut g, &mut stroke, &current);
+                g.flashes.push(ReadFlash {
+                    x: nx,
+                    y: ny,
+                    ap: current.clone().unwrap(),
+                });
+            }
+            x = nx;
+            y = ny;
+        } else if l == "M02*" {
+            flush_stroke(&mut g, &mut stroke, &current);
+        }
+    }
+    g
+}
+
+/// A flash as a polygon.
+pub fn flash_poly(f: &ReadFlash) -> Polygon<f64> {
+    if f.ap.kind == 'C' {
+        let n = 256;
+        let r = f.ap.a / 2.0;
+        to_poly(
+            &(0..n)
+                .map(|i| {
+                    let t = i as f64 / n as f64 * std::f64::consts::TAU;
+                    (f.x + r * t.cos(), f.y + r * t.sin())
+                })
+                .collect::<Vec<_>>(),
+        )
+    } else {
+        let (w, h) = (f.ap.a / 2.0, f.ap.b / 2.0);
+        to_poly(&[
+            (f.x - w, f.y - h),
+            (f.x + w, f.y - h),
+            (f.x + w, f.y + h),
+            (f.x - w, f.y + h),
+        ])
+    }
+}
+
+/// Regions ∪ the flashes that pass `keep`.
+pub fn copper(g: &ReadGerber, keep: impl Fn(&ReadFlash) -> bool) -> MultiPolygon<f64> {
+    let mut m = g.regions.clone();
+    for f in g.flashes.iter().filter(|f| keep(f)) {
+        m = m.union(&MultiPolygon(vec![flash_poly(f)]));
+    }
+    m
+}
+
+/// Holes of an Excellon file of ours: (x, y, diameter).
+pub fn read_drill(path: &Path) -> Vec<(f64, f64, f64)> {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut tools = std::collections::HashMap::new();
+    let mut current = 0.0;
+    let mut body = false;
+    let mut out = Vec::new();
+    for l in text.lines() {
+        if l == "%" {
+            body = true;
+        } else if l.starts_with('T') {
+            if let Some(c) = l.find('C') {
+                tools.insert(l[..c].to_string(), l[c + 1..].parse::<f64>().unwrap());
+            } else if body {
+                current = tools[l];
+            }
+        } else if body && l.starts_with('X') {
+            let y = l.find('Y').unwrap();
+            out.push((
+                l[1..y].parse().unwrap(),
+                l[y + 1..].parse().unwrap(),
+                current,
+            ));
+        }
+    }
+    out
+}

@@ -1,0 +1,201 @@
+//! Probe specs: bad values are refused with the field, the value and the reason; random valid
+//! specs give a design-rule-clean board or a clear refusal, never a panic; names cannot escape
+//! the output folder.
+
+use loopwright::error::Error;
+use loopwright::pipeline::{build_family, build_to_dir};
+use loopwright::spec::probe::ProbeFileSpec;
+use proptest::prelude::*;
+use std::path::Path;
+
+fn spec(text: &str) -> ProbeFileSpec {
+    toml::from_str(text).expect("spec TOML")
+}
+
+const BASE: &str = r#"
+stackup = "common-4l-1.6"
+signal_layer = 2
+"#;
+
+fn refused(text: &str, fragments: &[&str]) {
+    let s = spec(&format!("{BASE}{text}"));
+    let err = match build_family(&s, Path::new("."), false) {
+        Ok(_) => panic!("accepted: {text}"),
+        Err(e) => e.to_string(),
+    };
+    for f in fragments {
+        assert!(err.contains(f), "'{f}' not in: {err}");
+    }
+}
+
+#[test]
+fn negative_size_is_refused() {
+    refused(
+        "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = -4\n",
+        &["probe[1].size_mm", "-4", "greater than 0"],
+    );
+}
+
+#[test]
+fn gap_wider_than_the_loop_is_refused() {
+    refused(
+        "gap_mm = 6\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n",
+        &["gap_mm", "6", "too wide", "less than half"],
+    );
+}
+
+#[test]
+fn signal_layer_without_a_layer_on_one_side_is_refused() {
+    for n in [1, 4] {
+        let text = format!(
+            "stackup = \"common-4l-1.6\"\nsignal_layer = {n}\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n"
+        );
+        let err = build_family(&spec(&text), Path::new("."), false)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("signal_layer")
+                && err.contains(&n.to_string())
+                && err.contains("inner layer, 2 to 3"),
+            "{err}"
+        );
+    }
+}
+
+#[test]
+fn via_pitch_rule_the_fab_cannot_meet_is_refused() {
+    refused(
+        "[via]\npitch_n = 40\nf_max_hz = 2e10\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n",
+        &["via.pitch_n", "40", "below the fab's smallest via pitch"],
+    );
+}
+
+#[test]
+fn trace_narrower_than_the_fab_minimum_is_refused() {
+    refused(
+        "[fab]\nmin_trace_mm = 0.5\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n",
+        &["target_z0_ohms", "below the fab minimum trace", "0.5"],
+    );
+}
+
+#[test]
+fn loop_too_small_for_its_ring_is_refused() {
+    refused(
+        "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 2\n",
+        &["size_mm", "too small"],
+    );
+}
+
+#[test]
+fn every_problem_is_reported_at_once() {
+    refused(
+        "clearance_mm = 0.01\n[[probe]]\nname = \"\"\nshape = \"oval\"\n[[probe]]\nname = \"b\"\nshape = \"rectangle\"\nwidth_mm = 10\n",
+        &[
+            "clearance_mm",
+            "probe[1].name",
+            "probe[1].shape",
+            "\"oval\"",
+            "probe[2].height_mm",
+        ],
+    );
+}
+
+#[test]
+fn a_name_cannot_write_outside_the_output_folder() {
+    let root = std::env::temp_dir().join(format!("loopwright-escape-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    let out = root.join("a").join("b").join("out");
+    let s = spec(&format!(
+        "{BASE}[[probe]]\nname = \"../../x\"\nshape = \"round\"\nsize_mm = 10\n"
+    ));
+    build_to_dir(&s, Path::new("."), &out, false, Vec::new()).unwrap();
+    // Everything written is under `out`; nothing appeared beside it or above it.
+    let listing = |d: &Path| -> Vec<String> {
+        std::fs::read_dir(d)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
+            .collect()
+    };
+    assert_eq!(listing(&root), ["a"]);
+    assert_eq!(listing(&root.join("a")), ["b"]);
+    assert_eq!(listing(&root.join("a").join("b")), ["out"]);
+    let inside = listing(&out);
+    assert!(inside.iter().all(|n| !n.contains('/')), "{inside:?}");
+    assert!(
+        inside
+            .iter()
+            .any(|n| n.ends_with("x") && n.starts_with('-')),
+        "{inside:?}"
+    );
+    let _ = std::fs::remove_dir_all(&root);
+}
+
+#[test]
+fn a_refused_build_writes_nothing() {
+    let root = std::env::temp_dir().join(format!("loopwright-refused-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    let s = spec(&format!(
+        "{BASE}[[probe]]\nname = \"ok\"\nshape = \"round\"\nsize_mm = 10\n[[probe]]\nname = \"bad\"\nshape = \"round\"\nsize_mm = 1\n"
+    ));
+    assert!(build_to_dir(&s, Path::new("."), &root, false, Vec::new()).is_err());
+    assert!(!root.exists(), "a refused build left {root:?} behind");
+}
+
+fn shape_text() -> impl Strategy<Value = String> {
+    prop_oneof![
+        (3.0f64..40.0).prop_map(|d| format!("shape = \"round\"\nsize_mm = {d:.3}\n")),
+        (3.0f64..40.0, 0.0f64..0.5).prop_map(|(s, r)| format!(
+            "shape = \"square\"\nsize_mm = {s:.3}\ncorner_radius_mm = {:.3}\n",
+            r * s * 0.9
+        )),
+        (3.0f64..40.0, 3.0f64..40.0, 0.0f64..0.5).prop_map(|(w, h, r)| format!(
+            "shape = \"rectangle\"\nwidth_mm = {w:.3}\nheight_mm = {h:.3}\ncorner_radius_mm = {:.3}\n",
+            r * w.min(h) * 0.9
+        )),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    // Random specs within the documented ranges: either every probe is built and passes the
+    // design-rule check, or the build is refused with a message; never a panic.
+    #[test]
+    fn random_specs_build_clean_or_are_refused(
+        shape in shape_text(),
+        slim in any::<bool>(),
+        layer3 in any::<bool>(),
+        gap in 0.13f64..1.5,
+        clearance in 0.13f64..0.5,
+        drill in 0.3f64..0.5,
+        ring in 0.125f64..0.3,
+        handle_len in 8.0f64..60.0,
+        handle_w in 5.0f64..14.0,
+        target in 35.0f64..75.0,
+        mill in any::<bool>(),
+    ) {
+        let text = format!(
+            "stackup = \"{}\"\nsignal_layer = {}\ntarget_z0_ohms = {target:.2}\nclearance_mm = {clearance:.3}\ngap_mm = {gap:.3}\nmill_interior = {mill}\n\
+             [via]\ndrill_mm = {drill:.3}\npad_mm = {:.3}\n[handle]\nlength_mm = {handle_len:.2}\nwidth_mm = {handle_w:.2}\n\
+             [[probe]]\nname = \"p\"\n{shape}",
+            if slim { "slim-4l-0.8" } else { "common-4l-1.6" },
+            if layer3 { 3 } else { 2 },
+            drill + 2.0 * ring,
+        );
+        match build_family(&spec(&text), Path::new("."), false) {
+            Ok(b) => {
+                for p in &b.probes {
+                    prop_assert!(p.violations.is_empty());
+                    prop_assert!(!p.files.is_empty());
+                }
+            }
+            Err(Error::Drc { violations, .. }) => {
+                prop_assert!(false, "DRC failed on a valid spec:\n{text}\n{}", violations.join("\n"));
+            }
+            Err(e) => {
+                let msg = e.to_string();
+                prop_assert!(!msg.is_empty());
+            }
+        }
+    }
+}
