@@ -84,8 +84,16 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
         emit::svg::openings_layer(&artwork, &artwork.mask_top, "mask-top").into_bytes(),
     ));
     files.push((
+        format!("{base}-mask-bottom.svg"),
+        emit::svg::openings_layer(&artwork, &artwork.mask_bottom, "mask-bottom").into_bytes(),
+    ));
+    files.push((
         format!("{base}-legend-top.svg"),
         emit::svg::legend_layer(&artwork, &artwork.silk_top, "legend-top").into_bytes(),
+    ));
+    files.push((
+        format!("{base}-legend-bottom.svg"),
+        emit::svg::legend_layer(&artwork, &artwork.silk_bottom, "legend-bottom").into_bytes(),
     ));
     files.push((format!("{base}.toml"), spec_copy.as_bytes().to_vec()));
     let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();

@@ -448,3 +448,52 @@ fn files_carry_their_x2_attributes() {
         assert!(notes.contains("SAFETY"));
     }
 }
+
+// On the connector's layer the link joins the centre pad to the signal via and touches no ground.
+#[test]
+fn connector_centre_pad_is_linked_to_the_signal_via_and_isolated_from_ground() {
+    use geo::Intersects;
+    for probe in PROBES {
+        let g = layer(probe, 1);
+        let c = copper(&g, |_| true);
+        let centre = g
+            .flashes
+            .iter()
+            .filter(|f| f.ap.function == "ConnectorPad")
+            .min_by(|a, b| a.x.abs().partial_cmp(&b.x.abs()).unwrap())
+            .unwrap();
+        assert!(centre.x.abs() < UM, "{probe}: centre pad on the axis");
+        let piece =
+            c.0.iter()
+                .find(|p| p.intersects(&geo::Point::new(centre.x, centre.y)))
+                .expect("centre pad copper");
+        let l3 = layer(probe, 3);
+        let signal = g
+            .flashes
+            .iter()
+            .find(|f| {
+                f.ap.function == "ViaPad"
+                    && !l3
+                        .flashes
+                        .iter()
+                        .any(|h| (h.x - f.x).hypot(h.y - f.y) < 1e-4)
+            })
+            .unwrap();
+        assert!(
+            piece.intersects(&geo::Point::new(signal.x, signal.y)),
+            "{probe}: link broken"
+        );
+        for f in g
+            .flashes
+            .iter()
+            .filter(|f| f.ap.function == "ConnectorPad" && f.x.abs() > UM)
+        {
+            assert!(
+                !piece.intersects(&geo::Point::new(f.x, f.y)),
+                "{probe}: centre pad shorted to a ground pad on L1"
+            );
+        }
+        // And small: the link island is far smaller than the ground pour.
+        assert!(piece.unsigned_area() < 10.0, "{probe}");
+    }
+}

@@ -199,3 +199,32 @@ proptest! {
         }
     }
 }
+
+// A design-rule violation stops the build and names rule, layer, place and measurement; with
+// force the files are made and the notes open with the warning. (The spec validation keeps such
+// boards from being specified, so the fab profile is tightened after validation here.)
+#[test]
+fn design_rule_violations_stop_the_build_unless_forced() {
+    let s = spec(&format!(
+        "{BASE}[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n"
+    ));
+    let fam = loopwright::model::probe::family_from_spec(&s, Path::new(".")).unwrap();
+    let mut p = fam.probes[0].clone();
+    p.fab.mask_web = 5.0;
+    let err = loopwright::pipeline::build_probe(&p, "", false)
+        .unwrap_err()
+        .to_string();
+    assert!(
+        err.contains("mask web on mask-top") && err.contains("< 5.0000 mm"),
+        "{err}"
+    );
+    let forced = loopwright::pipeline::build_probe(&p, "", true).unwrap();
+    assert!(!forced.violations.is_empty());
+    let notes = forced
+        .files
+        .iter()
+        .find(|(n, _)| n.ends_with("fab-notes.md"))
+        .map(|(_, b)| String::from_utf8_lossy(b).to_string())
+        .unwrap();
+    assert!(notes.contains("DESIGN-RULE CHECK FAILED"), "{notes}");
+}
