@@ -1,1 +1,375 @@
-//! 2-D quasi-static field solver for transmission-line cross-sections (being built; issue 5).
+//! 2-D quasi-static field solver for transmission-line cross-sections (issue 5).
+//!
+//! Solves Laplace's equation ∇·(ε∇φ) = 0 on a cross-section with the signal at 1 V and every
+//! ground at 0 V, twice: with the real dielectrics (capacitance per metre C) and with all
+//! dielectrics replaced by vacuum (C0). Then
+//!
+//! ```text
+//!     Z0 = 1 / (c0·√(C·C0)),      εeff = C / C0.
+//! ```
+//!
+//! # API
+//!
+//! - Describe the line as a [`CrossSection`]: horizontal [`Dielectric`] layers from `y = 0`
+//!   up, [`Conductor`]s ([`Role::Signal`] / [`Role::Ground`], rectangles or trapezoids,
+//!   planes of unlimited width), an optional conformal [`Coat`] (solder mask), via
+//!   [`Fence`]s and a [`Boundary`] (open, or a grounded box). Lengths in mm.
+//!   [`cross_section_for_line`] builds it for every structure of the impedance engine
+//!   ([`Line`](crate::solve::impedance::Line)).
+//! - [`solve`]`(&cs, Accuracy::default())` returns a [`FieldSolution`] (Z0, εeff, C, C0,
+//!   mesh size, an error estimate), or an [`Error::Invalid`]
+//!   listing every bad field (name, value, allowed range) for degenerate geometry.
+//! - [`Accuracy`] chooses the mesh density; every level solves two nested meshes and
+//!   Richardson-extrapolates.
+//!
+//! # Method
+//!
+//! Finite differences (finite volumes) on a graded rectilinear mesh, identical to linear
+//! finite elements on right triangles, solved by conjugate gradients with a modified
+//! incomplete Cholesky preconditioner; the capacitance is the discrete field energy
+//! (C = 2W/V²). Mirror-symmetric cross-sections are solved on the half `x ≥ 0`, the plane
+//! `x = 0` being a zero-normal-field wall. Method, accuracy and speed are documented in
+//! `docs/field-solver.md`.
+//!
+//! ```
+//! use loopwright::field::{self, Accuracy};
+//! use loopwright::solve::impedance::{Line, Stripline};
+//! let line = Line::Stripline(Stripline { width: 0.5, h1: 0.5, h2: 0.5, t: 0.0, er1: 1.0, er2: 1.0 });
+//! let sol = field::solve(&field::cross_section_for_line(&line), Accuracy::default()).unwrap();
+//! // Cohn's exact value for w/b = 0.5 in air is 100.4325 Ω.
+//! assert!((sol.z0_ohms / 100.4325 - 1.0).abs() < 2e-3);
+//! ```
+
+mod geometry;
+mod line;
+mod mesh;
+mod solver;
+
+pub use geometry::{
+    Boundary, Coat, Conductor, CrossSection, Dielectric, Fence, OPEN_FAR_FACTOR, Role, Shape,
+};
+pub use line::{cross_section_for_line, solve_line};
+pub use solver::EPS0;
+
+use crate::error::{Error, FieldError};
+use mesh::MeshParams;
+use solver::System;
+
+/// Speed of light in vacuum, m/s (exact).
+pub const C0: f64 = 299_792_458.0;
+
+/// Mesh density. Every setting solves the cross-section on two nested meshes (the second
+/// with every cell of the first halved) and Richardson-extrapolates C and C0 to zero cell
+/// size. The settings differ in how fast the cells grow away from conductor corners.
+/// Errors quoted are the largest seen on the validation set of `docs/field-solver.md`
+/// (striplines, offset stripline, microstrip, grounded CPW, thick traces, solder mask).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Accuracy {
+    /// Quick look: Z0 error at most about 0.25 %; under 6 ms (release build).
+    Draft,
+    /// The default: Z0 error at most about 0.06 %; 1–13 ms per cross-section on the
+    /// benchmark set (release build, one core).
+    #[default]
+    Standard,
+    /// Z0 error at most about 0.015 %; about 2.5 times the work of `Standard`.
+    Fine,
+    /// The `Standard` mesh with every cell split into `m` (1 ≤ m ≤ [`MAX_REFINEMENT`]),
+    /// solved at `m` and `2m`: for refinement studies. `Refined(1)` is `Standard`. The work
+    /// grows somewhat faster than m².
+    Refined(u32),
+}
+
+/// The smallest cell, at conductor corners, relative to the smallest feature (width,
+/// thickness, clearance, layer). Small enough that the corner cells' own error (first order
+/// in their size) stays far below the rest, so that the error falls as h² and Richardson's
+/// ratio 4 holds (`docs/field-solver.md`, "Mesh").
+const DELTA_REL: f64 = 1e-4;
+
+/// Largest mesh (nodes of the finer mesh) [`solve`] builds; beyond it the geometry is
+/// refused rather than risk running out of memory (about 1.5 GB).
+pub const MAX_NODES: usize = 12_000_000;
+
+/// Largest `m` accepted by [`Accuracy::Refined`].
+pub const MAX_REFINEMENT: u32 = 32;
+
+impl Accuracy {
+    /// Base-mesh growth rate and refinement level of the coarser mesh.
+    fn mesh(self) -> (MeshParams, u32) {
+        let growth = match self {
+            Accuracy::Draft => 0.9,
+            Accuracy::Standard | Accuracy::Refined(_) => 0.6,
+            Accuracy::Fine => 0.4,
+        };
+        let m = match self {
+            Accuracy::Refined(m) => m,
+            _ => 1,
+        };
+        (
+            MeshParams {
+                delta_rel: DELTA_REL,
+                growth,
+            },
+            m,
+        )
+    }
+}
+
+/// The quasi-static solution of one cross-section.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldSolution {
+    /// Characteristic impedance, Ω.
+    pub z0_ohms: f64,
+    /// Effective relative permittivity C/C0.
+    pub eps_eff: f64,
+    /// Capacitance per metre with the dielectrics, F/m.
+    pub c_per_m: f64,
+    /// Capacitance per metre with every dielectric replaced by vacuum, F/m.
+    pub c0_per_m: f64,
+    /// Nodes of the finer of the two meshes (of the half domain when symmetric).
+    pub nodes: usize,
+    /// Estimated relative error of `z0_ohms`: the change made by the Richardson
+    /// extrapolation, |Z0(extrapolated) − Z0(fine mesh)| / Z0. It estimates the fine mesh's
+    /// own error and is deliberately conservative: the extrapolated value's true error was
+    /// 3–15 % of it on every validation case (`docs/field-solver.md`, §4).
+    pub estimated_error: f64,
+    /// Whether the mirror symmetry about `x = 0` was used (half domain).
+    pub half_domain: bool,
+    /// The same quantities on each mesh, coarse then fine, for convergence studies.
+    pub meshes: [MeshResult; 2],
+}
+
+/// The raw result on one mesh.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MeshResult {
+    /// Refinement level (every base cell split into this many).
+    pub level: u32,
+    /// Node columns and rows.
+    pub size: [usize; 2],
+    /// C per metre, F/m.
+    pub c_per_m: f64,
+    /// C0 per metre, F/m.
+    pub c0_per_m: f64,
+    /// Z0 on this mesh alone, Ω.
+    pub z0_ohms: f64,
+    /// Conjugate-gradient iterations (C and C0 solves).
+    pub iterations: usize,
+}
+
+/// Relative tolerance on the preconditioned residual; the energy (capacitance) error it
+/// leaves is of its square's order, far below the discretisation error.
+const CG_TOL: f64 = 1e-7;
+
+/// Solves a cross-section at an accuracy level.
+///
+/// Fails with [`Error::Invalid`] naming every bad field: a non-finite or out-of-range
+/// length or permittivity, a signal conductor of zero width, a signal touching or
+/// overlapping a ground, a conductor outside the solved region (outside the shield or
+/// behind an unlimited plane), no signal or no ground.
+pub fn solve(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
+    let (params, m) = acc.mesh();
+    if m == 0 || m > MAX_REFINEMENT {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "accuracy (Refined m)",
+            m,
+            format!("must be from 1 to {MAX_REFINEMENT}"),
+        )]));
+    }
+    let r = cs.resolve().map_err(Error::Invalid)?;
+    let half = r.symmetric;
+    let plan = mesh::plan(&r, half);
+    let coarse = mesh::build(&r, &plan, &params, m as usize);
+    let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
+    if fine_nodes > MAX_NODES {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "accuracy",
+            format!("{acc:?} (needs a mesh of {fine_nodes} nodes)"),
+            format!(
+                "the finer mesh may have at most {MAX_NODES} nodes: choose a coarser setting \
+                 or simplify the geometry"
+            ),
+        )]));
+    }
+    let fine_xs = mesh::subdivide(&coarse.xs, 2);
+    let fine_ys = mesh::subdivide(&coarse.ys, 2);
+    let fine = mesh::fill(&r, fine_xs, fine_ys);
+    let factor = if half { 2.0 } else { 1.0 } * EPS0;
+
+    // One permittivity everywhere (a homogeneous stripline): C0 = C/εr exactly, one solve.
+    let homogeneous = coarse.eps.iter().all(|&e| e == coarse.eps[0]);
+    let run = |g: &mesh::Grid, guess: Option<(&[f64], &[f64])>| -> Result<Run, Error> {
+        let sys = System::new(g, &g.eps);
+        let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), CG_TOL);
+        let c = factor * sys.energy(&phi);
+        if homogeneous {
+            let e = g.eps[0];
+            return check(ok1).map(|_| Run {
+                c,
+                c0: c / e,
+                iterations: it1,
+                phi0: phi.clone(),
+                phi,
+            });
+        }
+        let ones = vec![1.0; g.eps.len()];
+        let sys0 = System::new(g, &ones);
+        let (phi0, it0, ok0) = sys0.solve(Some(guess.map_or(&phi, |p| p.1)), CG_TOL);
+        let c0 = factor * sys0.energy(&phi0);
+        check(ok1 && ok0).map(|_| Run {
+            c,
+            c0,
+            iterations: it1 + it0,
+            phi,
+            phi0,
+        })
+    };
+    let rc = run(&coarse, None)?;
+    let pf = solver::prolong(&rc.phi, coarse.nx(), coarse.ny());
+    let pf0 = solver::prolong(&rc.phi0, coarse.nx(), coarse.ny());
+    let rf = run(&fine, Some((&pf, &pf0)))?;
+    let (cc, cc0, itc) = (rc.c, rc.c0, rc.iterations);
+    let (cf, cf0, itf) = (rf.c, rf.c0, rf.iterations);
+
+    let z = |c: f64, c0: f64| 1.0 / (C0 * (c * c0).sqrt());
+    // Energy error ∝ h² on nested uniform refinements: extrapolate with ratio 4.
+    let c = cf + (cf - cc) / 3.0;
+    let c0 = cf0 + (cf0 - cc0) / 3.0;
+    let z0 = z(c, c0);
+    let zf = z(cf, cf0);
+    Ok(FieldSolution {
+        z0_ohms: z0,
+        eps_eff: c / c0,
+        c_per_m: c,
+        c0_per_m: c0,
+        nodes: fine.nx() * fine.ny(),
+        estimated_error: (z0 - zf).abs() / z0,
+        half_domain: half,
+        meshes: [
+            MeshResult {
+                level: m,
+                size: [coarse.nx(), coarse.ny()],
+                c_per_m: cc,
+                c0_per_m: cc0,
+                z0_ohms: z(cc, cc0),
+                iterations: itc,
+            },
+            MeshResult {
+                level: 2 * m,
+                size: [fine.nx(), fine.ny()],
+                c_per_m: cf,
+                c0_per_m: cf0,
+                z0_ohms: zf,
+                iterations: itf,
+            },
+        ],
+    })
+}
+
+/// C, C0 and the potentials of one mesh.
+struct Run {
+    c: f64,
+    c0: f64,
+    iterations: usize,
+    phi: Vec<f64>,
+    phi0: Vec<f64>,
+}
+
+/// The conjugate-gradient iteration reached its tolerance (it always has with this
+/// preconditioner; the cap guards against the unforeseen).
+fn check(converged: bool) -> Result<(), Error> {
+    if converged {
+        Ok(())
+    } else {
+        Err(Error::Unsolvable(
+            "the field solver's linear iteration did not converge for this cross-section; \
+             please report the geometry"
+                .into(),
+        ))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::geometry::{Conductor, Dielectric, Resolved, Role, Shape};
+    use super::*;
+
+    /// Seen from above, one period of a row of round posts (diameter `d`, pitch `p`) at
+    /// x = 0 faces a driven plate at x = −l; behind the posts the space is open. Returns the
+    /// position of the solid wall with the same capacitance (positive: behind the centres).
+    fn equivalent_wall(p: f64, d: f64, strips: usize, m: usize) -> f64 {
+        let (a, l, behind) = (d / 2.0, 3.0 * p, 2.0 * p);
+        let half = p / 2.0;
+        // The mirror planes y = 0 (through a post) and y = p/2 (between posts) are
+        // zero-normal-field walls: the period's half is the domain. The post is a stack of
+        // thin rectangles (midpoint staircase of the half disc).
+        let mut conductors = vec![Conductor {
+            role: Role::Signal,
+            shape: Shape::Rect {
+                x0: -l - 0.05 * p,
+                x1: -l,
+                y0: 0.0,
+                y1: half,
+            },
+        }];
+        for k in 0..strips {
+            let (y0, y1) = (
+                a * k as f64 / strips as f64,
+                a * (k + 1) as f64 / strips as f64,
+            );
+            let x = (a * a - (0.5 * (y0 + y1)).powi(2)).sqrt();
+            conductors.push(Conductor::ground(-x, x, y0, y1));
+        }
+        let r = Resolved {
+            layers: vec![Dielectric::new(half, 1.0)],
+            board: None,
+            conductors,
+            coat: None,
+            domain: [-l - 0.1 * p, behind, 0.0, half],
+            dirichlet: [false; 4],
+            size: l + behind,
+            min_feature: a / strips as f64,
+            symmetric: false,
+        };
+        let plan = mesh::plan(&r, false);
+        // The staircase's steps are artificial corners: cells of a third of a step there.
+        let params = MeshParams {
+            delta_rel: 0.3,
+            growth: 0.6,
+        };
+        let grid = mesh::build(&r, &plan, &params, m);
+        let sys = System::new(&grid, &grid.eps);
+        let (phi, _, converged) = sys.solve(None, CG_TOL);
+        assert!(converged);
+        // C/ε0 = (p/2)/(l + x_eq) for a uniform field between the plate and the wall.
+        half / sys.energy(&phi) - l
+    }
+
+    // The via-fence model (Fence::equivalent_offset, our derivation) against a direct
+    // solution of the row of posts seen from above by this solver (16-step staircase discs,
+    // levels 2; converged to about 0.002·p by 64 steps). Within 0.004·p for d/p ≤ 0.3 and
+    // 0.02·p at the closest pitch allowed (p = 2d). The line-charge term alone is 0.017·p off
+    // at d/p = 0.2: the dipole term matters.
+    #[test]
+    fn fence_equivalent_wall_matches_a_direct_solution() {
+        let p = 1.0;
+        for (d, tol) in [(0.1, 0.004), (0.2, 0.004), (0.3, 0.004), (0.5, 0.02)] {
+            let f = Fence {
+                x: 0.0,
+                diameter: d,
+                pitch: p,
+                y0: 0.0,
+                y1: 1.0,
+            };
+            let direct = equivalent_wall(p, d, 16, 2);
+            let model = f.equivalent_offset();
+            assert!(
+                (direct - model).abs() < tol * p,
+                "d/p {d}: {direct} vs {model}"
+            );
+            if d == 0.2 {
+                let line_charges =
+                    p / (2.0 * std::f64::consts::PI) * (p / (std::f64::consts::PI * d)).ln();
+                assert!((direct - line_charges).abs() > 0.01 * p);
+            }
+        }
+    }
+}
