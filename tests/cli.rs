@@ -555,3 +555,108 @@ fn stackups_lists_and_prints_builtins() {
     ]);
     assert_eq!(v["stackup"]["name"], "slim-4l-0.8");
 }
+
+// The field method answers for every structure with the same flags and JSON, and solves
+// widths. Reference: Cohn's exact 48.4328 Ω at w/b = 0.5, εr = 4.3 (scipy, tests/data); the
+// field solver claims 0.06 % at its default accuracy.
+#[test]
+fn field_method_for_every_structure() {
+    let cases: [&[&str]; 4] = [
+        &[
+            "--structure",
+            "microstrip",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--t",
+            "0.035",
+        ],
+        &[
+            "--structure",
+            "coated-microstrip",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--mask-t",
+            "0.02",
+            "--mask-er",
+            "3.5",
+        ],
+        &[
+            "--structure",
+            "stripline",
+            "--er",
+            "4.3",
+            "--h1",
+            "0.2",
+            "--h2",
+            "1.0",
+            "--t",
+            "0",
+        ],
+        &[
+            "--structure",
+            "cpwg",
+            "--er",
+            "4.3",
+            "--h",
+            "0.2",
+            "--gap",
+            "0.15",
+            "--t",
+            "0",
+        ],
+    ];
+    for c in cases {
+        let mut args = vec!["impedance", "--json", "--method", "field", "--target", "50"];
+        args.extend_from_slice(c);
+        let v = json(&args);
+        assert_eq!(v["method"], "field");
+        assert!((v["z0_ohms"].as_f64().unwrap() - 50.0).abs() < 0.05, "{v}");
+        assert!(v["width_mm"].as_f64().unwrap() > 0.0);
+        assert_eq!(v["accuracy"], "standard");
+        assert!(v["closed_form"]["difference_pct"].is_number(), "{v}");
+    }
+    let v = json(&[
+        "impedance",
+        "--json",
+        "--method",
+        "field",
+        "--structure",
+        "stripline",
+        "--er",
+        "4.3",
+        "--h1",
+        "0.5",
+        "--h2",
+        "0.5",
+        "--t",
+        "0",
+        "--width",
+        "0.5",
+    ]);
+    assert!(
+        (v["z0_ohms"].as_f64().unwrap() / 48.4328 - 1.0).abs() < 0.002,
+        "{v}"
+    );
+    refused(
+        &[
+            "impedance",
+            "--method",
+            "field",
+            "--accuracy",
+            "extreme",
+            "--structure",
+            "microstrip",
+            "--er",
+            "4",
+            "--h",
+            "0.2",
+            "--width",
+            "0.3",
+        ],
+        &["accuracy", "'extreme'", "draft, standard, fine"],
+    );
+}

@@ -133,7 +133,15 @@ fn width_solver_round_trips() {
     for l in lines() {
         for &m in l.structure().methods() {
             for target in [35.0, 50.0, 75.0] {
-                match solve_width(&l, Some(m), target, &SolveLimits { min_trace_mm: 0.0 }) {
+                match solve_width(
+                    &l,
+                    Some(m),
+                    target,
+                    &SolveLimits {
+                        min_trace_mm: 0.0,
+                        ..Default::default()
+                    },
+                ) {
                     Ok((solved, sol)) => {
                         assert!((sol.z0 - target).abs() < 0.05, "{m} {target}: {}", sol.z0);
                         let again = analyse(&solved, Some(m)).unwrap();
@@ -167,7 +175,16 @@ fn unreachable_target_is_refused() {
 #[test]
 fn solved_width_below_fab_minimum_is_refused() {
     let l = lines()[2];
-    let e = solve_width(&l, None, 50.0, &SolveLimits { min_trace_mm: 0.5 }).unwrap_err();
+    let e = solve_width(
+        &l,
+        None,
+        50.0,
+        &SolveLimits {
+            min_trace_mm: 0.5,
+            ..Default::default()
+        },
+    )
+    .unwrap_err();
     let s = e.to_string();
     assert!(
         s.contains("below the fab minimum trace") && s.contains("0.5"),

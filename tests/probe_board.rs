@@ -59,6 +59,7 @@ fn solved_width() -> f64 {
         .unwrap();
     let limits = loopwright::solve::impedance::SolveLimits {
         min_trace_mm: 0.127,
+        ..Default::default()
     };
     loopwright::solve::impedance::solve_width(&t, None, 50.0, &limits)
         .unwrap()

@@ -3,8 +3,9 @@
 use crate::error::{Error, FieldError};
 use crate::model::stackup::{Stackup, load};
 use crate::solve::impedance::{
-    CoatedMicrostrip, Cpwg, Line, Method, Microstrip, Solution, SolveLimits, Spread, Stripline,
-    Structure, Tolerances, analyse, default_method, solve_width, spread,
+    Accuracy, CoatedMicrostrip, Cpwg, Line, Method, Microstrip, Solution, SolveLimits, Spread,
+    Stripline, Structure, Tolerances, accuracy_name, analyse, analyse_with, default_method,
+    solve_width, spread_with,
 };
 use serde_json::{Value, json};
 
@@ -30,7 +31,8 @@ pub struct ImpedanceArgs {
     #[arg(long, value_name = "OHMS")]
     pub target: Option<f64>,
     /// Method: hammerstad-jensen, ipc-2141 (microstrip); cover-blend, ipc-2141 (coated);
-    /// wheeler, cohn, ipc-2141 (stripline); conformal (cpwg). Default: the most accurate.
+    /// wheeler, cohn, ipc-2141 (stripline); conformal (cpwg); field (the 2-D field solver, any
+    /// structure). Default: the most accurate closed form.
     #[arg(long, value_name = "NAME")]
     pub method: Option<String>,
     /// Microstrip and cpwg: dielectric between the trace's bottom and the plane, mm.
@@ -69,9 +71,26 @@ pub struct ImpedanceArgs {
     /// Fab minimum trace width, mm: a solved width below it is refused.
     #[arg(long = "min-trace", value_name = "MM", default_value_t = SolveLimits::default().min_trace_mm)]
     pub min_trace: f64,
+    /// Field-solver accuracy for `--method field`: draft (≤ 0.25 %), standard (≤ 0.06 %) or
+    /// fine (≤ 0.015 %).
+    #[arg(long, value_name = "LEVEL", default_value = "standard")]
+    pub accuracy: String,
     /// Print one JSON object instead of the table.
     #[arg(long)]
     pub json: bool,
+}
+
+fn parse_accuracy(s: &str) -> Result<Accuracy, Error> {
+    match s {
+        "draft" => Ok(Accuracy::Draft),
+        "standard" => Ok(Accuracy::Standard),
+        "fine" => Ok(Accuracy::Fine),
+        other => Err(Error::Unknown {
+            what: "accuracy (--accuracy)",
+            value: other.to_string(),
+            allowed: "draft, standard, fine".into(),
+        }),
+    }
 }
 
 /// The outcome of an impedance request, ready to print.
@@ -87,6 +106,10 @@ pub struct ImpedanceReport {
     pub spread: Spread,
     /// Stackup name and layer, when taken from one.
     pub stackup: Option<(String, usize)>,
+    /// With the field method: the default closed form's solution of the same line.
+    pub closed_form: Option<Solution>,
+    /// The field solver's accuracy setting.
+    pub accuracy: Accuracy,
 }
 
 const STRUCTURE_FLAGS: [(&str, &[&str]); 4] = [
@@ -308,8 +331,10 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
     };
     let method = a.method.as_deref().map(parse_method).transpose()?;
     let line = build_line(a, structure, stackup.as_ref())?;
+    let accuracy = parse_accuracy(&a.accuracy)?;
     let limits = SolveLimits {
         min_trace_mm: a.min_trace,
+        accuracy,
     };
     let tol = Tolerances {
         etch_mm: a.etch_tol,
@@ -318,7 +343,7 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
     };
     let (line, solution, target) = match a.width {
         Some(_) => {
-            let sol = analyse(&line, method).map_err(as_flags)?;
+            let sol = analyse_with(&line, method, accuracy).map_err(as_flags)?;
             (line, sol, None)
         }
         None => {
@@ -330,15 +355,24 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
             (l, s, Some(target))
         }
     };
-    let spread = spread(&line, Some(solution.method), &tol).map_err(|e| match e {
-        Error::Invalid(v) => as_flags(v),
-        other => other,
-    })?;
+    // The closed form beside the field solution, for comparison.
+    let closed_form = if solution.method == Method::Field {
+        analyse(&line, None).ok()
+    } else {
+        None
+    };
+    let spread =
+        spread_with(&line, Some(solution.method), &tol, accuracy).map_err(|e| match e {
+            Error::Invalid(v) => as_flags(v),
+            other => other,
+        })?;
     Ok(ImpedanceReport {
         line,
         solution,
         target,
         spread,
+        closed_form,
+        accuracy,
         stackup: stackup.map(|s| (s.name().to_string(), a.layer.unwrap_or(0))),
     })
 }
@@ -382,6 +416,13 @@ impl ImpedanceReport {
                 "h_tol_pct": s.tolerances.h_rel * 100.0,
             },
             "warnings": self.solution.warnings.iter().map(|w| w.text.clone()).collect::<Vec<_>>(),
+            "accuracy": (self.solution.method == Method::Field).then(|| accuracy_name(self.accuracy)),
+            "closed_form": self.closed_form.as_ref().map(|c| json!({
+                "method": c.method.name(),
+                "z0_ohms": c.z0,
+                "eps_eff": c.eps_eff,
+                "difference_pct": (c.z0 / self.solution.z0 - 1.0) * 100.0,
+            })),
         })
     }
 
@@ -454,6 +495,18 @@ impl ImpedanceReport {
             ),
         }
         push(&mut o, "Z0", format!("{z:.2} Ω"));
+        if let Some(c) = &self.closed_form {
+            push(
+                &mut o,
+                "closed form",
+                format!(
+                    "{:.2} Ω by {} ({:+.2} % against the field solution)",
+                    c.z0,
+                    c.method,
+                    (c.z0 / z - 1.0) * 100.0
+                ),
+            );
+        }
         push(&mut o, "εeff", format!("{:.3}", self.solution.eps_eff));
         let s = &self.spread;
         push(

@@ -47,6 +47,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         .line_for_layer(p.signal_layer, Structure::Stripline, 1.0, None)?;
     let limits = SolveLimits {
         min_trace_mm: p.fab.min_trace,
+        ..Default::default()
     };
     let (line, solution) = solve_width(&template, None, p.target_z0, &limits).map_err(|e| {
         Error::Invalid(vec![FieldError::new(

@@ -16,10 +16,11 @@ mod spread;
 mod stripline;
 mod width;
 
-pub use spread::{Spread, Tolerances, spread};
-pub use width::{SolveLimits, solve_width};
+pub use spread::{Spread, Tolerances, spread, spread_with};
+pub use width::{SolveLimits, solve_width, solve_width_near};
 
 use crate::error::{FieldError, check_positive, check_range, fmt_num};
+pub use crate::field::Accuracy;
 use std::fmt;
 
 /// Free-space wave impedance η0 = μ0·c0 in ohms (CODATA 2022 μ0 = 1.25663706127e-6 H/m,
@@ -72,10 +73,15 @@ impl Structure {
     /// for typical geometries; see [`default_method`]).
     pub fn methods(self) -> &'static [Method] {
         match self {
-            Structure::Microstrip => &[Method::HammerstadJensen, Method::Ipc2141],
-            Structure::CoatedMicrostrip => &[Method::CoverBlend, Method::Ipc2141],
-            Structure::Stripline => &[Method::Wheeler, Method::Cohn, Method::Ipc2141],
-            Structure::Cpwg => &[Method::Conformal],
+            Structure::Microstrip => &[Method::HammerstadJensen, Method::Ipc2141, Method::Field],
+            Structure::CoatedMicrostrip => &[Method::CoverBlend, Method::Ipc2141, Method::Field],
+            Structure::Stripline => &[
+                Method::Wheeler,
+                Method::Cohn,
+                Method::Ipc2141,
+                Method::Field,
+            ],
+            Structure::Cpwg => &[Method::Conformal, Method::Field],
         }
     }
 }
@@ -101,17 +107,21 @@ pub enum Method {
     Wheeler,
     /// Conformal mapping for grounded CPW (Ghione & Naldi 1983), thickness-corrected.
     Conformal,
+    /// The 2-D quasi-static field solver (`crate::field`): not a closed form; the check on the
+    /// others.
+    Field,
 }
 
 impl Method {
     /// Every method.
-    pub const ALL: [Method; 6] = [
+    pub const ALL: [Method; 7] = [
         Method::HammerstadJensen,
         Method::Ipc2141,
         Method::CoverBlend,
         Method::Cohn,
         Method::Wheeler,
         Method::Conformal,
+        Method::Field,
     ];
 
     /// The name used on the command line and in JSON.
@@ -123,6 +133,7 @@ impl Method {
             Method::Cohn => "cohn",
             Method::Wheeler => "wheeler",
             Method::Conformal => "conformal",
+            Method::Field => "field",
         }
     }
 
@@ -456,6 +467,15 @@ pub fn default_method(line: &Line) -> Method {
 /// the structure. A geometry outside the method's validity range still gets its answer,
 /// with an `OutsideValidity` warning.
 pub fn analyse(line: &Line, method: Option<Method>) -> Result<Solution, Vec<FieldError>> {
+    analyse_with(line, method, Accuracy::default())
+}
+
+/// [`analyse`] with the field solver's accuracy setting (used only by [`Method::Field`]).
+pub fn analyse_with(
+    line: &Line,
+    method: Option<Method>,
+    accuracy: Accuracy,
+) -> Result<Solution, Vec<FieldError>> {
     let errors = line.validate();
     if !errors.is_empty() {
         return Err(errors);
@@ -471,12 +491,54 @@ pub fn analyse(line: &Line, method: Option<Method>) -> Result<Solution, Vec<Fiel
         )]);
     }
     let sol = match line {
+        _ if method == Method::Field => return analyse_field(line, accuracy),
         Line::Microstrip(m) => microstrip::analyse(m, method),
         Line::CoatedMicrostrip(c) => microstrip::analyse_coated(c, method),
         Line::Stripline(st) => stripline::analyse(st, method),
         Line::Cpwg(c) => cpwg::analyse(c),
     };
     Ok(sol)
+}
+
+fn analyse_field(line: &Line, accuracy: Accuracy) -> Result<Solution, Vec<FieldError>> {
+    let f = crate::field::solve_line(line, accuracy).map_err(|e| match e {
+        crate::error::Error::Invalid(v) => v,
+        other => vec![FieldError::new("method", "field", other.to_string())],
+    })?;
+    let mut warnings = vec![Warning::note(format!(
+        "2-D field solution ({} accuracy, {} mesh nodes); Richardson correction {:.3} %, a \
+         conservative bound on the error (measured errors are 3–15 % of it)",
+        accuracy_name(accuracy),
+        f.nodes,
+        100.0 * f.estimated_error
+    ))];
+    match line {
+        Line::Microstrip(_) | Line::CoatedMicrostrip(_) | Line::Cpwg(_) => {
+            warnings.push(Warning::note(
+                "field model: unlimited plane and substrate, open above; grounds of cpwg unlimited",
+            ))
+        }
+        Line::Stripline(_) => warnings.push(Warning::note(
+            "field model: unlimited planes, no side walls (a probe's own fenced cross-section is \
+             solved by the probe build)",
+        )),
+    }
+    Ok(Solution {
+        z0: f.z0_ohms,
+        eps_eff: f.eps_eff,
+        method: Method::Field,
+        warnings,
+    })
+}
+
+/// The name of a field-solver accuracy setting, as the command line spells it.
+pub fn accuracy_name(a: Accuracy) -> &'static str {
+    match a {
+        Accuracy::Draft => "draft",
+        Accuracy::Standard => "standard",
+        Accuracy::Fine => "fine",
+        Accuracy::Refined(_) => "refined",
+    }
 }
 
 pub use cpwg::ghione_naldi;

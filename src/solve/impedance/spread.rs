@@ -1,7 +1,7 @@
 //! Fab-tolerance spread: Z0 at the corners of width ± etch tolerance, εr ± tolerance and each
 //! dielectric thickness ± a relative tolerance.
 
-use super::{Line, Method, analyse};
+use super::{Accuracy, Line, Method, analyse_with};
 use crate::error::{Error, FieldError, check_range};
 
 /// Manufacturing tolerances for the spread.
@@ -52,6 +52,16 @@ impl Tolerances {
 
 /// Evaluates Z0 at every corner of the tolerance box around `line`.
 pub fn spread(line: &Line, method: Option<Method>, tol: &Tolerances) -> Result<Spread, Error> {
+    spread_with(line, method, tol, Accuracy::default())
+}
+
+/// [`spread`] with the field solver's accuracy (used by the field method).
+pub fn spread_with(
+    line: &Line,
+    method: Option<Method>,
+    tol: &Tolerances,
+    accuracy: Accuracy,
+) -> Result<Spread, Error> {
     let errs = tol.validate(line);
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
@@ -108,7 +118,9 @@ pub fn spread(line: &Line, method: Option<Method>, tol: &Tolerances) -> Result<S
             let sign = if mask & (1 << i) != 0 { 1.0 } else { -1.0 };
             axis(&mut l, sign);
         }
-        let z = analyse(&l, method).map_err(Error::Invalid)?.z0;
+        let z = analyse_with(&l, method, accuracy)
+            .map_err(Error::Invalid)?
+            .z0;
         zmin = zmin.min(z);
         zmax = zmax.max(z);
     }

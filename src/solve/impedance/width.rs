@@ -2,9 +2,13 @@
 //!
 //! Z0 falls monotonically as the trace widens for every method here, so the solve brackets
 //! the target between a very narrow and a very wide trace (10⁻⁴ to 10² times the dielectric
-//! height) and refines it with Brent's method.
+//! height) and refines it with Brent's method. The field method starts instead from the
+//! closed-form width and refines it with secant steps in ln w (Z0 is close to linear in ln w),
+//! falling back to bracketing; each step is a field solution.
 
-use super::{Line, Method, Solution, WarningKind, analyse, default_method, sig};
+use super::{
+    Accuracy, Line, Method, Solution, WarningKind, analyse, analyse_with, default_method, sig,
+};
 use crate::error::{Error, FieldError, check_range};
 use crate::solve::roots::brent;
 
@@ -13,13 +17,89 @@ use crate::solve::roots::brent;
 pub struct SolveLimits {
     /// The fab's minimum trace width, mm. A solution below it is refused.
     pub min_trace_mm: f64,
+    /// Field-solver accuracy, for the field method.
+    pub accuracy: Accuracy,
 }
 
 impl Default for SolveLimits {
     /// 0.1 mm: the common "standard process" minimum trace (common practice, no single source).
     fn default() -> Self {
-        SolveLimits { min_trace_mm: 0.1 }
+        SolveLimits {
+            min_trace_mm: 0.1,
+            accuracy: Accuracy::default(),
+        }
     }
+}
+
+/// Finds the width where a decreasing function `z_of(w)` equals `target`, starting near
+/// `guess`: secant steps in ln w (at most a factor 2 each), then bracketing and Brent's method
+/// if the steps do not settle. Stops within 1 mΩ.
+pub fn solve_width_near(
+    mut z_of: impl FnMut(f64) -> Result<f64, Error>,
+    guess: f64,
+    target: f64,
+) -> Result<f64, Error> {
+    const TOL: f64 = 1e-3;
+    let (mut w0, mut z0) = (guess, z_of(guess)?);
+    if (z0 - target).abs() < TOL {
+        return Ok(w0);
+    }
+    let mut w1 = if z0 > target {
+        guess * 1.05
+    } else {
+        guess / 1.05
+    };
+    let mut z1 = z_of(w1)?;
+    for _ in 0..25 {
+        if (z1 - target).abs() < TOL {
+            return Ok(w1);
+        }
+        let slope = (z1 - z0) / (w1.ln() - w0.ln());
+        if !(slope.is_finite() && slope < 0.0) {
+            break;
+        }
+        let step = ((target - z1) / slope).clamp(-std::f64::consts::LN_2, std::f64::consts::LN_2);
+        w0 = w1;
+        z0 = z1;
+        w1 *= step.exp();
+        z1 = z_of(w1)?;
+    }
+    // Bracket and refine.
+    let (mut lo, mut hi) = (guess / 1.5, guess * 1.5);
+    for _ in 0..30 {
+        let (zl, zh) = (z_of(lo)?, z_of(hi)?);
+        if zl >= target && zh <= target {
+            break;
+        }
+        if zl < target {
+            lo /= 1.5;
+        }
+        if zh > target {
+            hi *= 1.5;
+        }
+    }
+    let mut err = None;
+    let w = brent(
+        |w| match z_of(w) {
+            Ok(z) => z - target,
+            Err(e) => {
+                err = Some(e);
+                f64::NAN
+            }
+        },
+        lo,
+        hi,
+        guess * 1e-7,
+    );
+    if let Some(e) = err {
+        return Err(e);
+    }
+    w.map_err(|e| {
+        Error::Unsolvable(format!(
+            "target = {} Ω: width solve failed ({e:?})",
+            sig(target)
+        ))
+    })
 }
 
 /// Solves the width of `template` (whose own width is ignored) for `target_ohms`.
@@ -42,6 +122,9 @@ pub fn solve_width(
         return Err(Error::Invalid(errs));
     }
     let method = method.unwrap_or_else(|| default_method(template));
+    if method == Method::Field {
+        return solve_width_field(template, target_ohms, limits);
+    }
     let z_of = |w: f64| -> Result<Solution, Error> {
         analyse(&template.with_width(w), Some(method)).map_err(Error::Invalid)
     };
@@ -93,6 +176,47 @@ pub fn solve_width(
             outside.join("; ")
         )));
     }
+    if w < limits.min_trace_mm {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "target",
+            sig(target_ohms),
+            format!(
+                "solves to a trace width of {} mm, below the fab minimum trace of {} mm; \
+                 lower the target, thin the dielectric or use a finer process (--min-trace)",
+                sig(w),
+                sig(limits.min_trace_mm)
+            ),
+        )]));
+    }
+    Ok((line, sol))
+}
+
+/// The field method: from the closed-form width, refined by field solutions.
+fn solve_width_field(
+    template: &Line,
+    target_ohms: f64,
+    limits: &SolveLimits,
+) -> Result<(Line, Solution), Error> {
+    let scale = template.scale_height();
+    let loose = SolveLimits {
+        min_trace_mm: 0.0,
+        ..*limits
+    };
+    let guess = solve_width(template, None, target_ohms, &loose)
+        .map(|(l, _)| l.width())
+        .unwrap_or(scale);
+    let z_of = |w: f64| -> Result<f64, Error> {
+        analyse_with(
+            &template.with_width(w),
+            Some(Method::Field),
+            limits.accuracy,
+        )
+        .map(|s| s.z0)
+        .map_err(Error::Invalid)
+    };
+    let w = solve_width_near(z_of, guess, target_ohms)?;
+    let line = template.with_width(w);
+    let sol = analyse_with(&line, Some(Method::Field), limits.accuracy).map_err(Error::Invalid)?;
     if w < limits.min_trace_mm {
         return Err(Error::Invalid(vec![FieldError::new(
             "target",
