@@ -234,20 +234,21 @@ pub fn summary(family: &Family, built: &[BuiltProbe]) -> String {
     let mut o = format!(
         "# {}: probe family\n\nBuilt by loopwright {}. Size = mean diameter (round) or side \
          lengths (square, rectangle) of the loop trace's centreline.\n\n\
-         | probe | shape | size | trace w (mm) | Z0 (Ω) | board (mm) | vias | DRC |\n\
-         |---|---|---|---|---|---|---|---|\n",
+         | probe | shape | size | trace w (mm) | Z0 (Ω) | width from | board (mm) | vias | DRC |\n\
+         |---|---|---|---|---|---|---|---|---|\n",
         family.name,
         env!("CARGO_PKG_VERSION")
     );
     for b in built {
         let (lo, hi) = b.board.bbox;
         o.push_str(&format!(
-            "| {} | {} | {} | {:.3} | {:.2} | {:.1} × {:.1} | {} | {} |\n",
+            "| {} | {} | {} | {:.3} | {:.2} | {} | {:.1} × {:.1} | {} | {} |\n",
             b.probe.name,
             b.probe.shape.kind(),
             b.probe.shape.size_text(),
             b.solved.trace_width,
             b.solved.solution.z0,
+            b.solved.solution.method,
             hi.x - lo.x,
             hi.y - lo.y,
             b.board.vias.len(),

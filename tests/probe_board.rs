@@ -46,25 +46,15 @@ fn pitch_limit() -> f64 {
     299_792_458.0 / (3e9 * 4.5_f64.sqrt()) * 1e3 / 20.0
 }
 
-/// The trace width the impedance engine solves for the demo stackup (L2, 50 Ω).
+/// The trace width the library solves for the demo's probes (L2, 50 Ω, set by the field
+/// solution of the loop arm's cross-section): the files must carry exactly this width.
 fn solved_width() -> f64 {
-    let st = loopwright::model::stackup::builtin("common-4l-1.6").unwrap();
-    let t = st
-        .line_for_layer(
-            2,
-            loopwright::solve::impedance::Structure::Stripline,
-            1.0,
-            None,
-        )
-        .unwrap();
-    let limits = loopwright::solve::impedance::SolveLimits {
-        min_trace_mm: 0.127,
-        ..Default::default()
-    };
-    loopwright::solve::impedance::solve_width(&t, None, 50.0, &limits)
+    let spec: loopwright::spec::probe::ProbeFileSpec =
+        toml::from_str(loopwright::cli::DEMO_SPEC).unwrap();
+    let fam = loopwright::model::probe::family_from_spec(&spec, std::path::Path::new(".")).unwrap();
+    loopwright::solve::probe::solve(&fam.probes[0])
         .unwrap()
-        .0
-        .width()
+        .trace_width
 }
 
 #[test]

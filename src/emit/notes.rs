@@ -122,18 +122,47 @@ pub fn notes(
     let (above, below) = (p.signal_layer - 1, p.signal_layer + 1);
     let _ = writeln!(
         o,
-        "- **L{}, w = {:.3} mm, {} Ω ± 10 %, referenced to L{} and L{}** (offset stripline; \
-         {} Ω by {} closed form).",
+        "- **L{}, w = {:.3} mm, {} Ω ± 10 %, referenced to L{} and L{}** (shielded stripline \
+         with coplanar ground and via fences).",
         p.signal_layer,
         s.trace_width,
         crate::model::probe::num(p.target_z0),
         above,
         below,
-        crate::model::probe::num((s.solution.z0 * 100.0).round() / 100.0),
-        s.solution.method
     );
-    for w in &s.solution.warnings {
-        let _ = writeln!(o, "  - note: {}", w.text);
+    let _ = writeln!(
+        o,
+        "- How the width was set ({}): {}.",
+        p.width_from.name(),
+        match s.width_source {
+            crate::model::probe::WidthFrom::Field =>
+                "by the 2-D field solution of the loop arm's own cross-section",
+            _ => "by the closed form",
+        }
+    );
+    let _ = writeln!(
+        o,
+        "- Closed form ({}, ideal stripline between unlimited planes): w = {:.3} mm for {:.2} Ω.",
+        s.closed_form.1.method, s.closed_form.0, s.closed_form.1.z0
+    );
+    if let Some(z) = s.arm_z0_at_closed_form {
+        let _ = writeln!(
+            o,
+            "- Field solution of the loop arm (shield {:.2} mm wide, coplanar ground at {:.3} mm, \
+             via rows at ±{:.3} mm) at the closed-form width: {:.2} Ω ({:+.1} % from the closed \
+             form).",
+            2.0 * s.ring_half_width,
+            p.clearance,
+            s.fence_offset,
+            z,
+            (z / s.closed_form.1.z0 - 1.0) * 100.0
+        );
+    }
+    if let (Some(a), Some(h)) = (s.arm_z0, s.handle_z0) {
+        let _ = writeln!(
+            o,
+            "- At the chosen width, field solutions: loop arm {a:.2} Ω, handle {h:.2} Ω."
+        );
     }
     let _ = writeln!(
         o,

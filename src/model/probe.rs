@@ -161,6 +161,32 @@ impl Connector {
     };
 }
 
+/// What sets the loop trace's width.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum WidthFrom {
+    /// The field solution of the probe's own cross-section when it differs from the closed
+    /// form by more than [`WidthFrom::AUTO_THRESHOLD`], the closed form otherwise.
+    Auto,
+    /// Always the field solution.
+    Field,
+    /// Always the closed form.
+    ClosedForm,
+}
+
+impl WidthFrom {
+    /// The difference (fraction) above which `auto` takes the field solution: 1 %.
+    pub const AUTO_THRESHOLD: f64 = 0.01;
+
+    /// The spec's spelling.
+    pub fn name(self) -> &'static str {
+        match self {
+            WidthFrom::Auto => "auto",
+            WidthFrom::Field => "field",
+            WidthFrom::ClosedForm => "closed-form",
+        }
+    }
+}
+
 /// One validated probe.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Probe {
@@ -190,6 +216,8 @@ pub struct Probe {
     pub fab: FabProfile,
     /// Mill the loop interior.
     pub mill_interior: bool,
+    /// What sets the trace width.
+    pub width_from: WidthFrom,
     /// Extra silkscreen text.
     pub silk_text: String,
 }
@@ -429,6 +457,19 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         ));
     }
     let mill_interior = spec.mill_interior.unwrap_or(false);
+    let width_from = match spec.width_from.as_deref() {
+        None | Some("auto") => WidthFrom::Auto,
+        Some("field") => WidthFrom::Field,
+        Some("closed-form") => WidthFrom::ClosedForm,
+        Some(other) => {
+            out.push(FieldError::new(
+                "width_from",
+                format!("\"{other}\""),
+                "must be \"auto\", \"field\" or \"closed-form\"",
+            ));
+            WidthFrom::Auto
+        }
+    };
     if spec.probe.is_empty() {
         out.push(FieldError::new(
             "probe",
@@ -494,6 +535,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                 connector,
                 fab,
                 mill_interior,
+                width_from,
                 silk_text,
             });
         }

@@ -1,8 +1,12 @@
 //! Solved values of a probe: trace widths from the impedance engine and the via pitch window.
 
 use crate::error::{Error, FieldError};
-use crate::model::probe::Probe;
-use crate::solve::impedance::{Line, Solution, SolveLimits, Structure, solve_width};
+use crate::field::{Boundary, Conductor, CrossSection, Dielectric, Fence};
+use crate::model::probe::{Probe, WidthFrom};
+use crate::solve::impedance::{
+    Accuracy, Line, Method, Solution, SolveLimits, Stripline, Structure, solve_width,
+    solve_width_near,
+};
 
 /// Speed of light in vacuum, m/s (exact).
 pub const C0: f64 = 299_792_458.0;
@@ -37,6 +41,92 @@ pub struct SolvedProbe {
     pub feed_offset: f64,
     /// Highest εr next to the trace (sets the shortest wavelength).
     pub er_max: f64,
+    /// The closed form's width for the target, mm, and its solution (ideal stripline).
+    pub closed_form: (f64, Solution),
+    /// Field solution of the loop arm's own cross-section (finite shield, coplanar ground,
+    /// via fences) at the closed-form width, Ω: what the closed form's width really gives.
+    pub arm_z0_at_closed_form: Option<f64>,
+    /// Field solution of the loop arm at the final width, Ω.
+    pub arm_z0: Option<f64>,
+    /// Field solution of the handle's cross-section at the final width, Ω.
+    pub handle_z0: Option<f64>,
+    /// What set the width.
+    pub width_source: WidthFrom,
+}
+
+/// Which of the probe's own cross-sections.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Section {
+    /// Across the loop's arm: the ring's shield width, stitching rows as fences.
+    Arm,
+    /// Across the handle: the handle's shield width, the feed's fences.
+    Handle,
+}
+
+/// The fence offset for a trace of width `w`: w/2 + clearance + pad/2 + web.
+pub fn fence_offset(p: &Probe, w: f64) -> f64 {
+    w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB
+}
+
+/// The 2-D cross-section of the probe's line across its arm or its handle, trace centred: the
+/// two dielectrics around the signal layer between shield planes of the section's width,
+/// coplanar ground at the clearance, the via rows as fences (a solid wall when the posts are
+/// closer than two diameters), the board's edge at the copper-to-edge distance, air beyond.
+pub fn cross_section(
+    p: &Probe,
+    st: &Stripline,
+    w: f64,
+    which: Section,
+    pitch_max: f64,
+    pitch_min: f64,
+) -> CrossSection {
+    let f = fence_offset(p, w);
+    let (half, pitch) = match which {
+        Section::Arm => (f + p.vias.pad / 2.0 + RING_RIM, 0.95 * pitch_max),
+        Section::Handle => (
+            p.handle.width / 2.0,
+            (0.5 * pitch_max).max(pitch_min + 1e-4),
+        ),
+    };
+    let top = st.h2 + st.t + st.h1;
+    let mut layers = vec![Dielectric::new(st.h2, st.er2)];
+    if st.t > 0.0 {
+        layers.push(Dielectric::new(st.t, st.er1));
+    }
+    layers.push(Dielectric::new(st.h1, st.er1));
+    let [left, right] = Conductor::coplanar_pair(
+        0.0,
+        st.h2,
+        w,
+        p.clearance,
+        half - w / 2.0 - p.clearance,
+        st.t,
+    );
+    let mut conductors = vec![
+        Conductor::finite_plane(-half, half, 0.0, 0.0),
+        Conductor::trace(0.0, st.h2, w, st.t, 0.0),
+        Conductor::finite_plane(-half, half, top, 0.0),
+        left,
+        right,
+    ];
+    let d = p.vias.drill;
+    let fences = if pitch >= 2.0 * d {
+        Fence::pair(f, d, pitch, 0.0, top).to_vec()
+    } else {
+        for x in [-f, f] {
+            conductors.push(Conductor::ground(x - d / 2.0, x + d / 2.0, 0.0, top));
+        }
+        Vec::new()
+    };
+    let edge = half + p.fab.copper_to_edge;
+    CrossSection {
+        layers,
+        board: Some([-edge, edge]),
+        conductors,
+        coat: None,
+        fences,
+        boundary: Boundary::Open,
+    }
 }
 
 /// Solves a probe's trace width and via pitch window.
@@ -60,7 +150,6 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             ),
         )])
     })?;
-    let w = line.width();
     let er_max = match line {
         Line::Stripline(s) => s.er1.max(s.er2),
         _ => 4.5,
@@ -84,6 +173,67 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             ),
         ));
     }
+    // The field solution of the probe's own cross-section: check the closed form's width, and
+    // set the width when the spec says so (auto: when they differ by more than 1 %).
+    let closed_form = (line.width(), solution.clone());
+    let Line::Stripline(st) = line else {
+        unreachable!("line_for_layer(Stripline) gives a stripline")
+    };
+    let field_z = |w: f64, which: Section| -> Result<f64, Error> {
+        let cs = cross_section(p, &st, w, which, pitch_max, pitch_min.min(pitch_max));
+        crate::field::solve(&cs, Accuracy::default()).map(|s| s.z0_ohms)
+    };
+    let field_err = |e: Error| {
+        Error::Invalid(vec![FieldError::new(
+            "width_from",
+            p.width_from.name(),
+            format!("the field solution of the probe's cross-section failed: {e}"),
+        )])
+    };
+    let arm_cf = field_z(closed_form.0, Section::Arm).map_err(field_err)?;
+    let differs = (solution.z0 / arm_cf - 1.0).abs() > WidthFrom::AUTO_THRESHOLD;
+    let use_field = match p.width_from {
+        WidthFrom::Field => true,
+        WidthFrom::ClosedForm => false,
+        WidthFrom::Auto => differs,
+    };
+    let (w, solution, width_source) = if use_field {
+        let w = solve_width_near(|w| field_z(w, Section::Arm), closed_form.0, p.target_z0)
+            .map_err(field_err)?;
+        let z = field_z(w, Section::Arm).map_err(field_err)?;
+        let sol = Solution {
+            z0: z,
+            eps_eff: solution.eps_eff,
+            method: Method::Field,
+            warnings: vec![crate::solve::impedance::Warning::note(format!(
+                "width from the 2-D field solution of the loop arm's own cross-section; the \
+                 {} closed form for ideal stripline gives w = {:.4} mm, which would be {:.2} Ω \
+                 here ({:+.1} %)",
+                closed_form.1.method,
+                closed_form.0,
+                arm_cf,
+                (arm_cf / p.target_z0 - 1.0) * 100.0
+            ))],
+        };
+        (w, sol, WidthFrom::Field)
+    } else {
+        (closed_form.0, solution, WidthFrom::ClosedForm)
+    };
+    if w < p.fab.min_trace {
+        errs.push(FieldError::new(
+            "target_z0_ohms",
+            p.target_z0,
+            format!(
+                "solves to a trace width of {w:.4} mm on the probe's own cross-section, below \
+                 the fab minimum trace of {} mm",
+                p.fab.min_trace
+            ),
+        ));
+    }
+    let arm_z0 = Some(if use_field { solution.z0 } else { arm_cf });
+    let handle_z0 = field_z(w, Section::Handle).ok();
+    let line = Line::Stripline(Stripline { width: w, ..st });
+
     // The top-layer link: grounded CPW on layer 1 with the probe's clearance.
     let top_template = p
         .stackup
@@ -95,7 +245,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         ),
         Err(_) => (p.connector.centre_pad_width, f64::NAN),
     };
-    let fence_offset = w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB;
+    let fence_offset = fence_offset(p, w);
     let ring_half_width = fence_offset + p.vias.pad / 2.0 + RING_RIM;
     let feed_offset = fence_offset / 2.0;
     // The ring must leave an opening inside the loop.
@@ -136,5 +286,10 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         ring_half_width,
         feed_offset,
         er_max,
+        closed_form,
+        arm_z0_at_closed_form: Some(arm_cf),
+        arm_z0,
+        handle_z0,
+        width_source,
     })
 }

@@ -30,6 +30,9 @@ pub struct ProbeFileSpec {
     pub fab: Option<FabSpec>,
     /// Mill out the laminate inside the loop (default false: keep it).
     pub mill_interior: Option<bool>,
+    /// What sets the trace width: `auto` (the field solution of the probe's own cross-section
+    /// when it differs from the closed form by more than 1 %), `field` or `closed-form`.
+    pub width_from: Option<String>,
     /// The loops.
     #[serde(default)]
     pub probe: Vec<LoopSpec>,
