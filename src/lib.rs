@@ -17,6 +17,7 @@ pub mod error;
 pub mod field;
 pub mod geom;
 pub mod model;
+pub mod physics;
 pub mod pipeline;
 pub mod solve;
 pub mod spec;

@@ -660,3 +660,38 @@ fn field_method_for_every_structure() {
         &["accuracy", "'extreme'", "draft, standard, fine"],
     );
 }
+
+#[test]
+fn predict_json_has_the_documented_keys() {
+    let spec = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/data/demo/fenwick-marsh-probes.toml"
+    );
+    let v = json(&["predict", spec, "--json"]);
+    let probes = v["probes"].as_array().unwrap();
+    assert_eq!(probes.len(), 4);
+    for p in probes {
+        for k in ["name", "shape"] {
+            assert!(p[k].is_string(), "{k}");
+        }
+        for k in [
+            "loop_area_mm2",
+            "inductance_nh",
+            "corner_hz",
+            "upper_hz",
+            "resolution_mm",
+            "resolution_height_mm",
+        ] {
+            assert!(p[k].as_f64().unwrap() > 0.0, "{k}");
+        }
+        let pf = p["probe_factor"].as_array().unwrap();
+        assert!(pf.len() > 10);
+        assert!(pf[0]["freq_hz"].as_f64().unwrap() > 0.0);
+        assert!(pf[0]["db_s_per_m"].is_number());
+    }
+    refused(&["predict", spec, "--height", "-2"], &["--height", "-2"]);
+    refused(
+        &["predict", spec, "--f-min", "1e9", "--f-max", "1e8"],
+        &["--f-max", "empty"],
+    );
+}

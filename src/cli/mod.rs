@@ -5,6 +5,7 @@ mod build;
 mod demo;
 pub use demo::{DEMO_SPEC, DEMO_SPEC_NAME};
 mod impedance;
+pub mod predict;
 mod stackups;
 
 use crate::error::Error;
@@ -43,6 +44,8 @@ pub enum Command {
     Build(build::BuildArgs),
     /// Build the built-in demo family into a folder.
     Demo(demo::DemoArgs),
+    /// Predict what each probe of a spec measures: inductance, probe factor, band, resolution.
+    Predict(predict::PredictArgs),
     /// List the built-in stackups, or print one as a TOML file to start from.
     Stackups(stackups::StackupsArgs),
 }
@@ -53,6 +56,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Impedance(a) => impedance::run(&a),
         Command::Build(a) => build::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Predict(a) => predict::run(&a),
         Command::Stackups(a) => stackups::run(&a),
     }
 }

@@ -1,0 +1,211 @@
+//! `loopwright predict`: what each probe of a spec will measure.
+
+use crate::error::Error;
+use crate::model::probe::{Probe, family_from_spec};
+use crate::physics::{PredictOptions, Response, predict, probe_factor_at};
+use crate::solve::probe::{SolvedProbe, solve};
+use crate::spec::parse_toml;
+use crate::spec::probe::ProbeFileSpec;
+use serde_json::{Value, json};
+use std::path::{Path, PathBuf};
+
+/// Arguments of `loopwright predict`.
+#[derive(Debug, clap::Args)]
+#[command(allow_negative_numbers = true)]
+pub struct PredictArgs {
+    /// The probe or family spec (TOML).
+    pub spec: PathBuf,
+    /// Height of the probe's tip above the scanned trace, mm (resolution and coupling).
+    #[arg(long, value_name = "MM", default_value_t = PredictOptions::default().height_mm)]
+    pub height: f64,
+    /// Height of the scanned trace above its ground plane, mm.
+    #[arg(long = "trace-h", value_name = "MM", default_value_t = PredictOptions::default().trace_h_mm)]
+    pub trace_h: f64,
+    /// Lowest frequency of the probe-factor table, Hz (default: a decade below the corner).
+    #[arg(long = "f-min", value_name = "HZ")]
+    pub f_min: Option<f64>,
+    /// Highest frequency, Hz (default: the upper usable frequency).
+    #[arg(long = "f-max", value_name = "HZ")]
+    pub f_max: Option<f64>,
+    /// Print `{"probes": [...]}` as JSON instead of the tables.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// The modelling assumptions, stated with every prediction.
+pub const ASSUMPTIONS: [&str; 6] = [
+    "quasi-static: the loop is electrically small below the upper usable frequency",
+    "probe factor referred to the area-average field normal to the loop (over the trace \
+     centreline's area), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
+    "outer-loop inductance: regularised Neumann integral of the centreline with the GMD \
+     0.2235·(ring width + board thickness) of the shield's cross-section (an engineering estimate)",
+    "inner line: a shorted stub from the gap to the short (half the turn) and a matched line to \
+     the output; no gap capacitance, no radiation, no losses",
+    "coupling and resolution: a thin trace over a perfect plane (image theory), loop plane \
+     vertical and containing the trace's axis, tip at the stated height",
+    "near-field readings locate and rank sources; they do not predict a compliance result",
+];
+
+/// A probe with its solved values and prediction.
+pub struct Predicted {
+    /// The probe.
+    pub probe: Probe,
+    /// Its solved values.
+    pub solved: SolvedProbe,
+    /// Its response.
+    pub response: Response,
+}
+
+/// Loads a spec and predicts every probe.
+pub fn predict_spec(
+    spec: &ProbeFileSpec,
+    base: &Path,
+    o: &PredictOptions,
+) -> Result<Vec<Predicted>, Error> {
+    let errs = o.validate();
+    if !errs.is_empty() {
+        return Err(Error::Invalid(
+            errs.into_iter()
+                .map(|mut e| {
+                    e.field = format!("--{}", e.field);
+                    e
+                })
+                .collect(),
+        ));
+    }
+    let family = family_from_spec(spec, base)?;
+    let mut out = Vec::new();
+    for p in family.probes {
+        let solved = solve(&p)?;
+        let response = predict(&p, &solved, o)?;
+        out.push(Predicted {
+            probe: p,
+            solved,
+            response,
+        });
+    }
+    Ok(out)
+}
+
+/// The JSON object of one probe.
+pub fn probe_json(x: &Predicted) -> Value {
+    let r = &x.response;
+    let pf_at = |f: f64| probe_factor_at(&x.probe, &x.solved, r, f);
+    json!({
+        "name": x.probe.name,
+        "shape": x.probe.shape.kind(),
+        "size": x.probe.shape.size_text(),
+        "loop_area_mm2": r.area_m2 * 1e6,
+        "inductance_nh": r.l_total * 1e9,
+        "outer_inductance_nh": r.l_outer * 1e9,
+        "stub_inductance_nh": r.l_stub * 1e9,
+        "gmd_mm": r.gmd_m * 1e3,
+        "corner_hz": r.corner_hz,
+        "upper_hz": r.upper_hz,
+        "upper_rule": r.upper_rule,
+        "f_small_loop_hz": r.f_small_loop_hz,
+        "f_null_hz": r.f_null_hz,
+        "resolution_mm": r.resolution_m * 1e3,
+        "resolution_height_mm": r.options.height_mm,
+        "trace_height_mm": r.options.trace_h_mm,
+        "mutual_nh": r.mutual * 1e9,
+        "field_reference": "area-average H normal to the loop, into 50 Ω",
+        "pf_10mhz_db_s_per_m": pf_at(10e6),
+        "pf_100mhz_db_s_per_m": pf_at(100e6),
+        "pf_1ghz_db_s_per_m": pf_at(1e9),
+        "probe_factor": r.probe_factor.iter().map(|(f, d)| json!({"freq_hz": f, "db_s_per_m": d})).collect::<Vec<_>>(),
+        "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
+    })
+}
+
+/// The human-readable tables.
+pub fn tables(all: &[Predicted]) -> String {
+    let mut o = String::new();
+    for x in all {
+        let r = &x.response;
+        o.push_str(&format!(
+            "{} — {} loop, {}\n",
+            x.probe.name,
+            x.probe.shape.kind(),
+            x.probe.shape.size_text()
+        ));
+        let line = |o: &mut String, k: &str, v: String| o.push_str(&format!("  {k:<22} {v}\n"));
+        line(&mut o, "loop area", format!("{:.2} mm²", r.area_m2 * 1e6));
+        line(
+            &mut o,
+            "inductance",
+            format!(
+                "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH)",
+                r.l_total * 1e9,
+                r.l_outer * 1e9,
+                r.l_stub * 1e9
+            ),
+        );
+        line(
+            &mut o,
+            "low-frequency corner",
+            format!("{:.1} MHz", r.corner_hz / 1e6),
+        );
+        line(
+            &mut o,
+            "upper usable frequency",
+            format!("{:.0} MHz ({})", r.upper_hz / 1e6, r.upper_rule),
+        );
+        line(
+            &mut o,
+            "resolution (−6 dB)",
+            format!(
+                "{:.2} mm across a trace {} mm over its plane, tip {} mm above it",
+                r.resolution_m * 1e3,
+                r.options.trace_h_mm,
+                r.options.height_mm
+            ),
+        );
+        line(
+            &mut o,
+            "mutual to the trace",
+            format!("{:.3} nH", r.mutual * 1e9),
+        );
+        o.push_str("  probe factor (dB(S/m), area-average H, 50 Ω):\n");
+        let step = (r.probe_factor.len() / 10).max(1);
+        for (i, (f, d)) in r.probe_factor.iter().enumerate() {
+            if i % step == 0 || i + 1 == r.probe_factor.len() {
+                o.push_str(&format!("    {:>12.4} MHz  {:>7.2}\n", f / 1e6, d));
+            }
+        }
+        o.push('\n');
+    }
+    o.push_str("Assumptions:\n");
+    for a in ASSUMPTIONS {
+        o.push_str(&format!("  - {a}\n"));
+    }
+    o.push_str(&format!("\n{}\n", super::CAUTIONS));
+    o
+}
+
+pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
+    let text = std::fs::read_to_string(&a.spec).map_err(|e| Error::Io {
+        path: a.spec.display().to_string(),
+        source: e,
+    })?;
+    let spec: ProbeFileSpec = parse_toml(&text, &a.spec.display().to_string())?;
+    let o = PredictOptions {
+        height_mm: a.height,
+        trace_h_mm: a.trace_h,
+        f_min_hz: a.f_min,
+        f_max_hz: a.f_max,
+        ..PredictOptions::default()
+    };
+    let all = predict_spec(&spec, a.spec.parent().unwrap_or(Path::new(".")), &o)?;
+    if a.json {
+        let v = json!({
+            "probes": all.iter().map(probe_json).collect::<Vec<_>>(),
+            "assumptions": ASSUMPTIONS,
+            "cautions": super::CAUTIONS,
+        });
+        println!("{}", serde_json::to_string_pretty(&v).expect("plain JSON"));
+    } else {
+        print!("{}", tables(&all));
+    }
+    Ok(())
+}
