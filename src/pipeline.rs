@@ -24,6 +24,8 @@ pub struct BuiltProbe {
     pub artwork: Artwork,
     /// Design-rule violations (empty unless forced).
     pub violations: Vec<Violation>,
+    /// Predicted response at the default prediction options.
+    pub response: crate::physics::Response,
     /// Its files: (name inside the probe's folder, content).
     pub files: Vec<(String, Vec<u8>)>,
 }
@@ -40,6 +42,7 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
             violations: violations.iter().map(|v| v.to_string()).collect(),
         });
     }
+    let response = crate::physics::predict(p, &solved, &crate::physics::PredictOptions::default())?;
     let base = &p.folder;
     let same = format!("loopwright-{base}");
     let gerbers: Vec<(String, String)> = emit::gerber::all(&artwork, &same)
@@ -95,11 +98,20 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
         format!("{base}-legend-bottom.svg"),
         emit::svg::legend_layer(&artwork, &artwork.silk_bottom, "legend-bottom").into_bytes(),
     ));
+    files.push((
+        format!("{base}-response.svg"),
+        emit::plot::probe_factor_plot(
+            &format!("{} probe factor (area-average H, 50 Ω)", p.name),
+            &[(p.name.as_str(), emit::report::COLOURS[0], &response)],
+        )
+        .into_bytes(),
+    ));
     files.push((format!("{base}.toml"), spec_copy.as_bytes().to_vec()));
     let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
     let notes_name = format!("{base}-fab-notes.md");
     names.push(notes_name.clone());
-    let notes = emit::notes::notes(p, &solved, &board, &artwork, &names, &violations);
+    let mut notes = emit::notes::notes(p, &solved, &board, &artwork, &names, &violations);
+    notes.push_str(&emit::notes::predictions(p, &solved, &response));
     files.push((notes_name, notes.into_bytes()));
     Ok(BuiltProbe {
         probe: p.clone(),
@@ -107,6 +119,7 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
         board,
         artwork,
         violations,
+        response,
         files,
     })
 }
@@ -259,8 +272,22 @@ pub fn summary(family: &Family, built: &[BuiltProbe]) -> String {
             }
         ));
     }
+    o.push_str("\n## Predicted response\n\n");
+    o.push_str(&crate::emit::report::comparison_markdown(&predicted(built)));
     o.push_str(&format!("\n{}\n", crate::cli::CAUTIONS));
     o
+}
+
+/// The predictions of built probes, for the report and the summary.
+pub fn predicted(built: &[BuiltProbe]) -> Vec<crate::cli::predict::Predicted> {
+    built
+        .iter()
+        .map(|b| crate::cli::predict::Predicted {
+            probe: b.probe.clone(),
+            solved: b.solved.clone(),
+            response: b.response.clone(),
+        })
+        .collect()
 }
 
 /// Builds a spec and writes its family under `out`; returns what was built.
@@ -289,6 +316,20 @@ pub fn build_to_dir(
     entries.push((
         PathBuf::from(format!("{fam}-summary.md")),
         summary(&family, &built).into_bytes(),
+    ));
+    let previews: Vec<String> = built
+        .iter()
+        .map(|b| {
+            b.files
+                .iter()
+                .find(|(n, _)| *n == format!("{}.svg", b.probe.folder))
+                .map(|(_, t)| String::from_utf8_lossy(t).to_string())
+                .unwrap_or_default()
+        })
+        .collect();
+    entries.push((
+        PathBuf::from(format!("{fam}-report.html")),
+        crate::emit::report::html(&family.name, &predicted(&built), &previews).into_bytes(),
     ));
     write_atomically(out, &entries)?;
     Ok((family, built))

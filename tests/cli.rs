@@ -695,3 +695,32 @@ fn predict_json_has_the_documented_keys() {
         &["--f-max", "empty"],
     );
 }
+
+// The family report carries the same numbers as `predict --json` (its embedded data is
+// compared value for value), and the summary and report are written beside the probes.
+#[test]
+fn report_numbers_equal_predict_json() {
+    let dir = std::env::temp_dir().join(format!("loopwright-report-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let o = run(&["demo", "--out", dir.to_str().unwrap()]);
+    assert!(o.status.success());
+    let html = std::fs::read_to_string(dir.join("fenwick-marsh-probes-report.html")).unwrap();
+    let start = html.find("id=\"predictions\">").unwrap() + "id=\"predictions\">".len();
+    let end = start + html[start..].find("</script>").unwrap();
+    let embedded: serde_json::Value =
+        serde_json::from_str(&html[start..end].replace("<\\/", "</")).unwrap();
+    let spec = dir.join("fenwick-marsh-probes.toml");
+    let predicted = json(&["predict", spec.to_str().unwrap(), "--json"]);
+    assert_eq!(embedded["probes"], predicted["probes"]);
+    // The table shows them rounded: the 10 mm loop's corner, as printed by predict.
+    let r10 = &predicted["probes"][1];
+    let corner = format!("{:.1}", r10["corner_hz"].as_f64().unwrap() / 1e6);
+    assert!(html.contains(&format!("<td>{corner}</td>")), "{corner}");
+    assert!(html.contains("SAFETY") && html.contains("area-average"));
+    for p in ["FM-R20", "FM-R10", "FM-R5", "FM-T12x6"] {
+        assert!(dir.join(p).join(format!("{p}-response.svg")).is_file());
+        let notes = std::fs::read_to_string(dir.join(p).join(format!("{p}-fab-notes.md"))).unwrap();
+        assert!(notes.contains("## Predicted response"));
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+}

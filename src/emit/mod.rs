@@ -5,4 +5,6 @@ pub mod excellon;
 pub mod gerber;
 pub mod job;
 pub mod notes;
+pub mod plot;
+pub mod report;
 pub mod svg;

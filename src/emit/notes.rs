@@ -240,3 +240,51 @@ pub fn notes(
     let _ = writeln!(o, "\n## Cautions\n\n{CAUTIONS}");
     o
 }
+
+/// The fab notes' section on the predicted response.
+pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> String {
+    let mut o = String::from("\n## Predicted response\n\n");
+    let pf = |f: f64| crate::physics::probe_factor_at(p, s, r, f);
+    let _ = writeln!(
+        o,
+        "- Loop area {:.2} mm²; inductance {:.2} nH (outer loop {:.2} nH, inner stub {:.2} nH).",
+        r.area_m2 * 1e6,
+        r.l_total * 1e9,
+        r.l_outer * 1e9,
+        r.l_stub * 1e9
+    );
+    let _ = writeln!(
+        o,
+        "- Low-frequency corner {:.1} MHz; upper usable frequency {:.0} MHz ({}).",
+        r.corner_hz / 1e6,
+        r.upper_hz / 1e6,
+        r.upper_rule
+    );
+    let _ = writeln!(
+        o,
+        "- Probe factor (area-average H, 50 Ω): {:.2} dB(S/m) at 10 MHz, {:.2} at 100 MHz, {:.2} at \
+         1 GHz{}. H[dBµA/m] = V[dBµV] + PF.",
+        pf(10e6),
+        pf(100e6),
+        pf(1e9),
+        if r.upper_hz < 1e9 {
+            " (1 GHz is above the usable band)"
+        } else {
+            ""
+        }
+    );
+    let _ = writeln!(
+        o,
+        "- Resolution: {:.2} mm (−6 dB full width) across a trace {} mm over its plane, tip {} mm \
+         above it; mutual inductance to that trace {:.3} nH.",
+        r.resolution_m * 1e3,
+        r.options.trace_h_mm,
+        r.options.height_mm,
+        r.mutual * 1e9
+    );
+    let _ = writeln!(o, "- Assumptions:");
+    for a in crate::cli::predict::ASSUMPTIONS {
+        let _ = writeln!(o, "  - {a}");
+    }
+    o
+}

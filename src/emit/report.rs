@@ -1,0 +1,214 @@
+//! The family report: one self-contained HTML file (no external resources) with the board
+//! previews, a drawing of the stackup's cross-section, the response plots, the comparison
+//! table, the modelling assumptions and the cautions.
+
+use super::plot::xml;
+use crate::cli::CAUTIONS;
+use crate::cli::predict::{ASSUMPTIONS, Predicted, probe_json};
+use crate::model::stackup::{Layer, Stackup};
+use std::fmt::Write;
+
+/// Curve colours (our own palette).
+pub const COLOURS: [&str; 8] = [
+    "#c8553d", "#3a7ca5", "#4f9d69", "#8e6bbf", "#d9a521", "#b5651d", "#2a9d8f", "#6c757d",
+];
+
+/// A drawing of the stackup's cross-section, thicknesses to scale (thin layers drawn at a
+/// minimum height so they stay visible), with each layer's role for the probe.
+pub fn stackup_svg(st: &Stackup, signal_layer: usize) -> String {
+    let total: f64 = st.thickness_mm();
+    let (w, h) = (560.0, 260.0);
+    let (x0, bar) = (20.0, 240.0);
+    let scale = (h - 40.0) / total;
+    let mut rows = Vec::new();
+    let mut n = 0;
+    for l in st.layers() {
+        match l {
+            Layer::Copper(c) => {
+                n += 1;
+                let role = if n == signal_layer {
+                    "loop trace"
+                } else {
+                    "shield"
+                };
+                rows.push((
+                    c.thickness_mm,
+                    format!("L{n} copper {:.4} mm ({role})", c.thickness_mm),
+                    "#c8553d",
+                ));
+            }
+            Layer::Dielectric(d) => rows.push((
+                d.thickness_mm,
+                format!("{} {:.3} mm, εr {:.2}", d.name, d.thickness_mm, d.er),
+                "#d8cfa0",
+            )),
+        }
+    }
+    let mut s = String::new();
+    let _ = write!(
+        s,
+        r#"<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w} {h}" width="{w}" height="{h}" font-family="sans-serif" font-size="12" class="stackup-drawing">"#
+    );
+    let _ = write!(s, r##"<rect width="{w}" height="{h}" fill="#ffffff"/>"##);
+    let mut y = 20.0;
+    for (t, label, colour) in rows {
+        let hh = (t * scale).max(4.0);
+        let _ = write!(
+            s,
+            r##"<rect x="{x0}" y="{y:.1}" width="{bar}" height="{hh:.1}" fill="{colour}" stroke="#555" stroke-width="0.5"/>"##
+        );
+        let _ = write!(
+            s,
+            r#"<text x="{}" y="{:.1}">{}</text>"#,
+            x0 + bar + 12.0,
+            y + hh / 2.0 + 4.0,
+            xml(&label)
+        );
+        y += hh;
+    }
+    s.push_str("</svg>");
+    s
+}
+
+fn num(v: f64, d: usize) -> String {
+    format!("{v:.d$}")
+}
+
+/// The comparison table of a family (Markdown), from the predictions.
+pub fn comparison_markdown(all: &[Predicted]) -> String {
+    let mut o = String::from(
+        "| probe | shape | size | L (nH) | corner (MHz) | upper (MHz) | PF 10 MHz | PF 100 MHz | PF 1 GHz | resolution (mm) |\n|---|---|---|---|---|---|---|---|---|---|\n",
+    );
+    for x in all {
+        let j = probe_json(x);
+        let _ = writeln!(
+            o,
+            "| {} | {} | {} | {} | {} | {} | {} | {} | {} | {} |",
+            x.probe.name,
+            x.probe.shape.kind(),
+            x.probe.shape.size_text(),
+            num(j["inductance_nh"].as_f64().unwrap(), 2),
+            num(j["corner_hz"].as_f64().unwrap() / 1e6, 1),
+            num(j["upper_hz"].as_f64().unwrap() / 1e6, 0),
+            num(j["pf_10mhz_db_s_per_m"].as_f64().unwrap(), 2),
+            num(j["pf_100mhz_db_s_per_m"].as_f64().unwrap(), 2),
+            num(j["pf_1ghz_db_s_per_m"].as_f64().unwrap(), 2),
+            num(j["resolution_mm"].as_f64().unwrap(), 2),
+        );
+    }
+    o.push_str(
+        "\nPF in dB(S/m), area-average field into 50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a \
+         probe's upper usable frequency are shown for comparison only. Resolution: −6 dB full \
+         width across a trace, at the stated height.\n",
+    );
+    o
+}
+
+/// The HTML report. `previews` are the probes' composited SVG previews, in the same order.
+pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
+    let mut o = String::new();
+    let _ = write!(
+        o,
+        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>{t} — probe family report</title>\n<style>\
+         body{{font-family:sans-serif;margin:24px;max-width:1100px;color:#222}}\
+         table{{border-collapse:collapse}}td,th{{border:1px solid #bbb;padding:4px 8px;text-align:right}}\
+         th{{background:#eee}}td:first-child,td:nth-child(2),td:nth-child(3){{text-align:left}}\
+         .caution{{border:2px solid #b00;padding:8px 12px;background:#fff4f4}}\
+         .probe{{display:flex;gap:24px;align-items:flex-start;margin:16px 0;border-top:1px solid #ccc;padding-top:12px}}\
+         .preview svg{{width:260px;height:auto}}</style></head><body>\n",
+        t = xml(family)
+    );
+    let _ = writeln!(o, "<h1>{} — probe family report</h1>", xml(family));
+    let _ = writeln!(o, "<p class=\"caution\">{}</p>", xml(CAUTIONS));
+    o.push_str("<h2>Comparison</h2>\n<table id=\"comparison\"><tr><th>probe</th><th>shape</th><th>size</th><th>L (nH)</th><th>corner (MHz)</th><th>upper (MHz)</th><th>PF 10 MHz</th><th>PF 100 MHz</th><th>PF 1 GHz</th><th>resolution (mm)</th></tr>\n");
+    for x in all {
+        let j = probe_json(x);
+        let _ = writeln!(
+            o,
+            "<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>",
+            xml(&x.probe.name),
+            x.probe.shape.kind(),
+            xml(&x.probe.shape.size_text()),
+            num(j["inductance_nh"].as_f64().unwrap(), 2),
+            num(j["corner_hz"].as_f64().unwrap() / 1e6, 1),
+            num(j["upper_hz"].as_f64().unwrap() / 1e6, 0),
+            num(j["pf_10mhz_db_s_per_m"].as_f64().unwrap(), 2),
+            num(j["pf_100mhz_db_s_per_m"].as_f64().unwrap(), 2),
+            num(j["pf_1ghz_db_s_per_m"].as_f64().unwrap(), 2),
+            num(j["resolution_mm"].as_f64().unwrap(), 2),
+        );
+    }
+    o.push_str("</table>\n<p>PF in dB(S/m), area-average field normal to the loop, into 50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a probe's upper usable frequency are for comparison only.</p>\n");
+    if let Some(first) = all.first() {
+        let curves: Vec<(&str, &str, &crate::physics::Response)> = all
+            .iter()
+            .enumerate()
+            .map(|(i, x)| {
+                (
+                    x.probe.name.as_str(),
+                    COLOURS[i % COLOURS.len()],
+                    &x.response,
+                )
+            })
+            .collect();
+        let _ = writeln!(
+            o,
+            "<h2>Probe factors</h2>\n<div class=\"plot\">{}</div>",
+            super::plot::probe_factor_plot("Probe factor of the family", &curves)
+        );
+        let _ = writeln!(
+            o,
+            "<h2>Stackup</h2>\n<div class=\"stackup\">{}</div>",
+            stackup_svg(&first.probe.stackup, first.probe.signal_layer)
+        );
+    }
+    o.push_str("<h2>Probes</h2>\n");
+    for (i, x) in all.iter().enumerate() {
+        let r = &x.response;
+        let _ = writeln!(
+            o,
+            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Inductance {:.2} nH (outer {:.2} + stub {:.2}); corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
+            previews.get(i).map(String::as_str).unwrap_or(""),
+            xml(&x.probe.name),
+            x.probe.shape.kind(),
+            xml(&x.probe.shape.size_text()),
+            x.solved.trace_width,
+            x.probe.target_z0,
+            r.l_total * 1e9,
+            r.l_outer * 1e9,
+            r.l_stub * 1e9,
+            r.corner_hz / 1e6,
+            r.upper_hz / 1e6,
+            xml(r.upper_rule),
+            r.resolution_m * 1e3,
+            r.options.trace_h_mm,
+            r.options.height_mm,
+            r.mutual * 1e9,
+            super::plot::probe_factor_plot(
+                &format!("{} probe factor", x.probe.name),
+                &[(x.probe.name.as_str(), COLOURS[i % COLOURS.len()], r)]
+            )
+        );
+    }
+    o.push_str("<h2>Modelling assumptions</h2>\n<ul>\n");
+    for a in ASSUMPTIONS {
+        let _ = writeln!(o, "<li>{}</li>", xml(a));
+    }
+    o.push_str("</ul>\n");
+    let data = serde_json::json!({ "probes": all.iter().map(probe_json).collect::<Vec<_>>() });
+    let _ = writeln!(
+        o,
+        "<script type=\"application/json\" id=\"predictions\">{}</script>",
+        serde_json::to_string(&data)
+            .expect("plain JSON")
+            .replace("</", "<\\/")
+    );
+    // After load, record how many previews, plots and drawings have a rendered size, so a
+    // headless browser's DOM shows what was really drawn.
+    o.push_str(
+        "<script>window.addEventListener('load',function(){function n(s){var c=0;document.querySelectorAll(s).forEach(function(e){var r=e.getBoundingClientRect();if(r.width>10&&r.height>10){c++;}});return c;}\
+         document.body.setAttribute('data-rendered','previews='+n('.preview svg')+' plots='+n('.plot svg')+' stackup='+n('.stackup svg'));});</script>\n",
+    );
+    o.push_str("</body></html>\n");
+    o
+}
