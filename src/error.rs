@@ -70,6 +70,8 @@ pub fn check_range(out: &mut Vec<FieldError>, field: &str, value: f64, min: f64,
 pub fn fmt_num(v: f64) -> String {
     if v.is_nan() {
         "NaN".to_string()
+    } else if v != 0.0 && v.is_finite() && !(1e-4..1e7).contains(&v.abs()) {
+        format!("{v:e}")
     } else {
         format!("{v}")
     }

@@ -9,7 +9,13 @@ use std::process::ExitCode;
 fn main() -> ExitCode {
     let cli = loopwright::cli::Cli::parse();
     match loopwright::cli::run(cli) {
-        Ok(()) => ExitCode::SUCCESS,
+        Ok(()) => match loopwright::cli::stdout_error() {
+            None => ExitCode::SUCCESS,
+            Some(e) => {
+                eprintln!("loopwright: error: cannot write the output: {e}");
+                ExitCode::from(2)
+            }
+        },
         Err(e) => {
             for line in e.to_string().lines() {
                 eprintln!("loopwright: error: {line}");

@@ -213,7 +213,8 @@ pub fn write_atomically(out: &Path, entries: &[(PathBuf, Vec<u8>)]) -> Result<()
             std::fs::rename(&tmp, out).map_err(io(out))?;
             return Ok(());
         }
-        // Replace the entries we own, leave anything else in `out` alone.
+        // Replace the entries we own, leave anything else in `out` alone. A folder in the way
+        // that is not an earlier loopwright output is never replaced.
         let mut tops: Vec<PathBuf> = entries
             .iter()
             .filter_map(|(rel, _)| {
@@ -224,14 +225,53 @@ pub fn write_atomically(out: &Path, entries: &[(PathBuf, Vec<u8>)]) -> Result<()
             .collect();
         tops.sort();
         tops.dedup();
-        for top in tops {
-            let dest = out.join(&top);
-            if dest.is_dir() {
-                std::fs::remove_dir_all(&dest).map_err(io(&dest))?;
-            } else if dest.exists() {
-                std::fs::remove_file(&dest).map_err(io(&dest))?;
+        for top in &tops {
+            let dest = out.join(top);
+            let new_is_dir = tmp.join(top).is_dir();
+            if dest.exists()
+                && (new_is_dir != dest.is_dir() || (new_is_dir && !is_our_folder(&dest)))
+            {
+                return Err(Error::Io {
+                    path: dest.display().to_string(),
+                    source: std::io::Error::new(
+                        std::io::ErrorKind::AlreadyExists,
+                        "is in the way and is not an earlier loopwright output; remove it or \
+                         choose another --out (nothing was written)",
+                    ),
+                });
             }
-            std::fs::rename(tmp.join(&top), &dest).map_err(io(&dest))?;
+        }
+        // Move the old entries aside, put the new ones in place; on any failure put the old
+        // ones back.
+        let old = tmp.join(".previous");
+        std::fs::create_dir_all(&old).map_err(io(&old))?;
+        let mut moved_aside: Vec<PathBuf> = Vec::new();
+        let mut placed: Vec<PathBuf> = Vec::new();
+        let mut step = || -> Result<(), Error> {
+            for top in &tops {
+                let dest = out.join(top);
+                if dest.exists() {
+                    std::fs::rename(&dest, old.join(top)).map_err(io(&dest))?;
+                    moved_aside.push(top.clone());
+                }
+                std::fs::rename(tmp.join(top), &dest).map_err(io(&dest))?;
+                placed.push(top.clone());
+            }
+            Ok(())
+        };
+        if let Err(e) = step() {
+            for top in &placed {
+                let dest = out.join(top);
+                let _ = if dest.is_dir() {
+                    std::fs::remove_dir_all(&dest)
+                } else {
+                    std::fs::remove_file(&dest)
+                };
+            }
+            for top in &moved_aside {
+                let _ = std::fs::rename(old.join(top), out.join(top));
+            }
+            return Err(e);
         }
         std::fs::remove_dir_all(&tmp).map_err(io(&tmp))?;
         Ok(())
@@ -240,6 +280,16 @@ pub fn write_atomically(out: &Path, entries: &[(PathBuf, Vec<u8>)]) -> Result<()
         let _ = std::fs::remove_dir_all(&tmp);
     }
     result
+}
+
+/// True when `dir` holds an earlier loopwright probe output (its fab notes).
+fn is_our_folder(dir: &Path) -> bool {
+    std::fs::read_dir(dir)
+        .map(|rd| {
+            rd.flatten()
+                .any(|e| e.file_name().to_string_lossy().ends_with("-fab-notes.md"))
+        })
+        .unwrap_or(false)
 }
 
 /// The family summary (Markdown) written at the top of the output folder.

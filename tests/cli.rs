@@ -267,7 +267,7 @@ fn bad_numbers_are_refused_naming_field_value_and_range() {
             "--width",
             "0.3",
         ],
-        &["--h", "= 0", "greater than 0"],
+        &["--h", "= 0", "from 0.0001 to 1000"],
     );
     refused(
         &[
@@ -281,7 +281,7 @@ fn bad_numbers_are_refused_naming_field_value_and_range() {
             "--width",
             "-1",
         ],
-        &["--width", "-1", "greater than 0"],
+        &["--width", "-1", "from 0.0001 to 1000"],
     );
     // Every problem at once.
     refused(
@@ -376,7 +376,7 @@ fn unreachable_target_is_refused() {
             "--h2",
             "0.1",
         ],
-        &["below the fab minimum trace", "0.1 mm"],
+        &["below the fab minimum trace", "0.127 mm"],
     );
 }
 
@@ -723,4 +723,45 @@ fn report_numbers_equal_predict_json() {
         assert!(notes.contains("## Predicted response"));
     }
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+// Output into a closed pipe ends quietly; an unwritable stdout is an error (exit 2), never a
+// panic.
+#[test]
+fn stdout_trouble_is_not_a_panic() {
+    use std::io::Read;
+    let spec = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/data/demo/fenwick-marsh-probes.toml"
+    );
+    let mut child = Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .args(["predict", spec])
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    drop(child.stdout.take());
+    let status = child.wait().unwrap();
+    let mut err = String::new();
+    child
+        .stderr
+        .take()
+        .unwrap()
+        .read_to_string(&mut err)
+        .unwrap();
+    assert!(!err.contains("panicked"), "{err}");
+    assert_eq!(status.code(), Some(0), "{err}");
+    if std::path::Path::new("/dev/full").exists() {
+        let full = std::fs::OpenOptions::new()
+            .write(true)
+            .open("/dev/full")
+            .unwrap();
+        let o = Command::new(env!("CARGO_BIN_EXE_loopwright"))
+            .args(["stackups"])
+            .stdout(full)
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(2));
+        assert!(String::from_utf8_lossy(&o.stderr).contains("cannot write the output"));
+    }
 }

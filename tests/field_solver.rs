@@ -417,10 +417,6 @@ fn accuracy_settings_meet_their_documented_bounds() {
     );
     assert!(fine < standard && standard < draft);
     assert_eq!(Accuracy::default(), Accuracy::Standard);
-    assert_eq!(
-        z0(&line, Accuracy::Refined(1)),
-        z0(&line, Accuracy::Standard)
-    );
 }
 
 // The open boundary (OPEN_FAR_FACTOR sizes away, zero normal field): moving it has no

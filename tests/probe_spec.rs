@@ -158,8 +158,10 @@ fn shape_text() -> impl Strategy<Value = String> {
 proptest! {
     #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
 
-    // Random specs within the documented ranges: either every probe is built and passes the
-    // design-rule check, or the build is refused with a message; never a panic.
+    // Random specs within the documented ranges: either every probe is built, passes the
+    // design-rule check and writes Gerber files that gerber_parser reads without error, or the
+    // spec is refused with field errors that each name a field, a value and what is allowed;
+    // never a panic, never a design-rule failure.
     #[test]
     fn random_specs_build_clean_or_are_refused(
         shape in shape_text(),
@@ -170,13 +172,15 @@ proptest! {
         drill in 0.3f64..0.5,
         ring in 0.125f64..0.3,
         handle_len in 8.0f64..60.0,
-        handle_w in 5.0f64..14.0,
-        target in 35.0f64..75.0,
+        handle_w in 6.6f64..14.0,
+        target in 35.0f64..55.0,
         mill in any::<bool>(),
+        holes in prop_oneof![Just(0.0f64), 0.3f64..0.8],
     ) {
         let text = format!(
             "stackup = \"{}\"\nsignal_layer = {}\ntarget_z0_ohms = {target:.2}\nclearance_mm = {clearance:.3}\ngap_mm = {gap:.3}\nmill_interior = {mill}\n\
              [via]\ndrill_mm = {drill:.3}\npad_mm = {:.3}\n[handle]\nlength_mm = {handle_len:.2}\nwidth_mm = {handle_w:.2}\n\
+             [connector]\nground_hole_drill_mm = {holes:.3}\n\
              [[probe]]\nname = \"p\"\n{shape}",
             if slim { "slim-4l-0.8" } else { "common-4l-1.6" },
             if layer3 { 3 } else { 2 },
@@ -186,15 +190,22 @@ proptest! {
             Ok(b) => {
                 for p in &b.probes {
                     prop_assert!(p.violations.is_empty());
-                    prop_assert!(!p.files.is_empty());
+                    for (name, bytes) in p.files.iter().filter(|(n, _)| n.ends_with(".gbr")) {
+                        let doc = gerber_parser::parse(std::io::BufReader::new(&bytes[..]))
+                            .map_err(|(_, e)| format!("{e:?}"));
+                        let doc = doc.unwrap();
+                        prop_assert!(doc.errors().is_empty(), "{name}: {:?}", doc.errors());
+                    }
                 }
             }
-            Err(Error::Drc { violations, .. }) => {
-                prop_assert!(false, "DRC failed on a valid spec:\n{text}\n{}", violations.join("\n"));
+            Err(Error::Invalid(v)) => {
+                prop_assert!(!v.is_empty());
+                for e in &v {
+                    prop_assert!(!e.field.is_empty() && !e.value.is_empty() && !e.allowed.is_empty(), "{e:?}");
+                }
             }
-            Err(e) => {
-                let msg = e.to_string();
-                prop_assert!(!msg.is_empty());
+            Err(other) => {
+                prop_assert!(false, "not a field-level refusal for a spec in range:\n{text}\n{other}");
             }
         }
     }
@@ -301,4 +312,55 @@ fn far_walls_give_the_ideal_stripline() {
         .unwrap()
         .z0_ohms;
     assert!(z_close < 0.97 * ideal, "{z_close} vs {ideal}");
+}
+
+// Rebuilding replaces the probe folders of an earlier build; a folder in the way that is not a
+// loopwright output stops the build before anything is written.
+#[test]
+fn output_folders_are_replaced_only_when_they_are_ours() {
+    let root = std::env::temp_dir().join(format!("loopwright-replace-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    let s = spec(&format!(
+        "{BASE}[[probe]]\nname = \"P2\"\nshape = \"round\"\nsize_mm = 10\n"
+    ));
+    build_to_dir(&s, Path::new("."), &root, false, Vec::new()).unwrap();
+    std::fs::write(root.join("P2").join("P2-L1.gbr"), "stale").unwrap();
+    build_to_dir(&s, Path::new("."), &root, false, Vec::new()).unwrap();
+    let l1 = std::fs::read_to_string(root.join("P2").join("P2-L1.gbr")).unwrap();
+    assert!(
+        l1.starts_with("%FSLAX46Y46*%"),
+        "the earlier build was not replaced"
+    );
+    std::fs::write(root.join("keep.txt"), "user").unwrap();
+    let other = root.join("Q3");
+    std::fs::create_dir_all(&other).unwrap();
+    std::fs::write(other.join("notes.txt"), "user data").unwrap();
+    let s2 = spec(&format!(
+        "{BASE}[[probe]]\nname = \"Q3\"\nshape = \"round\"\nsize_mm = 10\n"
+    ));
+    let e = build_to_dir(&s2, Path::new("."), &root, false, Vec::new()).unwrap_err();
+    assert!(
+        e.to_string().contains("not an earlier loopwright output"),
+        "{e}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(other.join("notes.txt")).unwrap(),
+        "user data"
+    );
+    assert_eq!(
+        std::fs::read_to_string(root.join("keep.txt")).unwrap(),
+        "user"
+    );
+    let leftovers: Vec<_> = std::fs::read_dir(root.parent().unwrap())
+        .unwrap()
+        .flatten()
+        .filter(|e| e.file_name().to_string_lossy().contains("loopwright-tmp"))
+        .filter(|e| {
+            e.file_name()
+                .to_string_lossy()
+                .contains(&format!("{}", std::process::id()))
+        })
+        .collect();
+    assert!(leftovers.is_empty(), "temporary folder left behind");
+    let _ = std::fs::remove_dir_all(&root);
 }

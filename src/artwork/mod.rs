@@ -245,7 +245,9 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         };
         let mut flashes = Vec::new();
         for v in &b.vias {
-            let joins = v.role != ViaRole::Signal || n == 1 || signal;
+            // The signal via has lands where it connects (L1, the loop's layer) and an isolated
+            // land on the bottom layer, so both outer layers carry a pad around the hole.
+            let joins = v.role != ViaRole::Signal || n == 1 || signal || n == n_layers;
             if joins {
                 flashes.push(Flash {
                     at: snap_pt(v.at),
@@ -280,7 +282,15 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         shape: Shape::Rect(snap(pd.w + 2.0 * exp), snap(pd.h + 2.0 * exp)),
         function: PadFunction::MaskOpening,
     };
-    let hole_openings = b.holes.iter().map(|h| Flash {
+    // A hole through a connector pad is already inside that pad's opening: no second opening
+    // (two overlapping openings would leave a zero-width web between them).
+    let inside_pad = |h: &crate::geom::Hole| {
+        b.pads.iter().any(|pd| {
+            (h.at.x - pd.at.x).abs() + h.pad / 2.0 <= pd.w / 2.0 + 1e-9
+                && (h.at.y - pd.at.y).abs() + h.pad / 2.0 <= pd.h / 2.0 + 1e-9
+        })
+    };
+    let hole_openings = b.holes.iter().filter(|h| !inside_pad(h)).map(|h| Flash {
         at: snap_pt(h.at),
         shape: Shape::Circle(snap(h.pad + 2.0 * exp)),
         function: PadFunction::MaskOpening,

@@ -21,13 +21,19 @@ pub struct BuildArgs {
 
 /// Prints the one-line-per-probe summary of a build.
 pub fn print_summary(out: &Path, built: &[BuiltProbe]) {
-    println!(
+    outln!(
         "{:<12} {:<10} {:<28} {:>9} {:>8} {:>14} {:>5}  folder",
-        "probe", "shape", "size", "trace mm", "Z0 Ω", "board mm", "vias"
+        "probe",
+        "shape",
+        "size",
+        "trace mm",
+        "Z0 Ω",
+        "board mm",
+        "vias"
     );
     for b in built {
         let (lo, hi) = b.board.bbox;
-        println!(
+        outln!(
             "{:<12} {:<10} {:<28} {:>9.3} {:>8.2} {:>14} {:>5}  {}",
             b.probe.name,
             b.probe.shape.kind(),
@@ -39,7 +45,7 @@ pub fn print_summary(out: &Path, built: &[BuiltProbe]) {
             out.join(&b.probe.folder).display()
         );
         if !b.violations.is_empty() {
-            println!(
+            outln!(
                 "  ! {} design-rule violation(s), written because of --force",
                 b.violations.len()
             );

@@ -27,14 +27,14 @@ pub struct DemoArgs {
 
 pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, DEMO_SPEC_NAME)?;
-    println!(
+    let extra = vec![(PathBuf::from(DEMO_SPEC_NAME), DEMO_SPEC.as_bytes().to_vec())];
+    let (_, built) = build_to_dir(&spec, Path::new("."), &a.out, false, extra)?;
+    outln!(
         "loopwright demo: Fenwick Marsh Instruments' probe family (an invented scenario)\n\
          spec written to {}\n",
         a.out.join(DEMO_SPEC_NAME).display()
     );
-    let extra = vec![(PathBuf::from(DEMO_SPEC_NAME), DEMO_SPEC.as_bytes().to_vec())];
-    let (_, built) = build_to_dir(&spec, Path::new("."), &a.out, false, extra)?;
     print_summary(&a.out, &built);
-    println!("\n{}", super::CAUTIONS);
+    outln!("\n{}", super::CAUTIONS);
     Ok(())
 }

@@ -536,12 +536,12 @@ impl ImpedanceReport {
 pub(super) fn run(a: &ImpedanceArgs) -> Result<(), Error> {
     let r = evaluate(a)?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&r.to_json()).expect("JSON of plain values")
         );
     } else {
-        print!("{}", r.to_table());
+        out!("{}", r.to_table());
     }
     Ok(())
 }

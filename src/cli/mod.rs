@@ -1,6 +1,18 @@
 //! The command-line interface: argument definitions (clap derive) and the glue that runs each
 //! command. Only this module and `main.rs` print.
 
+/// Writes to standard output; a closed pipe (`loopwright … | head`) quietly ends the output,
+/// any other write error is remembered for [`stdout_error`].
+macro_rules! out {
+    ($($t:tt)*) => { $crate::cli::write_out(&format!($($t)*)) };
+}
+
+/// [`out!`] with a newline.
+macro_rules! outln {
+    () => { $crate::cli::write_out("\n") };
+    ($($t:tt)*) => { $crate::cli::write_out(&format!("{}\n", format_args!($($t)*))) };
+}
+
 mod build;
 mod demo;
 pub use demo::{DEMO_SPEC, DEMO_SPEC_NAME};
@@ -48,6 +60,38 @@ pub enum Command {
     Predict(predict::PredictArgs),
     /// List the built-in stackups, or print one as a TOML file to start from.
     Stackups(stackups::StackupsArgs),
+}
+
+static STDOUT_ERROR: std::sync::Mutex<Option<String>> = std::sync::Mutex::new(None);
+
+/// Writes text to standard output (see [`out!`]).
+pub fn write_out(text: &str) {
+    use std::io::Write;
+    if let Ok(guard) = STDOUT_ERROR.lock()
+        && guard.is_some()
+    {
+        return;
+    }
+    let mut o = std::io::stdout().lock();
+    if let Err(e) = o.write_all(text.as_bytes()).and_then(|_| o.flush()) {
+        let msg = if e.kind() == std::io::ErrorKind::BrokenPipe {
+            String::new()
+        } else {
+            e.to_string()
+        };
+        if let Ok(mut g) = STDOUT_ERROR.lock() {
+            *g = Some(msg);
+        }
+    }
+}
+
+/// A write error on standard output other than a closed pipe, if one happened.
+pub fn stdout_error() -> Option<String> {
+    STDOUT_ERROR
+        .lock()
+        .ok()
+        .and_then(|g| g.clone())
+        .filter(|m| !m.is_empty())
 }
 
 /// Runs a parsed command line, writing results to stdout.

@@ -203,9 +203,9 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
             "assumptions": ASSUMPTIONS,
             "cautions": super::CAUTIONS,
         });
-        println!("{}", serde_json::to_string_pretty(&v).expect("plain JSON"));
+        outln!("{}", serde_json::to_string_pretty(&v).expect("plain JSON"));
     } else {
-        print!("{}", tables(&all));
+        out!("{}", tables(&all));
     }
     Ok(())
 }

@@ -16,11 +16,11 @@ pub(super) fn run(a: &StackupsArgs) -> Result<(), Error> {
     match &a.show {
         Some(name) => {
             if let Some(text) = builtin_text(name) {
-                print!("{text}");
+                out!("{text}");
                 return Ok(());
             }
             let s = load(name)?;
-            println!(
+            outln!(
                 "{}: {} ({:.4} mm)",
                 s.name(),
                 s.description(),
@@ -32,7 +32,7 @@ pub(super) fn run(a: &StackupsArgs) -> Result<(), Error> {
         None => {
             for name in builtin_names() {
                 let s = builtin(name).expect("built-in stackups are valid");
-                println!("{name:<16} {:.3} mm  {}", s.thickness_mm(), s.description());
+                outln!("{name:<16} {:.3} mm  {}", s.thickness_mm(), s.description());
             }
             Ok(())
         }
@@ -41,22 +41,25 @@ pub(super) fn run(a: &StackupsArgs) -> Result<(), Error> {
 
 fn print_layers(s: &crate::model::stackup::Stackup) {
     if let Some(m) = s.mask_top() {
-        println!("  mask    {:>8.4} mm  εr {:.2}", m.thickness_mm, m.er);
+        outln!("  mask    {:>8.4} mm  εr {:.2}", m.thickness_mm, m.er);
     }
     let mut n = 0;
     for l in s.layers() {
         match l {
             Layer::Copper(c) => {
                 n += 1;
-                println!("  L{n:<6} {:>8.4} mm  copper {}", c.thickness_mm, c.name);
+                outln!("  L{n:<6} {:>8.4} mm  copper {}", c.thickness_mm, c.name);
             }
-            Layer::Dielectric(d) => println!(
+            Layer::Dielectric(d) => outln!(
                 "          {:>8.4} mm  εr {:.2}  tanδ {:.4}  {}",
-                d.thickness_mm, d.er, d.loss_tangent, d.name
+                d.thickness_mm,
+                d.er,
+                d.loss_tangent,
+                d.name
             ),
         }
     }
     if let Some(m) = s.mask_bottom() {
-        println!("  mask    {:>8.4} mm  εr {:.2}", m.thickness_mm, m.er);
+        outln!("  mask    {:>8.4} mm  εr {:.2}", m.thickness_mm, m.er);
     }
 }

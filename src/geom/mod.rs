@@ -719,14 +719,18 @@ fn silk(
     // Sensitive-direction mark on the left of the handle: ⊙ (the probe responds to the field
     // component normal to the board), with "H" below it.
     let r = 0.5 * h;
-    top.push(arc_points(mark_c, r, 0.0, std::f64::consts::TAU));
-    top.push(vec![mark_c, mark_c + Vec2::new(0.01, 0.0)]);
-    let place = Affine::translate(Vec2::new(
-        mark_c.x - 2.0 / 3.0 * h / 2.0,
-        mark_c.y - r - 0.4 - h,
-    ));
-    top.extend(font::text_strokes("H", h, place));
-    // Bottom: the same mark, seen from the top (mirrored).
-    let bottom: Vec<Vec<Point>> = vec![arc_points(mirror(mark_c), r, 0.0, std::f64::consts::TAU)];
+    let mut bottom: Vec<Vec<Point>> = Vec::new();
+    // Only where the handle leaves room above the connector's pads.
+    if mark_c.y - r - 0.4 - h - p.fab.silk_width > y_start - 1.0 {
+        top.push(arc_points(mark_c, r, 0.0, std::f64::consts::TAU));
+        top.push(vec![mark_c, mark_c + Vec2::new(0.01, 0.0)]);
+        let place = Affine::translate(Vec2::new(
+            mark_c.x - 2.0 / 3.0 * h / 2.0,
+            mark_c.y - r - 0.4 - h,
+        ));
+        top.extend(font::text_strokes("H", h, place));
+        // Bottom: the same mark, seen from the top (mirrored).
+        bottom.push(arc_points(mirror(mark_c), r, 0.0, std::f64::consts::TAU));
+    }
     (top, bottom)
 }

@@ -19,7 +19,7 @@ mod width;
 pub use spread::{Spread, Tolerances, spread, spread_with};
 pub use width::{SolveLimits, solve_width, solve_width_near};
 
-use crate::error::{FieldError, check_positive, check_range, fmt_num};
+use crate::error::{FieldError, check_range, fmt_num};
 pub use crate::field::Accuracy;
 use std::fmt;
 
@@ -320,9 +320,9 @@ impl Line {
                 er(&mut e, "mask-er", c.mask_er);
             }
             Line::Stripline(s) => {
-                check_positive(&mut e, "width", s.width, MAX_LENGTH_MM);
-                check_positive(&mut e, "h1", s.h1, MAX_LENGTH_MM);
-                check_positive(&mut e, "h2", s.h2, MAX_LENGTH_MM);
+                check_length(&mut e, "width", s.width);
+                check_length(&mut e, "h1", s.h1);
+                check_length(&mut e, "h2", s.h2);
                 t(&mut e, "t", s.t);
                 er(&mut e, "er", s.er1);
                 if s.er2 != s.er1 {
@@ -330,9 +330,9 @@ impl Line {
                 }
             }
             Line::Cpwg(c) => {
-                check_positive(&mut e, "width", c.width, MAX_LENGTH_MM);
-                check_positive(&mut e, "gap", c.gap, MAX_LENGTH_MM);
-                check_positive(&mut e, "h", c.h, MAX_LENGTH_MM);
+                check_length(&mut e, "width", c.width);
+                check_length(&mut e, "gap", c.gap);
+                check_length(&mut e, "h", c.h);
                 t(&mut e, "t", c.t);
                 er(&mut e, "er", c.er);
             }
@@ -350,9 +350,16 @@ fn scale_ms(m: Microstrip, k: f64) -> Microstrip {
     }
 }
 
+/// Smallest length accepted, mm (0.1 µm: below any etched feature).
+pub const MIN_LENGTH_MM: f64 = 1e-4;
+
+fn check_length(e: &mut Vec<FieldError>, name: &str, v: f64) {
+    check_range(e, name, v, MIN_LENGTH_MM, MAX_LENGTH_MM);
+}
+
 fn validate_ms(e: &mut Vec<FieldError>, m: &Microstrip) {
-    check_positive(e, "width", m.width, MAX_LENGTH_MM);
-    check_positive(e, "h", m.h, MAX_LENGTH_MM);
+    check_length(e, "width", m.width);
+    check_length(e, "h", m.h);
     check_range(e, "t", m.t, 0.0, MAX_LENGTH_MM);
     check_range(e, "er", m.er, 1.0, MAX_ER);
 }
@@ -490,13 +497,34 @@ pub fn analyse_with(
             format!("for {} the methods are: {}", s.name(), names.join(", ")),
         )]);
     }
-    let sol = match line {
+    let mut sol = match line {
         _ if method == Method::Field => return analyse_field(line, accuracy),
         Line::Microstrip(m) => microstrip::analyse(m, method),
         Line::CoatedMicrostrip(c) => microstrip::analyse_coated(c, method),
         Line::Stripline(st) => stripline::analyse(st, method),
         Line::Cpwg(c) => cpwg::analyse(c),
     };
+    // Extreme ratios can drive a formula to 0, ∞ or NaN: never pass that off as an answer.
+    if !(sol.z0.is_finite() && sol.z0 > 0.0 && sol.eps_eff.is_finite() && sol.eps_eff >= 1.0 - 1e-9)
+    {
+        return Err(vec![FieldError::new(
+            "geometry",
+            format!("w/h = {}", sig(line.width() / line.scale_height())),
+            format!(
+                "{} gives no finite, positive Z0 for these proportions (Z0 = {}, εeff = {}); \
+                 check the lengths or use --method field",
+                method,
+                sig(sol.z0),
+                sig(sol.eps_eff)
+            ),
+        )]);
+    }
+    if sol.z0 > 1e4 {
+        sol.warnings.push(Warning::outside(format!(
+            "Z0 = {} Ω: these proportions are far outside any method's range",
+            sig(sol.z0)
+        )));
+    }
     Ok(sol)
 }
 

@@ -22,10 +22,11 @@ pub struct SolveLimits {
 }
 
 impl Default for SolveLimits {
-    /// 0.1 mm: the common "standard process" minimum trace (common practice, no single source).
+    /// 0.127 mm: the built-in standard fab profile's minimum trace (common practice, no
+    /// single source).
     fn default() -> Self {
         SolveLimits {
-            min_trace_mm: 0.1,
+            min_trace_mm: 0.127,
             accuracy: Accuracy::default(),
         }
     }
@@ -122,6 +123,15 @@ pub fn solve_width(
         return Err(Error::Invalid(errs));
     }
     let method = method.unwrap_or_else(|| default_method(template));
+    let s = template.structure();
+    if !s.methods().contains(&method) {
+        let names: Vec<_> = s.methods().iter().map(|m| m.name()).collect();
+        return Err(Error::Invalid(vec![FieldError::new(
+            "method",
+            method.name(),
+            format!("for {} the methods are: {}", s.name(), names.join(", ")),
+        )]));
+    }
     if method == Method::Field {
         return solve_width_field(template, target_ohms, limits);
     }
@@ -129,16 +139,23 @@ pub fn solve_width(
         analyse(&template.with_width(w), Some(method)).map_err(Error::Invalid)
     };
     let scale = template.scale_height();
-    let w_hi = scale * 1e2;
+    let w_hi = (scale * 1e2).min(super::MAX_LENGTH_MM);
     // Some thickness corrections break down for traces much narrower than they are thick:
     // start the bracket at the narrowest width where the method gives a finite Z0.
-    let mut w_lo = scale * 1e-4;
-    let mut z_narrow = z_of(w_lo)?.z0;
+    let z_or_nan = |w: f64| z_of(w).map(|s| s.z0).unwrap_or(f64::NAN);
+    let mut w_lo = (scale * 1e-4).max(2.0 * super::MIN_LENGTH_MM);
+    let mut z_narrow = z_or_nan(w_lo);
     while !z_narrow.is_finite() && w_lo < scale {
         w_lo *= 2.0;
-        z_narrow = z_of(w_lo)?.z0;
+        z_narrow = z_or_nan(w_lo);
     }
-    let z_wide = z_of(w_hi)?.z0;
+    // And end it at the widest width where it still gives one (IPC's fits go negative).
+    let mut w_hi = w_hi;
+    let mut z_wide = z_or_nan(w_hi);
+    while !z_wide.is_finite() && w_hi > 4.0 * w_lo {
+        w_hi /= 2.0;
+        z_wide = z_or_nan(w_hi);
+    }
     if !(target_ohms <= z_narrow && target_ohms >= z_wide) {
         return Err(Error::Unsolvable(format!(
             "target = {} Ω is out of reach for {} by {}: Z0 runs from {} Ω (w = {} mm) \
@@ -182,7 +199,7 @@ pub fn solve_width(
             sig(target_ohms),
             format!(
                 "solves to a trace width of {} mm, below the fab minimum trace of {} mm; \
-                 lower the target, thin the dielectric or use a finer process (--min-trace)",
+                 lower the target, use a thicker dielectric or a finer process (--min-trace)",
                 sig(w),
                 sig(limits.min_trace_mm)
             ),
@@ -202,9 +219,15 @@ fn solve_width_field(
         min_trace_mm: 0.0,
         ..*limits
     };
-    let guess = solve_width(template, None, target_ohms, &loose)
-        .map(|(l, _)| l.width())
-        .unwrap_or(scale);
+    let guess = match solve_width(template, None, target_ohms, &loose) {
+        Ok((l, _)) => l.width(),
+        // Out of the closed form's reach is out of the field's too, to within a few percent;
+        // say so plainly rather than search blindly.
+        Err(Error::Unsolvable(m)) if m.contains("out of reach") => {
+            return Err(Error::Unsolvable(m));
+        }
+        Err(_) => scale,
+    };
     let z_of = |w: f64| -> Result<f64, Error> {
         analyse_with(
             &template.with_width(w),
@@ -223,7 +246,7 @@ fn solve_width_field(
             sig(target_ohms),
             format!(
                 "solves to a trace width of {} mm, below the fab minimum trace of {} mm; \
-                 lower the target, thin the dielectric or use a finer process (--min-trace)",
+                 lower the target, use a thicker dielectric or a finer process (--min-trace)",
                 sig(w),
                 sig(limits.min_trace_mm)
             ),
