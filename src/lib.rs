@@ -10,6 +10,7 @@
 #![warn(missing_docs)]
 
 pub mod artwork;
+pub mod calib;
 pub mod cli;
 pub mod drc;
 pub mod emit;

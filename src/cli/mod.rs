@@ -14,6 +14,7 @@ macro_rules! outln {
 }
 
 mod build;
+mod convert;
 mod demo;
 pub use demo::{DEMO_SPEC, DEMO_SPEC_NAME};
 mod impedance;
@@ -58,6 +59,8 @@ pub enum Command {
     Demo(demo::DemoArgs),
     /// Predict what each probe of a spec measures: inductance, probe factor, band, resolution.
     Predict(predict::PredictArgs),
+    /// Convert spectrum-analyzer readings into field strength with a probe factor.
+    Convert(convert::ConvertArgs),
     /// List the built-in stackups, or print one as a TOML file to start from.
     Stackups(stackups::StackupsArgs),
 }
@@ -101,6 +104,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Build(a) => build::run(&a),
         Command::Demo(a) => demo::run(&a),
         Command::Predict(a) => predict::run(&a),
+        Command::Convert(a) => convert::run(&a),
         Command::Stackups(a) => stackups::run(&a),
     }
 }

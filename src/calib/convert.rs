@@ -1,0 +1,247 @@
+//! Analyzer readings to field strength.
+//!
+//! V_probe[dBµV] = reading[dBµV] − preamp gain[dB] + attenuator[dB] + cable loss[dB];
+//! H[dBµA/m] = V_probe[dBµV] + PF[dB(S/m)]; B[dBpT] = H[dBµA/m] + 20·log10(μ0·10⁶ T·m/A / 10⁻⁶)
+//! = H + 1.98 dB; dBm → dBµV in 50 Ω: + 10·log10(50 Ω · 1 mW)·… = +106.99 dB.
+//! Tables (probe factor, gain) are interpolated linearly in log-frequency.
+
+use crate::error::Error;
+use std::path::Path;
+
+/// dBm to dBµV in a 50 Ω system: 10·log10(50·10⁻³) + 120 = 106.9897 dB.
+pub fn dbm_to_dbuv_offset() -> f64 {
+    10.0 * (50.0f64 * 1e-3).log10() + 120.0
+}
+
+/// dBµA/m to dBpT: 20·log10(μ0 · 10⁶), μ0 = 1.25663706127e-6 H/m (CODATA 2022).
+pub fn dbua_to_dbpt_offset() -> f64 {
+    20.0 * (crate::physics::MU0 * 1e6).log10()
+}
+
+/// A frequency table read from a CSV file: strictly increasing frequencies and one value each.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Table {
+    /// The value column's name.
+    pub column: String,
+    /// (Hz, value) rows.
+    pub rows: Vec<(f64, f64)>,
+}
+
+fn bad(path: &str, line: usize, why: String) -> Error {
+    Error::Parse {
+        path: path.to_string(),
+        message: format!("line {line}: {why}"),
+    }
+}
+
+/// Reads a two-column CSV table with header `freq_hz,<one of value_columns>`. Line numbers in
+/// errors count the header as line 1.
+pub fn read_table(path: &Path, value_columns: &[&str]) -> Result<Table, Error> {
+    let p = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| Error::Io {
+        path: p.clone(),
+        source: e,
+    })?;
+    parse_table(&text, &p, value_columns)
+}
+
+/// [`read_table`] on text.
+pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table, Error> {
+    let mut rdr = csv::ReaderBuilder::new()
+        .has_headers(true)
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .flexible(true)
+        .from_reader(text.as_bytes());
+    let headers = rdr
+        .headers()
+        .map_err(|e| bad(p, 1, format!("unreadable header: {e}")))?
+        .clone();
+    if headers.is_empty() || (headers.len() == 1 && headers[0].is_empty()) {
+        return Err(bad(
+            p,
+            1,
+            "the file is empty (a header line is needed)".into(),
+        ));
+    }
+    let want = format!("freq_hz,{}", value_columns.join("|"));
+    if headers.len() != 2 || &headers[0] != "freq_hz" || !value_columns.contains(&&headers[1]) {
+        return Err(bad(
+            p,
+            1,
+            format!(
+                "header is '{}', expected {want}",
+                headers.iter().collect::<Vec<_>>().join(",")
+            ),
+        ));
+    }
+    let column = headers[1].to_string();
+    let mut rows: Vec<(f64, f64)> = Vec::new();
+    for rec in rdr.records() {
+        let rec = rec.map_err(|e| {
+            let line = e.position().map(|q| q.line() as usize).unwrap_or(0);
+            bad(p, line, format!("{e}"))
+        })?;
+        let line = rec.position().map(|q| q.line() as usize).unwrap_or(0);
+        if rec.len() != 2 {
+            return Err(bad(
+                p,
+                line,
+                format!("{} columns, expected 2 (freq_hz,{column})", rec.len()),
+            ));
+        }
+        let num = |i: usize, name: &str| -> Result<f64, Error> {
+            let v: f64 = rec[i]
+                .parse()
+                .map_err(|_| bad(p, line, format!("{name} = '{}' is not a number", &rec[i])))?;
+            if !v.is_finite() {
+                return Err(bad(p, line, format!("{name} = {} is not finite", &rec[i])));
+            }
+            Ok(v)
+        };
+        let f = num(0, "freq_hz")?;
+        let v = num(1, &column)?;
+        if f <= 0.0 {
+            return Err(bad(
+                p,
+                line,
+                format!("freq_hz = {f} must be greater than 0"),
+            ));
+        }
+        if let Some(&(prev, _)) = rows.last() {
+            if f == prev {
+                return Err(bad(
+                    p,
+                    line,
+                    format!("freq_hz = {f} repeats the previous line"),
+                ));
+            }
+            if f < prev {
+                return Err(bad(
+                    p,
+                    line,
+                    format!(
+                        "freq_hz = {f} is below the previous {prev}: frequencies must increase"
+                    ),
+                ));
+            }
+        }
+        rows.push((f, v));
+    }
+    if rows.is_empty() {
+        return Err(bad(p, 2, "no data rows after the header".into()));
+    }
+    Ok(Table { column, rows })
+}
+
+impl Table {
+    /// The value at `f`, linear in log-frequency between rows. Outside the table: `None`, or
+    /// the end segment extended when `extrapolate` (a single-row table is constant).
+    pub fn at(&self, f: f64, extrapolate: bool) -> Option<f64> {
+        let r = &self.rows;
+        if r.len() == 1 {
+            return (extrapolate || f == r[0].0).then_some(r[0].1);
+        }
+        let (first, last) = (r[0].0, r[r.len() - 1].0);
+        if (f < first || f > last) && !extrapolate {
+            return None;
+        }
+        let i = match r.iter().position(|&(x, _)| x >= f) {
+            Some(0) => 1,
+            Some(i) => i,
+            None => r.len() - 1,
+        };
+        let ((f0, v0), (f1, v1)) = (r[i - 1], r[i]);
+        let t = (f.ln() - f0.ln()) / (f1.ln() - f0.ln());
+        Some(v0 + t * (v1 - v0))
+    }
+}
+
+/// The analyzer chain between the probe and the reading.
+#[derive(Debug, Clone)]
+pub enum Gain {
+    /// A fixed preamplifier gain, dB.
+    Fixed(f64),
+    /// A gain table against frequency (`freq_hz,gain_db`).
+    Table(Table),
+}
+
+/// One converted point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FieldPoint {
+    /// Hz.
+    pub freq_hz: f64,
+    /// dBµA/m.
+    pub h_dbua_per_m: f64,
+    /// A/m.
+    pub h_a_per_m: f64,
+    /// dBpT.
+    pub b_dbpt: f64,
+    /// The voltage at the probe's connector, dBµV.
+    pub v_probe_dbuv: f64,
+}
+
+/// Converts readings (dBm or dBµV, per the table's column) into field strength.
+pub fn convert(
+    readings: &Table,
+    factor: &Table,
+    gain: &Gain,
+    atten_db: f64,
+    cable_db: f64,
+    extrapolate: bool,
+) -> Result<Vec<FieldPoint>, Error> {
+    let mut out = Vec::with_capacity(readings.rows.len());
+    let dbm = readings.column == "level_dbm";
+    for (i, &(f, level)) in readings.rows.iter().enumerate() {
+        let line = i + 2;
+        let pf = factor.at(f, extrapolate).ok_or_else(|| {
+            Error::Invalid(vec![crate::error::FieldError::new(
+                format!("--readings line {line}: freq_hz"),
+                f,
+                format!(
+                    "is outside the probe-factor table ({} to {} Hz); give --extrapolate to extend \
+                     its end segments",
+                    factor.rows[0].0,
+                    factor.rows[factor.rows.len() - 1].0
+                ),
+            )])
+        })?;
+        let g = match gain {
+            Gain::Fixed(g) => *g,
+            Gain::Table(t) => t.at(f, extrapolate).ok_or_else(|| {
+                Error::Invalid(vec![crate::error::FieldError::new(
+                    format!("--readings line {line}: freq_hz"),
+                    f,
+                    "is outside the gain table; give --extrapolate to extend it".to_string(),
+                )])
+            })?,
+        };
+        let dbuv = if dbm {
+            level + dbm_to_dbuv_offset()
+        } else {
+            level
+        };
+        let v_probe = dbuv - g + atten_db + cable_db;
+        let h = v_probe + pf;
+        out.push(FieldPoint {
+            freq_hz: f,
+            h_dbua_per_m: h,
+            h_a_per_m: 10f64.powf(h / 20.0) * 1e-6,
+            b_dbpt: h + dbua_to_dbpt_offset(),
+            v_probe_dbuv: v_probe,
+        });
+    }
+    Ok(out)
+}
+
+/// The output CSV.
+pub fn to_csv(points: &[FieldPoint]) -> String {
+    let mut s = String::from("freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv\n");
+    for p in points {
+        s.push_str(&format!(
+            "{},{:.4},{:.6e},{:.4},{:.4}\n",
+            p.freq_hz, p.h_dbua_per_m, p.h_a_per_m, p.b_dbpt, p.v_probe_dbuv
+        ));
+    }
+    s
+}

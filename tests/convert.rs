@@ -1,0 +1,175 @@
+//! `loopwright convert`: the level budget and the refusals of malformed tables.
+
+use loopwright::calib::convert::*;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn dir(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("loopwright-convert-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn write(d: &Path, name: &str, text: &str) -> String {
+    let p = d.join(name);
+    std::fs::write(&p, text).unwrap();
+    p.to_string_lossy().to_string()
+}
+
+fn run(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+// Facts of the trade: dBm → dBµV is +106.99 dB in 50 Ω (10·log10(50 Ω·1 mW / 1 µV²));
+// dBµA/m → dBpT is +1.98 dB (20·log10(μ0·10⁶)).
+#[test]
+fn unit_offsets() {
+    assert!((dbm_to_dbuv_offset() - 106.99).abs() < 0.001);
+    assert!((dbua_to_dbpt_offset() - 1.98).abs() < 0.005);
+}
+
+// A worked budget: −40 dBm with a 20 dB preamp and PF = 10 dB(S/m):
+// V = −40 + 106.99 − 20 = 46.99 dBµV, H = 56.99 dBµA/m = 7.07e-4 A/m, B = 58.97 dBpT.
+#[test]
+fn worked_budget_and_log_frequency_interpolation() {
+    let r = parse_table(
+        "freq_hz,level_dbm\n1e8,-40\n",
+        "r",
+        &["level_dbm", "level_dbuv"],
+    )
+    .unwrap();
+    // The factor is 20 at 10 MHz and 0 at 1 GHz: 10 at 100 MHz, linear in log-frequency.
+    let f = parse_table(
+        "freq_hz,pf_db_s_per_m\n1e7,20\n1e9,0\n",
+        "f",
+        &["pf_db_s_per_m"],
+    )
+    .unwrap();
+    let p = convert(&r, &f, &Gain::Fixed(20.0), 0.0, 0.0, false).unwrap();
+    assert!((p[0].h_dbua_per_m - 56.9897).abs() < 1e-3, "{p:?}");
+    assert!((p[0].h_a_per_m / 7.0674e-4 - 1.0).abs() < 1e-3);
+    assert!((p[0].b_dbpt - p[0].h_dbua_per_m - dbua_to_dbpt_offset()).abs() < 1e-12);
+}
+
+// Common practice: a 10 dB attenuator after a 30 dB preamp reads the same as a 20 dB preamp.
+#[test]
+fn attenuator_after_preamp_equals_the_net_gain() {
+    let d = dir("budget");
+    let r = write(
+        &d,
+        "r.csv",
+        "freq_hz,level_dbuv\n1e6,30\n5e7,42.5\n2e8,20\n",
+    );
+    let f = write(&d, "f.csv", "freq_hz,pf_db_s_per_m\n1e6,40\n1e9,12\n");
+    let a = d.join("a.csv");
+    let b = d.join("b.csv");
+    let o1 = run(&[
+        "convert",
+        "--readings",
+        &r,
+        "--factor",
+        &f,
+        "--gain-db",
+        "30",
+        "--atten-db",
+        "10",
+        "--out",
+        a.to_str().unwrap(),
+    ]);
+    let o2 = run(&[
+        "convert",
+        "--readings",
+        &r,
+        "--factor",
+        &f,
+        "--gain-db",
+        "20",
+        "--out",
+        b.to_str().unwrap(),
+    ]);
+    assert!(
+        o1.status.success() && o2.status.success(),
+        "{}",
+        String::from_utf8_lossy(&o1.stderr)
+    );
+    let (ta, tb) = (
+        std::fs::read_to_string(&a).unwrap(),
+        std::fs::read_to_string(&b).unwrap(),
+    );
+    assert!(ta.starts_with("freq_hz,h_dbua_per_m"));
+    assert_eq!(ta, tb);
+    assert_eq!(ta.lines().count(), 4);
+}
+
+#[test]
+fn malformed_tables_are_refused_with_their_line_and_nothing_is_written() {
+    let d = dir("bad");
+    let f = write(&d, "f.csv", "freq_hz,pf_db_s_per_m\n1e6,40\n1e9,12\n");
+    let out = d.join("out.csv");
+    let cases = [
+        (
+            "freq_hz,level_dbm\n1e6,-40\n5e5,-41\n",
+            "line 3",
+            "must increase",
+        ),
+        ("freq_hz,level_dbm\n1e6,-40\n1e6,-41\n", "line 3", "repeats"),
+        ("freq_hz,level_dbm\n1e6\n", "line 2", "1 columns"),
+        ("freq_hz,level_dbm\n1e6,NaN\n", "line 2", "not finite"),
+        ("freq_hz,level_dbm\n1e6,abc\n", "line 2", "not a number"),
+        ("", "line 1", "empty"),
+        (
+            "freq_hz,watts\n1e6,1\n",
+            "line 1",
+            "expected freq_hz,level_dbm|level_dbuv",
+        ),
+        ("freq_hz,level_dbm\n", "line 2", "no data rows"),
+        ("freq_hz,level_dbm\n-5,-40\n", "line 2", "greater than 0"),
+    ];
+    for (text, line, why) in cases {
+        let r = write(&d, "r.csv", text);
+        let o = run(&[
+            "convert",
+            "--readings",
+            &r,
+            "--factor",
+            &f,
+            "--gain-db",
+            "0",
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{text:?}: {err}");
+        assert!(
+            err.contains("r.csv") && err.contains(line) && err.contains(why),
+            "{text:?}: {err}"
+        );
+        assert!(!err.contains("panicked"));
+        assert!(!out.exists(), "{text:?} wrote an output");
+    }
+    // Outside the factor table: refused, unless extrapolation is asked for.
+    let r = write(&d, "r.csv", "freq_hz,level_dbm\n2e9,-40\n");
+    let args = [
+        "convert",
+        "--readings",
+        &r,
+        "--factor",
+        &f,
+        "--gain-db",
+        "0",
+        "--out",
+        out.to_str().unwrap(),
+    ];
+    let o = run(&args);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--extrapolate"));
+    assert!(!out.exists());
+    let mut with = args.to_vec();
+    with.push("--extrapolate");
+    assert!(run(&with).status.success());
+    assert!(out.exists());
+}
