@@ -2,3 +2,4 @@
 //! strength (issue 6; the test-line fixture and Touchstone calibration are still to come).
 
 pub mod convert;
+pub mod touchstone;
