@@ -74,33 +74,54 @@ fn num(v: f64, d: usize) -> String {
     format!("{v:.d$}")
 }
 
+/// The comparison table's column heads.
+const COMPARISON_HEADS: [&str; 10] = [
+    "probe",
+    "shape",
+    "size",
+    "L (nH)",
+    "corner (MHz)",
+    "upper (MHz)",
+    "PF 10 MHz",
+    "PF 100 MHz",
+    "PF 1 GHz",
+    "resolution (mm)",
+];
+
+/// What the comparison table's probe factors mean.
+const COMPARISON_NOTE: &str = "PF in dB(S/m), area-average field normal to the loop, into \
+     50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a probe's upper usable frequency are shown \
+     for comparison only. Resolution: −6 dB full width across a trace, at the stated height.";
+
+/// One probe's row of the comparison table, from the same numbers as `predict --json`.
+fn comparison_cells(x: &Predicted) -> [String; 10] {
+    let j = probe_json(x);
+    let v = |k: &str, scale: f64, d: usize| num(j[k].as_f64().unwrap_or(f64::NAN) / scale, d);
+    [
+        x.probe.name.clone(),
+        x.probe.shape.kind().to_string(),
+        x.probe.shape.size_text(),
+        v("inductance_nh", 1.0, 2),
+        v("corner_hz", 1e6, 1),
+        v("upper_hz", 1e6, 0),
+        v("pf_10mhz_db_s_per_m", 1.0, 2),
+        v("pf_100mhz_db_s_per_m", 1.0, 2),
+        v("pf_1ghz_db_s_per_m", 1.0, 2),
+        v("resolution_mm", 1.0, 2),
+    ]
+}
+
 /// The comparison table of a family (Markdown), from the predictions.
 pub fn comparison_markdown(all: &[Predicted]) -> String {
-    let mut o = String::from(
-        "| probe | shape | size | L (nH) | corner (MHz) | upper (MHz) | PF 10 MHz | PF 100 MHz | PF 1 GHz | resolution (mm) |\n|---|---|---|---|---|---|---|---|---|---|\n",
+    let mut o = format!(
+        "| {} |\n|{}\n",
+        COMPARISON_HEADS.join(" | "),
+        "---|".repeat(COMPARISON_HEADS.len())
     );
     for x in all {
-        let j = probe_json(x);
-        let _ = writeln!(
-            o,
-            "| {} | {} | {} | {} | {} | {} | {} | {} | {} | {} |",
-            x.probe.name,
-            x.probe.shape.kind(),
-            x.probe.shape.size_text(),
-            num(j["inductance_nh"].as_f64().unwrap(), 2),
-            num(j["corner_hz"].as_f64().unwrap() / 1e6, 1),
-            num(j["upper_hz"].as_f64().unwrap() / 1e6, 0),
-            num(j["pf_10mhz_db_s_per_m"].as_f64().unwrap(), 2),
-            num(j["pf_100mhz_db_s_per_m"].as_f64().unwrap(), 2),
-            num(j["pf_1ghz_db_s_per_m"].as_f64().unwrap(), 2),
-            num(j["resolution_mm"].as_f64().unwrap(), 2),
-        );
+        let _ = writeln!(o, "| {} |", comparison_cells(x).join(" | "));
     }
-    o.push_str(
-        "\nPF in dB(S/m), area-average field into 50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a \
-         probe's upper usable frequency are shown for comparison only. Resolution: −6 dB full \
-         width across a trace, at the stated height.\n",
-    );
+    let _ = writeln!(o, "\n{COMPARISON_NOTE}");
     o
 }
 
@@ -120,25 +141,19 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
     );
     let _ = writeln!(o, "<h1>{} — probe family report</h1>", xml(family));
     let _ = writeln!(o, "<p class=\"caution\">{}</p>", xml(CAUTIONS));
-    o.push_str("<h2>Comparison</h2>\n<table id=\"comparison\"><tr><th>probe</th><th>shape</th><th>size</th><th>L (nH)</th><th>corner (MHz)</th><th>upper (MHz)</th><th>PF 10 MHz</th><th>PF 100 MHz</th><th>PF 1 GHz</th><th>resolution (mm)</th></tr>\n");
-    for x in all {
-        let j = probe_json(x);
-        let _ = writeln!(
-            o,
-            "<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>",
-            xml(&x.probe.name),
-            x.probe.shape.kind(),
-            xml(&x.probe.shape.size_text()),
-            num(j["inductance_nh"].as_f64().unwrap(), 2),
-            num(j["corner_hz"].as_f64().unwrap() / 1e6, 1),
-            num(j["upper_hz"].as_f64().unwrap() / 1e6, 0),
-            num(j["pf_10mhz_db_s_per_m"].as_f64().unwrap(), 2),
-            num(j["pf_100mhz_db_s_per_m"].as_f64().unwrap(), 2),
-            num(j["pf_1ghz_db_s_per_m"].as_f64().unwrap(), 2),
-            num(j["resolution_mm"].as_f64().unwrap(), 2),
-        );
+    let _ = write!(o, "<h2>Comparison</h2>\n<table id=\"comparison\"><tr>");
+    for h in COMPARISON_HEADS {
+        let _ = write!(o, "<th>{}</th>", xml(h));
     }
-    o.push_str("</table>\n<p>PF in dB(S/m), area-average field normal to the loop, into 50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a probe's upper usable frequency are for comparison only.</p>\n");
+    o.push_str("</tr>\n");
+    for x in all {
+        o.push_str("<tr>");
+        for c in comparison_cells(x) {
+            let _ = write!(o, "<td>{}</td>", xml(&c));
+        }
+        o.push_str("</tr>\n");
+    }
+    let _ = writeln!(o, "</table>\n<p>{}</p>", xml(COMPARISON_NOTE));
     if let Some(first) = all.first() {
         let curves: Vec<(&str, &str, &crate::physics::Response)> = all
             .iter()

@@ -12,7 +12,7 @@ pub mod font;
 pub mod shape;
 
 use crate::model::probe::{LoopShape, Probe};
-use crate::solve::probe::{RING_RIM, SolvedProbe, VIA_WEB};
+use crate::solve::probe::{SolvedProbe, VIA_WEB};
 use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
 use kurbo::{Affine, Point, Vec2};
 use shape::{arc_points, arclengths, closed, dist_to_polyline, left_half, mirror, point_at};
@@ -366,7 +366,6 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         lo = Point::new(lo.x.min(q.x), lo.y.min(q.y));
         hi = Point::new(hi.x.max(q.x), hi.y.max(q.y));
     }
-    let _ = RING_RIM;
     Board {
         trace_path,
         exit_index,

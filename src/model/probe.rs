@@ -57,13 +57,9 @@ impl LoopShape {
             LoopShape::Round { diameter } => format!("D{}", num(diameter)),
             LoopShape::Rect {
                 width,
-                height,
                 square: true,
                 ..
-            } => {
-                let _ = height;
-                format!("S{}", num(width))
-            }
+            } => format!("S{}", num(width)),
             LoopShape::Rect { width, height, .. } => format!("{}X{}", num(width), num(height)),
         }
     }

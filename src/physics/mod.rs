@@ -15,7 +15,7 @@ pub mod elliptic2;
 
 use crate::error::{Error, FieldError, check_range};
 use crate::model::probe::{LoopShape, Probe};
-use crate::solve::probe::{RING_RIM, SolvedProbe};
+use crate::solve::probe::SolvedProbe;
 use std::f64::consts::PI;
 
 /// μ0, H/m (CODATA 2022, 1.25663706127e-6; the classical 4π·1e-7 differs by 1e-10).
@@ -374,7 +374,6 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         let v_per_a = w * r.mutual * t / (w * MU0 * area);
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
     }
-    let _ = RING_RIM;
     Ok(r)
 }
 

@@ -193,18 +193,7 @@ pub fn solve_width(
             outside.join("; ")
         )));
     }
-    if w < limits.min_trace_mm {
-        return Err(Error::Invalid(vec![FieldError::new(
-            "target",
-            sig(target_ohms),
-            format!(
-                "solves to a trace width of {} mm, below the fab minimum trace of {} mm; \
-                 lower the target, use a thicker dielectric or a finer process (--min-trace)",
-                sig(w),
-                sig(limits.min_trace_mm)
-            ),
-        )]));
-    }
+    check_min_trace(w, target_ohms, limits)?;
     Ok((line, sol))
 }
 
@@ -240,6 +229,12 @@ fn solve_width_field(
     let w = solve_width_near(z_of, guess, target_ohms)?;
     let line = template.with_width(w);
     let sol = analyse_with(&line, Some(Method::Field), limits.accuracy).map_err(Error::Invalid)?;
+    check_min_trace(w, target_ohms, limits)?;
+    Ok((line, sol))
+}
+
+/// Refuses a solved width below the fab's minimum trace.
+fn check_min_trace(w: f64, target_ohms: f64, limits: &SolveLimits) -> Result<(), Error> {
     if w < limits.min_trace_mm {
         return Err(Error::Invalid(vec![FieldError::new(
             "target",
@@ -252,5 +247,5 @@ fn solve_width_field(
             ),
         )]));
     }
-    Ok((line, sol))
+    Ok(())
 }
