@@ -44,56 +44,59 @@ fn tmp_file(name: &str, text: &str) -> PathBuf {
     p
 }
 
+/// One everyday line of each structure, as `impedance` flags.
+const STRUCTURE_CASES: [&[&str]; 4] = [
+    &[
+        "--structure",
+        "microstrip",
+        "--er",
+        "4.3",
+        "--h",
+        "0.2",
+        "--t",
+        "0.035",
+    ],
+    &[
+        "--structure",
+        "coated-microstrip",
+        "--er",
+        "4.3",
+        "--h",
+        "0.2",
+        "--mask-t",
+        "0.02",
+        "--mask-er",
+        "3.5",
+    ],
+    &[
+        "--structure",
+        "stripline",
+        "--er",
+        "4.3",
+        "--h1",
+        "0.2",
+        "--h2",
+        "1.0",
+        "--t",
+        "0",
+    ],
+    &[
+        "--structure",
+        "cpwg",
+        "--er",
+        "4.3",
+        "--h",
+        "0.2",
+        "--gap",
+        "0.15",
+        "--t",
+        "0",
+    ],
+];
+
 #[test]
 fn json_has_the_documented_keys_for_every_structure() {
-    let cases: [&[&str]; 4] = [
-        &[
-            "--structure",
-            "microstrip",
-            "--er",
-            "4.3",
-            "--h",
-            "0.2",
-            "--t",
-            "0.035",
-        ],
-        &[
-            "--structure",
-            "coated-microstrip",
-            "--er",
-            "4.3",
-            "--h",
-            "0.2",
-            "--mask-t",
-            "0.02",
-            "--mask-er",
-            "3.5",
-        ],
-        &[
-            "--structure",
-            "stripline",
-            "--er",
-            "4.3",
-            "--h1",
-            "0.2",
-            "--h2",
-            "1.0",
-            "--t",
-            "0",
-        ],
-        &[
-            "--structure",
-            "cpwg",
-            "--er",
-            "4.3",
-            "--h",
-            "0.2",
-            "--gap",
-            "0.15",
-            "--t",
-            "0",
-        ],
-    ];
+    let cases = STRUCTURE_CASES;
     for c in cases {
         for extra in [&["--width", "0.3"][..], &["--target", "50"][..]] {
             let mut args = vec!["impedance", "--json"];
@@ -561,54 +564,7 @@ fn stackups_lists_and_prints_builtins() {
 // field solver claims 0.06 % at its default accuracy.
 #[test]
 fn field_method_for_every_structure() {
-    let cases: [&[&str]; 4] = [
-        &[
-            "--structure",
-            "microstrip",
-            "--er",
-            "4.3",
-            "--h",
-            "0.2",
-            "--t",
-            "0.035",
-        ],
-        &[
-            "--structure",
-            "coated-microstrip",
-            "--er",
-            "4.3",
-            "--h",
-            "0.2",
-            "--mask-t",
-            "0.02",
-            "--mask-er",
-            "3.5",
-        ],
-        &[
-            "--structure",
-            "stripline",
-            "--er",
-            "4.3",
-            "--h1",
-            "0.2",
-            "--h2",
-            "1.0",
-            "--t",
-            "0",
-        ],
-        &[
-            "--structure",
-            "cpwg",
-            "--er",
-            "4.3",
-            "--h",
-            "0.2",
-            "--gap",
-            "0.15",
-            "--t",
-            "0",
-        ],
-    ];
+    let cases = STRUCTURE_CASES;
     for c in cases {
         let mut args = vec!["impedance", "--json", "--method", "field", "--target", "50"];
         args.extend_from_slice(c);

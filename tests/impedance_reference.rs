@@ -13,41 +13,9 @@
 //!   (worked values of the same formulas).
 
 use loopwright::solve::impedance::*;
-use toml::Value;
+mod common;
 
-fn refs() -> Value {
-    let text = std::fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/impedance_refs.toml"
-    ))
-    .expect("reference file");
-    toml::from_str(&text).expect("reference TOML")
-}
-
-fn section(v: &Value, name: &str) -> Vec<Value> {
-    let s = v[name].as_array().expect(name).clone();
-    assert!(!s.is_empty(), "section {name} is empty");
-    s
-}
-
-fn f(e: &Value, k: &str) -> f64 {
-    e[k].as_float().unwrap_or_else(|| panic!("{k} in {e:?}"))
-}
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a / b - 1.0).abs()
-}
-
-fn stripline(w: f64, h1: f64, h2: f64, t: f64, er: f64) -> Line {
-    Line::Stripline(Stripline {
-        width: w,
-        h1,
-        h2,
-        t,
-        er1: er,
-        er2: er,
-    })
-}
+use common::{f, impedance_refs as refs, rel, section, stripline};
 
 // Cohn's exact solution (scipy.special.ellipkm1, call in each entry): same formula, so
 // agreement to 1e-9 (far inside the 0.1 % the engine promises).

@@ -40,6 +40,22 @@ fn mirror(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
     out
 }
 
+/// The signal via: the via pad on the loop's layer with no land on L3 (it joins L1 and L2 only,
+/// with an isolated land on L4).
+fn signal_via(l2: &ReadGerber, l3: &ReadGerber) -> common::ReadFlash {
+    l2.flashes
+        .iter()
+        .find(|f| {
+            f.ap.function == "ViaPad"
+                && !l3
+                    .flashes
+                    .iter()
+                    .any(|h| (h.x - f.x).hypot(h.y - f.y) < 1e-4)
+        })
+        .cloned()
+        .expect("signal via")
+}
+
 /// Pitch limit from first principles: λ/20 at 3 GHz in the highest εr around L2 (4.5, the
 /// core of the built-in stackup): λ = c/(f·√εr).
 fn pitch_limit() -> f64 {
@@ -262,19 +278,8 @@ fn trace_runs_from_the_signal_via_to_the_short_with_the_solved_width() {
             .unwrap()
             .clone();
         let trace = MultiPolygon(vec![trace]);
-        // It starts at the signal via (the via with pads on L1 and L2 only)...
-        let l3 = layer(probe, 3);
-        let signal = g
-            .flashes
-            .iter()
-            .find(|f| {
-                f.ap.function == "ViaPad"
-                    && !l3
-                        .flashes
-                        .iter()
-                        .any(|h| (h.x - f.x).hypot(h.y - f.y) < 1e-4)
-            })
-            .expect("signal via");
+        // It starts at the signal via...
+        let signal = signal_via(&g, &layer(probe, 3));
         let near = |m: &MultiPolygon<f64>, x: f64, y: f64, d: f64| {
             m.intersection(&rect(x - d, y - d, x + d, y + d))
                 .unsigned_area()
@@ -460,18 +465,7 @@ fn connector_centre_pad_is_linked_to_the_signal_via_and_isolated_from_ground() {
             c.0.iter()
                 .find(|p| p.intersects(&geo::Point::new(centre.x, centre.y)))
                 .expect("centre pad copper");
-        let l3 = layer(probe, 3);
-        let signal = g
-            .flashes
-            .iter()
-            .find(|f| {
-                f.ap.function == "ViaPad"
-                    && !l3
-                        .flashes
-                        .iter()
-                        .any(|h| (h.x - f.x).hypot(h.y - f.y) < 1e-4)
-            })
-            .unwrap();
+        let signal = signal_via(&g, &layer(probe, 3));
         assert!(
             piece.intersects(&geo::Point::new(signal.x, signal.y)),
             "{probe}: link broken"

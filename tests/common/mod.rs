@@ -259,3 +259,43 @@ pub fn read_drill(path: &Path) -> Vec<(f64, f64, f64)> {
     }
     out
 }
+
+/// The impedance reference data (`tests/data/impedance_refs.toml`, scipy and scikit-rf values
+/// with the calls that produced them).
+pub fn impedance_refs() -> toml::Value {
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/tests/data/impedance_refs.toml"
+    ))
+    .expect("reference file");
+    toml::from_str(&text).expect("reference TOML")
+}
+
+/// A non-empty section of the reference data.
+pub fn section(v: &toml::Value, name: &str) -> Vec<toml::Value> {
+    let s = v[name].as_array().expect(name).clone();
+    assert!(!s.is_empty(), "section {name} is empty");
+    s
+}
+
+/// A float field of a reference entry.
+pub fn f(e: &toml::Value, k: &str) -> f64 {
+    e[k].as_float().unwrap_or_else(|| panic!("{k} in {e:?}"))
+}
+
+/// Relative difference.
+pub fn rel(a: f64, b: f64) -> f64 {
+    (a / b - 1.0).abs()
+}
+
+/// A stripline in one dielectric.
+pub fn stripline(w: f64, h1: f64, h2: f64, t: f64, er: f64) -> loopwright::solve::impedance::Line {
+    loopwright::solve::impedance::Line::Stripline(loopwright::solve::impedance::Stripline {
+        width: w,
+        h1,
+        h2,
+        t,
+        er1: er,
+        er2: er,
+    })
+}
