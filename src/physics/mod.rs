@@ -11,6 +11,7 @@
 //!   V_out = V_oc·R_L/(R_L + jωL_out + jZ0·tan βl2);
 //! - the probe factor is |H/V_out| in S/m with H the **area-average** field normal to the loop.
 
+pub mod coupling;
 pub mod elliptic2;
 
 use crate::error::{Error, FieldError, check_range};
@@ -173,17 +174,22 @@ fn gauss24() -> (Vec<f64>, Vec<f64>) {
 /// at height `h` over its plane, the loop plane vertical and containing the line's axis,
 /// displaced sideways by `x`: ∫ chord(u)·Hx(x, z0 + u) du, by composite Gauss–Legendre.
 pub fn flux_per_amp(shape: &LoopShape, x: f64, z0: f64, h: f64) -> f64 {
+    integrate_over_loop(shape, |u| hx_line(x, z0 + u, h))
+}
+
+/// ∫ chord(u)·hx(u) du over the loop's height (u in m below the apex, chord in m), by
+/// composite Gauss–Legendre on panels that crowd towards the apex, where fields are strongest.
+pub fn integrate_over_loop(shape: &LoopShape, hx: impl Fn(f64) -> f64) -> f64 {
     let height = loop_height_mm(shape) * 1e-3;
     let (gx, gw) = gauss24();
     let panels = 16;
     let mut s = 0.0;
     for p in 0..panels {
-        // Denser panels near the apex, where the field is strongest.
         let a = height * (p as f64 / panels as f64).powi(2);
         let b = height * ((p + 1) as f64 / panels as f64).powi(2);
         for (xi, wi) in gx.iter().zip(&gw) {
             let u = 0.5 * (a + b) + 0.5 * (b - a) * xi;
-            s += 0.5 * (b - a) * wi * chord_mm(shape, u * 1e3) * 1e-3 * hx_line(x, z0 + u, h);
+            s += 0.5 * (b - a) * wi * chord_mm(shape, u * 1e3) * 1e-3 * hx(u);
         }
     }
     s
@@ -280,11 +286,16 @@ pub struct Response {
     pub options: PredictOptions,
 }
 
+/// The series reactance the loop's EMF sees, X = ωL_outer + Z0·tan βl2, Ω.
+pub fn reactance(r: &Response, w: f64, z0_line: f64, l2: f64, eps_eff: f64) -> f64 {
+    let beta = w * eps_eff.sqrt() / C0;
+    w * r.l_outer + z0_line * (beta * l2).tan()
+}
+
 /// |V_out/H| transfer (V per A/m) at `f` Hz.
 fn transfer(r: &Response, f: f64, z0_line: f64, l2: f64, eps_eff: f64) -> f64 {
     let w = 2.0 * PI * f;
-    let beta = w * eps_eff.sqrt() / C0;
-    let x = w * r.l_outer + z0_line * (beta * l2).tan();
+    let x = reactance(r, w, z0_line, l2, eps_eff);
     w * MU0 * r.area_m2 * R_LOAD / (R_LOAD * R_LOAD + x * x).sqrt()
 }
 
@@ -357,8 +368,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         options: *o,
     };
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.
-    let tip_to_apex = (s.ring_half_width + p.fab.copper_to_edge) * 1e-3;
-    let z0 = o.height_mm * 1e-3 + tip_to_apex;
+    let z0 = o.height_mm * 1e-3 + tip_to_apex_m(p, s);
     let h = o.trace_h_mm * 1e-3;
     let flux0 = flux_per_amp(shape, 0.0, z0, h);
     r.mutual = MU0 * flux0;
@@ -375,6 +385,12 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
     }
     Ok(r)
+}
+
+/// Distance from the probe's tip (its board edge at the apex) to the apex of the loop's
+/// centreline, m: the shield ring's half width plus the copper-to-edge pull-back.
+pub fn tip_to_apex_m(p: &Probe, s: &SolvedProbe) -> f64 {
+    (s.ring_half_width + p.fab.copper_to_edge) * 1e-3
 }
 
 /// The probe factor at one frequency, dB(S/m) (the model of [`predict`]).

@@ -263,12 +263,14 @@ pub fn read_drill(path: &Path) -> Vec<(f64, f64, f64)> {
 /// The impedance reference data (`tests/data/impedance_refs.toml`, scipy and scikit-rf values
 /// with the calls that produced them).
 pub fn impedance_refs() -> toml::Value {
-    let text = std::fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/impedance_refs.toml"
-    ))
-    .expect("reference file");
-    toml::from_str(&text).expect("reference TOML")
+    refs("impedance_refs.toml")
+}
+
+/// A reference data file under `tests/data/` (values with the calls that produced them).
+pub fn refs(name: &str) -> toml::Value {
+    let path = format!("{}/tests/data/{name}", env!("CARGO_MANIFEST_DIR"));
+    let text = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{path}: {e}"));
+    toml::from_str(&text).unwrap_or_else(|e| panic!("{path}: {e}"))
 }
 
 /// A non-empty section of the reference data.

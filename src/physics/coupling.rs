@@ -1,0 +1,157 @@
+//! Coupling between a probe and a test line: the line's magnetic field per ampere, the mutual
+//! inductance to a probe held above it, and the S21 a vector network analyzer would read from the
+//! line's input to the probe's output.
+//!
+//! Model (quasi-static; limits in `docs/response.md`):
+//! - the line is a straight strip of width `w` at height `h` over an infinite perfect ground
+//!   plane; its return current is the image strip at −h (image theory);
+//! - the strip's current is spread uniformly over its width (the finite-width current-sheet
+//!   correction); `w → 0` gives the thin filament. Real microstrip current is edge-peaked and
+//!   lies mostly on the strip's underside, so within about one width of the strip both models
+//!   are approximate;
+//! - the probe stands upright with its loop plane containing the line's axis, tip `height`
+//!   above the strip, so only the field component across the line (`Hx`) threads it;
+//! - the line is matched (its far end in the port impedance), so the current along it is
+//!   I = V_inc/R_port;
+//! - the probe's output follows the transfer of [`super::predict`]:
+//!   V_out = jωM·I·R_L/(R_L + jX), X = ωL_outer + Z0·tan βl2.
+
+use super::{LoopShape, MU0, R_LOAD, Response, loop_height_mm};
+use std::f64::consts::PI;
+
+/// A test line as the coupling model sees it (all m, Ω).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TestLine {
+    /// Strip width, m (0: a thin filament).
+    pub width: f64,
+    /// Height of the strip over its ground plane, m.
+    pub h: f64,
+    /// Port (and termination) impedance, Ω.
+    pub r_port: f64,
+}
+
+/// Field of one strip and its image at (x, z), z above the strip (A/m per A): (Hx, Hz).
+///
+/// Filament (w = 0), image theory:
+///   Hx = (1/2π)·[z/(x² + z²) − (z + 2h)/(x² + (z + 2h)²)],
+///   Hz = −(1/2π)·[x/(x² + z²) − x/(x² + (z + 2h)²)].
+/// Uniform sheet of width w:
+///   Hx = (1/(2πw))·[atan((w/2 − x)/z) + atan((w/2 + x)/z)] − (same with z → z + 2h),
+///   Hz = −(1/(4πw))·ln[((x + w/2)² + z²)/((x − w/2)² + z²)] − (same with z → z + 2h).
+pub fn line_field(x: f64, z: f64, line: &TestLine) -> (f64, f64) {
+    let h = line.h;
+    let w = line.width;
+    if w <= 0.0 {
+        let hx =
+            (z / (x * x + z * z) - (z + 2.0 * h) / (x * x + (z + 2.0 * h).powi(2))) / (2.0 * PI);
+        let hz = -(x / (x * x + z * z) - x / (x * x + (z + 2.0 * h).powi(2))) / (2.0 * PI);
+        return (hx, hz);
+    }
+    let sheet_x = |z: f64| ((w / 2.0 - x) / z).atan() + ((w / 2.0 + x) / z).atan();
+    let sheet_z = |z: f64| (((x + w / 2.0).powi(2) + z * z) / ((x - w / 2.0).powi(2) + z * z)).ln();
+    let hx = (sheet_x(z) - sheet_x(z + 2.0 * h)) / (2.0 * PI * w);
+    let hz = -(sheet_z(z) - sheet_z(z + 2.0 * h)) / (4.0 * PI * w);
+    (hx, hz)
+}
+
+/// Flux per ampere divided by μ0 (m) through an upright loop whose centreline apex is `z0` (m)
+/// above the strip, displaced sideways by `x` (m): ∫ chord(u)·Hx(x, z0 + u) du by composite
+/// Gauss–Legendre, as [`super::flux_per_amp`] but with the strip's own field.
+pub fn flux_per_amp_line(shape: &LoopShape, x: f64, z0: f64, line: &TestLine) -> f64 {
+    super::integrate_over_loop(shape, |u| line_field(x, z0 + u, line).0)
+}
+
+/// The coupling of one probe to one test line at one height.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Coupling {
+    /// Height of the apex of the loop's centreline above the strip, m.
+    pub apex_m: f64,
+    /// Mutual inductance line → probe, H (strip model).
+    pub mutual: f64,
+    /// The same with the strip as a thin filament, H.
+    pub mutual_filament: f64,
+    /// Area-average Hx over the loop per ampere, 1/m: M/(μ0·A). The probe factor's reference.
+    pub h_avg_per_amp: f64,
+    /// Hx at the loop's geometric centre per ampere, 1/m (for comparison only).
+    pub h_centre_per_amp: f64,
+    /// Port impedance, Ω.
+    pub r_port: f64,
+}
+
+impl Coupling {
+    /// Predicted S21 (line input → probe output) at `f` Hz, as (re, im), for a probe whose
+    /// response is `r` (its L_outer) and whose inner line has impedance `z0_line`, half-turn
+    /// `l2` (m) and effective permittivity `eps_eff`.
+    pub fn s21(&self, r: &Response, f: f64, z0_line: f64, l2: f64, eps_eff: f64) -> (f64, f64) {
+        let w = 2.0 * PI * f;
+        let x = super::reactance(r, w, z0_line, l2, eps_eff);
+        // jωM/R_port · R_L/(R_L + jX) = (ωM R_L/R_port)·(X + jR_L)/(R_L² + X²).
+        let k = w * self.mutual * R_LOAD / self.r_port / (R_LOAD * R_LOAD + x * x);
+        (k * x, k * R_LOAD)
+    }
+}
+
+/// The coupling of a probe (shape, centreline-apex offset from its tip) held with its tip
+/// `height_m` above the strip.
+pub fn couple(
+    shape: &LoopShape,
+    area_m2: f64,
+    tip_to_apex_m: f64,
+    height_m: f64,
+    line: &TestLine,
+) -> Coupling {
+    let apex = height_m + tip_to_apex_m;
+    let flux = flux_per_amp_line(shape, 0.0, apex, line);
+    let filament = TestLine {
+        width: 0.0,
+        ..*line
+    };
+    let flux_f = flux_per_amp_line(shape, 0.0, apex, &filament);
+    let centre = apex + loop_height_mm(shape) * 1e-3 / 2.0;
+    Coupling {
+        apex_m: apex,
+        mutual: MU0 * flux,
+        mutual_filament: MU0 * flux_f,
+        h_avg_per_amp: flux / area_m2,
+        h_centre_per_amp: line_field(0.0, centre, line).0,
+        r_port: line.r_port,
+    }
+}
+
+/// Probe factor in dB(S/m) from a measured |S21| (linear) and the reference field per ampere:
+/// PF = (H_ref/I)/(R_port·|S21|), i.e. PF[dB(S/m)] = 20·log10(H_ref/I) − 20·log10(R_port) − |S21|dB.
+pub fn pf_from_s21(s21_mag: f64, h_per_amp: f64, r_port: f64) -> f64 {
+    20.0 * (h_per_amp / (r_port * s21_mag)).log10()
+}
+
+/// The coupling of a built probe held with its tip `height_mm` above the strip.
+pub fn probe_coupling(
+    p: &crate::model::probe::Probe,
+    s: &crate::solve::probe::SolvedProbe,
+    r: &Response,
+    height_mm: f64,
+    line: &TestLine,
+) -> Coupling {
+    couple(
+        &p.shape,
+        r.area_m2,
+        super::tip_to_apex_m(p, s),
+        height_mm * 1e-3,
+        line,
+    )
+}
+
+/// Predicted S21 of a built probe over `freqs` (Hz): (Hz, (re, im)).
+pub fn probe_s21(
+    p: &crate::model::probe::Probe,
+    s: &crate::solve::probe::SolvedProbe,
+    r: &Response,
+    c: &Coupling,
+    freqs: &[f64],
+) -> Vec<(f64, (f64, f64))> {
+    let l2 = p.shape.circumference() * 1e-3 / 2.0;
+    freqs
+        .iter()
+        .map(|&f| (f, c.s21(r, f, p.target_z0, l2, s.solution.eps_eff)))
+        .collect()
+}
