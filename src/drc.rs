@@ -10,6 +10,7 @@
 use crate::artwork::{Artwork, Flash, PadFunction, Shape};
 use crate::geom::TOL;
 use crate::geom::{Board, circle, rect, stroke_round};
+use crate::model::fab::FabProfile;
 use crate::model::probe::Probe;
 use crate::solve::probe::SolvedProbe;
 use geo::{Area, BooleanOps, Contains, Coord, Distance, Euclidean, LineString, MultiPolygon};
@@ -50,6 +51,17 @@ pub fn flash_polygon(fl: &Flash) -> geo::Polygon<f64> {
             fl.at.y + h / 2.0,
         ),
     }
+}
+
+/// A layer's copper without its connector pads (which may reach the board edge).
+fn body_copper(l: &crate::artwork::CopperLayer) -> MultiPolygon<f64> {
+    let others: Vec<Flash> = l
+        .flashes
+        .iter()
+        .filter(|f| f.function != PadFunction::Connector)
+        .copied()
+        .collect();
+    layer_copper(&l.regions, &others)
 }
 
 /// A layer's copper: regions ∪ flashes.
@@ -262,9 +274,10 @@ fn ring_ls(pts: &[Point]) -> LineString<f64> {
     )
 }
 
-/// Runs every check. Returns the violations (empty: clean).
-pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
-    let fab = &p.fab;
+/// The checks every board gets (probe or fixture): closed simple contours, width and space,
+/// copper to edge, drills (size, annular ring, pads, hole gap, inside the outline), mask web and
+/// silkscreen. Returns the violations (empty: clean).
+pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
     let mut out = Vec::new();
     let outline = {
         let mut poly = geo::Polygon::new(ring_ls(&art.profile[0]), vec![]);
@@ -279,22 +292,13 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
             .map(|r| Euclidean.distance(pt, r))
             .fold(f64::INFINITY, f64::min)
     };
-    let (gx0, gy0, gx1, gy1) = art.gap_rect;
-    let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
-    let interior = MultiPolygon(vec![b.interior.clone()]);
     for l in &art.copper {
         let name = format!("L{}", l.n);
         check_rings(&mut out, &name, &l.regions);
         let copper = layer_copper(&l.regions, &l.flashes);
         check_width_space(&mut out, &name, &copper, fab.min_trace, fab.min_space);
         // Copper to edge: regions and non-connector pads.
-        let others: Vec<Flash> = l
-            .flashes
-            .iter()
-            .filter(|f| f.function != PadFunction::Connector)
-            .copied()
-            .collect();
-        let body = layer_copper(&l.regions, &others);
+        let body = body_copper(l);
         for poly in &body.0 {
             for c in poly.exterior().coords() {
                 let pt = geo::Point::new(c.x, c.y);
@@ -311,56 +315,8 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
                 }
             }
         }
-        // No copper inside the loop.
-        let inside = body.intersection(&interior).unsigned_area();
-        if inside > 1e-4 {
-            out.push(Violation {
-                rule: "copper inside the loop",
-                layer: name.clone(),
-                at: Point::ZERO,
-                detail: format!("{inside:.4} mm² of copper where flux must pass"),
-            });
-        }
-        // The gap.
-        let in_gap = copper.intersection(&gap).unsigned_area();
-        if l.signal {
-            // The trace's own area in the gap: its width times the length of its centreline
-            // between the gap's edges (a curved loop crosses on a slant).
-            let half = (gx1 - gx0) / 2.0;
-            let mut len = 0.0;
-            for w in b.trace_path.windows(2) {
-                let (a, c) = (w[0], w[1]);
-                if a.y < gy0 || c.y < gy0 {
-                    continue;
-                }
-                let (lo, hi) = (a.x.min(c.x), a.x.max(c.x));
-                let inside = (hi.min(half) - lo.max(-half)).max(0.0);
-                if hi > lo {
-                    len += (c - a).hypot() * inside / (hi - lo);
-                }
-            }
-            let allowed = b.trace_width * len * 1.01 + 1e-4;
-            if in_gap > allowed || in_gap < 0.5 * allowed {
-                out.push(Violation {
-                    rule: "gap must hold only the trace",
-                    layer: name.clone(),
-                    at: Point::new(0.0, 0.5 * (gy0 + gy1)),
-                    detail: format!(
-                        "{in_gap:.5} mm² of copper in the gap; the trace alone is {:.5} mm²",
-                        b.trace_width * len
-                    ),
-                });
-            }
-        } else if in_gap > 1e-6 {
-            out.push(Violation {
-                rule: "gap free of copper",
-                layer: name.clone(),
-                at: Point::new(0.0, 0.5 * (gy0 + gy1)),
-                detail: format!("{in_gap:.6} mm² of copper in the shield gap"),
-            });
-        }
     }
-    // Drills: size, annular ring, hole gap, inside the board, clear of the gap.
+    // Drills: size, annular ring, hole gap, inside the board.
     for (i, d) in art.drills.iter().enumerate() {
         if d.d < fab.min_drill - 1e-9 {
             out.push(Violation {
@@ -417,88 +373,6 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
                 detail: "hole outside the board or too near its edge".into(),
             });
         }
-        if d.via {
-            let dx = (d.at.x.abs() - gx1).max(0.0);
-            let dy = (gy0 - d.at.y).max(d.at.y - gy1).max(0.0);
-            if dx.hypot(dy) < p.vias.pad / 2.0 + 1e-6 {
-                out.push(Violation {
-                    rule: "via in the gap",
-                    layer: "drill".into(),
-                    at: d.at,
-                    detail: "a via stands in or touches the shield gap".into(),
-                });
-            }
-        }
-    }
-    // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
-    let vias: Vec<Point> = art.drills.iter().filter(|d| d.via).map(|d| d.at).collect();
-    for (i, v) in vias.iter().enumerate() {
-        let nn = vias
-            .iter()
-            .enumerate()
-            .filter(|(j, _)| *j != i)
-            .map(|(_, w)| (*w - *v).hypot())
-            .fold(f64::INFINITY, f64::min);
-        if nn > s.pitch_max + 1e-6 {
-            out.push(Violation {
-                rule: "via pitch above the limit",
-                layer: "drill".into(),
-                at: *v,
-                detail: format!("nearest via {nn:.3} mm > {:.3} mm (λ/N)", s.pitch_max),
-            });
-        }
-        // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
-        if nn < s.pitch_min - 1e-5 {
-            out.push(Violation {
-                rule: "via pitch below the fab minimum",
-                layer: "drill".into(),
-                at: *v,
-                detail: format!("nearest via {nn:.3} mm < {:.3} mm", s.pitch_min),
-            });
-        }
-    }
-    // Stitching rows along the loop: consecutive vias no farther apart than the limit, except
-    // across the gap and where the feed and the short cross the outer row.
-    for off in [-s.fence_offset, s.fence_offset] {
-        let half = crate::geom::shape::left_half(&p.shape, off);
-        let sl = crate::geom::shape::arclengths(&half);
-        let mut on_row: Vec<f64> = vias
-            .iter()
-            .filter(|v| v.x <= 1e-9)
-            .filter_map(|v| {
-                let d = crate::geom::shape::dist_to_polyline(*v, &half);
-                (d < 0.01).then(|| {
-                    // Arc-length position of the closest point.
-                    let mut best = (f64::INFINITY, 0.0);
-                    for (k, w) in half.windows(2).enumerate() {
-                        let ab = w[1] - w[0];
-                        let t = ((*v - w[0]).dot(ab) / ab.hypot2()).clamp(0.0, 1.0);
-                        let dd = (*v - (w[0] + ab * t)).hypot();
-                        if dd < best.0 {
-                            best = (dd, sl[k] + t * ab.hypot());
-                        }
-                    }
-                    best.1
-                })
-            })
-            .collect();
-        on_row.sort_by(|a, b| a.partial_cmp(b).unwrap());
-        for w in on_row.windows(2) {
-            let (p0, _) = crate::geom::shape::point_at(&half, &sl, w[0]);
-            let (q, _) = crate::geom::shape::point_at(&half, &sl, w[1]);
-            let exempt =
-                off > 0.0 && q.x.abs() < s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
-            // Straight-line distance between neighbours along the row.
-            let gap_mm = (q - p0).hypot();
-            if gap_mm > s.pitch_max + 1e-6 && !exempt {
-                out.push(Violation {
-                    rule: "stitching row pitch above the limit",
-                    layer: "drill".into(),
-                    at: q,
-                    detail: format!("{gap_mm:.3} mm > {:.3} mm between neighbours", s.pitch_max),
-                });
-            }
-        }
     }
     // Mask web between openings.
     for (openings, name) in [
@@ -552,4 +426,254 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
         }
     }
     out
+}
+
+/// Runs every check of a probe board: [`check_board`] and the probe's own rules (no copper
+/// inside the loop, the shield gap, via pitch and stitching rows). Returns the violations.
+pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
+    let mut out = check_board(&p.fab, art);
+    let Some((gx0, gy0, gx1, gy1)) = art.gap_rect else {
+        return out;
+    };
+    let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
+    let interior = MultiPolygon(vec![b.interior.clone()]);
+    for l in &art.copper {
+        let name = format!("L{}", l.n);
+        let copper = layer_copper(&l.regions, &l.flashes);
+        let body = body_copper(l);
+        // No copper inside the loop.
+        let inside = body.intersection(&interior).unsigned_area();
+        if inside > 1e-4 {
+            out.push(Violation {
+                rule: "copper inside the loop",
+                layer: name.clone(),
+                at: Point::ZERO,
+                detail: format!("{inside:.4} mm² of copper where flux must pass"),
+            });
+        }
+        // The gap.
+        let in_gap = copper.intersection(&gap).unsigned_area();
+        if l.signal {
+            // The trace's own area in the gap: its width times the length of its centreline
+            // between the gap's edges (a curved loop crosses on a slant).
+            let half = (gx1 - gx0) / 2.0;
+            let mut len = 0.0;
+            for w in b.trace_path.windows(2) {
+                let (a, c) = (w[0], w[1]);
+                if a.y < gy0 || c.y < gy0 {
+                    continue;
+                }
+                let (lo, hi) = (a.x.min(c.x), a.x.max(c.x));
+                let inside = (hi.min(half) - lo.max(-half)).max(0.0);
+                if hi > lo {
+                    len += (c - a).hypot() * inside / (hi - lo);
+                }
+            }
+            let allowed = b.trace_width * len * 1.01 + 1e-4;
+            if in_gap > allowed || in_gap < 0.5 * allowed {
+                out.push(Violation {
+                    rule: "gap must hold only the trace",
+                    layer: name.clone(),
+                    at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                    detail: format!(
+                        "{in_gap:.5} mm² of copper in the gap; the trace alone is {:.5} mm²",
+                        b.trace_width * len
+                    ),
+                });
+            }
+        } else if in_gap > 1e-6 {
+            out.push(Violation {
+                rule: "gap free of copper",
+                layer: name.clone(),
+                at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                detail: format!("{in_gap:.6} mm² of copper in the shield gap"),
+            });
+        }
+    }
+    for d in &art.drills {
+        if d.via {
+            let dx = (d.at.x.abs() - gx1).max(0.0);
+            let dy = (gy0 - d.at.y).max(d.at.y - gy1).max(0.0);
+            if dx.hypot(dy) < p.vias.pad / 2.0 + 1e-6 {
+                out.push(Violation {
+                    rule: "via in the gap",
+                    layer: "drill".into(),
+                    at: d.at,
+                    detail: "a via stands in or touches the shield gap".into(),
+                });
+            }
+        }
+    }
+    // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
+    let vias: Vec<Point> = art.drills.iter().filter(|d| d.via).map(|d| d.at).collect();
+    for (v, nn) in nearest_neighbours(&vias, s.pitch_max, &mut out) {
+        // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
+        if nn < s.pitch_min - 1e-5 {
+            out.push(Violation {
+                rule: "via pitch below the fab minimum",
+                layer: "drill".into(),
+                at: v,
+                detail: format!("nearest via {nn:.3} mm < {:.3} mm", s.pitch_min),
+            });
+        }
+    }
+    // Stitching rows along the loop: consecutive vias no farther apart than the limit, except
+    // across the gap and where the feed and the short cross the outer row.
+    for off in [-s.fence_offset, s.fence_offset] {
+        let half = crate::geom::shape::left_half(&p.shape, off);
+        let sl = crate::geom::shape::arclengths(&half);
+        let mut on_row: Vec<f64> = vias
+            .iter()
+            .filter(|v| v.x <= 1e-9)
+            .filter_map(|v| {
+                let d = crate::geom::shape::dist_to_polyline(*v, &half);
+                (d < 0.01).then(|| {
+                    // Arc-length position of the closest point.
+                    let mut best = (f64::INFINITY, 0.0);
+                    for (k, w) in half.windows(2).enumerate() {
+                        let ab = w[1] - w[0];
+                        let t = ((*v - w[0]).dot(ab) / ab.hypot2()).clamp(0.0, 1.0);
+                        let dd = (*v - (w[0] + ab * t)).hypot();
+                        if dd < best.0 {
+                            best = (dd, sl[k] + t * ab.hypot());
+                        }
+                    }
+                    best.1
+                })
+            })
+            .collect();
+        on_row.sort_by(|a, b| a.partial_cmp(b).unwrap());
+        for w in on_row.windows(2) {
+            let (p0, _) = crate::geom::shape::point_at(&half, &sl, w[0]);
+            let (q, _) = crate::geom::shape::point_at(&half, &sl, w[1]);
+            let exempt =
+                off > 0.0 && q.x.abs() < s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
+            // Straight-line distance between neighbours along the row.
+            let gap_mm = (q - p0).hypot();
+            if gap_mm > s.pitch_max + 1e-6 && !exempt {
+                out.push(Violation {
+                    rule: "stitching row pitch above the limit",
+                    layer: "drill".into(),
+                    at: q,
+                    detail: format!("{gap_mm:.3} mm > {:.3} mm between neighbours", s.pitch_max),
+                });
+            }
+        }
+    }
+    out
+}
+
+/// Runs every check of a fixture board: [`check_board`], the line's continuity from port to
+/// port without touching ground, the keepout (or coplanar gap) along the uniform line, and the
+/// stitching pitch. Returns the violations.
+pub fn check_fixture(
+    f: &crate::model::fixture::Fixture,
+    s: &crate::solve::fixture::SolvedFixture,
+    b: &crate::geom::fixture::FixtureBoard,
+    art: &Artwork,
+) -> Vec<Violation> {
+    use geo::Intersects;
+    let mut out = check_board(&f.fab, art);
+    let Some(l) = art.copper.iter().find(|l| l.n == f.line_layer) else {
+        return out;
+    };
+    let name = format!("L{}", l.n);
+    let copper = layer_copper(&l.regions, &l.flashes);
+    let centres: Vec<Point> = b.pads.iter().filter(|p| p.centre).map(|p| p.at).collect();
+    let at = |q: Point| geo::Point::new(q.x, q.y);
+    let line_part = copper
+        .0
+        .iter()
+        .find(|poly| poly.intersects(&at(centres[0])));
+    match line_part {
+        None => out.push(Violation {
+            rule: "line continuity",
+            layer: name.clone(),
+            at: centres[0],
+            detail: "no copper at port 1's centre pad".into(),
+        }),
+        Some(part) => {
+            if !part.intersects(&at(centres[1])) {
+                out.push(Violation {
+                    rule: "line continuity",
+                    layer: name.clone(),
+                    at: centres[1],
+                    detail: "the line from port 1 does not reach port 2".into(),
+                });
+            }
+            let ground_hit = b
+                .vias
+                .iter()
+                .map(|v| v.at)
+                .chain(b.pads.iter().filter(|p| !p.centre).map(|p| p.at))
+                .find(|q| part.intersects(&at(*q)));
+            if let Some(q) = ground_hit {
+                out.push(Violation {
+                    rule: "line shorted to ground",
+                    layer: name.clone(),
+                    at: q,
+                    detail: "the line's copper reaches a ground pad or via".into(),
+                });
+            }
+            // Keepout along the uniform line.
+            let xu = b.uniform_half_length;
+            let band = MultiPolygon(vec![rect(-xu, -f.width, xu, f.width)]);
+            let ground = MultiPolygon(
+                copper
+                    .0
+                    .iter()
+                    .filter(|poly| !std::ptr::eq(*poly, part))
+                    .cloned()
+                    .collect(),
+            )
+            .intersection(&band);
+            let uniform = rect(-xu, -s.width / 2.0, xu, s.width / 2.0);
+            let d = Euclidean.distance(&MultiPolygon(vec![uniform]), &ground);
+            if !ground.0.is_empty() && d < s.keepout - 1e-3 {
+                out.push(Violation {
+                    rule: "ground too near the line",
+                    layer: name.clone(),
+                    at: Point::ZERO,
+                    detail: format!("{d:.4} mm < {:.4} mm", s.keepout),
+                });
+            }
+        }
+    }
+    // Stitching pitch: every stitching via has a neighbour within the limit.
+    let stitch: Vec<Point> = b
+        .vias
+        .iter()
+        .filter(|v| v.role == crate::geom::ViaRole::OuterRow)
+        .map(|v| v.at)
+        .collect();
+    nearest_neighbours(&stitch, s.pitch_max, &mut out);
+    out
+}
+
+/// Each via with its nearest neighbour's distance; a via whose nearest neighbour is farther than
+/// `pitch_max` is reported as a violation.
+fn nearest_neighbours(
+    vias: &[Point],
+    pitch_max: f64,
+    out: &mut Vec<Violation>,
+) -> Vec<(Point, f64)> {
+    let mut all = Vec::with_capacity(vias.len());
+    for (i, v) in vias.iter().enumerate() {
+        let nn = vias
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| *j != i)
+            .map(|(_, w)| (*w - *v).hypot())
+            .fold(f64::INFINITY, f64::min);
+        if nn > pitch_max + 1e-6 {
+            out.push(Violation {
+                rule: "via pitch above the limit",
+                layer: "drill".into(),
+                at: *v,
+                detail: format!("nearest via {nn:.3} mm > {pitch_max:.3} mm (λ/N)"),
+            });
+        }
+        all.push((*v, nn));
+    }
+    all
 }

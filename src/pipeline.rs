@@ -44,60 +44,15 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
     }
     let response = crate::physics::predict(p, &solved, &crate::physics::PredictOptions::default())?;
     let base = &p.folder;
-    let same = format!("loopwright-{base}");
-    let gerbers: Vec<(String, String)> = emit::gerber::all(&artwork, &same)
-        .into_iter()
-        .map(|(suffix, text)| (format!("{base}-{suffix}"), text))
-        .collect();
-    let n = p.stackup.copper_count();
-    let mut files: Vec<(String, Vec<u8>)> = gerbers
-        .iter()
-        .map(|(name, text)| (name.clone(), text.clone().into_bytes()))
-        .collect();
-    files.push((
-        format!("{base}-PTH.drl"),
-        emit::excellon::drill_file(&artwork.drills, true, n).into_bytes(),
-    ));
-    // A non-plated drill file only when there are non-plated holes (an empty drill file is
-    // not a file readers accept).
-    if artwork.drills.iter().any(|d| !d.plated) {
-        files.push((
-            format!("{base}-NPTH.drl"),
-            emit::excellon::drill_file(&artwork.drills, false, n).into_bytes(),
-        ));
-    }
     let (lo, hi) = board.bbox;
-    files.push((
-        format!("{base}.gbrjob"),
-        emit::job::job(p, (hi.x - lo.x, hi.y - lo.y), &gerbers).into_bytes(),
-    ));
-    files.push((
-        format!("{base}.svg"),
-        emit::svg::composite(&artwork, &format!("{} — {}", p.name, p.shape.size_text()))
-            .into_bytes(),
-    ));
-    for l in &artwork.copper {
-        files.push((
-            format!("{base}-L{}.svg", l.n),
-            emit::svg::copper_layer(&artwork, l).into_bytes(),
-        ));
-    }
-    files.push((
-        format!("{base}-mask-top.svg"),
-        emit::svg::openings_layer(&artwork, &artwork.mask_top, "mask-top").into_bytes(),
-    ));
-    files.push((
-        format!("{base}-mask-bottom.svg"),
-        emit::svg::openings_layer(&artwork, &artwork.mask_bottom, "mask-bottom").into_bytes(),
-    ));
-    files.push((
-        format!("{base}-legend-top.svg"),
-        emit::svg::legend_layer(&artwork, &artwork.silk_top, "legend-top").into_bytes(),
-    ));
-    files.push((
-        format!("{base}-legend-bottom.svg"),
-        emit::svg::legend_layer(&artwork, &artwork.silk_bottom, "legend-bottom").into_bytes(),
-    ));
+    let mut files = artwork_files(
+        base,
+        &artwork,
+        &p.stackup,
+        &p.fab,
+        (hi.x - lo.x, hi.y - lo.y),
+        &format!("{} — {}", p.name, p.shape.size_text()),
+    );
     files.push((
         format!("{base}-response.svg"),
         emit::plot::probe_factor_plot(
@@ -122,6 +77,71 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
         response,
         files,
     })
+}
+
+/// The files every board has, from its artwork: Gerber layers, drill files, the Gerber job file,
+/// the composite SVG preview and one SVG per layer. Names start with `base`.
+pub fn artwork_files(
+    base: &str,
+    artwork: &Artwork,
+    stackup: &crate::model::stackup::Stackup,
+    fab: &crate::model::fab::FabProfile,
+    size: (f64, f64),
+    title: &str,
+) -> Vec<FileEntry> {
+    let same = format!("loopwright-{base}");
+    let gerbers: Vec<(String, String)> = emit::gerber::all(artwork, &same)
+        .into_iter()
+        .map(|(suffix, text)| (format!("{base}-{suffix}"), text))
+        .collect();
+    let n = stackup.copper_count();
+    let mut files: Vec<(String, Vec<u8>)> = gerbers
+        .iter()
+        .map(|(name, text)| (name.clone(), text.clone().into_bytes()))
+        .collect();
+    files.push((
+        format!("{base}-PTH.drl"),
+        emit::excellon::drill_file(&artwork.drills, true, n).into_bytes(),
+    ));
+    // A non-plated drill file only when there are non-plated holes (an empty drill file is
+    // not a file readers accept).
+    if artwork.drills.iter().any(|d| !d.plated) {
+        files.push((
+            format!("{base}-NPTH.drl"),
+            emit::excellon::drill_file(&artwork.drills, false, n).into_bytes(),
+        ));
+    }
+    files.push((
+        format!("{base}.gbrjob"),
+        emit::job::job(base, stackup, fab, size, &gerbers).into_bytes(),
+    ));
+    files.push((
+        format!("{base}.svg"),
+        emit::svg::composite(artwork, title).into_bytes(),
+    ));
+    for l in &artwork.copper {
+        files.push((
+            format!("{base}-L{}.svg", l.n),
+            emit::svg::copper_layer(artwork, l).into_bytes(),
+        ));
+    }
+    files.push((
+        format!("{base}-mask-top.svg"),
+        emit::svg::openings_layer(artwork, &artwork.mask_top, "mask-top").into_bytes(),
+    ));
+    files.push((
+        format!("{base}-mask-bottom.svg"),
+        emit::svg::openings_layer(artwork, &artwork.mask_bottom, "mask-bottom").into_bytes(),
+    ));
+    files.push((
+        format!("{base}-legend-top.svg"),
+        emit::svg::legend_layer(artwork, &artwork.silk_top, "legend-top").into_bytes(),
+    ));
+    files.push((
+        format!("{base}-legend-bottom.svg"),
+        emit::svg::legend_layer(artwork, &artwork.silk_bottom, "legend-bottom").into_bytes(),
+    ));
+    files
 }
 
 /// The spec text of one probe of a family: the shared settings and its own `[[probe]]`.
@@ -383,4 +403,103 @@ pub fn build_to_dir(
     ));
     write_atomically(out, &entries)?;
     Ok((family, built))
+}
+
+/// A test-line fixture carried through the pipeline, with its files in memory.
+#[derive(Debug, Clone)]
+pub struct BuiltFixture {
+    /// The validated fixture.
+    pub fixture: crate::model::fixture::Fixture,
+    /// Its solved values.
+    pub solved: crate::solve::fixture::SolvedFixture,
+    /// Its board model.
+    pub board: crate::geom::fixture::FixtureBoard,
+    /// Its artwork.
+    pub artwork: Artwork,
+    /// Design-rule violations (empty unless forced).
+    pub violations: Vec<Violation>,
+    /// Its files: (name inside its folder, content).
+    pub files: Vec<FileEntry>,
+}
+
+/// Builds a fixture in memory. A copy of its spec is written beside its files (with the stackup
+/// file, if the stackup is a file, as `stackup.toml`).
+pub fn build_fixture(
+    spec: &crate::spec::fixture::FixtureFileSpec,
+    base: &Path,
+    force: bool,
+) -> Result<BuiltFixture, Error> {
+    let f = crate::model::fixture::fixture_from_spec(spec, base)?;
+    let solved = crate::solve::fixture::solve(&f)?;
+    let board = crate::geom::fixture::build(&f, &solved);
+    let artwork = crate::artwork::fixture::compose(&f, &board);
+    let violations = crate::drc::check_fixture(&f, &solved, &board, &artwork);
+    if !violations.is_empty() && !force {
+        return Err(Error::Drc {
+            probe: f.name.clone(),
+            violations: violations.iter().map(|v| v.to_string()).collect(),
+        });
+    }
+    let base_name = f.folder.clone();
+    let mut files = artwork_files(
+        &base_name,
+        &artwork,
+        &f.stackup,
+        &f.fab,
+        (f.length, f.width),
+        &format!(
+            "{} — {} Ω test line, w {:.3} mm",
+            f.name,
+            crate::model::probe::num(f.target_z0),
+            solved.width
+        ),
+    );
+    let mut spec_copy = spec.clone();
+    let stackup_name = spec
+        .fixture
+        .as_ref()
+        .and_then(|x| x.stackup.clone())
+        .unwrap_or_default();
+    if !stackup_name.is_empty() && crate::model::stackup::builtin(&stackup_name).is_none() {
+        let path = base.join(&stackup_name);
+        let text = std::fs::read(&path).map_err(|e| Error::Io {
+            path: path.display().to_string(),
+            source: e,
+        })?;
+        files.push(("stackup.toml".into(), text));
+        if let Some(x) = spec_copy.fixture.as_mut() {
+            x.stackup = Some("stackup.toml".into());
+        }
+    }
+    files.push((
+        format!("{base_name}.toml"),
+        format!(
+            "# Spec of fixture '{}', as built by loopwright {}.\n{}",
+            f.name,
+            env!("CARGO_PKG_VERSION"),
+            toml::to_string(&spec_copy).unwrap_or_default()
+        )
+        .into_bytes(),
+    ));
+    let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
+    let notes_name = format!("{base_name}-fab-notes.md");
+    names.push(notes_name.clone());
+    let notes = emit::notes::fixture_notes(&f, &solved, &artwork, &names, &violations);
+    files.push((notes_name, notes.into_bytes()));
+    Ok(BuiltFixture {
+        fixture: f,
+        solved,
+        board,
+        artwork,
+        violations,
+        files,
+    })
+}
+
+/// The fixture's files as entries under its folder.
+pub fn fixture_entries(b: &BuiltFixture) -> Vec<(PathBuf, Vec<u8>)> {
+    b.files
+        .iter()
+        .map(|(name, bytes)| (PathBuf::from(&b.fixture.folder).join(name), bytes.clone()))
+        .collect()
 }

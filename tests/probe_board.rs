@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{ReadGerber, copper, demo_dir, read_drill, read_gerber};
+use common::{ReadGerber, copper, demo_dir, read_drill, read_gerber, rect};
 use geo::algorithm::buffer::Buffer;
 use geo::{Area, BooleanOps, BoundingRect, Contains, Coord, LineString, MultiPolygon, Polygon};
 use std::path::PathBuf;
@@ -20,14 +20,6 @@ fn file(probe: &str, suffix: &str) -> PathBuf {
 
 fn layer(probe: &str, n: usize) -> ReadGerber {
     read_gerber(&file(probe, &format!("L{n}.gbr")))
-}
-
-fn rect(x0: f64, y0: f64, x1: f64, y1: f64) -> MultiPolygon<f64> {
-    let c = |x, y| Coord { x, y };
-    MultiPolygon(vec![Polygon::new(
-        LineString::from(vec![c(x0, y0), c(x1, y0), c(x1, y1), c(x0, y1)]),
-        vec![],
-    )])
 }
 
 fn mirror(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
@@ -143,12 +135,7 @@ fn vias_keep_the_pitch_limit_and_stay_out_of_the_gap() {
         let holes = read_drill(&file(probe, "PTH.drl"));
         assert!(holes.len() > 20, "{probe}");
         for (i, &(x, y, _)) in holes.iter().enumerate() {
-            let nn = holes
-                .iter()
-                .enumerate()
-                .filter(|(j, _)| *j != i)
-                .map(|(_, h)| (h.0 - x).hypot(h.1 - y))
-                .fold(f64::INFINITY, f64::min);
+            let nn = common::nearest_hole(&holes, i);
             assert!(
                 nn <= limit + UM,
                 "{probe}: via at ({x}, {y}) has no neighbour within {limit}"

@@ -8,10 +8,41 @@ use crate::model::probe::Probe;
 use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
 use kurbo::Point;
 
-/// The net every copper object belongs to: the loop trace is shorted to the shield at its far
-/// end, so the whole probe is one net at DC (the fab's electrical test must expect the centre
-/// pad to be continuous with the shield).
+pub mod fixture;
+
+/// The net every copper object of a probe belongs to: the loop trace is shorted to the shield at
+/// its far end, so the whole probe is one net at DC (the fab's electrical test must expect the
+/// centre pad to be continuous with the shield).
 pub const NET: &str = "PROBE";
+
+/// Net names of a board's copper objects (the Gerber `.N` attribute).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Nets {
+    /// The net of every object not in `signal`.
+    pub default: &'static str,
+    /// A second net and the area it covers: an object whose first point (a region's first
+    /// vertex, a flash's centre) lies in the area belongs to it.
+    pub signal: Option<(&'static str, MultiPolygon<f64>)>,
+}
+
+impl Nets {
+    /// One net for everything.
+    pub fn one(name: &'static str) -> Nets {
+        Nets {
+            default: name,
+            signal: None,
+        }
+    }
+
+    /// The net of an object whose first point is `p`.
+    pub fn at(&self, p: Point) -> &'static str {
+        use geo::Intersects;
+        match &self.signal {
+            Some((name, area)) if area.intersects(&geo::Point::new(p.x, p.y)) => name,
+            _ => self.default,
+        }
+    }
+}
 
 /// What a flash is for (its Gerber aperture function).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -55,6 +86,19 @@ pub enum Side {
     Inner,
     /// Bottom.
     Bottom,
+}
+
+impl Side {
+    /// The side of copper layer `n` (1 = top) of `count`.
+    pub fn of(n: usize, count: usize) -> Side {
+        if n == 1 {
+            Side::Top
+        } else if n == count {
+            Side::Bottom
+        } else {
+            Side::Inner
+        }
+    }
 }
 
 /// One copper layer.
@@ -104,8 +148,12 @@ pub struct Artwork {
     pub profile: Vec<Vec<Point>>,
     /// Holes.
     pub drills: Vec<Drill>,
-    /// The shield gap rectangle (x0, y0, x1, y1), for checks.
-    pub gap_rect: (f64, f64, f64, f64),
+    /// A probe's shield gap rectangle (x0, y0, x1, y1), for checks; None on a fixture.
+    pub gap_rect: Option<(f64, f64, f64, f64)>,
+    /// Net names of the copper objects.
+    pub nets: Nets,
+    /// What the signal layer and the other copper layers carry, for legends.
+    pub layer_roles: (&'static str, &'static str),
 }
 
 /// Rounds a length to the 1 nm grid.
@@ -113,7 +161,7 @@ pub fn snap(v: f64) -> f64 {
     (v * 1e6).round() / 1e6
 }
 
-fn snap_pt(p: Point) -> Point {
+pub(crate) fn snap_pt(p: Point) -> Point {
     Point::new(snap(p.x), snap(p.y))
 }
 
@@ -182,11 +230,32 @@ pub fn snap_regions(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
     )
 }
 
-fn pad_flash(pd: &Pad) -> Flash {
+pub(crate) fn pad_flash(pd: &Pad) -> Flash {
     Flash {
         at: snap_pt(pd.at),
         shape: Shape::Rect(snap(pd.w), snap(pd.h)),
         function: PadFunction::Connector,
+    }
+}
+
+/// The plated drills of vias.
+pub(crate) fn via_drills(vias: &[crate::geom::Via]) -> Vec<Drill> {
+    vias.iter()
+        .map(|v| Drill {
+            at: snap_pt(v.at),
+            d: snap(v.drill),
+            plated: true,
+            via: true,
+        })
+        .collect()
+}
+
+/// The solder-mask opening of a pad: the pad grown by the mask expansion on every side.
+pub(crate) fn mask_opening(pd: &Pad, exp: f64) -> Flash {
+    Flash {
+        at: snap_pt(pd.at),
+        shape: Shape::Rect(snap(pd.w + 2.0 * exp), snap(pd.h + 2.0 * exp)),
+        function: PadFunction::MaskOpening,
     }
 }
 
@@ -208,13 +277,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     let shield_cut = b.shield.difference(&gap);
     let mut copper = Vec::new();
     for n in 1..=n_layers {
-        let side = if n == 1 {
-            Side::Top
-        } else if n == n_layers {
-            Side::Bottom
-        } else {
-            Side::Inner
-        };
+        let side = Side::of(n, n_layers);
         let signal = n == p.signal_layer;
         let regions = if signal {
             let channel = stroke_butt(&b.trace_path[..=b.exit_index], b.trace_width / 2.0 + c);
@@ -277,11 +340,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         });
     }
     let exp = p.fab.mask_expansion;
-    let opening = |pd: &Pad| Flash {
-        at: snap_pt(pd.at),
-        shape: Shape::Rect(snap(pd.w + 2.0 * exp), snap(pd.h + 2.0 * exp)),
-        function: PadFunction::MaskOpening,
-    };
+    let opening = |pd: &Pad| mask_opening(pd, exp);
     // A hole through a connector pad is already inside that pad's opening: no second opening
     // (two overlapping openings would leave a zero-width web between them).
     let inside_pad = |h: &crate::geom::Hole| {
@@ -325,16 +384,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     for r in b.outline.interiors() {
         profile.push(ring_points(r));
     }
-    let mut drills: Vec<Drill> = b
-        .vias
-        .iter()
-        .map(|v| Drill {
-            at: snap_pt(v.at),
-            d: snap(v.drill),
-            plated: true,
-            via: true,
-        })
-        .collect();
+    let mut drills = via_drills(&b.vias);
     drills.extend(b.holes.iter().map(|h| Drill {
         at: snap_pt(h.at),
         d: snap(h.drill),
@@ -350,11 +400,13 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         silk_width: snap(p.fab.silk_width),
         profile,
         drills,
-        gap_rect: (-g2, b.gap_y.0, g2, b.gap_y.1),
+        gap_rect: Some((-g2, b.gap_y.0, g2, b.gap_y.1)),
+        nets: Nets::one(NET),
+        layer_roles: ("loop trace", "shield"),
     }
 }
 
-fn ring_points(ls: &LineString<f64>) -> Vec<Point> {
+pub(crate) fn ring_points(ls: &LineString<f64>) -> Vec<Point> {
     let r = snap_ring(ls);
     r.coords().map(|c| Point::new(c.x, c.y)).collect()
 }

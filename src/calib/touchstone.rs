@@ -19,6 +19,8 @@ pub struct Network {
     pub freqs: Vec<f64>,
     /// S-parameters per frequency, row-major `s[i*n + j]` = S(i+1)(j+1).
     pub s: Vec<Vec<Complex>>,
+    /// The file's line number (1-based) where each frequency's point starts.
+    pub lines: Vec<usize>,
 }
 
 fn err(path: &str, line: usize, why: impl Into<String>) -> Error {
@@ -148,6 +150,7 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
     }
     let mut freqs = Vec::new();
     let mut s = Vec::new();
+    let mut lines = Vec::new();
     for chunk in nums.chunks(per_point) {
         let (f, line) = (chunk[0].0 * unit, chunk[0].1);
         if f < 0.0 {
@@ -191,12 +194,14 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
         }
         freqs.push(f);
         s.push(m);
+        lines.push(line);
     }
     Ok(Network {
         ports,
         r_ref,
         freqs,
         s,
+        lines,
     })
 }
 

@@ -1,7 +1,10 @@
 //! `loopwright build`: a probe or family spec to fabrication files.
 
 use crate::error::Error;
-use crate::pipeline::{BuiltProbe, build_to_dir};
+use crate::pipeline::{
+    BuiltFixture, BuiltProbe, build_fixture, build_to_dir, fixture_entries, write_atomically,
+};
+use crate::spec::fixture::FixtureFileSpec;
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
 use std::path::{Path, PathBuf};
@@ -9,7 +12,8 @@ use std::path::{Path, PathBuf};
 /// Arguments of `loopwright build`.
 #[derive(Debug, clap::Args)]
 pub struct BuildArgs {
-    /// The probe or family spec (TOML; see docs/probe-spec.md).
+    /// The probe or family spec (TOML; see docs/probe-spec.md), or a test-line fixture spec
+    /// (a file with a [fixture] table; see docs/fixture-spec.md).
     pub spec: PathBuf,
     /// Output folder: one sub-folder per probe, named from the probe's name.
     #[arg(long, value_name = "DIR")]
@@ -53,13 +57,54 @@ pub fn print_summary(out: &Path, built: &[BuiltProbe]) {
     }
 }
 
+/// Prints the summary of a fixture build.
+pub fn print_fixture(out: &Path, b: &BuiltFixture) {
+    let s = &b.solved;
+    outln!(
+        "fixture {}: {} Ω {} on L{} of {}, w {:.3} mm ({:.2} Ω by {}{}), {:.1} × {:.1} mm, {} vias
+  folder {}",
+        b.fixture.name,
+        crate::model::probe::num(b.fixture.target_z0),
+        s.line.structure().name(),
+        b.fixture.line_layer,
+        b.fixture.stackup.name(),
+        s.width,
+        s.solution.z0,
+        s.solution.method,
+        s.field_z0
+            .map(|z| format!("; field solver {z:.2} Ω"))
+            .unwrap_or_default(),
+        b.fixture.length,
+        b.fixture.width,
+        b.board.vias.len(),
+        out.join(&b.fixture.folder).display()
+    );
+    if !b.violations.is_empty() {
+        outln!(
+            "  ! {} design-rule violation(s), written because of --force",
+            b.violations.len()
+        );
+    }
+}
+
 pub(super) fn run(a: &BuildArgs) -> Result<(), Error> {
     let text = std::fs::read_to_string(&a.spec).map_err(|e| Error::Io {
         path: a.spec.display().to_string(),
         source: e,
     })?;
-    let spec: ProbeFileSpec = parse_toml(&text, &a.spec.display().to_string())?;
+    let path = a.spec.display().to_string();
     let base = a.spec.parent().unwrap_or(Path::new("."));
+    // A spec with a [fixture] table is a test-line fixture; anything else is a probe spec.
+    let probe_or_fixture: toml::Value = parse_toml(&text, &path)?;
+    if probe_or_fixture.get("fixture").is_some() {
+        let spec: FixtureFileSpec = parse_toml(&text, &path)?;
+        let built = build_fixture(&spec, base, a.force)?;
+        write_atomically(&a.out, &fixture_entries(&built))?;
+        print_fixture(&a.out, &built);
+        outln!("\n{}", super::CAL_CAUTIONS);
+        return Ok(());
+    }
+    let spec: ProbeFileSpec = parse_toml(&text, &path)?;
     let (_, built) = build_to_dir(&spec, base, &a.out, a.force, Vec::new())?;
     print_summary(&a.out, &built);
     Ok(())

@@ -29,6 +29,9 @@ pub struct ConvertArgs {
     /// Output CSV (`freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv`).
     #[arg(long, value_name = "FILE.csv")]
     pub out: PathBuf,
+    /// Also draw the field strength against frequency as an SVG plot.
+    #[arg(long, value_name = "FILE.svg")]
+    pub plot: Option<PathBuf>,
     /// Extend the probe-factor and gain tables' end segments to readings outside them.
     #[arg(long)]
     pub extrapolate: bool,
@@ -66,17 +69,66 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
         a.cable_db,
         a.extrapolate,
     )?;
-    // Written beside the target and renamed into place: a refused run writes nothing.
-    let tmp = a.out.with_extension(format!("tmp-{}", std::process::id()));
+    // Written beside the targets and renamed into place: a refused run writes nothing.
     let io = |path: &PathBuf| {
         let path = path.display().to_string();
         move |e: std::io::Error| Error::Io { path, source: e }
     };
-    std::fs::write(&tmp, to_csv(&points)).map_err(io(&tmp))?;
-    std::fs::rename(&tmp, &a.out).map_err(|e| {
-        let _ = std::fs::remove_file(&tmp);
-        io(&a.out)(e)
-    })?;
+    let mut outputs = vec![(a.out.clone(), to_csv(&points))];
+    if let Some(plot) = &a.plot {
+        let series = crate::emit::plot::Series {
+            label: format!(
+                "{} with {}",
+                a.readings
+                    .file_name()
+                    .map(|n| n.to_string_lossy().to_string())
+                    .unwrap_or_default(),
+                a.factor
+                    .file_name()
+                    .map(|n| n.to_string_lossy().to_string())
+                    .unwrap_or_default()
+            ),
+            colour: "#1f5fa8",
+            points: points.iter().map(|p| (p.freq_hz, p.h_dbua_per_m)).collect(),
+            marker_hz: None,
+        };
+        outputs.push((
+            plot.clone(),
+            crate::emit::plot::log_plot(
+                "Field strength from the analyzer readings",
+                "H dBµA/m",
+                "field-plot",
+                &[series],
+            ),
+        ));
+    }
+    let mut staged = Vec::new();
+    for (path, text) in &outputs {
+        let leaf = path
+            .file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_default();
+        let tmp = path.with_file_name(format!(".{leaf}.tmp-{}", std::process::id()));
+        if let Err(e) = std::fs::write(&tmp, text) {
+            let _ = std::fs::remove_file(&tmp);
+            for (t, _) in &staged {
+                let _ = std::fs::remove_file(t);
+            }
+            return Err(io(&tmp)(e));
+        }
+        staged.push((tmp, path.clone()));
+    }
+    for (k, (tmp, path)) in staged.iter().enumerate() {
+        if let Err(e) = std::fs::rename(tmp, path) {
+            for (t, _) in &staged[k..] {
+                let _ = std::fs::remove_file(t);
+            }
+            for (_, p) in &staged[..k] {
+                let _ = std::fs::remove_file(p);
+            }
+            return Err(io(path)(e));
+        }
+    }
     let max = points
         .iter()
         .map(|p| p.h_dbua_per_m)

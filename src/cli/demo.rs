@@ -3,11 +3,15 @@
 //! The scenario (invented): the bench team at "Fenwick Marsh Instruments" has a motor-drive
 //! controller whose 48 MHz clock harmonics fail a radiated-emissions pre-scan. They order a
 //! family of printed loop probes on the usual 1.6 mm four-layer build, loop trace on L2:
-//! round loops of 20, 10 and 5 mm and a flat-tipped 12 × 6 mm loop.
+//! round loops of 20, 10 and 5 mm and a flat-tipped 12 × 6 mm loop, and a 50 Ω test-line
+//! fixture on a two-layer board to calibrate them. The demo also writes invented bench data (a
+//! VNA file of FM-R10 on the fixture and an analyzer scan of the controller) for the README's
+//! calibrate-and-convert walk-through; `examples/demo_bench_data.rs` made them.
 
-use super::build::print_summary;
+use super::build::{print_fixture, print_summary};
 use crate::error::Error;
-use crate::pipeline::build_to_dir;
+use crate::pipeline::{build_fixture, build_to_dir, fixture_entries};
+use crate::spec::fixture::FixtureFileSpec;
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
 use std::path::{Path, PathBuf};
@@ -16,6 +20,21 @@ use std::path::{Path, PathBuf};
 pub const DEMO_SPEC: &str = include_str!("../../data/demo/fenwick-marsh-probes.toml");
 /// Its file name.
 pub const DEMO_SPEC_NAME: &str = "fenwick-marsh-probes.toml";
+/// The demo fixture spec, also written into the output folder.
+pub const DEMO_FIXTURE: &str = include_str!("../../data/demo/fenwick-marsh-fixture.toml");
+/// Its file name.
+pub const DEMO_FIXTURE_NAME: &str = "fenwick-marsh-fixture.toml";
+/// Invented bench data: (file name, content).
+pub const DEMO_BENCH: [(&str, &str); 2] = [
+    (
+        "fm-r10-on-fixture-1mm.s2p",
+        include_str!("../../data/demo/fm-r10-on-fixture-1mm.s2p"),
+    ),
+    (
+        "fm-clock-scan.csv",
+        include_str!("../../data/demo/fm-clock-scan.csv"),
+    ),
+];
 
 /// Arguments of `loopwright demo`.
 #[derive(Debug, clap::Args)]
@@ -27,7 +46,21 @@ pub struct DemoArgs {
 
 pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, DEMO_SPEC_NAME)?;
-    let extra = vec![(PathBuf::from(DEMO_SPEC_NAME), DEMO_SPEC.as_bytes().to_vec())];
+    let fx_spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, DEMO_FIXTURE_NAME)?;
+    let fixture = build_fixture(&fx_spec, Path::new("."), false)?;
+    let mut extra = vec![
+        (PathBuf::from(DEMO_SPEC_NAME), DEMO_SPEC.as_bytes().to_vec()),
+        (
+            PathBuf::from(DEMO_FIXTURE_NAME),
+            DEMO_FIXTURE.as_bytes().to_vec(),
+        ),
+    ];
+    extra.extend(
+        DEMO_BENCH
+            .iter()
+            .map(|(n, t)| (PathBuf::from(n), t.as_bytes().to_vec())),
+    );
+    extra.extend(fixture_entries(&fixture));
     let (_, built) = build_to_dir(&spec, Path::new("."), &a.out, false, extra)?;
     outln!(
         "loopwright demo: Fenwick Marsh Instruments' probe family (an invented scenario)\n\
@@ -35,6 +68,16 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
         a.out.join(DEMO_SPEC_NAME).display()
     );
     print_summary(&a.out, &built);
-    outln!("\n{}", super::CAUTIONS);
+    outln!();
+    print_fixture(&a.out, &fixture);
+    outln!(
+        "\ninvented bench data for the calibrate-and-convert walk-through in README.md: {}",
+        DEMO_BENCH
+            .iter()
+            .map(|(n, _)| a.out.join(n).display().to_string())
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    outln!("\n{}\n\n{}", super::CAL_CAUTIONS, super::CAUTIONS);
     Ok(())
 }

@@ -14,8 +14,9 @@ macro_rules! outln {
 }
 
 mod build;
+mod calibrate;
 mod convert;
-mod demo;
+pub mod demo;
 pub use demo::{DEMO_SPEC, DEMO_SPEC_NAME};
 mod impedance;
 pub mod predict;
@@ -31,6 +32,15 @@ protective earth; never touch mains-referenced or high-voltage nodes with it, an
 solder-mask coat as no insulation at all. Respect the maximum input of the analyzer and any \
 preamplifier (start with attenuation until levels are known; use a DC block where a DC path \
 exists). Defer to local codes, the instrument makers' ratings and licensed practice.";
+
+/// Cautions for calibration on the test-line fixture and for level conversion.
+pub const CAL_CAUTIONS: &str = "\
+CALIBRATION: drive the fixture from a VNA or generator at a level its ports and the far-end \
+load are rated for (0 dBm is plenty; a 50 Ω load for 1 W handles +30 dBm). Keep every \
+amplifier out of the line path. A probe near a powered line can deliver more than an \
+analyzer or preamplifier input can take: know the maximum input of each instrument (and \
+whether it is DC-coupled) before connecting, add attenuation first, and never put the fixture \
+on a mains-powered or high-voltage circuit.";
 
 /// loopwright: design printed-circuit shielded H-field loop probes for near-field EMC work.
 #[derive(Debug, Parser)]
@@ -59,6 +69,9 @@ pub enum Command {
     Demo(demo::DemoArgs),
     /// Predict what each probe of a spec measures: inductance, probe factor, band, resolution.
     Predict(predict::PredictArgs),
+    /// Probe factor from a Touchstone file measured on the test-line fixture, beside the
+    /// prediction.
+    Calibrate(calibrate::CalibrateArgs),
     /// Convert spectrum-analyzer readings into field strength with a probe factor.
     Convert(convert::ConvertArgs),
     /// List the built-in stackups, or print one as a TOML file to start from.
@@ -104,6 +117,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Build(a) => build::run(&a),
         Command::Demo(a) => demo::run(&a),
         Command::Predict(a) => predict::run(&a),
+        Command::Calibrate(a) => calibrate::run(&a),
         Command::Convert(a) => convert::run(&a),
         Command::Stackups(a) => stackups::run(&a),
     }

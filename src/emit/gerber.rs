@@ -2,7 +2,7 @@
 //! nanometres (format 4.6, metric); every aperture carries `.AperFunction`, copper objects carry
 //! the `.N` net; no creation date is written, so the output is the same run to run.
 
-use crate::artwork::{Artwork, CopperLayer, Flash, NET, PadFunction, Shape, Side};
+use crate::artwork::{Artwork, CopperLayer, Flash, Nets, PadFunction, Shape, Side};
 use geo::{Area, MultiPolygon};
 use gerber_types::*;
 use kurbo::Point;
@@ -37,7 +37,8 @@ struct Writer {
     cmds: Vec<Command>,
     apertures: Vec<(Shape, ApertureFunction, i32)>,
     next_code: i32,
-    copper: bool,
+    /// Copper files carry net attributes.
+    nets: Option<Nets>,
 }
 
 fn ext(c: ExtendedCode) -> Command {
@@ -53,7 +54,7 @@ impl Writer {
         function: FileFunction,
         polarity: FilePolarity,
         same_coords: &str,
-        copper: bool,
+        nets: Option<Nets>,
     ) -> Self {
         let cmds = vec![
             ext(ExtendedCode::CoordinateFormat(fmt())),
@@ -78,7 +79,7 @@ impl Writer {
             cmds,
             apertures: Vec::new(),
             next_code: 10,
-            copper,
+            nets,
         }
     }
 
@@ -110,11 +111,12 @@ impl Writer {
         code
     }
 
-    fn net(&mut self) {
-        if self.copper {
+    fn net(&mut self, at: Point) {
+        if let Some(nets) = &self.nets {
+            let name = nets.at(at).to_string();
             self.cmds
                 .push(ext(ExtendedCode::ObjectAttribute(ObjectAttribute::Net(
-                    Net::Connected(vec![NET.to_string()]),
+                    Net::Connected(vec![name]),
                 ))));
         }
     }
@@ -138,7 +140,7 @@ impl Writer {
         self.cmds.push(ext(ExtendedCode::ApertureAttribute(
             ApertureAttribute::ApertureFunction(function.clone()),
         )));
-        self.net();
+        self.net(ring[0]);
         self.cmds.push(func(GCode::RegionMode(true)));
         self.cmds
             .push(func(DCode::Operation(Operation::Move(Some(xy(ring[0]))))));
@@ -181,10 +183,10 @@ impl Writer {
     fn flash(&mut self, f: &Flash, function: ApertureFunction) {
         let code = self.aperture(f.shape, function);
         self.cmds.push(func(DCode::SelectAperture(code)));
-        self.net();
+        self.net(f.at);
         self.cmds
             .push(func(DCode::Operation(Operation::Flash(Some(xy(f.at))))));
-        if self.copper {
+        if self.nets.is_some() {
             self.clear_attrs();
         }
     }
@@ -222,7 +224,7 @@ fn pad_function(f: PadFunction) -> ApertureFunction {
 }
 
 /// A copper layer file.
-pub fn copper(layer: &CopperLayer, same_coords: &str) -> String {
+pub fn copper(layer: &CopperLayer, nets: &Nets, same_coords: &str) -> String {
     let pos = match layer.side {
         Side::Top => ExtendedPosition::Top,
         Side::Inner => ExtendedPosition::Inner,
@@ -241,7 +243,7 @@ pub fn copper(layer: &CopperLayer, same_coords: &str) -> String {
         },
         FilePolarity::Positive,
         same_coords,
-        true,
+        Some(nets.clone()),
     );
     // Define the flash apertures first, then draw regions, then flash pads over them.
     for f in &layer.flashes {
@@ -263,7 +265,7 @@ pub fn mask(openings: &[Flash], top: bool, same_coords: &str) -> String {
         FileFunction::SolderMask { pos, index: None },
         FilePolarity::Negative,
         same_coords,
-        false,
+        None,
     );
     w.cmds
         .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
@@ -281,7 +283,7 @@ pub fn legend(strokes: &[Vec<Point>], width: f64, top: bool, same_coords: &str) 
         FileFunction::Legend { pos, index: None },
         FilePolarity::Positive,
         same_coords,
-        false,
+        None,
     );
     w.cmds
         .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
@@ -298,7 +300,7 @@ pub fn profile(rings: &[Vec<Point>], same_coords: &str) -> String {
         FileFunction::Profile(Some(Profile::NonPlated)),
         FilePolarity::Positive,
         same_coords,
-        false,
+        None,
     );
     w.cmds
         .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
@@ -329,7 +331,7 @@ pub fn file_polarity_text(text: &str) -> String {
 pub fn all(art: &Artwork, same_coords: &str) -> Vec<(String, String)> {
     let mut out = Vec::new();
     for l in &art.copper {
-        out.push((format!("L{}.gbr", l.n), copper(l, same_coords)));
+        out.push((format!("L{}.gbr", l.n), copper(l, &art.nets, same_coords)));
     }
     out.push((
         "mask-top.gbr".into(),

@@ -1,18 +1,24 @@
 //! Gerber job file (`.gbrjob`, JSON): board description and the list of image files with
 //! their file functions copied from the files themselves.
 
-use crate::model::probe::Probe;
-use crate::model::stackup::Layer;
+use crate::model::fab::FabProfile;
+use crate::model::stackup::{Layer, Stackup};
 use serde_json::{Value, json};
 
-/// The job file. `files` are (path, Gerber text).
-pub fn job(p: &Probe, size: (f64, f64), files: &[(String, String)]) -> String {
+/// The job file of the board `name`. `files` are (path, Gerber text).
+pub fn job(
+    name: &str,
+    stackup: &Stackup,
+    fab: &FabProfile,
+    size: (f64, f64),
+    files: &[(String, String)],
+) -> String {
     let mut stack = Vec::new();
-    if let Some(m) = p.stackup.mask_top() {
+    if let Some(m) = stackup.mask_top() {
         stack.push(json!({"Type": "SolderMask", "Thickness": m.thickness_mm, "Name": "Top mask"}));
     }
     let mut n = 0;
-    for l in p.stackup.layers() {
+    for l in stackup.layers() {
         match l {
             Layer::Copper(c) => {
                 n += 1;
@@ -26,7 +32,7 @@ pub fn job(p: &Probe, size: (f64, f64), files: &[(String, String)]) -> String {
             })),
         }
     }
-    if let Some(m) = p.stackup.mask_bottom() {
+    if let Some(m) = stackup.mask_bottom() {
         stack.push(
             json!({"Type": "SolderMask", "Thickness": m.thickness_mm, "Name": "Bottom mask"}),
         );
@@ -44,9 +50,9 @@ pub fn job(p: &Probe, size: (f64, f64), files: &[(String, String)]) -> String {
     let rules = |layers: &str| {
         json!({
             "Layers": layers,
-            "PadToPad": p.fab.min_space, "PadToTrack": p.fab.min_space,
-            "TrackToTrack": p.fab.min_space, "MinLineWidth": p.fab.min_trace,
-            "TrackToRegion": p.fab.min_space, "RegionToRegion": p.fab.min_space
+            "PadToPad": fab.min_space, "PadToTrack": fab.min_space,
+            "TrackToTrack": fab.min_space, "MinLineWidth": fab.min_trace,
+            "TrackToRegion": fab.min_space, "RegionToRegion": fab.min_space
         })
     };
     let v = json!({
@@ -57,10 +63,10 @@ pub fn job(p: &Probe, size: (f64, f64), files: &[(String, String)]) -> String {
             }
         },
         "GeneralSpecs": {
-            "ProjectId": {"Name": p.folder, "Revision": "A"},
+            "ProjectId": {"Name": name, "Revision": "A"},
             "Size": {"X": (size.0 * 1e3).round() / 1e3, "Y": (size.1 * 1e3).round() / 1e3},
-            "LayerNumber": p.stackup.copper_count(),
-            "BoardThickness": (p.stackup.thickness_mm() * 1e4).round() / 1e4,
+            "LayerNumber": stackup.copper_count(),
+            "BoardThickness": (stackup.thickness_mm() * 1e4).round() / 1e4,
             "ImpedanceControlled": true
         },
         "DesignRules": [rules("Outer"), rules("Inner")],

@@ -1,6 +1,7 @@
 //! Emitters: they serialise the artwork and the model's numbers into files, and compute no
 //! geometry of their own.
 
+pub mod calibration;
 pub mod excellon;
 pub mod gerber;
 pub mod job;

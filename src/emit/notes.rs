@@ -20,18 +20,7 @@ pub fn notes(
 ) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "# Fabrication notes: {}\n", p.name);
-    if !violations.is_empty() {
-        let _ = writeln!(
-            o,
-            "> **DESIGN-RULE CHECK FAILED — WRITTEN ANYWAY AT THE USER'S REQUEST.** \
-             Do not order this board before the {} violation(s) below are resolved.\n",
-            violations.len()
-        );
-        for v in violations {
-            let _ = writeln!(o, "- {v}");
-        }
-        o.push('\n');
-    }
+    o.push_str(&forced_banner(violations));
     let _ = writeln!(
         o,
         "Printed-circuit shielded H-field loop probe, {} loop, size {} (size = {}). \
@@ -80,44 +69,13 @@ pub fn notes(
          centre pad is continuous with the shield at DC. This is intended: electrical test must \
          expect it.\n"
     );
-    let _ = writeln!(o, "## Stackup (top to bottom)\n");
-    let _ = writeln!(o, "| layer | material | thickness (mm) | εr | tan δ |");
-    let _ = writeln!(o, "|---|---|---|---|---|");
-    if let Some(m) = p.stackup.mask_top() {
-        let _ = writeln!(
-            o,
-            "| mask top | solder mask | {:.3} | {:.2} | |",
-            m.thickness_mm, m.er
-        );
-    }
-    let mut n = 0;
-    for l in p.stackup.layers() {
-        match l {
-            Layer::Copper(c) => {
-                n += 1;
-                let role = if n == p.signal_layer {
-                    "loop trace"
-                } else {
-                    "shield"
-                };
-                let _ = writeln!(o, "| L{n} | copper ({role}) | {:.4} | | |", c.thickness_mm);
-            }
-            Layer::Dielectric(d) => {
-                let _ = writeln!(
-                    o,
-                    "| | {} | {:.3} | {:.2} | {:.3} |",
-                    d.name, d.thickness_mm, d.er, d.loss_tangent
-                );
-            }
+    o.push_str(&stackup_table(&p.stackup, |n| {
+        if n == p.signal_layer {
+            "loop trace"
+        } else {
+            "shield"
         }
-    }
-    if let Some(m) = p.stackup.mask_bottom() {
-        let _ = writeln!(
-            o,
-            "| mask bottom | solder mask | {:.3} | {:.2} | |",
-            m.thickness_mm, m.er
-        );
-    }
+    }));
     let _ = writeln!(o, "\n## Impedance requirement\n");
     let (above, below) = (p.signal_layer - 1, p.signal_layer + 1);
     let _ = writeln!(
@@ -176,33 +134,7 @@ pub fn notes(
          not impedance-critical).\n",
         s.top_width
     );
-    let _ = writeln!(o, "## Drill table\n");
-    let _ = writeln!(o, "| finished Ø (mm) | plated | use | count |");
-    let _ = writeln!(o, "|---|---|---|---|");
-    let mut kinds: Vec<(String, bool, bool, usize)> = Vec::new();
-    for d in &art.drills {
-        let key = format!("{:.3}", d.d);
-        if let Some(k) = kinds
-            .iter_mut()
-            .find(|k| k.0 == key && k.1 == d.plated && k.2 == d.via)
-        {
-            k.3 += 1;
-        } else {
-            kinds.push((key, d.plated, d.via, 1));
-        }
-    }
-    for (dia, plated, via, count) in &kinds {
-        let _ = writeln!(
-            o,
-            "| {dia} | {} | {} | {count} |",
-            if *plated { "yes" } else { "no" },
-            if *via {
-                "via (tented)"
-            } else {
-                "connector ground leg"
-            }
-        );
-    }
+    o.push_str(&drill_table(art));
     let _ = writeln!(
         o,
         "\nVia pitch: at most {:.2} mm (λ/{} at {} GHz in εr {:.2}), at least {:.2} mm (fab). \
@@ -285,6 +217,266 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     let _ = writeln!(o, "- Assumptions:");
     for a in crate::cli::predict::ASSUMPTIONS {
         let _ = writeln!(o, "  - {a}");
+    }
+    o
+}
+
+/// The stackup table (Markdown), top to bottom; `role` names what each copper layer carries.
+pub fn stackup_table(
+    stackup: &crate::model::stackup::Stackup,
+    role: impl Fn(usize) -> &'static str,
+) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "## Stackup (top to bottom)\n");
+    let _ = writeln!(o, "| layer | material | thickness (mm) | εr | tan δ |");
+    let _ = writeln!(o, "|---|---|---|---|---|");
+    if let Some(m) = stackup.mask_top() {
+        let _ = writeln!(
+            o,
+            "| mask top | solder mask | {:.3} | {:.2} | |",
+            m.thickness_mm, m.er
+        );
+    }
+    let mut n = 0;
+    for l in stackup.layers() {
+        match l {
+            Layer::Copper(c) => {
+                n += 1;
+                let role = role(n);
+                let _ = writeln!(o, "| L{n} | copper ({role}) | {:.4} | | |", c.thickness_mm);
+            }
+            Layer::Dielectric(d) => {
+                let _ = writeln!(
+                    o,
+                    "| | {} | {:.3} | {:.2} | {:.3} |",
+                    d.name, d.thickness_mm, d.er, d.loss_tangent
+                );
+            }
+        }
+    }
+    if let Some(m) = stackup.mask_bottom() {
+        let _ = writeln!(
+            o,
+            "| mask bottom | solder mask | {:.3} | {:.2} | |",
+            m.thickness_mm, m.er
+        );
+    }
+    o
+}
+
+/// The drill table (Markdown) of an artwork.
+pub fn drill_table(art: &Artwork) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "## Drill table\n");
+    let _ = writeln!(o, "| finished Ø (mm) | plated | use | count |");
+    let _ = writeln!(o, "|---|---|---|---|");
+    let mut kinds: Vec<(String, bool, bool, usize)> = Vec::new();
+    for d in &art.drills {
+        let key = format!("{:.3}", d.d);
+        if let Some(k) = kinds
+            .iter_mut()
+            .find(|k| k.0 == key && k.1 == d.plated && k.2 == d.via)
+        {
+            k.3 += 1;
+        } else {
+            kinds.push((key, d.plated, d.via, 1));
+        }
+    }
+    for (dia, plated, via, count) in &kinds {
+        let _ = writeln!(
+            o,
+            "| {dia} | {} | {} | {count} |",
+            if *plated { "yes" } else { "no" },
+            if *via {
+                "via (tented)"
+            } else {
+                "connector ground leg"
+            }
+        );
+    }
+    o
+}
+
+/// Heights (mm) of the fixture's field table.
+pub const FIELD_TABLE_HEIGHTS_MM: [f64; 7] = [0.5, 1.0, 2.0, 3.0, 5.0, 10.0, 20.0];
+
+/// Fabrication and use notes (Markdown) of a test-line fixture.
+pub fn fixture_notes(
+    f: &crate::model::fixture::Fixture,
+    s: &crate::solve::fixture::SolvedFixture,
+    art: &Artwork,
+    files: &[String],
+    violations: &[Violation],
+) -> String {
+    use crate::physics::coupling::{TestLine, line_field};
+    let mut o = String::new();
+    let _ = writeln!(o, "# Fabrication notes: {} (test-line fixture)\n", f.name);
+    o.push_str(&forced_banner(violations));
+    let _ = writeln!(
+        o,
+        "A {} Ω test line between two coaxial edge-launch connectors, for calibrating near-field \
+         H probes: the line's current is known from the incident power, so its field at a \
+         stated height is known, and the probe's output then gives its probe factor. Generated \
+         by loopwright {}.\n",
+        crate::model::probe::num(f.target_z0),
+        env!("CARGO_PKG_VERSION")
+    );
+    let n = f.stackup.copper_count();
+    let _ = writeln!(o, "## Board\n");
+    let _ = writeln!(
+        o,
+        "- Size: {:.2} × {:.2} mm (outline in the profile file), thickness {:.2} mm without mask",
+        f.length,
+        f.width,
+        f.stackup.thickness_mm()
+    );
+    let _ = writeln!(
+        o,
+        "- {n} copper layers; test line on L{}, ground pour around it, every other layer a \
+         ground plane; {} stitching vias",
+        f.line_layer,
+        art.drills.len()
+    );
+    let _ = writeln!(
+        o,
+        "- Solder mask both sides, covering everything but the connector pads (vias tented); \
+         silkscreen on the line's side"
+    );
+    let _ = writeln!(
+        o,
+        "- **Two nets.** `LINE` (the line and both connectors' centre pads) must be continuous \
+         from port to port and isolated from `GND` (everything else).\n"
+    );
+    o.push_str(&stackup_table(&f.stackup, |k| {
+        if k == f.line_layer {
+            "test line, ground pour"
+        } else {
+            "ground plane"
+        }
+    }));
+    let reference = if f.on_top() { 2 } else { n - 1 };
+    let _ = writeln!(o, "\n## Impedance requirement\n");
+    let _ = writeln!(
+        o,
+        "- **L{}, w = {:.3} mm, {} Ω ± 10 %, referenced to L{reference}** ({}).",
+        f.line_layer,
+        s.width,
+        crate::model::probe::num(f.target_z0),
+        s.line.structure().name()
+    );
+    let _ = writeln!(
+        o,
+        "- Closed form ({}): {:.2} Ω, εeff {:.3}.",
+        s.solution.method, s.solution.z0, s.solution.eps_eff
+    );
+    if let Some(z) = s.field_z0 {
+        let _ = writeln!(
+            o,
+            "- 2-D field solution of the same cross-section: {z:.2} Ω ({:+.2} % from the \
+             closed form).",
+            (s.solution.z0 / z - 1.0) * 100.0
+        );
+    }
+    let _ = writeln!(
+        o,
+        "- Ground on L{} kept {:.3} mm from the line's edges along its uniform part. At each \
+         end the line narrows to the connector's centre pad ({:.3} mm) over {:.3} mm.",
+        f.line_layer, s.keepout, f.connector.centre_pad_width, s.taper
+    );
+    let _ = writeln!(
+        o,
+        "- Line length between the centre pads: {:.2} mm; one-way delay {:.3} ns.\n",
+        s.line_length,
+        s.delay_s * 1e9
+    );
+    o.push_str(&drill_table(art));
+    let _ = writeln!(
+        o,
+        "\nStitching pitch: at most {:.2} mm (λ/{} at {} GHz), at least {:.2} mm (fab). No \
+         non-plated holes, so there is no NPTH drill file.\n",
+        s.pitch_max,
+        crate::model::probe::num(f.vias.pitch_n),
+        crate::model::probe::num(f.vias.f_max_hz / 1e9),
+        s.pitch_min
+    );
+    let _ = writeln!(o, "## Predicted field above the line\n");
+    let line = TestLine {
+        width: s.width * 1e-3,
+        h: s.h * 1e-3,
+        r_port: 50.0,
+    };
+    let thin = TestLine { width: 0.0, ..line };
+    let i_0dbm = (1e-3f64 / 50.0).sqrt();
+    let _ = writeln!(
+        o,
+        "Quasi-static, image theory over the plane {:.3} mm below the line; the strip as a \
+         uniform current sheet {:.3} mm wide (the filament column for comparison). Hx on the \
+         line's axis, at the height above the line's copper. Matched line: I = V_inc/50 Ω, \
+         i.e. {:.3} mA for 0 dBm incident.\n",
+        s.h,
+        s.width,
+        i_0dbm * 1e3
+    );
+    let _ = writeln!(
+        o,
+        "| height (mm) | Hx sheet (A/m per A) | Hx filament (A/m per A) | Hx at 0 dBm (dBµA/m) |"
+    );
+    let _ = writeln!(o, "|---|---|---|---|");
+    for z in FIELD_TABLE_HEIGHTS_MM {
+        let hs = line_field(0.0, z * 1e-3, &line).0;
+        let hf = line_field(0.0, z * 1e-3, &thin).0;
+        let _ = writeln!(
+            o,
+            "| {z} | {hs:.3} | {hf:.3} | {:.2} |",
+            20.0 * (hs * i_0dbm * 1e6).log10()
+        );
+    }
+    let _ = writeln!(o, "\n## Use\n");
+    let _ = writeln!(
+        o,
+        "1. VNA port 1 to PORT 1; PORT 2 to a 50 Ω load (or to VNA port 3, and save a 3-port \
+         file). The probe's connector to VNA port 2.\n\
+         2. Stand the probe on the centre mark with its loop plane containing the line's axis \
+         (the loop along the line), tip at the stated height above the line's copper (a \
+         spacer of known thickness on the solder mask works; add the mask's thickness).\n\
+         3. Measure S21 (line to probe) and save it as Touchstone version 1.\n\
+         4. `loopwright calibrate --touchstone FILE --probes SPEC --probe NAME --fixture \
+         FIXTURE.toml --height MM --out DIR` writes the measured probe factor, the prediction \
+         and their difference.\n"
+    );
+    let _ = writeln!(
+        o,
+        "- Coordinates in mm, origin at the centre of the line, line along x, port 1 at \
+         x = −{:.3}. All files share these coordinates.\n",
+        f.length / 2.0
+    );
+    let _ = writeln!(o, "## Files\n");
+    for name in files {
+        let _ = writeln!(o, "- `{name}`");
+    }
+    let _ = writeln!(
+        o,
+        "\n## Cautions\n\n{}\n\n{CAUTIONS}",
+        crate::cli::CAL_CAUTIONS
+    );
+    o
+}
+
+/// The warning at the top of the notes of a board written past a failed design-rule check
+/// (empty when the check passed).
+fn forced_banner(violations: &[Violation]) -> String {
+    let mut o = String::new();
+    if !violations.is_empty() {
+        let _ = writeln!(
+            o,
+            "> **DESIGN-RULE CHECK FAILED — WRITTEN ANYWAY AT THE USER'S REQUEST.** \
+             Do not order this board before the {} violation(s) below are resolved.\n",
+            violations.len()
+        );
+        for v in violations {
+            let _ = writeln!(o, "- {v}");
+        }
+        o.push('\n');
     }
     o
 }

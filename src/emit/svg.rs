@@ -195,12 +195,12 @@ pub fn composite(art: &Artwork, title: &str) -> String {
     for l in &art.copper {
         let colour = COPPER_COLOURS[(l.n - 1) % COPPER_COLOURS.len()];
         let label = format!(
-            "L{} copper{}",
+            "L{} copper ({})",
             l.n,
             if l.signal {
-                " (loop trace)"
+                art.layer_roles.0
             } else {
-                " (shield)"
+                art.layer_roles.1
             }
         );
         doc = doc

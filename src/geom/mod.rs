@@ -8,6 +8,7 @@
 //! via fences and the short vias). The shield copper itself stays symmetric: vias sit inside
 //! the pour, and the signal via is on the axis.
 
+pub mod fixture;
 pub mod font;
 pub mod shape;
 

@@ -4,6 +4,7 @@
 //! The model does no IO except through [`stackup::load`], which resolves a name or a path.
 
 pub mod fab;
+pub mod fixture;
 pub mod probe;
 pub mod stackup;
 pub mod units;

@@ -332,6 +332,102 @@ fn shape_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> LoopShape {
     }
 }
 
+/// Resolves a stackup name (built-in, or a file relative to `base`); problems go to `out` with
+/// the prefix `stackup: `.
+pub fn stackup_from_spec(
+    name: &str,
+    base: &Path,
+    out: &mut Vec<FieldError>,
+) -> Option<crate::model::stackup::Stackup> {
+    let stackup = if super::stackup::builtin(name).is_some() {
+        load(name)
+    } else {
+        load(&base.join(name).to_string_lossy())
+    };
+    match stackup {
+        Ok(s) => Some(s),
+        Err(Error::Invalid(v)) => {
+            out.extend(v.into_iter().map(|e| e.prefixed("stackup: ")));
+            None
+        }
+        Err(e) => {
+            out.push(FieldError::new("stackup", name, e.to_string()));
+            None
+        }
+    }
+}
+
+/// Validates a via spec (defaults: the probe defaults) against the fab profile.
+pub fn vias_from_spec(
+    spec: Option<&crate::spec::probe::ViaSpec>,
+    fab: &FabProfile,
+    out: &mut Vec<FieldError>,
+) -> Vias {
+    let v = spec.cloned().unwrap_or_default();
+    let vias = Vias {
+        drill: v.drill_mm.unwrap_or(defaults::VIA_DRILL),
+        pad: v.pad_mm.unwrap_or(defaults::VIA_PAD),
+        pitch_n: v.pitch_n.unwrap_or(defaults::PITCH_N),
+        f_max_hz: v.f_max_hz.unwrap_or(defaults::F_MAX_HZ),
+    };
+    check_range(out, "via.drill_mm", vias.drill, fab.min_drill, 3.0);
+    let min_pad = vias.drill + 2.0 * fab.min_annular_ring;
+    check_range(out, "via.pad_mm", vias.pad, min_pad, 5.0);
+    check_range(out, "via.pitch_n", vias.pitch_n, 4.0, 100.0);
+    check_range(out, "via.f_max_hz", vias.f_max_hz, 1e6, 1e11);
+    vias
+}
+
+/// Validates a connector footprint spec (defaults: [`Connector::GENERIC`]) against the fab's
+/// spacing and mask rules.
+pub fn connector_from_spec(
+    spec: Option<&crate::spec::probe::ConnectorSpec>,
+    fab: &FabProfile,
+    out: &mut Vec<FieldError>,
+) -> Connector {
+    let c = spec.cloned().unwrap_or_default();
+    let g = Connector::GENERIC;
+    let connector = Connector {
+        centre_pad_width: c.centre_pad_width_mm.unwrap_or(g.centre_pad_width),
+        centre_pad_length: c.centre_pad_length_mm.unwrap_or(g.centre_pad_length),
+        ground_pad_width: c.ground_pad_width_mm.unwrap_or(g.ground_pad_width),
+        ground_pad_length: c.ground_pad_length_mm.unwrap_or(g.ground_pad_length),
+        ground_pad_offset: c.ground_pad_offset_mm.unwrap_or(g.ground_pad_offset),
+        ground_hole_drill: c.ground_hole_drill_mm.unwrap_or(g.ground_hole_drill),
+    };
+    for (f, v) in [
+        ("centre_pad_width_mm", connector.centre_pad_width),
+        ("centre_pad_length_mm", connector.centre_pad_length),
+        ("ground_pad_width_mm", connector.ground_pad_width),
+        ("ground_pad_length_mm", connector.ground_pad_length),
+        ("ground_pad_offset_mm", connector.ground_pad_offset),
+    ] {
+        check_positive(out, &format!("connector.{f}"), v, 20.0);
+    }
+    check_range(
+        out,
+        "connector.ground_hole_drill_mm",
+        connector.ground_hole_drill,
+        0.0,
+        3.0,
+    );
+    let pad_gap = connector.ground_pad_offset
+        - 0.5 * (connector.ground_pad_width + connector.centre_pad_width);
+    if pad_gap < fab.min_space.max(2.0 * fab.mask_expansion + fab.mask_web) {
+        out.push(FieldError::new(
+            "connector.ground_pad_offset_mm",
+            connector.ground_pad_offset,
+            format!(
+                "leaves {:.3} mm between centre and ground pads; needs at least {:.3} mm \
+                 (fab space, or mask expansion on both pads plus the mask web)",
+                pad_gap,
+                fab.min_space.max(2.0 * fab.mask_expansion + fab.mask_web)
+            ),
+        ));
+    }
+    connector
+}
+
 /// Validates a probe file spec. `base` is the folder of the spec file (stackup paths are
 /// relative to it). Every problem is reported, with its field path.
 pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Error> {
@@ -340,22 +436,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         .stackup
         .clone()
         .unwrap_or_else(|| "common-4l-1.6".into());
-    let stackup = if super::stackup::builtin(&stackup_name).is_some() {
-        load(&stackup_name)
-    } else {
-        load(&base.join(&stackup_name).to_string_lossy())
-    };
-    let stackup = match stackup {
-        Ok(s) => Some(s),
-        Err(Error::Invalid(v)) => {
-            out.extend(v.into_iter().map(|e| e.prefixed("stackup: ")));
-            None
-        }
-        Err(e) => {
-            out.push(FieldError::new("stackup", &stackup_name, e.to_string()));
-            None
-        }
-    };
+    let stackup = stackup_from_spec(&stackup_name, base, &mut out);
     let signal_layer = spec.signal_layer.unwrap_or(2);
     if let Some(st) = &stackup {
         let n = st.copper_count();
@@ -383,18 +464,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
     check_range(&mut out, "clearance_mm", clearance, fab.min_space, 5.0);
     let gap = spec.gap_mm.unwrap_or(defaults::GAP);
     check_range(&mut out, "gap_mm", gap, fab.min_space, 10.0);
-    let v = spec.via.clone().unwrap_or_default();
-    let vias = Vias {
-        drill: v.drill_mm.unwrap_or(defaults::VIA_DRILL),
-        pad: v.pad_mm.unwrap_or(defaults::VIA_PAD),
-        pitch_n: v.pitch_n.unwrap_or(defaults::PITCH_N),
-        f_max_hz: v.f_max_hz.unwrap_or(defaults::F_MAX_HZ),
-    };
-    check_range(&mut out, "via.drill_mm", vias.drill, fab.min_drill, 3.0);
-    let min_pad = vias.drill + 2.0 * fab.min_annular_ring;
-    check_range(&mut out, "via.pad_mm", vias.pad, min_pad, 5.0);
-    check_range(&mut out, "via.pitch_n", vias.pitch_n, 4.0, 100.0);
-    check_range(&mut out, "via.f_max_hz", vias.f_max_hz, 1e6, 1e11);
+    let vias = vias_from_spec(spec.via.as_ref(), &fab, &mut out);
     let h = spec.handle.clone().unwrap_or_default();
     let handle = Handle {
         length: h.length_mm.unwrap_or(defaults::HANDLE_LENGTH),
@@ -402,46 +472,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
     };
     check_range(&mut out, "handle.length_mm", handle.length, 5.0, 300.0);
     check_range(&mut out, "handle.width_mm", handle.width, 2.0, 100.0);
-    let c = spec.connector.clone().unwrap_or_default();
-    let g = Connector::GENERIC;
-    let connector = Connector {
-        centre_pad_width: c.centre_pad_width_mm.unwrap_or(g.centre_pad_width),
-        centre_pad_length: c.centre_pad_length_mm.unwrap_or(g.centre_pad_length),
-        ground_pad_width: c.ground_pad_width_mm.unwrap_or(g.ground_pad_width),
-        ground_pad_length: c.ground_pad_length_mm.unwrap_or(g.ground_pad_length),
-        ground_pad_offset: c.ground_pad_offset_mm.unwrap_or(g.ground_pad_offset),
-        ground_hole_drill: c.ground_hole_drill_mm.unwrap_or(g.ground_hole_drill),
-    };
-    for (f, v) in [
-        ("centre_pad_width_mm", connector.centre_pad_width),
-        ("centre_pad_length_mm", connector.centre_pad_length),
-        ("ground_pad_width_mm", connector.ground_pad_width),
-        ("ground_pad_length_mm", connector.ground_pad_length),
-        ("ground_pad_offset_mm", connector.ground_pad_offset),
-    ] {
-        check_positive(&mut out, &format!("connector.{f}"), v, 20.0);
-    }
-    check_range(
-        &mut out,
-        "connector.ground_hole_drill_mm",
-        connector.ground_hole_drill,
-        0.0,
-        3.0,
-    );
-    let pad_gap = connector.ground_pad_offset
-        - 0.5 * (connector.ground_pad_width + connector.centre_pad_width);
-    if pad_gap < fab.min_space.max(2.0 * fab.mask_expansion + fab.mask_web) {
-        out.push(FieldError::new(
-            "connector.ground_pad_offset_mm",
-            connector.ground_pad_offset,
-            format!(
-                "leaves {:.3} mm between centre and ground pads; needs at least {:.3} mm \
-                 (fab space, or mask expansion on both pads plus the mask web)",
-                pad_gap,
-                fab.min_space.max(2.0 * fab.mask_expansion + fab.mask_web)
-            ),
-        ));
-    }
+    let connector = connector_from_spec(spec.connector.as_ref(), &fab, &mut out);
     if 2.0 * connector.ground_pad_offset + connector.ground_pad_width > handle.width {
         out.push(FieldError::new(
             "handle.width_mm",

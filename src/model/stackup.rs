@@ -77,7 +77,7 @@ pub mod limits {
 }
 
 /// Names of the built-in stackups, with their file text.
-const BUILTINS: [(&str, &str); 2] = [
+const BUILTINS: [(&str, &str); 3] = [
     (
         "common-4l-1.6",
         include_str!("../../data/stackups/common-4l-1.6.toml"),
@@ -85,6 +85,10 @@ const BUILTINS: [(&str, &str); 2] = [
     (
         "slim-4l-0.8",
         include_str!("../../data/stackups/slim-4l-0.8.toml"),
+    ),
+    (
+        "common-2l-1.6",
+        include_str!("../../data/stackups/common-2l-1.6.toml"),
     ),
 ];
 

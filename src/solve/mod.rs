@@ -1,6 +1,7 @@
 //! Solved values: numbers computed from the validated model (impedance, and later via pitch).
 
 pub mod elliptic;
+pub mod fixture;
 pub mod impedance;
 pub mod probe;
 pub mod roots;

@@ -301,3 +301,36 @@ pub fn stripline(w: f64, h1: f64, h2: f64, t: f64, er: f64) -> loopwright::solve
         er2: er,
     })
 }
+
+/// An axis-aligned rectangle as a region set, mm.
+pub fn rect(x0: f64, y0: f64, x1: f64, y1: f64) -> MultiPolygon<f64> {
+    let c = |x, y| Coord { x, y };
+    MultiPolygon(vec![Polygon::new(
+        LineString::from(vec![c(x0, y0), c(x1, y0), c(x1, y1), c(x0, y1)]),
+        vec![],
+    )])
+}
+
+/// Writes a file in this test binary's temporary folder and returns its path.
+pub fn tmp_file(name: &str, text: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!(
+        "loopwright-test-{}-{}",
+        std::process::id(),
+        env!("CARGO_CRATE_NAME")
+    ));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+/// Distance from hole `i` to its nearest neighbour among `holes` ((x, y, d) in mm).
+pub fn nearest_hole(holes: &[(f64, f64, f64)], i: usize) -> f64 {
+    let (x, y, _) = holes[i];
+    holes
+        .iter()
+        .enumerate()
+        .filter(|(j, _)| *j != i)
+        .map(|(_, h)| (h.0 - x).hypot(h.1 - y))
+        .fold(f64::INFINITY, f64::min)
+}

@@ -1,0 +1,168 @@
+//! Probe factor from a measurement on the test-line fixture.
+//!
+//! A VNA drives the fixture's line (port `line_port`, far end matched) and reads the probe
+//! (port `probe_port`). With the line matched, its current is I = V_inc/R_ref, so the field the
+//! probe sees is known from the coupling model ([`crate::physics::coupling`]): the
+//! **area-average** Hx over the loop per ampere, M/(μ0·A), the same field reference as the
+//! predicted probe factor. Then
+//!
+//!   PF = (H_avg/I)/(R_ref·|S21|),  PF[dB(S/m)] = 20·log10(H_avg/I) − 20·log10(R_ref) − |S21|dB.
+
+use crate::calib::touchstone::Network;
+use crate::error::{Error, FieldError};
+use crate::model::probe::Probe;
+use crate::physics::Response;
+use crate::physics::coupling::{Coupling, TestLine, pf_from_s21, probe_coupling, probe_s21};
+use crate::solve::probe::SolvedProbe;
+
+/// One frequency of a calibration.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CalPoint {
+    /// Frequency, Hz.
+    pub f: f64,
+    /// Measured |S21|, dB.
+    pub s21_db: f64,
+    /// Predicted |S21|, dB.
+    pub s21_pred_db: f64,
+    /// Measured probe factor, dB(S/m).
+    pub pf_db: f64,
+    /// Predicted probe factor, dB(S/m).
+    pub pf_pred_db: f64,
+    /// At or below the probe's predicted upper usable frequency.
+    pub in_band: bool,
+}
+
+impl CalPoint {
+    /// Measured minus predicted probe factor, dB.
+    pub fn diff_db(&self) -> f64 {
+        self.pf_db - self.pf_pred_db
+    }
+}
+
+/// A calibration: the points and the coupling they rest on.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Calibration {
+    /// Points, by frequency.
+    pub points: Vec<CalPoint>,
+    /// The probe-to-line coupling at the stated height.
+    pub coupling: Coupling,
+    /// The line as the model saw it.
+    pub line: TestLine,
+    /// Probe tip height above the line's copper, mm.
+    pub height_mm: f64,
+    /// Ports used: (line input, probe output).
+    pub ports: (usize, usize),
+    /// Points at 0 Hz that were skipped (a probe factor needs f > 0).
+    pub skipped_dc: usize,
+}
+
+impl Calibration {
+    /// (mean, largest absolute) difference over the in-band points, dB; None without any.
+    pub fn in_band_diff(&self) -> Option<(f64, f64)> {
+        let d: Vec<f64> = self
+            .points
+            .iter()
+            .filter(|p| p.in_band)
+            .map(|p| p.diff_db())
+            .collect();
+        if d.is_empty() {
+            return None;
+        }
+        let mean = d.iter().sum::<f64>() / d.len() as f64;
+        let max = d.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        Some((mean, max))
+    }
+}
+
+/// Checks the named ports of an n-port file.
+pub fn check_ports(ports: usize, line_port: usize, probe_port: usize) -> Vec<FieldError> {
+    let mut e = Vec::new();
+    for (flag, v) in [("line-port", line_port), ("probe-port", probe_port)] {
+        if v == 0 || v > ports {
+            e.push(FieldError::new(
+                flag,
+                v,
+                format!("the file has ports 1 to {ports}"),
+            ));
+        }
+    }
+    if line_port == probe_port {
+        e.push(FieldError::new(
+            "probe-port",
+            probe_port,
+            "must differ from --line-port",
+        ));
+    }
+    e
+}
+
+/// Derives the probe factor from a measured network. `path` names the file in errors.
+#[allow(clippy::too_many_arguments)]
+pub fn calibrate(
+    p: &Probe,
+    s: &SolvedProbe,
+    r: &Response,
+    line: TestLine,
+    net: &Network,
+    path: &str,
+    (line_port, probe_port): (usize, usize),
+    height_mm: f64,
+) -> Result<Calibration, Error> {
+    let mut errs = check_ports(net.ports, line_port, probe_port);
+    crate::error::check_range(&mut errs, "height", height_mm, 0.0, 100.0);
+    if !errs.is_empty() {
+        return Err(Error::Invalid(errs));
+    }
+    let line = TestLine {
+        r_port: net.r_ref,
+        ..line
+    };
+    let coupling = probe_coupling(p, s, r, height_mm, &line);
+    let s21 = net.param(probe_port, line_port);
+    let mut points = Vec::new();
+    let mut skipped_dc = 0;
+    for (k, &f) in net.freqs.iter().enumerate() {
+        if f == 0.0 {
+            skipped_dc += 1;
+            continue;
+        }
+        let (re, im) = s21[k];
+        let mag = re.hypot(im);
+        if !(mag > 0.0 && mag.is_finite()) {
+            return Err(Error::Parse {
+                path: path.to_string(),
+                message: format!(
+                    "line {}: |S{probe_port}{line_port}| = {mag} at {f} Hz; a probe factor needs \
+                     a finite, non-zero transmission",
+                    net.lines[k]
+                ),
+            });
+        }
+        let (pr, pi) = probe_s21(p, s, r, &coupling, &[f])[0].1;
+        points.push(CalPoint {
+            f,
+            s21_db: 20.0 * mag.log10(),
+            s21_pred_db: 20.0 * pr.hypot(pi).log10(),
+            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp, net.r_ref),
+            pf_pred_db: crate::physics::probe_factor_at(p, s, r, f),
+            in_band: f <= r.upper_hz,
+        });
+    }
+    if points.is_empty() {
+        return Err(Error::Parse {
+            path: path.to_string(),
+            message: format!(
+                "line {}: no point above 0 Hz to derive a probe factor from",
+                net.lines.first().copied().unwrap_or(1)
+            ),
+        });
+    }
+    Ok(Calibration {
+        points,
+        coupling,
+        line,
+        height_mm,
+        ports: (line_port, probe_port),
+        skipped_dc,
+    })
+}

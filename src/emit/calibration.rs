@@ -1,0 +1,208 @@
+//! Files of a calibration: probe-factor tables (the `convert` format), the detail table, plots
+//! and notes.
+
+use super::plot::{Series, hz_label, log_plot};
+use crate::calib::calibrate::Calibration;
+use crate::model::fixture::Fixture;
+use crate::model::probe::Probe;
+use crate::physics::Response;
+use std::fmt::Write;
+
+/// The probe-factor table `freq_hz,pf_db_s_per_m`: measured (`measured`) or predicted at the
+/// measured frequencies.
+pub fn pf_csv(c: &Calibration, measured: bool) -> String {
+    let mut o = String::from("freq_hz,pf_db_s_per_m\n");
+    for p in &c.points {
+        let v = if measured { p.pf_db } else { p.pf_pred_db };
+        let _ = writeln!(o, "{},{v:.4}", p.f);
+    }
+    o
+}
+
+/// The detail table: both S21 and both probe factors, their difference and the band flag.
+pub fn detail_csv(c: &Calibration) -> String {
+    let mut o = String::from(
+        "freq_hz,s21_db,s21_predicted_db,pf_db_s_per_m,pf_predicted_db_s_per_m,difference_db,in_band\n",
+    );
+    for p in &c.points {
+        let _ = writeln!(
+            o,
+            "{},{:.4},{:.4},{:.4},{:.4},{:.4},{}",
+            p.f,
+            p.s21_db,
+            p.s21_pred_db,
+            p.pf_db,
+            p.pf_pred_db,
+            p.diff_db(),
+            p.in_band
+        );
+    }
+    o
+}
+
+/// The probe-factor plot (measured and predicted) and the difference plot.
+pub fn plots(name: &str, c: &Calibration, r: &Response) -> (String, String) {
+    let pf = log_plot(
+        &format!(
+            "{name}: probe factor at {} mm over the test line (area-average H)",
+            c.height_mm
+        ),
+        "probe factor dB(S/m)",
+        "calibration-plot",
+        &[
+            Series {
+                label: "measured (from S21)".into(),
+                colour: "#1f5fa8",
+                points: c.points.iter().map(|p| (p.f, p.pf_db)).collect(),
+                marker_hz: None,
+            },
+            Series {
+                label: format!("predicted (corner {})", hz_label(r.corner_hz)),
+                colour: "#c0392b",
+                points: c.points.iter().map(|p| (p.f, p.pf_pred_db)).collect(),
+                marker_hz: Some(r.corner_hz),
+            },
+        ],
+    );
+    let diff = log_plot(
+        &format!("{name}: measured − predicted probe factor"),
+        "difference dB",
+        "calibration-plot",
+        &[Series {
+            label: "measured − predicted (dashed: upper usable frequency)".into(),
+            colour: "#1f5fa8",
+            points: c.points.iter().map(|p| (p.f, p.diff_db())).collect(),
+            marker_hz: Some(r.upper_hz),
+        }],
+    );
+    (pf, diff)
+}
+
+/// The calibration notes (Markdown).
+pub fn notes(
+    p: &Probe,
+    r: &Response,
+    fx: &Fixture,
+    c: &Calibration,
+    source: &str,
+    files: &[String],
+) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "# Calibration of {} on {}\n", p.name, fx.name);
+    for w in warnings(fx) {
+        let _ = writeln!(o, "> **Note:** {w}\n");
+    }
+    let _ = writeln!(
+        o,
+        "Measured probe factor from `{source}` (S{}{}: VNA port {} on the line's input, port {} \
+         on the probe), probe tip {} mm above the line's copper, loop plane containing the \
+         line's axis, on the centre mark. Written by loopwright {}.\n",
+        c.ports.1,
+        c.ports.0,
+        c.ports.0,
+        c.ports.1,
+        c.height_mm,
+        env!("CARGO_PKG_VERSION")
+    );
+    let _ = writeln!(o, "## Field reference\n");
+    let _ = writeln!(
+        o,
+        "The probe factors here (`pf_db_s_per_m`) are **H / V_probe with H the area-average \
+         field over the loop** (the component normal to the loop), in dB(S/m): the same \
+         reference as loopwright's predicted probe factor. Field strength = reading (dBµV) + \
+         probe factor gives dBµA/m of area-average field.\n"
+    );
+    let _ = writeln!(
+        o,
+        "- Line model: strip {:.3} mm wide, {:.3} mm over its plane, as a uniform current \
+         sheet with its image (quasi-static); matched line, I = V_inc/{} Ω (the file's \
+         reference resistance).",
+        c.line.width * 1e3,
+        c.line.h * 1e3,
+        crate::model::probe::num(c.line.r_port)
+    );
+    let k = &c.coupling;
+    let _ = writeln!(
+        o,
+        "- Loop centreline apex {:.3} mm above the line. Mutual inductance line → probe: \
+         {:.2} pH (sheet), {:.2} pH (thin filament).",
+        k.apex_m * 1e3,
+        k.mutual * 1e12,
+        k.mutual_filament * 1e12
+    );
+    let _ = writeln!(
+        o,
+        "- Area-average Hx per ampere: {:.3} A/m per A ({:.2} dB(1/m)); at the loop's centre \
+         {:.3} A/m per A. A probe factor referred to the centre field would be {:+.2} dB from \
+         these.",
+        k.h_avg_per_amp,
+        20.0 * k.h_avg_per_amp.log10(),
+        k.h_centre_per_amp,
+        20.0 * (k.h_centre_per_amp / k.h_avg_per_amp).log10()
+    );
+    let _ = writeln!(
+        o,
+        "- PF[dB(S/m)] = 20·log10(H_avg/I) − 20·log10(R_ref) − |S21|[dB].\n"
+    );
+    let _ = writeln!(o, "## Result\n");
+    let n_in = c.points.iter().filter(|q| q.in_band).count();
+    let _ = writeln!(
+        o,
+        "- {} points from {} to {}; {n_in} at or below the predicted upper usable frequency \
+         {} (corner {}).",
+        c.points.len(),
+        hz_label(c.points[0].f),
+        hz_label(c.points[c.points.len() - 1].f),
+        hz_label(r.upper_hz),
+        hz_label(r.corner_hz)
+    );
+    if c.skipped_dc > 0 {
+        let _ = writeln!(o, "- {} point(s) at 0 Hz skipped.", c.skipped_dc);
+    }
+    match c.in_band_diff() {
+        Some((mean, max)) => {
+            let _ = writeln!(
+                o,
+                "- Measured − predicted up to the upper usable frequency: mean {mean:+.2} dB, \
+                 largest {max:.2} dB."
+            );
+        }
+        None => {
+            let _ = writeln!(
+                o,
+                "- No point lies at or below the predicted upper usable frequency."
+            );
+        }
+    }
+    let _ = writeln!(
+        o,
+        "\nDifferences of a few dB are usual: the sheet model's field, the height (spacer and \
+         mask), fixture and cable losses not de-embedded, and the probe's own tolerances all \
+         enter. Use the measured table for conversion; keep the prediction as a sanity check.\n"
+    );
+    let _ = writeln!(o, "## Files\n");
+    for f in files {
+        let _ = writeln!(o, "- `{f}`");
+    }
+    let _ = writeln!(
+        o,
+        "\n## Cautions\n\n{}\n\n{}",
+        crate::cli::CAL_CAUTIONS,
+        crate::cli::CAUTIONS
+    );
+    o
+}
+
+/// What the calibration's model does not cover for this fixture.
+pub fn warnings(fx: &Fixture) -> Vec<String> {
+    let mut w = Vec::new();
+    if let crate::model::fixture::FixtureLine::Cpwg { .. } = fx.line {
+        w.push(
+            "the fixture is grounded coplanar: part of the return current flows in the coplanar \
+             ground, which the line model (strip over a plane) leaves out, so the field above \
+             the line is overestimated. Prefer a microstrip fixture for calibration."
+                .to_string(),
+        );
+    }
+    w
+}
