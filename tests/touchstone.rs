@@ -44,7 +44,25 @@ fn three_ports() {
 
 #[test]
 fn malformed_files_are_refused_with_their_line() {
-    let cases: [(&str, usize, &str, &str); 9] = [
+    let cases: [(&str, usize, &str, &str); 12] = [
+        (
+            "# MHz S RI R 50\n1 0 0 0 0 0 0 0 0\n2 0 0 0 0 0 0 0\n3 0 0 0 0 0 0 0 0\n",
+            2,
+            "line 3",
+            "8 numbers: a 2-port point is one line of 9",
+        ),
+        (
+            "# MHz S RI R 50\n! c\n1 0 0 0 0 0 0 0 0\n2 0 0 0 0 0 0 0 0 0\n",
+            2,
+            "line 4",
+            "a missing or extra column",
+        ),
+        (
+            "# MHz S MA R 50\n1 0 0 0 0 0 0\n0 0 0 0 0\n0 0 0 0 0 0\n",
+            3,
+            "line 3",
+            "row 2 of a 3-port point is a line of 6",
+        ),
         ("# MHz S RI R 50\n[Version] 2.0\n", 2, "line 2", "version 2"),
         (
             "# MHz S XX R 50\n1 0 0 0 0 0 0 0 0\n",

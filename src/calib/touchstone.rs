@@ -45,7 +45,7 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
     let mut seen_option = false;
     let n2 = ports * ports;
     let per_point = 1 + 2 * n2;
-    let mut nums: Vec<(f64, usize)> = Vec::new();
+    let mut data_lines: Vec<(usize, Vec<f64>)> = Vec::new();
     for (i, raw) in text.lines().enumerate() {
         let line = i + 1;
         let body = raw.split('!').next().unwrap_or("").trim();
@@ -124,6 +124,7 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
                 "data before the option line ('# <unit> S <format> R <ohms>')",
             ));
         }
+        let mut row = Vec::new();
         for tok in body.split_whitespace() {
             let v: f64 = tok
                 .parse()
@@ -131,9 +132,15 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
             if !v.is_finite() {
                 return Err(err(path, line, format!("'{tok}' is not finite")));
             }
-            nums.push((v, line));
+            row.push(v);
         }
+        data_lines.push((line, row));
     }
+    check_layout(&data_lines, ports, path)?;
+    let nums: Vec<(f64, usize)> = data_lines
+        .iter()
+        .flat_map(|(line, row)| row.iter().map(move |v| (*v, *line)))
+        .collect();
     if nums.is_empty() {
         return Err(err(path, text.lines().count().max(1), "no data"));
     }
@@ -203,6 +210,61 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
         s,
         lines,
     })
+}
+
+/// Checks the data lines' layout. Version 1 writes one line per point for one and two ports,
+/// and for three and four ports the frequency with the matrix's first row, then one line per
+/// further row. When the first point follows that layout, every line must, so a missing or
+/// extra column is reported on its own line; a file that wraps its points differently is read
+/// as a stream of numbers that must make whole points.
+fn check_layout(lines: &[(usize, Vec<f64>)], ports: usize, path: &str) -> Result<(), Error> {
+    let n2 = ports * ports;
+    let per_point = 1 + 2 * n2;
+    let rows = if ports <= 2 { 1 } else { ports };
+    let first = if ports <= 2 { per_point } else { 1 + 2 * ports };
+    let standard = lines.first().is_some_and(|(_, r)| r.len() == first);
+    if !standard {
+        return Ok(());
+    }
+    for (k, (line, r)) in lines.iter().enumerate() {
+        let row = k % rows;
+        let (want, what) = if row == 0 {
+            (
+                first,
+                if ports <= 2 {
+                    format!(
+                        "a {ports}-port point is one line of {per_point} numbers (frequency and \
+                         {n2} complex S-parameters)"
+                    )
+                } else {
+                    format!(
+                        "a {ports}-port point starts with a line of {first} numbers (frequency \
+                         and the matrix's first row)"
+                    )
+                },
+            )
+        } else {
+            (
+                2 * ports,
+                format!(
+                    "row {} of a {ports}-port point is a line of {} numbers",
+                    row + 1,
+                    2 * ports
+                ),
+            )
+        };
+        if r.len() != want {
+            return Err(err(
+                path,
+                *line,
+                format!(
+                    "{} numbers: {what}; a missing or extra column, or the wrong port count",
+                    r.len()
+                ),
+            ));
+        }
+    }
+    Ok(())
 }
 
 impl Network {

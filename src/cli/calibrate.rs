@@ -96,19 +96,26 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
     let probes_text = read(&a.probes)?;
     let spec: ProbeFileSpec = parse_toml(&probes_text, &a.probes.display().to_string())?;
     let base = a.probes.parent().unwrap_or(Path::new("."));
-    let all = super::predict::predict_spec(&spec, base, &PredictOptions::default())?;
-    let names: Vec<String> = all.iter().map(|x| x.probe.name.clone()).collect();
+    let family = crate::model::probe::family_from_spec(&spec, base)?;
+    let names: Vec<String> = family.probes.iter().map(|p| p.name.clone()).collect();
     let chosen = match &a.probe {
-        Some(n) => all.iter().find(|x| &x.probe.name == n),
-        None if all.len() == 1 => all.first(),
+        Some(n) => family.probes.iter().find(|p| &p.name == n),
+        None if family.probes.len() == 1 => family.probes.first(),
         None => None,
     };
-    let Some(x) = chosen else {
+    let Some(probe) = chosen else {
         return Err(Error::Invalid(vec![FieldError::new(
             "probe",
             a.probe.clone().unwrap_or("(missing)".into()),
             format!("name one of the spec's probes: {}", names.join(", ")),
         )]));
+    };
+    let solved = crate::solve::probe::solve(probe)?;
+    let response = crate::physics::predict(probe, &solved, &PredictOptions::default())?;
+    let x = super::predict::Predicted {
+        probe: probe.clone(),
+        solved,
+        response,
     };
     // The fixture.
     let fx_text = read(&a.fixture)?;
