@@ -174,6 +174,14 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
     check_range(&mut out, "fixture.width_mm", width, 10.0, 300.0);
     let vias = vias_from_spec(spec.via.as_ref(), &fab, &mut out);
     let connector = connector_from_spec(spec.connector.as_ref(), &fab, &mut out);
+    if connector.ground_hole_drill > 0.0 {
+        out.push(FieldError::new(
+            "connector.ground_hole_drill_mm",
+            connector.ground_hole_drill,
+            "must be 0 on a fixture: its ground pads reach the planes through the tab vias \
+             beside them",
+        ));
+    }
     let need =
         2.0 * (connector.ground_pad_offset + connector.ground_pad_width / 2.0 + fab.copper_to_edge);
     if width.is_finite() && width < need {
