@@ -133,14 +133,17 @@ pub fn artwork_files(
         format!("{base}-mask-bottom.svg"),
         emit::svg::openings_layer(artwork, &artwork.mask_bottom, "mask-bottom").into_bytes(),
     ));
-    files.push((
-        format!("{base}-legend-top.svg"),
-        emit::svg::legend_layer(artwork, &artwork.silk_top, "legend-top").into_bytes(),
-    ));
-    files.push((
-        format!("{base}-legend-bottom.svg"),
-        emit::svg::legend_layer(artwork, &artwork.silk_bottom, "legend-bottom").into_bytes(),
-    ));
+    for (strokes, id) in [
+        (&artwork.silk_top, "legend-top"),
+        (&artwork.silk_bottom, "legend-bottom"),
+    ] {
+        if !strokes.is_empty() {
+            files.push((
+                format!("{base}-{id}.svg"),
+                emit::svg::legend_layer(artwork, strokes, id).into_bytes(),
+            ));
+        }
+    }
     files
 }
 

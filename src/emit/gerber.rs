@@ -341,14 +341,19 @@ pub fn all(art: &Artwork, same_coords: &str) -> Vec<(String, String)> {
         "mask-bottom.gbr".into(),
         mask(&art.mask_bottom, false, same_coords),
     ));
-    out.push((
-        "legend-top.gbr".into(),
-        legend(&art.silk_top, art.silk_width, true, same_coords),
-    ));
-    out.push((
-        "legend-bottom.gbr".into(),
-        legend(&art.silk_bottom, art.silk_width, false, same_coords),
-    ));
+    // A legend side without strokes gets no file: an image with no aperture is not a file
+    // Gerber readers accept (they take it for RS-274D).
+    for (strokes, top, name) in [
+        (&art.silk_top, true, "legend-top.gbr"),
+        (&art.silk_bottom, false, "legend-bottom.gbr"),
+    ] {
+        if !strokes.is_empty() {
+            out.push((
+                name.into(),
+                legend(strokes, art.silk_width, top, same_coords),
+            ));
+        }
+    }
     out.push(("profile.gbr".into(), profile(&art.profile, same_coords)));
     out
 }
