@@ -506,3 +506,25 @@ pub fn fixture_entries(b: &BuiltFixture) -> Vec<(PathBuf, Vec<u8>)> {
         .map(|(name, bytes)| (PathBuf::from(&b.fixture.folder).join(name), bytes.clone()))
         .collect()
 }
+
+/// Reads, validates and solves a fixture spec file (for calibration and coupling predictions).
+pub fn load_fixture(
+    path: &Path,
+) -> Result<
+    (
+        crate::model::fixture::Fixture,
+        crate::solve::fixture::SolvedFixture,
+    ),
+    Error,
+> {
+    let text = std::fs::read_to_string(path).map_err(|e| Error::Io {
+        path: path.display().to_string(),
+        source: e,
+    })?;
+    let spec: crate::spec::fixture::FixtureFileSpec =
+        crate::spec::parse_toml(&text, &path.display().to_string())?;
+    let base = path.parent().unwrap_or(Path::new("."));
+    let f = crate::model::fixture::fixture_from_spec(&spec, base)?;
+    let s = crate::solve::fixture::solve(&f)?;
+    Ok((f, s))
+}

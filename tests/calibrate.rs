@@ -319,3 +319,37 @@ fn the_measured_table_feeds_convert() {
     let h: f64 = row.split(',').nth(1).unwrap().parse().unwrap();
     assert!((h - want).abs() < 1e-3, "{h} vs {want}");
 }
+
+#[test]
+fn predict_with_a_fixture_gives_the_coupling_and_the_s21_behind_its_probe_factor() {
+    let m = model();
+    let o = run(&[
+        "predict",
+        m.probes.to_str().unwrap(),
+        "--fixture",
+        m.fixture.to_str().unwrap(),
+        "--height",
+        &HEIGHT_MM.to_string(),
+        "--json",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    for p in v["probes"].as_array().unwrap() {
+        let c = &p["fixture_coupling"];
+        let h_avg = c["h_avg_per_amp"].as_f64().unwrap();
+        assert!(c["mutual_ph"].as_f64().unwrap() < c["mutual_filament_ph"].as_f64().unwrap());
+        // The predicted S21 and the predicted probe factor are one model: PF =
+        // 20·log10(H_avg/I) − 20·log10(50 Ω) − |S21|dB at every tabulated frequency.
+        let pf = p["probe_factor"].as_array().unwrap();
+        let s21 = c["s21"].as_array().unwrap();
+        assert_eq!(pf.len(), s21.len());
+        for (a, b) in pf.iter().zip(s21) {
+            let from_s21 = 20.0 * h_avg.log10() - 20.0 * 50f64.log10() - b["db"].as_f64().unwrap();
+            let want = a["db_s_per_m"].as_f64().unwrap();
+            assert!((from_s21 - want).abs() < 1e-9, "{from_s21} vs {want}");
+            // Below the corner the loop's output leads the line current by nearly 90°.
+            let deg = b["deg"].as_f64().unwrap();
+            assert!(deg > 0.0 && deg < 90.0, "{deg}");
+        }
+    }
+}

@@ -5,8 +5,6 @@ use crate::calib::calibrate::calibrate;
 use crate::calib::touchstone;
 use crate::error::{Error, FieldError};
 use crate::physics::PredictOptions;
-use crate::physics::coupling::TestLine;
-use crate::spec::fixture::FixtureFileSpec;
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
 use std::path::{Path, PathBuf};
@@ -118,19 +116,11 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
         response,
     };
     // The fixture.
-    let fx_text = read(&a.fixture)?;
-    let fx_spec: FixtureFileSpec = parse_toml(&fx_text, &a.fixture.display().to_string())?;
-    let fx_base = a.fixture.parent().unwrap_or(Path::new("."));
-    let fx = crate::model::fixture::fixture_from_spec(&fx_spec, fx_base)?;
-    let fs = crate::solve::fixture::solve(&fx)?;
+    let (fx, fs) = crate::pipeline::load_fixture(&a.fixture)?;
     // The measurement.
     let ts_path = a.touchstone.display().to_string();
     let net = touchstone::parse(&read(&a.touchstone)?, &ts_path, ports)?;
-    let line = TestLine {
-        width: fs.width * 1e-3,
-        h: fs.h * 1e-3,
-        r_port: net.r_ref,
-    };
+    let line = fs.test_line(net.r_ref);
     let cal = calibrate(
         &x.probe,
         &x.solved,

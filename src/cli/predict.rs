@@ -27,6 +27,10 @@ pub struct PredictArgs {
     /// Highest frequency, Hz (default: the upper usable frequency).
     #[arg(long = "f-max", value_name = "HZ")]
     pub f_max: Option<f64>,
+    /// A test-line fixture spec: add each probe's predicted coupling to its line at --height
+    /// (mutual inductance, field per ampere, S21 from the line's input to the probe).
+    #[arg(long, value_name = "FIXTURE.toml")]
+    pub fixture: Option<PathBuf>,
     /// Print `{"probes": [...]}` as JSON instead of the tables.
     #[arg(long)]
     pub json: bool,
@@ -87,6 +91,61 @@ pub fn predict_spec(
     Ok(out)
 }
 
+/// A probe's predicted coupling to a test-line fixture at a height.
+pub struct FixtureCoupling {
+    /// The fixture's name.
+    pub fixture: String,
+    /// Tip height above the line's copper, mm.
+    pub height_mm: f64,
+    /// The coupling.
+    pub coupling: crate::physics::coupling::Coupling,
+    /// Predicted S21 at the probe-factor table's frequencies: (Hz, dB, degrees).
+    pub s21: Vec<(f64, f64, f64)>,
+}
+
+/// The coupling of a predicted probe to a solved fixture at `height_mm`.
+pub fn fixture_coupling(
+    x: &Predicted,
+    fx: &crate::model::fixture::Fixture,
+    fs: &crate::solve::fixture::SolvedFixture,
+    height_mm: f64,
+) -> FixtureCoupling {
+    use crate::physics::coupling::{probe_coupling, probe_s21};
+    let c = probe_coupling(
+        &x.probe,
+        &x.solved,
+        &x.response,
+        height_mm,
+        &fs.test_line(crate::physics::R_LOAD),
+    );
+    let freqs: Vec<f64> = x.response.probe_factor.iter().map(|(f, _)| *f).collect();
+    let s21 = probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs)
+        .into_iter()
+        .map(|(f, (re, im))| (f, 20.0 * re.hypot(im).log10(), im.atan2(re).to_degrees()))
+        .collect();
+    FixtureCoupling {
+        fixture: fx.name.clone(),
+        height_mm,
+        coupling: c,
+        s21,
+    }
+}
+
+/// The JSON object of a fixture coupling.
+pub fn coupling_json(c: &FixtureCoupling) -> Value {
+    let k = &c.coupling;
+    json!({
+        "fixture": c.fixture,
+        "height_mm": c.height_mm,
+        "mutual_ph": k.mutual * 1e12,
+        "mutual_filament_ph": k.mutual_filament * 1e12,
+        "h_avg_per_amp": k.h_avg_per_amp,
+        "h_centre_per_amp": k.h_centre_per_amp,
+        "field_reference": "area-average Hx over the loop; the line matched, I = V_inc/50 Ω",
+        "s21": c.s21.iter().map(|(f, db, deg)| json!({"freq_hz": f, "db": db, "deg": deg})).collect::<Vec<_>>(),
+    })
+}
+
 /// The JSON object of one probe.
 pub fn probe_json(x: &Predicted) -> Value {
     let r = &x.response;
@@ -119,9 +178,9 @@ pub fn probe_json(x: &Predicted) -> Value {
 }
 
 /// The human-readable tables.
-pub fn tables(all: &[Predicted]) -> String {
+pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
     let mut o = String::new();
-    for x in all {
+    for (i, x) in all.iter().enumerate() {
         let r = &x.response;
         o.push_str(&format!(
             "{} — {} loop, {}\n",
@@ -173,6 +232,39 @@ pub fn tables(all: &[Predicted]) -> String {
                 o.push_str(&format!("    {:>12.4} MHz  {:>7.2}\n", f / 1e6, d));
             }
         }
+        if let Some(c) = couplings.get(i) {
+            let k = &c.coupling;
+            o.push_str(&format!(
+                "  on fixture {}, tip {} mm over the line (loop plane along it):\n",
+                c.fixture, c.height_mm
+            ));
+            line(
+                &mut o,
+                "mutual inductance",
+                format!(
+                    "{:.2} pH (strip as a sheet; {:.2} pH as a filament)",
+                    k.mutual * 1e12,
+                    k.mutual_filament * 1e12
+                ),
+            );
+            line(
+                &mut o,
+                "field per ampere",
+                format!(
+                    "{:.3} A/m area-average, {:.3} A/m at the loop's centre",
+                    k.h_avg_per_amp, k.h_centre_per_amp
+                ),
+            );
+            o.push_str("  predicted S21, line input to probe (dB, degrees):\n");
+            for (j, (f, db, deg)) in c.s21.iter().enumerate() {
+                if j % step == 0 || j + 1 == c.s21.len() {
+                    o.push_str(&format!(
+                        "    {:>12.4} MHz  {db:>7.2}  {deg:>7.1}\n",
+                        f / 1e6
+                    ));
+                }
+            }
+        }
         o.push('\n');
     }
     o.push_str("Assumptions:\n");
@@ -197,15 +289,35 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
         ..PredictOptions::default()
     };
     let all = predict_spec(&spec, a.spec.parent().unwrap_or(Path::new(".")), &o)?;
+    let couplings: Vec<FixtureCoupling> = match &a.fixture {
+        Some(path) => {
+            let (fx, fs) = crate::pipeline::load_fixture(path)?;
+            all.iter()
+                .map(|x| fixture_coupling(x, &fx, &fs, a.height))
+                .collect()
+        }
+        None => Vec::new(),
+    };
     if a.json {
+        let probes: Vec<Value> = all
+            .iter()
+            .enumerate()
+            .map(|(i, x)| {
+                let mut v = probe_json(x);
+                if let Some(c) = couplings.get(i) {
+                    v["fixture_coupling"] = coupling_json(c);
+                }
+                v
+            })
+            .collect();
         let v = json!({
-            "probes": all.iter().map(probe_json).collect::<Vec<_>>(),
+            "probes": probes,
             "assumptions": ASSUMPTIONS,
             "cautions": super::CAUTIONS,
         });
         outln!("{}", serde_json::to_string_pretty(&v).expect("plain JSON"));
     } else {
-        out!("{}", tables(&all));
+        out!("{}", tables(&all, &couplings));
     }
     Ok(())
 }

@@ -33,6 +33,17 @@ pub struct SolvedFixture {
     pub delay_s: f64,
 }
 
+impl SolvedFixture {
+    /// The line as the coupling model sees it (m), driven and terminated in `r_port` Ω.
+    pub fn test_line(&self, r_port: f64) -> crate::physics::coupling::TestLine {
+        crate::physics::coupling::TestLine {
+            width: self.width * 1e-3,
+            h: self.h * 1e-3,
+            r_port,
+        }
+    }
+}
+
 /// Solves a fixture.
 pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
     let structure = match f.line {
