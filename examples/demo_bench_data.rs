@@ -10,7 +10,7 @@
 //! None of this is measured. Run: `cargo run --example demo_bench_data`.
 
 use loopwright::cli::demo::{DEMO_FIXTURE, DEMO_SPEC};
-use loopwright::physics::coupling::{TestLine, probe_coupling, probe_s21};
+use loopwright::physics::coupling::{probe_coupling, probe_s21};
 use loopwright::spec::fixture::FixtureFileSpec;
 use loopwright::spec::parse_toml;
 use loopwright::spec::probe::ProbeFileSpec;
@@ -30,11 +30,7 @@ fn main() {
     let fx_spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, "fixture").unwrap();
     let fx = loopwright::model::fixture::fixture_from_spec(&fx_spec, Path::new(".")).unwrap();
     let fs = loopwright::solve::fixture::solve(&fx).unwrap();
-    let line = TestLine {
-        width: fs.width * 1e-3,
-        h: fs.h * 1e-3,
-        r_port: 50.0,
-    };
+    let line = fs.test_line(50.0);
     let c = probe_coupling(&x.probe, &x.solved, &x.response, 1.0, &line);
     let n = 161;
     let freqs: Vec<f64> = (0..n)

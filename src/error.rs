@@ -97,7 +97,7 @@ pub enum Error {
     #[error("{0}")]
     Unsolvable(String),
     /// The design-rule check found violations; nothing was written.
-    #[error("design-rule check failed for probe '{probe}' ({} violation(s)); nothing was written (--force writes anyway and marks the notes):\n{}", .violations.len(), .violations.join("\n"))]
+    #[error("design-rule check failed for '{probe}' ({} violation(s)); nothing was written (--force writes anyway and marks the notes):\n{}", .violations.len(), .violations.join("\n"))]
     Drc {
         /// The probe.
         probe: String,

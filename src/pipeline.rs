@@ -211,6 +211,13 @@ pub fn write_atomically(out: &Path, entries: &[(PathBuf, Vec<u8>)]) -> Result<()
         let path = path.display().to_string();
         move |e: std::io::Error| Error::Io { path, source: e }
     };
+    if out.exists() && !out.is_dir() {
+        return Err(Error::Invalid(vec![crate::error::FieldError::new(
+            "out",
+            out.display(),
+            "is a file; --out must name a folder (new or an earlier output); nothing was written",
+        )]));
+    }
     let parent = match out.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),

@@ -7,7 +7,7 @@ mod common;
 
 use common::tmp_file;
 use loopwright::cli::demo::{DEMO_FIXTURE, DEMO_SPEC};
-use loopwright::physics::coupling::{TestLine, probe_coupling, probe_s21};
+use loopwright::physics::coupling::{probe_coupling, probe_s21};
 use loopwright::spec::parse_toml;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
@@ -44,11 +44,7 @@ fn model() -> Model {
     let fx_spec = parse_toml(DEMO_FIXTURE, "fixture").unwrap();
     let fx = loopwright::model::fixture::fixture_from_spec(&fx_spec, Path::new(".")).unwrap();
     let fs = loopwright::solve::fixture::solve(&fx).unwrap();
-    let line = TestLine {
-        width: fs.width * 1e-3,
-        h: fs.h * 1e-3,
-        r_port: 50.0,
-    };
+    let line = fs.test_line(50.0);
     let c = probe_coupling(&x.probe, &x.solved, &x.response, HEIGHT_MM, &line);
     let freqs: Vec<f64> = (0..25).map(|i| 1e6 * 10f64.powf(i as f64 / 8.0)).collect();
     let points = probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs)

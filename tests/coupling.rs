@@ -25,6 +25,7 @@ fn line(h_mm: f64, w_mm: f64) -> TestLine {
     TestLine {
         width: w_mm * 1e-3,
         h: h_mm * 1e-3,
+        top: 0.0,
         r_port: 50.0,
     }
 }
@@ -72,6 +73,7 @@ fn sheet_field_matches_biot_savart_and_tends_to_the_filament() {
         let thin = TestLine {
             width: 1e-7,
             h,
+            top: 0.0,
             r_port: 50.0,
         };
         let fil = TestLine { width: 0.0, ..thin };

@@ -74,6 +74,13 @@ impl Calibration {
     }
 }
 
+/// How far (fraction) the file's reference resistance may stray from the probe model's 50 Ω
+/// load, and the fixture's line impedance from the reference: 2 %.
+pub const Z_MATCH_TOL: f64 = 0.02;
+
+/// Frequencies a probe factor is derived at, Hz (0 Hz points are skipped).
+pub const F_RANGE: (f64, f64) = (1.0, 1e12);
+
 /// Checks the named ports of an n-port file.
 pub fn check_ports(ports: usize, line_port: usize, probe_port: usize) -> Vec<FieldError> {
     let mut e = Vec::new();
@@ -96,13 +103,19 @@ pub fn check_ports(ports: usize, line_port: usize, probe_port: usize) -> Vec<Fie
     e
 }
 
-/// Derives the probe factor from a measured network. `path` names the file in errors.
+/// Derives the probe factor from a measured network. `path` names the file in errors;
+/// `line_z0` is the fixture line's impedance, Ω.
+///
+/// Refused: a reference resistance other than the probe model's 50 Ω load, a line whose
+/// impedance differs from it (then I ≠ V_inc/R_ref), frequencies outside [`F_RANGE`], and an
+/// |S21| that is zero, not finite or above 0 dB (a passive fixture cannot gain).
 #[allow(clippy::too_many_arguments)]
 pub fn calibrate(
     p: &Probe,
     s: &SolvedProbe,
     r: &Response,
     line: TestLine,
+    line_z0: f64,
     net: &Network,
     path: &str,
     (line_port, probe_port): (usize, usize),
@@ -110,6 +123,29 @@ pub fn calibrate(
 ) -> Result<Calibration, Error> {
     let mut errs = check_ports(net.ports, line_port, probe_port);
     crate::error::check_range(&mut errs, "height", height_mm, 0.0, 100.0);
+    let r_load = crate::physics::R_LOAD;
+    if (net.r_ref / r_load - 1.0).abs() > Z_MATCH_TOL {
+        errs.push(FieldError::new(
+            "touchstone",
+            format!("{path} (option line R {})", net.r_ref),
+            format!(
+                "the reference resistance must be {r_load} Ω ± {} %: the probe model's load \
+                 (renormalise the file to 50 Ω)",
+                Z_MATCH_TOL * 100.0
+            ),
+        ));
+    } else if (line_z0 / net.r_ref - 1.0).abs() > Z_MATCH_TOL {
+        errs.push(FieldError::new(
+            "fixture.target_z0_ohms",
+            line_z0,
+            format!(
+                "must match the file's reference resistance {} Ω within {} %: a mismatched \
+                 line carries standing waves, so its current is not V_inc/R",
+                net.r_ref,
+                Z_MATCH_TOL * 100.0
+            ),
+        ));
+    }
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }
@@ -126,17 +162,30 @@ pub fn calibrate(
             skipped_dc += 1;
             continue;
         }
+        let bad = |why: String| Error::Parse {
+            path: path.to_string(),
+            message: format!("line {}: {why}", net.lines[k]),
+        };
+        if !(F_RANGE.0..=F_RANGE.1).contains(&f) {
+            return Err(bad(format!(
+                "frequency {f} Hz is outside {} Hz to {} Hz",
+                F_RANGE.0, F_RANGE.1
+            )));
+        }
         let (re, im) = s21[k];
         let mag = re.hypot(im);
         if !(mag > 0.0 && mag.is_finite()) {
-            return Err(Error::Parse {
-                path: path.to_string(),
-                message: format!(
-                    "line {}: |S{probe_port}{line_port}| = {mag} at {f} Hz; a probe factor needs \
-                     a finite, non-zero transmission",
-                    net.lines[k]
-                ),
-            });
+            return Err(bad(format!(
+                "|S{probe_port}{line_port}| = {mag} at {f} Hz; a probe factor needs a finite, \
+                 non-zero transmission"
+            )));
+        }
+        if mag > 1.0 {
+            return Err(bad(format!(
+                "|S{probe_port}{line_port}| = {:.2} dB at {f} Hz is above 0 dB: a passive \
+                 fixture and probe cannot gain (wrong ports, or a file that is not S-parameters)",
+                20.0 * mag.log10()
+            )));
         }
         let (pr, pi) = probe_s21(p, s, r, &coupling, &[f])[0].1;
         points.push(CalPoint {

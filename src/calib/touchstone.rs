@@ -160,6 +160,16 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
     let mut lines = Vec::new();
     for chunk in nums.chunks(per_point) {
         let (f, line) = (chunk[0].0 * unit, chunk[0].1);
+        if !f.is_finite() {
+            return Err(err(
+                path,
+                line,
+                format!(
+                    "frequency {} × the unit is not a finite number of Hz",
+                    chunk[0].0
+                ),
+            ));
+        }
         if f < 0.0 {
             return Err(err(path, line, format!("frequency {f} Hz is negative")));
         }

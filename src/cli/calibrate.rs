@@ -11,7 +11,7 @@ use std::path::{Path, PathBuf};
 
 /// Arguments of `loopwright calibrate`.
 #[derive(Debug, clap::Args)]
-#[command(after_help = super::CAL_CAUTIONS)]
+#[command(after_help = super::CAL_CAUTIONS, allow_negative_numbers = true)]
 pub struct CalibrateArgs {
     /// Touchstone version 1 file measured on the fixture (`.s2p`, or `.s3p`/`.s4p` with
     /// --line-port and --probe-port).
@@ -126,6 +126,7 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
         &x.solved,
         &x.response,
         line,
+        fx.target_z0,
         &net,
         &ts_path,
         (line_port, probe_port),

@@ -2,7 +2,7 @@
 
 use crate::calib::convert::{Gain, convert, read_table, to_csv};
 use crate::error::{Error, FieldError, check_range};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 /// Arguments of `loopwright convert`.
 #[derive(Debug, clap::Args)]
@@ -50,6 +50,43 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
             "(missing)",
             "give the preamplifier gain (--gain-db 0 when there is none) or a table (--gain FILE.csv)",
         ));
+    }
+    // Outputs must not be inputs, each other, or folders.
+    let same = |a: &Path, b: &Path| {
+        a == b
+            || matches!(
+                (std::fs::canonicalize(a), std::fs::canonicalize(b)),
+                (Ok(x), Ok(y)) if x == y
+            )
+    };
+    let mut outs: Vec<(&str, &Path)> = vec![("--out", a.out.as_path())];
+    if let Some(p) = &a.plot {
+        outs.push(("--plot", p.as_path()));
+    }
+    let mut ins: Vec<(&str, &Path)> = vec![
+        ("--readings", a.readings.as_path()),
+        ("--factor", a.factor.as_path()),
+    ];
+    if let Some(g) = &a.gain {
+        ins.push(("--gain", g.as_path()));
+    }
+    for (k, (flag, path)) in outs.iter().enumerate() {
+        if path.is_dir() {
+            errs.push(FieldError::new(
+                *flag,
+                path.display(),
+                "is a folder; name a file to write",
+            ));
+        }
+        for (other, p) in ins.iter().chain(&outs[..k]) {
+            if same(path, p) {
+                errs.push(FieldError::new(
+                    *flag,
+                    path.display(),
+                    format!("is also {other}; name a different file"),
+                ));
+            }
+        }
     }
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
@@ -102,33 +139,7 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
             ),
         ));
     }
-    let mut staged = Vec::new();
-    for (path, text) in &outputs {
-        let leaf = path
-            .file_name()
-            .map(|n| n.to_string_lossy().to_string())
-            .unwrap_or_default();
-        let tmp = path.with_file_name(format!(".{leaf}.tmp-{}", std::process::id()));
-        if let Err(e) = std::fs::write(&tmp, text) {
-            let _ = std::fs::remove_file(&tmp);
-            for (t, _) in &staged {
-                let _ = std::fs::remove_file(t);
-            }
-            return Err(io(&tmp)(e));
-        }
-        staged.push((tmp, path.clone()));
-    }
-    for (k, (tmp, path)) in staged.iter().enumerate() {
-        if let Err(e) = std::fs::rename(tmp, path) {
-            for (t, _) in &staged[k..] {
-                let _ = std::fs::remove_file(t);
-            }
-            for (_, p) in &staged[..k] {
-                let _ = std::fs::remove_file(p);
-            }
-            return Err(io(path)(e));
-        }
-    }
+    write_files(&outputs).map_err(|(path, e)| io(&path)(e))?;
     let max = points
         .iter()
         .map(|p| p.h_dbua_per_m)
@@ -141,4 +152,64 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
         max
     );
     Ok(())
+}
+
+/// Writes every (path, text) or none: each goes to a temporary file beside its target first;
+/// existing targets are moved aside and put back if any step fails.
+fn write_files(outputs: &[(PathBuf, String)]) -> Result<(), (PathBuf, std::io::Error)> {
+    let pid = std::process::id();
+    let beside = |path: &Path, tag: &str| {
+        let leaf = path
+            .file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_default();
+        path.with_file_name(format!(".{leaf}.{tag}-{pid}"))
+    };
+    let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
+    for (path, text) in outputs {
+        let tmp = beside(path, "tmp");
+        if let Err(e) = std::fs::write(&tmp, text) {
+            let _ = std::fs::remove_file(&tmp);
+            for (t, _) in &staged {
+                let _ = std::fs::remove_file(t);
+            }
+            return Err((path.clone(), e));
+        }
+        staged.push((tmp, path.clone()));
+    }
+    // Move the old targets aside, then the new files into place; undo on failure.
+    let mut aside: Vec<(PathBuf, PathBuf)> = Vec::new();
+    let mut placed: Vec<PathBuf> = Vec::new();
+    let mut result = Ok(());
+    for (tmp, path) in &staged {
+        if path.exists() {
+            let old = beside(path, "old");
+            if let Err(e) = std::fs::rename(path, &old) {
+                result = Err((path.clone(), e));
+                break;
+            }
+            aside.push((old, path.clone()));
+        }
+        if let Err(e) = std::fs::rename(tmp, path) {
+            result = Err((path.clone(), e));
+            break;
+        }
+        placed.push(path.clone());
+    }
+    if result.is_err() {
+        for p in &placed {
+            let _ = std::fs::remove_file(p);
+        }
+        for (old, p) in &aside {
+            let _ = std::fs::rename(old, p);
+        }
+        for (t, _) in &staged {
+            let _ = std::fs::remove_file(t);
+        }
+    } else {
+        for (old, _) in &aside {
+            let _ = std::fs::remove_file(old);
+        }
+    }
+    result
 }

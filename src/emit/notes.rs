@@ -400,21 +400,18 @@ pub fn fixture_notes(
         s.pitch_min
     );
     let _ = writeln!(o, "## Predicted field above the line\n");
-    let line = TestLine {
-        width: s.width * 1e-3,
-        h: s.h * 1e-3,
-        r_port: 50.0,
-    };
+    let line = s.test_line(f.target_z0);
     let thin = TestLine { width: 0.0, ..line };
-    let i_0dbm = (1e-3f64 / 50.0).sqrt();
+    let i_0dbm = (1e-3f64 / f.target_z0).sqrt();
     let _ = writeln!(
         o,
         "Quasi-static, image theory over the plane {:.3} mm below the line; the strip as a \
          uniform current sheet {:.3} mm wide (the filament column for comparison). Hx on the \
-         line's axis, at the height above the line's copper. Matched line: I = V_inc/50 Ω, \
+         line's axis, at the height above the line's copper. Matched line: I = V_inc/{} Ω, \
          i.e. {:.3} mA for 0 dBm incident.\n",
         s.h,
         s.width,
+        crate::model::probe::num(f.target_z0),
         i_0dbm * 1e3
     );
     let _ = writeln!(
@@ -423,8 +420,8 @@ pub fn fixture_notes(
     );
     let _ = writeln!(o, "|---|---|---|---|");
     for z in FIELD_TABLE_HEIGHTS_MM {
-        let hs = line_field(0.0, z * 1e-3, &line).0;
-        let hf = line_field(0.0, z * 1e-3, &thin).0;
+        let hs = line_field(0.0, z * 1e-3 + line.top, &line).0;
+        let hf = line_field(0.0, z * 1e-3 + line.top, &thin).0;
         let _ = writeln!(
             o,
             "| {z} | {hs:.3} | {hf:.3} | {:.2} |",
@@ -434,7 +431,7 @@ pub fn fixture_notes(
     let _ = writeln!(o, "\n## Use\n");
     let _ = writeln!(
         o,
-        "1. VNA port 1 to PORT 1; PORT 2 to a 50 Ω load (or to VNA port 3, and save a 3-port \
+        "1. VNA port 1 to PORT 1; PORT 2 to a {z} Ω load (or to VNA port 3, and save a 3-port \
          file). The probe's connector to VNA port 2.\n\
          2. Stand the probe on the centre mark with its loop plane containing the line's axis \
          (the loop along the line), tip at the stated height above the line's copper (a \
@@ -442,8 +439,17 @@ pub fn fixture_notes(
          3. Measure S21 (line to probe) and save it as Touchstone version 1.\n\
          4. `loopwright calibrate --touchstone FILE --probes SPEC --probe NAME --fixture \
          FIXTURE.toml --height MM --out DIR` writes the measured probe factor, the prediction \
-         and their difference.\n"
+         and their difference.\n",
+        z = crate::model::probe::num(f.target_z0)
     );
+    if (f.target_z0 / crate::physics::R_LOAD - 1.0).abs() > crate::calib::calibrate::Z_MATCH_TOL {
+        let _ = writeln!(
+            o,
+            "> This line is {} Ω; `loopwright calibrate` takes a 50 Ω line measured with a 50 Ω \
+             VNA (the probe model's load), so it will refuse this fixture.\n",
+            crate::model::probe::num(f.target_z0)
+        );
+    }
     let _ = writeln!(
         o,
         "- Coordinates in mm, origin at the centre of the line, line along x, port 1 at \

@@ -112,7 +112,7 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
         .stackup
         .clone()
         .unwrap_or_else(|| defaults::STACKUP.into());
-    let stackup = stackup_from_spec(&stackup_name, base, &mut out);
+    let stackup = stackup_from_spec("fixture.stackup", &stackup_name, base, &mut out);
     let n = stackup.as_ref().map(|s| s.copper_count()).unwrap_or(2);
     let line_layer = f.line_layer.unwrap_or(1);
     if line_layer != 1 && line_layer != n {

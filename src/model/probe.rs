@@ -332,9 +332,10 @@ fn shape_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> LoopShape {
     }
 }
 
-/// Resolves a stackup name (built-in, or a file relative to `base`); problems go to `out` with
-/// the prefix `stackup: `.
+/// Resolves a stackup name (built-in, or a file relative to `base`); problems go to `out` under
+/// `field` (the spec's field path of the stackup).
 pub fn stackup_from_spec(
+    field: &str,
     name: &str,
     base: &Path,
     out: &mut Vec<FieldError>,
@@ -347,11 +348,11 @@ pub fn stackup_from_spec(
     match stackup {
         Ok(s) => Some(s),
         Err(Error::Invalid(v)) => {
-            out.extend(v.into_iter().map(|e| e.prefixed("stackup: ")));
+            out.extend(v.into_iter().map(|e| e.prefixed(&format!("{field}: "))));
             None
         }
         Err(e) => {
-            out.push(FieldError::new("stackup", name, e.to_string()));
+            out.push(FieldError::new(field, name, e.to_string()));
             None
         }
     }
@@ -436,7 +437,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         .stackup
         .clone()
         .unwrap_or_else(|| "common-4l-1.6".into());
-    let stackup = stackup_from_spec(&stackup_name, base, &mut out);
+    let stackup = stackup_from_spec("stackup", &stackup_name, base, &mut out);
     let signal_layer = spec.signal_layer.unwrap_or(2);
     if let Some(st) = &stackup {
         let n = st.copper_count();

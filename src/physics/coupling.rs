@@ -24,8 +24,11 @@ use std::f64::consts::PI;
 pub struct TestLine {
     /// Strip width, m (0: a thin filament).
     pub width: f64,
-    /// Height of the strip over its ground plane, m.
+    /// Height of the current sheet (the strip's mid-thickness) over its ground plane, m.
     pub h: f64,
+    /// Height of the strip's copper top above the sheet (half the copper thickness), m:
+    /// probe heights are given above the copper's top.
+    pub top: f64,
     /// Port (and termination) impedance, Ω.
     pub r_port: f64,
 }
@@ -64,7 +67,7 @@ pub fn flux_per_amp_line(shape: &LoopShape, x: f64, z0: f64, line: &TestLine) ->
 /// The coupling of one probe to one test line at one height.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Coupling {
-    /// Height of the apex of the loop's centreline above the strip, m.
+    /// Height of the apex of the loop's centreline above the current sheet, m.
     pub apex_m: f64,
     /// Mutual inductance line → probe, H (strip model).
     pub mutual: f64,
@@ -81,7 +84,10 @@ pub struct Coupling {
 impl Coupling {
     /// Predicted S21 (line input → probe output) at `f` Hz, as (re, im), for a probe whose
     /// response is `r` (its L_outer) and whose inner line has impedance `z0_line`, half-turn
-    /// `l2` (m) and effective permittivity `eps_eff`.
+    /// `l2` (m) and effective permittivity `eps_eff`. The phase is referred to the line's
+    /// current under the probe and the voltage at the loop's gap: the delays of the fixture's
+    /// line up to the probe and of the probe's own feed are not included (a measured phase
+    /// carries them), and the sign follows the loop's orientation.
     pub fn s21(&self, r: &Response, f: f64, z0_line: f64, l2: f64, eps_eff: f64) -> (f64, f64) {
         let w = 2.0 * PI * f;
         let x = super::reactance(r, w, z0_line, l2, eps_eff);
@@ -92,7 +98,7 @@ impl Coupling {
 }
 
 /// The coupling of a probe (shape, centreline-apex offset from its tip) held with its tip
-/// `height_m` above the strip.
+/// `height_m` above the strip's copper top.
 pub fn couple(
     shape: &LoopShape,
     area_m2: f64,
@@ -100,7 +106,7 @@ pub fn couple(
     height_m: f64,
     line: &TestLine,
 ) -> Coupling {
-    let apex = height_m + tip_to_apex_m;
+    let apex = height_m + tip_to_apex_m + line.top;
     let flux = flux_per_amp_line(shape, 0.0, apex, line);
     let filament = TestLine {
         width: 0.0,

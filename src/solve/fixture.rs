@@ -19,6 +19,8 @@ pub struct SolvedFixture {
     pub field_z0: Option<f64>,
     /// Dielectric height between the line and its plane, mm.
     pub h: f64,
+    /// The line's copper thickness, mm.
+    pub t: f64,
     /// Line edge to ground on the line's layer, mm.
     pub keepout: f64,
     /// Length over which the line narrows to the connector's centre pad, mm (0: no taper).
@@ -38,7 +40,8 @@ impl SolvedFixture {
     pub fn test_line(&self, r_port: f64) -> crate::physics::coupling::TestLine {
         crate::physics::coupling::TestLine {
             width: self.width * 1e-3,
-            h: self.h * 1e-3,
+            h: (self.h + self.t / 2.0) * 1e-3,
+            top: self.t / 2.0 * 1e-3,
             r_port,
         }
     }
@@ -73,11 +76,19 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
         ..Default::default()
     };
     let (line, solution) = solve_width(&template, None, f.target_z0, &limits).map_err(|e| {
+        let hint = match f.line {
+            FixtureLine::Cpwg { gap } => format!(
+                " (with fixture.cpwg_gap_mm = {gap}: a wider or narrower gap moves the reachable \
+                 range)"
+            ),
+            _ => String::new(),
+        };
+        let why = e.to_string().replace("; try another --method", "");
         Error::Invalid(vec![FieldError::new(
             "fixture.target_z0_ohms",
             f.target_z0,
             format!(
-                "cannot be met on layer {} of '{}': {e}",
+                "cannot be met on layer {} of '{}'{hint}: {why}",
                 f.line_layer,
                 f.stackup.name()
             ),
@@ -87,11 +98,11 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
     let field_z0 = crate::field::solve_line(&line, Default::default())
         .ok()
         .map(|s| s.z0_ohms);
-    let (h, er) = match &line {
-        Line::Microstrip(m) => (m.h, m.er),
-        Line::CoatedMicrostrip(c) => (c.line.h, c.line.er),
-        Line::Cpwg(c) => (c.h, c.er),
-        Line::Stripline(s) => (s.h1 + s.h2 + s.t, s.er1.max(s.er2)),
+    let (h, t, er) = match &line {
+        Line::Microstrip(m) => (m.h, m.t, m.er),
+        Line::CoatedMicrostrip(c) => (c.line.h, c.line.t, c.line.er),
+        Line::Cpwg(c) => (c.h, c.t, c.er),
+        Line::Stripline(s) => (s.h2, s.t, s.er1.max(s.er2)),
     };
     let keepout = match f.line {
         FixtureLine::Microstrip { keepout } => {
@@ -137,14 +148,17 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
             ),
         ));
     }
-    let half_copper = width.max(cp_w) / 2.0 + keepout;
-    if 2.0 * half_copper + 2.0 * f.fab.copper_to_edge > f.width {
+    // Across the board: the line, its keepout, then at least one row of stitching vias in the
+    // pour on each side, then the copper-to-edge pull-back.
+    let via_row = f.vias.pad + 2.0 * super::probe::VIA_WEB;
+    let need = 2.0 * (width.max(cp_w) / 2.0 + keepout + via_row + f.fab.copper_to_edge);
+    if need > f.width {
         errs.push(FieldError::new(
             "fixture.width_mm",
             f.width,
             format!(
-                "must hold the line and its keepout: at least {:.2} mm",
-                2.0 * half_copper + 2.0 * f.fab.copper_to_edge
+                "must hold the line, its keepout and a row of stitching vias on each side: at \
+                 least {need:.2} mm"
             ),
         ));
     }
@@ -158,6 +172,7 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
         solution,
         field_z0,
         h,
+        t,
         keepout,
         taper,
         pitch_max,
