@@ -113,6 +113,17 @@ fn calibrate(m: &Model, ts: &Path, extra: &[&str], out: &Path) -> Output {
 }
 
 fn calibrate_probe(m: &Model, ts: &Path, probe: &str, extra: &[&str], out: &Path) -> Output {
+    calibrate_with(m, ts, probe, &m.fixture, extra, out)
+}
+
+fn calibrate_with(
+    m: &Model,
+    ts: &Path,
+    probe: &str,
+    fixture: &Path,
+    extra: &[&str],
+    out: &Path,
+) -> Output {
     let h = HEIGHT_MM.to_string();
     let mut args = vec![
         "calibrate",
@@ -123,7 +134,7 @@ fn calibrate_probe(m: &Model, ts: &Path, probe: &str, extra: &[&str], out: &Path
         "--probe",
         probe,
         "--fixture",
-        m.fixture.to_str().unwrap(),
+        fixture.to_str().unwrap(),
         "--height",
         &h,
         "--out",
@@ -347,5 +358,82 @@ fn predict_with_a_fixture_gives_the_coupling_and_the_s21_behind_its_probe_factor
             let deg = b["deg"].as_f64().unwrap();
             assert!(deg > 0.0 && deg < 90.0, "{deg}");
         }
+    }
+}
+
+#[test]
+fn what_the_model_cannot_stand_behind_is_refused() {
+    let m = model();
+    let good = s2p(&m, "MA", ("MHz", 1e6));
+    // A 75 Ω reference: the probe model's load is 50 Ω.
+    let r75 = tmp_file("r75.s2p", &good.replace("R 50", "R 75"));
+    let out = r75.with_extension("cal");
+    let o = calibrate(&m, &r75, &[], &out);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("R 75") && err.contains("50 Ω"), "{err}");
+    assert!(!out.exists());
+    // A 75 Ω fixture measured in 50 Ω: the line is not matched.
+    let fx75 = tmp_file(
+        "fixture75.toml",
+        &DEMO_FIXTURE.replace("target_z0_ohms = 50.0", "target_z0_ohms = 75.0"),
+    );
+    let ts = tmp_file("ok50.s2p", &good);
+    let out = ts.with_extension("cal75");
+    let o = calibrate_with(&m, &ts, PROBE, &fx75, &[], &out);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("fixture.target_z0_ohms = 75"), "{err}");
+    assert!(!out.exists());
+    // A frequency that overflows its unit, and a transmission above 0 dB.
+    let mut lines: Vec<String> = good.lines().map(String::from).collect();
+    let mut cols: Vec<String> = lines[4].split(' ').map(String::from).collect();
+    cols[0] = "1e305".into();
+    lines[4] = cols.join(" ");
+    let huge = tmp_file("huge.s2p", &(lines.join("\n") + "\n"));
+    let mut lines: Vec<String> = good.lines().map(String::from).collect();
+    let mut cols: Vec<String> = lines[3].split(' ').map(String::from).collect();
+    cols[3] = "1.5".into();
+    lines[3] = cols.join(" ");
+    let gain = tmp_file("gain.s2p", &(lines.join("\n") + "\n"));
+    for (ts, line, why) in [
+        (&huge, "line 5", "not a finite number of Hz"),
+        (&gain, "line 4", "above 0 dB"),
+    ] {
+        let out = ts.with_extension("cal");
+        let o = calibrate(&m, ts, &[], &out);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{err}");
+        assert!(err.contains(line) && err.contains(why), "{err}");
+        assert!(!out.exists());
+    }
+}
+
+#[test]
+fn a_four_port_file_uses_the_named_ports() {
+    let m = model();
+    // Line input on port 4, probe on port 1; every other entry 0.1 so a wrong pick shows.
+    let mut o = String::from("# GHz S RI R 50\n");
+    for &(f, re, im, _) in &m.points {
+        let mut rows = vec![vec![(0.1, 0.0); 4]; 4];
+        rows[0][3] = (re, im); // S14: port 1 (probe) from port 4 (line)
+        for (r, row) in rows.iter().enumerate() {
+            if r == 0 {
+                o.push_str(&format!("{:.12e}", f / 1e9));
+            }
+            for (a, b) in row {
+                o.push_str(&format!(" {a:.12e} {b:.12e}"));
+            }
+            o.push('\n');
+        }
+    }
+    let ts = tmp_file("four.s4p", &o);
+    let out = ts.with_extension("cal");
+    let r = calibrate(&m, &ts, &["--line-port", "4", "--probe-port", "1"], &out);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let measured = read_pf(&out.join(format!("{PROBE}-pf-measured.csv")));
+    assert_eq!(measured.len(), m.points.len());
+    for ((_, pf), &(_, _, _, want)) in measured.iter().zip(&m.points) {
+        assert!((pf - want).abs() < 1e-3, "{pf} vs {want}");
     }
 }

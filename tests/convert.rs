@@ -17,6 +17,13 @@ fn write(d: &Path, name: &str, text: &str) -> String {
     p.to_string_lossy().to_string()
 }
 
+/// `convert --readings r --factor f --gain-db 0` and `extra`.
+fn convert_cmd(r: &str, f: &str, extra: &[&str]) -> Output {
+    let mut args = vec!["convert", "--readings", r, "--factor", f, "--gain-db", "0"];
+    args.extend_from_slice(extra);
+    run(&args)
+}
+
 fn run(args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_loopwright"))
         .args(args)
@@ -131,17 +138,7 @@ fn malformed_tables_are_refused_with_their_line_and_nothing_is_written() {
     ];
     for (text, line, why) in cases {
         let r = write(&d, "r.csv", text);
-        let o = run(&[
-            "convert",
-            "--readings",
-            &r,
-            "--factor",
-            &f,
-            "--gain-db",
-            "0",
-            "--out",
-            out.to_str().unwrap(),
-        ]);
+        let o = convert_cmd(&r, &f, &["--out", out.to_str().unwrap()]);
         let err = String::from_utf8_lossy(&o.stderr);
         assert_eq!(o.status.code(), Some(2), "{text:?}: {err}");
         assert!(
@@ -172,4 +169,55 @@ fn malformed_tables_are_refused_with_their_line_and_nothing_is_written() {
     with.push("--extrapolate");
     assert!(run(&with).status.success());
     assert!(out.exists());
+}
+
+// Outputs never overwrite an input or each other, and a folder is not a file to write: each is
+// refused up front (exit 2, naming the flag) and every file stays as it was.
+#[test]
+fn outputs_that_collide_are_refused_and_inputs_survive() {
+    let d = dir("collide");
+    let r = write(&d, "r.csv", "freq_hz,level_dbuv\n1e8,20\n");
+    let f = write(&d, "f.csv", "freq_hz,pf_db_s_per_m\n1e7,10\n1e9,10\n");
+    let out = d.join("out.csv").to_string_lossy().to_string();
+    let folder = d.to_string_lossy().to_string();
+    let cases: [(&[&str], &str); 5] = [
+        (&["--out", &out, "--plot", &r], "--plot"),
+        (&["--out", &out, "--plot", &f], "is also --factor"),
+        (&["--out", &out, "--plot", &out], "is also --out"),
+        (&["--out", &r], "is also --readings"),
+        (&["--out", &folder], "is a folder"),
+    ];
+    for (extra, want) in cases {
+        let o = convert_cmd(&r, &f, extra);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{extra:?}: {err}");
+        assert!(err.contains(want), "{extra:?}: {err}");
+        assert_eq!(
+            std::fs::read_to_string(&r).unwrap(),
+            "freq_hz,level_dbuv\n1e8,20\n"
+        );
+        assert!(
+            std::fs::read_to_string(&f)
+                .unwrap()
+                .starts_with("freq_hz,pf")
+        );
+        assert!(!Path::new(&out).exists());
+    }
+    // A good run with a plot writes both.
+    let plot = d.join("p.svg").to_string_lossy().to_string();
+    let o = convert_cmd(&r, &f, &["--out", &out, "--plot", &plot]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(std::fs::read_to_string(&plot).unwrap().starts_with("<svg"));
+    // 20 dBµV + 10 dB(S/m) = 30 dBµA/m.
+    let text = std::fs::read_to_string(&out).unwrap();
+    let h: f64 = text
+        .lines()
+        .nth(1)
+        .unwrap()
+        .split(',')
+        .nth(1)
+        .unwrap()
+        .parse()
+        .unwrap();
+    assert!((h - 30.0).abs() < 1e-9);
 }

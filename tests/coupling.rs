@@ -149,3 +149,66 @@ fn probe_factor_from_a_scikit_rf_touchstone_file_round_trips() {
         );
     }
 }
+
+#[test]
+fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
+    use geo::{BooleanOps, BoundingRect};
+    let r = refs("coupling_refs.toml");
+    let e = &r["probe_on_fixture"];
+    let name = e["probe"].as_str().unwrap();
+    // The tip-to-apex distance, measured on the emitted files: from the outline's top edge to
+    // the middle of the trace where it crosses the shield gap on the loop's layer (L2).
+    let dir = common::demo_dir().join(name);
+    let l2 = common::read_gerber(&dir.join(format!("{name}-L2.gbr")));
+    let outline = common::read_gerber(&dir.join(format!("{name}-profile.gbr")));
+    let top = outline
+        .strokes
+        .iter()
+        .flat_map(|(pts, _)| pts.iter().map(|p| p.1))
+        .fold(f64::NEG_INFINITY, f64::max);
+    let crossing = common::copper(&l2, |_| true).intersection(&common::rect(-0.1, 0.0, 0.1, top));
+    let b = crossing.bounding_rect().expect("the trace crosses the gap");
+    let apex_y = 0.5 * (b.min().y + b.max().y);
+    let tip_to_apex = top - apex_y;
+    assert!(
+        (tip_to_apex - f(e, "tip_to_apex_mm")).abs() < 1e-3,
+        "{tip_to_apex} mm on the files vs {}",
+        f(e, "tip_to_apex_mm")
+    );
+    // The coupling of that probe to the demo fixture's line, against scipy's dblquad at the
+    // stated geometry.
+    let spec = loopwright::spec::parse_toml(loopwright::cli::DEMO_SPEC, "demo").unwrap();
+    let all = loopwright::cli::predict::predict_spec(
+        &spec,
+        std::path::Path::new("."),
+        &Default::default(),
+    )
+    .unwrap();
+    let x = all.iter().find(|x| x.probe.name == name).unwrap();
+    let fx = loopwright::model::fixture::fixture_from_spec(
+        &loopwright::spec::parse_toml(loopwright::cli::demo::DEMO_FIXTURE, "fixture").unwrap(),
+        std::path::Path::new("."),
+    )
+    .unwrap();
+    let fs = loopwright::solve::fixture::solve(&fx).unwrap();
+    let line = fs.test_line(50.0);
+    assert!((line.h * 1e3 - f(e, "h_mm")).abs() < 1e-12);
+    assert!((line.width * 1e3 - f(e, "w_mm")).abs() < 1e-12);
+    let c = loopwright::physics::coupling::probe_coupling(
+        &x.probe,
+        &x.solved,
+        &x.response,
+        f(e, "height_mm"),
+        &line,
+    );
+    assert!(
+        (c.apex_m * 1e3 - f(e, "apex_mm")).abs() < 1e-9,
+        "{}",
+        c.apex_m * 1e3
+    );
+    assert!(
+        rel(c.mutual * 1e12, f(e, "m_ph")) < 1e-5,
+        "{} pH",
+        c.mutual * 1e12
+    );
+}

@@ -201,6 +201,21 @@ fn a_short_fixture_still_builds_clean() {
 }
 
 #[test]
+fn the_narrowest_board_the_rules_allow_builds_clean() {
+    // Across the board: line (2.82 mm), keepout (3 × 1.53 mm) and a via row (0.6 + 2 × 0.05 mm)
+    // each side, copper-to-edge 0.3 mm: 2 × (1.41 + 4.59 + 0.7 + 0.3) = 14.0 mm.
+    let build = |w: f64| {
+        let text = DEMO_FIXTURE.replace("width_mm = 40.0", &format!("width_mm = {w}"));
+        let spec: FixtureFileSpec = toml::from_str(&text).unwrap();
+        loopwright::pipeline::build_fixture(&spec, Path::new("."), false)
+    };
+    let b = build(14.05).unwrap_or_else(|e| panic!("{e}"));
+    assert!(b.violations.is_empty());
+    let e = build(13.95).unwrap_err().to_string();
+    assert!(e.contains("fixture.width_mm") && e.contains("14.0"), "{e}");
+}
+
+#[test]
 fn bad_fixture_specs_are_refused_by_field_and_write_nothing() {
     let cases = [
         ("length_mm = 80.0", "length_mm = 15.0", "fixture.length_mm"),
