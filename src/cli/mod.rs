@@ -63,9 +63,11 @@ pub struct Cli {
 pub enum Command {
     /// Characteristic impedance of a trace, or the width for a target impedance.
     Impedance(Box<impedance::ImpedanceArgs>),
-    /// Build probe boards from a spec: Gerber X2, Excellon, SVG previews, fab notes.
+    /// Build probe boards, or a test-line fixture, from a spec: Gerber X2, Excellon, SVG
+    /// previews, fab notes.
     Build(build::BuildArgs),
-    /// Build the built-in demo family into a folder.
+    /// Build the built-in demo (a probe family, its test-line fixture, invented bench data)
+    /// into a folder.
     Demo(demo::DemoArgs),
     /// Predict what each probe of a spec measures: inductance, probe factor, band, resolution.
     Predict(predict::PredictArgs),
