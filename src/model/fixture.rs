@@ -47,6 +47,14 @@ pub mod defaults {
     /// Microstrip keepout in dielectric heights (common practice: coplanar ground three
     /// heights or more from the edge leaves a microstrip nearly unchanged; no single source).
     pub const KEEPOUT_H: f64 = 3.0;
+    /// Grounded-coplanar gap, mm (our default: a few fab minimum spaces).
+    pub const CPWG_GAP: f64 = 0.3;
+    /// Taper length per mm of width change from the line to the connector's centre pad (our
+    /// construction rule, no source: a gentle step whose length stays electrically short).
+    pub const TAPER_RATIO: f64 = 1.5;
+    /// Shortest uniform line between the tapers, mm (our rule: room for a small probe on the
+    /// centre mark away from the tapers' fields).
+    pub const MIN_UNIFORM: f64 = 10.0;
 }
 
 /// A validated fixture.
@@ -146,7 +154,7 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
             }
         }
         Some("cpwg") => {
-            let gap = f.cpwg_gap_mm.unwrap_or(0.3);
+            let gap = f.cpwg_gap_mm.unwrap_or(defaults::CPWG_GAP);
             check_range(&mut out, "fixture.cpwg_gap_mm", gap, fab.min_space, 5.0);
             if let Some(k) = f.ground_keepout_mm {
                 out.push(FieldError::new(

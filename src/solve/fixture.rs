@@ -112,7 +112,7 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
     };
     let cp_w = f.connector.centre_pad_width;
     let taper = if width > cp_w {
-        1.5 * (width - cp_w)
+        defaults::TAPER_RATIO * (width - cp_w)
     } else {
         0.0
     };
@@ -136,15 +136,16 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
     // The straight part of the line must be longer than its two tapers and the connector
     // tabs with room to spare for a probe.
     let ends = 2.0 * (taper + neck_length(f));
-    if line_length - ends < 10.0 {
+    if line_length - ends < defaults::MIN_UNIFORM {
         errs.push(FieldError::new(
             "fixture.length_mm",
             f.length,
             format!(
-                "leaves {:.2} mm of uniform line between the tapers; at least 10 mm are needed \
+                "leaves {:.2} mm of uniform line between the tapers; at least {} mm are needed \
                  (length ≥ {:.1} mm)",
                 line_length - ends,
-                f.length - (line_length - ends) + 10.0
+                defaults::MIN_UNIFORM,
+                f.length - (line_length - ends) + defaults::MIN_UNIFORM
             ),
         ));
     }
