@@ -127,6 +127,13 @@ impl Writer {
         )));
     }
 
+    /// Linear interpolation and dark polarity: the start of every image that is not copper.
+    fn begin_dark(&mut self) {
+        self.cmds
+            .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
+        self.polarity(true);
+    }
+
     fn polarity(&mut self, dark: bool) {
         self.cmds.push(ext(ExtendedCode::LoadPolarity(if dark {
             Polarity::Dark
@@ -267,9 +274,7 @@ pub fn mask(openings: &[Flash], top: bool, same_coords: &str) -> String {
         same_coords,
         None,
     );
-    w.cmds
-        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
-    w.polarity(true);
+    w.begin_dark();
     for f in openings {
         w.flash(f, ApertureFunction::Material);
     }
@@ -285,9 +290,7 @@ pub fn legend(strokes: &[Vec<Point>], width: f64, top: bool, same_coords: &str) 
         same_coords,
         None,
     );
-    w.cmds
-        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
-    w.polarity(true);
+    w.begin_dark();
     for s in strokes {
         w.stroke(s, width, ApertureFunction::Other("Legend".into()));
     }
@@ -302,9 +305,7 @@ pub fn profile(rings: &[Vec<Point>], same_coords: &str) -> String {
         same_coords,
         None,
     );
-    w.cmds
-        .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
-    w.polarity(true);
+    w.begin_dark();
     for r in rings {
         w.stroke(r, 0.05, ApertureFunction::Profile);
     }

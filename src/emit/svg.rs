@@ -173,12 +173,18 @@ pub fn composite(art: &Artwork, title: &str) -> String {
         doc = doc.add(copper_group(l, 0.55));
     }
     doc = doc.add(drills_group(art));
-    doc = doc.add(strokes_group(
-        &art.silk_top,
-        art.silk_width,
-        "#f5f5dc",
-        "legend-top",
-    ));
+    // The top legend, or the bottom one (as seen from the top) on a board that has only that.
+    let (silk, legend_id, legend_label) = if art.silk_top.is_empty() && !art.silk_bottom.is_empty()
+    {
+        (
+            &art.silk_bottom,
+            "legend-bottom",
+            "bottom legend (seen from the top)",
+        )
+    } else {
+        (&art.silk_top, "legend-top", "top legend")
+    };
+    doc = doc.add(strokes_group(silk, art.silk_width, "#f5f5dc", legend_id));
     // Legend.
     let mut y = vy + vh - legend_h + 1.2;
     let x = vx + 0.8;
@@ -189,6 +195,14 @@ pub fn composite(art: &Artwork, title: &str) -> String {
             .set("font-size", 0.9)
             .set("font-family", "sans-serif")
             .set("fill", "#f2f2f2")
+    };
+    let swatch = |y: f64, colour: &str| {
+        Rectangle::new()
+            .set("x", f(x))
+            .set("y", f(y - 0.4))
+            .set("width", 1.0)
+            .set("height", 0.8)
+            .set("fill", colour)
     };
     doc = doc.add(text(title, y));
     y += 1.2;
@@ -203,28 +217,10 @@ pub fn composite(art: &Artwork, title: &str) -> String {
                 art.layer_roles.1
             }
         );
-        doc = doc
-            .add(
-                Rectangle::new()
-                    .set("x", f(x))
-                    .set("y", f(y - 0.4))
-                    .set("width", 1.0)
-                    .set("height", 0.8)
-                    .set("fill", colour),
-            )
-            .add(text(&label, y));
+        doc = doc.add(swatch(y, colour)).add(text(&label, y));
         y += 1.2;
     }
-    doc = doc
-        .add(
-            Rectangle::new()
-                .set("x", f(x))
-                .set("y", f(y - 0.4))
-                .set("width", 1.0)
-                .set("height", 0.8)
-                .set("fill", "#f5f5dc"),
-        )
-        .add(text("top legend", y));
+    doc = doc.add(swatch(y, "#f5f5dc")).add(text(legend_label, y));
     y += 1.2;
     doc = doc
         .add(
