@@ -8,6 +8,10 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R10 coarse
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R10 fine
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 coarse
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 fine
+# The FM-R10 runs ring for tens of ns (see the TOML header); they were stopped at 6.5 ns by
+# creating a file ABORT in their run folder, and `... post CASE MESH` redoes the S-parameters
+# of a finished or stopped run.
 #     /usr/bin/python3 tests/reference/fdtd_refs.py toml > tests/data/fdtd_refs.toml
 # Each run writes its field data under $FDTD_WORK (default /tmp/loopwright-fdtd/<case>-<mesh>)
 # and a small JSON of its results there; `toml` gathers the JSON files.
@@ -61,7 +65,9 @@ PORT_LEN = 0.2  # probe's lumped port: between the trace end and the end cap
 
 F_MIN, F_MAX = 10e6, 3e9
 FREQS = np.unique(np.concatenate([np.geomspace(F_MIN, F_MAX, 121),
+                                  np.linspace(1.5e9, 2.6e9, 111),  # the 10 mm loop's null/peak
                                   [10e6, 30e6, 100e6, 300e6, 1e9, 2e9, 3e9]]))
+BAND_NP = (1.5e9, 2.6e9)  # where the null and the peak near 2 GHz are looked for
 TABLE_F = [10e6, 30e6, 100e6, 300e6, 1e9, 2e9, 3e9]
 
 MESHES = {
@@ -320,7 +326,7 @@ T_FIT0 = 3.0e-9  # late-time fits start here: after the pulse (1.85 ns) and the 
 
 def _pencil_tail(t, y, freqs, t0=T_FIT0, tol=1e-4, max_order=16):
     """Matrix-pencil fit of the late-time signal (t >= t0) by damped exponentials
-    sum c_m z_m^k (Hua and Sarkar's matrix pencil method), and the one-sided DFT (same
+    sum c_m z_m^k (Hua and Sarkar's matrix pencil method, cited from memory), and the one-sided DFT (same
     normalisation as openEMS.utilities.DFT_time2freq) of that model from the end of the
     record to infinity. Returns (tail spectrum, largest |z|, relative rms residual, order)."""
     ts = t[1] - t[0]
@@ -491,13 +497,16 @@ def toml_out():
     for t in SIMPLIFICATIONS:
         w("#  - " + t)
     w("# Run length and the late-time tail: the structure is lossless, and the 10 mm loop has a")
-    w("# high-Q resonance near 2 GHz (gap capacitance with the outer loop while the shorted stub is")
-    w("# near a quarter wave, so the 50-ohm load barely damps it; only radiation does), which rings")
+    w("# high-Q resonance near 2 GHz (our reading: gap capacitance with the outer loop while the")
+    w("# shorted stub is near a quarter wave, so the 50-ohm load barely damps it), which rings")
     w("# for tens of ns. Every recorded value is therefore the DFT of the record PLUS the analytic")
-    w("# DFT of a matrix-pencil fit (Hua and Sarkar, 1990) of each port signal from 3 ns to the end")
+    w("# DFT of a matrix-pencil fit (Hua and Sarkar, IEEE Trans. ASSP, 1990, from memory) of each port signal from 3 ns to the end")
     w("# of the record, continued to infinity (`_pencil_tail`; a port gets no tail if the fit's rms")
     w("# residual exceeds 2 %). `*_raw_db`: the record alone. `*_cut_change_db`: change when only")
     w("# the first 80 % of the record is used (with its own tail): the tail's self-check.")
+    w("# run_seconds: wall clock, nice 19, numThreads=2 on two cores shared with other jobs and")
+    w("# with up to three of these runs at once: a rough cost, not a benchmark.")
+    w("# null_hz/peak_hz: lowest and highest |S21| of the probe between 1.5 and 2.6 GHz (0.01 GHz grid).")
     w("# Mesh convergence: `convergence` gives fine minus coarse |S21| per frequency, and the same")
     w("# with the coarse record cut at the fine run's end time (same run length, mesh only).")
     w("")
@@ -542,6 +551,14 @@ def toml_out():
                 w(f"{k}_deg = {_arr([_deg(v) for v in c], '{:.2f}')}")
                 w(f"{k}_raw_db = {_arr([_db(v) for v in _cplx(r[k + '_raw'])])}")
                 w(f"{k}_cut_change_db = {_arr(r[k + '_cut_change_db'])}")
+        if "s21_probe" in r:
+            band = [i for i, fr in enumerate(f) if BAND_NP[0] <= fr <= BAND_NP[1]]
+            mags = [_db(_cplx(r["s21_probe"])[i]) for i in band]
+            lo, hi = band[int(np.argmin(mags))], band[int(np.argmax(mags))]
+            if lo not in (band[0], band[-1]):  # an interior minimum only (FM-R5 has none)
+                w(f"null_hz = {f[lo]:.4e}\nnull_db = {_db(complex(*r['s21_probe'][lo])):.2f}")
+            if hi not in (band[0], band[-1]):
+                w(f"peak_hz = {f[hi]:.4e}\npeak_db = {_db(complex(*r['s21_probe'][hi])):.2f}")
         for n, d in enumerate(r.get("tail_fit", []), start=1):
             w(f"tail_fit_port{n} = {{ order = {d['order']}, max_abs_z = {d['max_abs_z']:.6f}, "
               f"rms_resid = {d['resid']:.3e}, used = {str(d['tail_used']).lower()} }}")
