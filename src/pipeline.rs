@@ -56,7 +56,7 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
     files.push((
         format!("{base}-response.svg"),
         emit::plot::probe_factor_plot(
-            &format!("{} probe factor (area-average H, 50 Ω)", p.name),
+            &format!("{} probe factor (uniform H, 50 Ω)", p.name),
             &[(p.name.as_str(), emit::report::COLOURS[0], &response)],
         )
         .into_bytes(),

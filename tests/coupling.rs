@@ -177,28 +177,19 @@ fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
     );
     // The coupling of that probe to the demo fixture's line, against scipy's dblquad at the
     // stated geometry.
-    let spec = loopwright::spec::parse_toml(loopwright::cli::DEMO_SPEC, "demo").unwrap();
-    let all = loopwright::cli::predict::predict_spec(
-        &spec,
-        std::path::Path::new("."),
-        &Default::default(),
-    )
-    .unwrap();
-    let x = all.iter().find(|x| x.probe.name == name).unwrap();
-    let fx = loopwright::model::fixture::fixture_from_spec(
-        &loopwright::spec::parse_toml(loopwright::cli::demo::DEMO_FIXTURE, "fixture").unwrap(),
-        std::path::Path::new("."),
-    )
-    .unwrap();
-    let fs = loopwright::solve::fixture::solve(&fx).unwrap();
-    let line = fs.test_line(50.0);
+    let (x, line) = common::demo_probe_and_line(name);
+    let x = &x;
     assert!((line.h * 1e3 - f(e, "h_mm")).abs() < 1e-12);
     assert!((line.width * 1e3 - f(e, "w_mm")).abs() < 1e-12);
-    let c = loopwright::physics::coupling::probe_coupling(
-        &x.probe,
-        &x.solved,
-        &x.response,
-        f(e, "height_mm"),
+    // The reference integrates over the centreline's disc: `couple` is that centreline
+    // filament; the built probe's own coupling (`probe_coupling`) sums the same integral over
+    // its shield's current filaments, so it must share the apex and read lower (the current
+    // crowds inwards, away from the line).
+    let c = loopwright::physics::coupling::couple(
+        &x.probe.shape,
+        x.response.area_m2,
+        loopwright::physics::tip_to_apex_m(&x.probe, &x.solved),
+        f(e, "height_mm") * 1e-3,
         &line,
     );
     assert!(
@@ -211,4 +202,13 @@ fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
         "{} pH",
         c.mutual * 1e12
     );
+    let own = loopwright::physics::coupling::probe_coupling(
+        &x.probe,
+        &x.solved,
+        &x.response,
+        f(e, "height_mm"),
+        &line,
+    );
+    assert!((own.apex_m - c.apex_m).abs() < 1e-12);
+    assert!(own.mutual < c.mutual && own.mutual > 0.5 * c.mutual);
 }

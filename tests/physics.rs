@@ -160,11 +160,16 @@ fn the_size_trade_off_and_low_frequency_laws() {
         let pa = probe_factor_at(&a.probe, &a.solved, &a.response, 10e6);
         let pb = probe_factor_at(&b.probe, &b.solved, &b.response, 10e6);
         assert!(pa < pb, "bigger loop must need less factor: {pa} vs {pb}");
-        // 4× the area (twice the diameter): 12.04 dB far below both corners.
+        // Far below both corners the output scales with the (effective) area: 4× the area,
+        // 12.04 dB. The shield's current crowding makes the small loop's effective area less
+        // than a quarter of the big one's, so the step exceeds 12 dB.
         let f = 1e5;
         let d = probe_factor_at(&b.probe, &b.solved, &b.response, f)
             - probe_factor_at(&a.probe, &a.solved, &a.response, f);
-        assert!((d - 20.0 * 4f64.log10()).abs() < 0.01, "{d}");
+        let want = 20.0 * (a.response.area_eff_m2 / b.response.area_eff_m2).log10();
+        // (0.05 dB: the two feed runs differ in length, and so in their small DC loss.)
+        assert!((d - want).abs() < 0.05, "{d} vs {want}");
+        assert!(d > 20.0 * 4f64.log10(), "{d}");
     }
     for x in &all {
         let r = &x.response;

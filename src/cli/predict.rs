@@ -37,14 +37,19 @@ pub struct PredictArgs {
 }
 
 /// The modelling assumptions, stated with every prediction.
-pub const ASSUMPTIONS: [&str; 6] = [
-    "quasi-static: the loop is electrically small below the upper usable frequency",
-    "probe factor referred to the area-average field normal to the loop (over the trace \
-     centreline's area), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
-    "outer-loop inductance: regularised Neumann integral of the centreline with the GMD \
-     0.2235·(ring width + board thickness) of the shield's cross-section (an engineering estimate)",
-    "inner line: a shorted stub from the gap to the short (half the turn) and a matched line to \
-     the output; no gap capacitance, no radiation, no losses",
+pub const ASSUMPTIONS: [&str; 7] = [
+    "quasi-static: the loop is electrically small below the upper usable frequency; no \
+     radiation, no response to the electric field (not yet predicted)",
+    "probe factor referred to a uniform field normal to the loop (equivalently the average over \
+     the effective loop), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
+    "shield: a perfect conductor whose outer current is solved over every copper layer of the \
+     ring (thin plates, equal flux linkage): it gives the effective area and the outer-loop \
+     inductance; via walls, the handle junction and (for non-round loops) the corners' own \
+     crowding are approximated",
+    "inner line: a shorted stub from the gap to the short (half the turn) and a matched run to \
+     the output, with conductor loss (smooth copper, Wheeler's rule) and dielectric loss",
+    "gap capacitance: 2-D field solution across the gap, the plates straight for a quarter \
+     turn each side; the trace crossing the gap left out",
     "coupling and resolution: a thin trace over a perfect plane (image theory), loop plane \
      vertical and containing the trace's axis, tip at the stated height",
     "near-field readings locate and rank sources; they do not predict a compliance result",
@@ -155,6 +160,10 @@ pub fn probe_json(x: &Predicted) -> Value {
         "shape": x.probe.shape.kind(),
         "size": x.probe.shape.size_text(),
         "loop_area_mm2": r.area_m2 * 1e6,
+        "effective_area_mm2": r.area_eff_m2 * 1e6,
+        "outer_inductance_gmd_nh": r.l_outer_gmd * 1e9,
+        "gap_capacitance_pf": r.c_gap * 1e12,
+        "gap_resonance_hz": r.f_gap_res_hz,
         "inductance_nh": r.l_total * 1e9,
         "outer_inductance_nh": r.l_outer * 1e9,
         "stub_inductance_nh": r.l_stub * 1e9,
@@ -168,7 +177,7 @@ pub fn probe_json(x: &Predicted) -> Value {
         "resolution_height_mm": r.options.height_mm,
         "trace_height_mm": r.options.trace_h_mm,
         "mutual_nh": r.mutual * 1e9,
-        "field_reference": "area-average H normal to the loop, into 50 Ω",
+        "field_reference": "uniform H normal to the loop (the area-average over the effective loop), into 50 Ω",
         "pf_10mhz_db_s_per_m": pf_at(10e6),
         "pf_100mhz_db_s_per_m": pf_at(100e6),
         "pf_1ghz_db_s_per_m": pf_at(1e9),
@@ -190,6 +199,15 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
         ));
         let line = |o: &mut String, k: &str, v: String| o.push_str(&format!("  {k:<22} {v}\n"));
         line(&mut o, "loop area", format!("{:.2} mm²", r.area_m2 * 1e6));
+        line(
+            &mut o,
+            "effective area",
+            format!(
+                "{:.2} mm² ({:.3} of the centreline's: the shield's current crowds inwards)",
+                r.area_eff_m2 * 1e6,
+                r.area_eff_m2 / r.area_m2
+            ),
+        );
         line(
             &mut o,
             "inductance",
@@ -225,7 +243,7 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
             "mutual to the trace",
             format!("{:.3} nH", r.mutual * 1e9),
         );
-        o.push_str("  probe factor (dB(S/m), area-average H, 50 Ω):\n");
+        o.push_str("  probe factor (dB(S/m), uniform H, 50 Ω):\n");
         let step = (r.probe_factor.len() / 10).max(1);
         for (i, (f, d)) in r.probe_factor.iter().enumerate() {
             if i % step == 0 || i + 1 == r.probe_factor.len() {

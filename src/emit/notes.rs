@@ -179,11 +179,24 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     let pf = |f: f64| crate::physics::probe_factor_at(p, s, r, f);
     let _ = writeln!(
         o,
-        "- Loop area {:.2} mm²; inductance {:.2} nH (outer loop {:.2} nH, inner stub {:.2} nH).",
+        "- Loop area {:.2} mm² (centreline); effective area {:.2} mm² ({:.3} of it: the shield's \
+         outer current crowds to the ring's inner edge); inductance {:.2} nH (outer loop {:.2} nH, \
+         inner stub {:.2} nH).",
         r.area_m2 * 1e6,
+        r.area_eff_m2 * 1e6,
+        r.area_eff_m2 / r.area_m2,
         r.l_total * 1e9,
         r.l_outer * 1e9,
         r.l_stub * 1e9
+    );
+    let _ = writeln!(
+        o,
+        "- Gap capacitance {:.3} pF (outer loop resonance with it {:.2} GHz); feed-line loss to the \
+         connector {:.2} dB at 100 MHz, {:.2} dB at 1 GHz.",
+        r.c_gap * 1e12,
+        r.f_gap_res_hz / 1e9,
+        r.feed_loss_db(100e6),
+        r.feed_loss_db(1e9)
     );
     let _ = writeln!(
         o,
@@ -194,7 +207,7 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     );
     let _ = writeln!(
         o,
-        "- Probe factor (area-average H, 50 Ω): {:.2} dB(S/m) at 10 MHz, {:.2} at 100 MHz, {:.2} at \
+        "- Probe factor (uniform H, 50 Ω): {:.2} dB(S/m) at 10 MHz, {:.2} at 100 MHz, {:.2} at \
          1 GHz{}. H[dBµA/m] = V[dBµV] + PF.",
         pf(10e6),
         pf(100e6),

@@ -16,7 +16,7 @@
 //! - the probe's output follows the transfer of [`super::predict`]:
 //!   V_out = jωM·I·R_L/(R_L + jX), X = ωL_outer + Z0·tan βl2.
 
-use super::{LoopShape, MU0, R_LOAD, Response, loop_height_mm};
+use super::{LoopShape, MU0, Response, loop_height_mm};
 use std::f64::consts::PI;
 
 /// A test line as the coupling model sees it (all m, Ω).
@@ -83,17 +83,15 @@ pub struct Coupling {
 
 impl Coupling {
     /// Predicted S21 (line input → probe output) at `f` Hz, as (re, im), for a probe whose
-    /// response is `r` (its L_outer) and whose inner line has impedance `z0_line`, half-turn
-    /// `l2` (m) and effective permittivity `eps_eff`. The phase is referred to the line's
-    /// current under the probe and the voltage at the loop's gap: the delays of the fixture's
-    /// line up to the probe and of the probe's own feed are not included (a measured phase
-    /// carries them), and the sign follows the loop's orientation.
-    pub fn s21(&self, r: &Response, f: f64, z0_line: f64, l2: f64, eps_eff: f64) -> (f64, f64) {
+    /// response is `r` (its outer inductance, gap capacitance and inner line). The phase is
+    /// referred to the line's current under the probe: the delay of the fixture's line up to
+    /// the probe is not included (a measured phase carries it); the probe's own feed run
+    /// enters by its loss only, and the sign follows the loop's orientation.
+    pub fn s21(&self, r: &Response, f: f64) -> (f64, f64) {
+        // jωM/R_port · V_out/V_oc.
         let w = 2.0 * PI * f;
-        let x = super::reactance(r, w, z0_line, l2, eps_eff);
-        // jωM/R_port · R_L/(R_L + jX) = (ωM R_L/R_port)·(X + jR_L)/(R_L² + X²).
-        let k = w * self.mutual * R_LOAD / self.r_port / (R_LOAD * R_LOAD + x * x);
-        (k * x, k * R_LOAD)
+        let t = r.gap_transfer(f) * super::Cx::new(0.0, w * self.mutual / self.r_port);
+        (t.re, t.im)
     }
 }
 
@@ -130,7 +128,9 @@ pub fn pf_from_s21(s21_mag: f64, h_per_amp: f64, r_port: f64) -> f64 {
     20.0 * (h_per_amp / (r_port * s21_mag)).log10()
 }
 
-/// The coupling of a built probe held with its tip `height_mm` above the strip.
+/// The coupling of a built probe held with its tip `height_mm` above the strip: the flux
+/// through the shield's own current filaments (its effective loop), referred to its effective
+/// area.
 pub fn probe_coupling(
     p: &crate::model::probe::Probe,
     s: &crate::solve::probe::SolvedProbe,
@@ -138,26 +138,35 @@ pub fn probe_coupling(
     height_mm: f64,
     line: &TestLine,
 ) -> Coupling {
-    couple(
-        &p.shape,
-        r.area_m2,
-        super::tip_to_apex_m(p, s),
-        height_mm * 1e-3,
-        line,
-    )
+    let apex = height_mm * 1e-3 + super::tip_to_apex_m(p, s) + line.top;
+    let shape = &p.shape;
+    let flux_with = |l: &TestLine| {
+        super::flux_filaments(shape, &r.filaments, |x, z| line_field(x, z, l).0, 0.0, apex)
+    };
+    let flux = flux_with(line);
+    let filament = TestLine {
+        width: 0.0,
+        ..*line
+    };
+    let flux_f = flux_with(&filament);
+    let centre = apex + loop_height_mm(shape) * 1e-3 / 2.0;
+    Coupling {
+        apex_m: apex,
+        mutual: MU0 * flux,
+        mutual_filament: MU0 * flux_f,
+        h_avg_per_amp: flux / r.area_eff_m2,
+        h_centre_per_amp: line_field(0.0, centre, line).0,
+        r_port: line.r_port,
+    }
 }
 
 /// Predicted S21 of a built probe over `freqs` (Hz): (Hz, (re, im)).
 pub fn probe_s21(
-    p: &crate::model::probe::Probe,
-    s: &crate::solve::probe::SolvedProbe,
+    _p: &crate::model::probe::Probe,
+    _s: &crate::solve::probe::SolvedProbe,
     r: &Response,
     c: &Coupling,
     freqs: &[f64],
 ) -> Vec<(f64, (f64, f64))> {
-    let l2 = p.shape.circumference() * 1e-3 / 2.0;
-    freqs
-        .iter()
-        .map(|&f| (f, c.s21(r, f, p.target_z0, l2, s.solution.eps_eff)))
-        .collect()
+    freqs.iter().map(|&f| (f, c.s21(r, f))).collect()
 }

@@ -13,9 +13,11 @@
 
 pub mod coupling;
 pub mod elliptic2;
+pub mod shield;
 
 use crate::error::{Error, FieldError, check_range};
 use crate::model::probe::{LoopShape, Probe};
+use crate::model::stackup::Layer;
 use crate::solve::probe::SolvedProbe;
 use std::f64::consts::PI;
 
@@ -256,20 +258,46 @@ impl PredictOptions {
 pub struct Response {
     /// Area enclosed by the loop centreline, m².
     pub area_m2: f64,
-    /// GMD of the shield's cross-section used for the loop inductance, m.
+    /// Effective (current-weighted) area of the shield's outer current, m²: the loop's
+    /// sensitivity, V_oc = jωμ0·A_eff·H (module [`shield`]).
+    pub area_eff_m2: f64,
+    /// GMD of the shield's solid cross-section, 0.2235·(ring width + board thickness), m: the
+    /// earlier closed form's input, kept for comparison.
     pub gmd_m: f64,
-    /// Outer-loop inductance, H.
+    /// Outer-loop inductance of the earlier closed form (centreline Neumann integral with
+    /// `gmd_m`), H: kept as a documented limit and for comparison.
+    pub l_outer_gmd: f64,
+    /// Outer-loop inductance from the shield's outer current, H.
     pub l_outer: f64,
     /// The inner line's shorted half-turn at low frequency, H.
     pub l_stub: f64,
     /// Their sum, H.
     pub l_total: f64,
+    /// Capacitance across the shield gap, F.
+    pub c_gap: f64,
+    /// Inner line's characteristic impedance, Ω.
+    pub z0_line: f64,
+    /// Its effective permittivity.
+    pub eps_eff: f64,
+    /// Gap to the short (half the turn), m.
+    pub l2_m: f64,
+    /// Gap to the output connector (half the turn plus the handle), m.
+    pub l1_m: f64,
+    /// Conductor loss of the inner line, Np/m at 1 GHz (scales as √f).
+    pub alpha_c_1ghz: f64,
+    /// DC resistance loss of the inner line's trace, ρ/(w·t)/(2·Z0), Np/m: the floor of the
+    /// conductor loss where the skin depth exceeds the copper.
+    pub alpha_dc: f64,
+    /// Dielectric loss tangent of the inner line.
+    pub tan_d: f64,
     /// Low-frequency corner R_L/(2π·L_total), Hz.
     pub corner_hz: f64,
     /// Small-loop limit: circumference = λ0/10, Hz.
     pub f_small_loop_hz: f64,
     /// First null: the shorted half-turn is a quarter wave, Hz.
     pub f_null_hz: f64,
+    /// The outer loop resonating with the gap capacitance, 1/(2π√(L_outer·C_gap)), Hz.
+    pub f_gap_res_hz: f64,
     /// Upper usable frequency: the lower of the small-loop limit and half the null frequency.
     pub upper_hz: f64,
     /// Which rule set `upper_hz`.
@@ -282,26 +310,357 @@ pub struct Response {
     pub mutual: f64,
     /// −6 dB full width of the output scanned across the trace, m.
     pub resolution_m: f64,
+    /// The shield's outer current grouped into filaments: (offset from the centreline m,
+    /// height across the board from its mid-plane m, share of the current).
+    pub filaments: Vec<(f64, f64, f64)>,
     /// The options used.
     pub options: PredictOptions,
 }
 
-/// The series reactance the loop's EMF sees, X = ωL_outer + Z0·tan βl2, Ω.
-pub fn reactance(r: &Response, w: f64, z0_line: f64, l2: f64, eps_eff: f64) -> f64 {
-    let beta = w * eps_eff.sqrt() / C0;
-    w * r.l_outer + z0_line * (beta * l2).tan()
+/// A complex number, just what the transfer needs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Cx {
+    /// Real part.
+    pub re: f64,
+    /// Imaginary part.
+    pub im: f64,
 }
 
-/// |V_out/H| transfer (V per A/m) at `f` Hz.
-fn transfer(r: &Response, f: f64, z0_line: f64, l2: f64, eps_eff: f64) -> f64 {
-    let w = 2.0 * PI * f;
-    let x = reactance(r, w, z0_line, l2, eps_eff);
-    w * MU0 * r.area_m2 * R_LOAD / (R_LOAD * R_LOAD + x * x).sqrt()
+impl std::ops::Add for Cx {
+    type Output = Cx;
+    fn add(self, o: Cx) -> Cx {
+        Cx::new(self.re + o.re, self.im + o.im)
+    }
+}
+
+impl std::ops::Mul for Cx {
+    type Output = Cx;
+    fn mul(self, o: Cx) -> Cx {
+        Cx::new(
+            self.re * o.re - self.im * o.im,
+            self.re * o.im + self.im * o.re,
+        )
+    }
+}
+
+impl std::ops::Div for Cx {
+    type Output = Cx;
+    fn div(self, o: Cx) -> Cx {
+        let d = o.re * o.re + o.im * o.im;
+        Cx::new(
+            (self.re * o.re + self.im * o.im) / d,
+            (self.im * o.re - self.re * o.im) / d,
+        )
+    }
+}
+
+impl Cx {
+    /// re + j·im.
+    pub const fn new(re: f64, im: f64) -> Cx {
+        Cx { re, im }
+    }
+    /// Modulus.
+    pub fn abs(self) -> f64 {
+        self.re.hypot(self.im)
+    }
+    /// tanh(z) = (sinh 2a + j sin 2b)/(cosh 2a + cos 2b), z = a + jb.
+    pub fn tanh(self) -> Cx {
+        let (a, b) = (2.0 * self.re, 2.0 * self.im);
+        let d = a.cosh() + b.cos();
+        Cx::new(a.sinh() / d, b.sin() / d)
+    }
+}
+
+/// Resistivity of annealed copper, Ω·m (IEC 60028 standard annealed copper, 1.7241e-8).
+pub const RHO_CU: f64 = 1.7241e-8;
+
+/// Surface resistance of copper at `f` Hz, √(π·f·μ0·ρ), Ω (smooth copper).
+pub fn surface_resistance(f: f64) -> f64 {
+    (PI * f * MU0 * RHO_CU).sqrt()
+}
+
+impl Response {
+    /// Propagation constant γ = α + jβ of the inner line at `f` Hz, 1/m: conductor loss
+    /// α_c(1 GHz)·√(f/1 GHz) (Wheeler's incremental-inductance rule), not below the trace's DC
+    /// loss, dielectric loss
+    /// π·f·√εeff·tan δ/c0, β = 2π·f·√εeff/c0.
+    pub fn gamma(&self, f: f64) -> Cx {
+        let sq = self.eps_eff.sqrt();
+        let alpha_c = (self.alpha_c_1ghz * (f / 1e9).sqrt()).max(self.alpha_dc);
+        let alpha = alpha_c + PI * f * sq * self.tan_d / C0;
+        Cx::new(alpha, 2.0 * PI * f * sq / C0)
+    }
+
+    /// V_out/V_oc at `f` Hz: the EMF in series with the outer loop's inductance drives the gap,
+    /// shunted by the gap capacitance and loaded by the inner line (the matched run to the
+    /// output plus the shorted stub, Z_in = R_L + Z0·tanh γl2); the line's current reaches the
+    /// output R_L through the run l1 (its loss e^(−αl1) only: phases are referred to the gap):
+    /// V_out/V_oc = R_L·e^(−αl1)/(Z_in + jωL_out − ω²·L_out·C_gap·Z_in).
+    pub fn gap_transfer(&self, f: f64) -> Cx {
+        let w = 2.0 * PI * f;
+        let g = self.gamma(f);
+        let z_in = Cx::new(R_LOAD, 0.0)
+            + Cx::new(self.z0_line, 0.0) * Cx::new(g.re * self.l2_m, g.im * self.l2_m).tanh();
+        let den = z_in
+            + Cx::new(0.0, w * self.l_outer)
+            + z_in * Cx::new(-w * w * self.l_outer * self.c_gap, 0.0);
+        // The run's loss; its delay is left out, so phases stay referred to the gap.
+        let run = (-g.re * self.l1_m).exp();
+        Cx::new(R_LOAD * run, 0.0) / den
+    }
+
+    /// |V_out/H| (V per A/m) in a uniform normal field at `f` Hz.
+    pub fn transfer(&self, f: f64) -> f64 {
+        2.0 * PI * f * MU0 * self.area_eff_m2 * self.gap_transfer(f).abs()
+    }
+
+    /// Loss of the feed run from the gap to the connector at `f` Hz, dB (8.686·α·l1).
+    pub fn feed_loss_db(&self, f: f64) -> f64 {
+        20.0 * std::f64::consts::LOG10_E * self.gamma(f).re * self.l1_m
+    }
+
+    /// The probe factor at `f` Hz, dB(S/m).
+    pub fn pf_db_at(&self, f: f64) -> f64 {
+        pf_db(self.transfer(f))
+    }
 }
 
 /// Probe factor in dB(S/m) from the V/(A/m) transfer.
 pub fn pf_db(transfer: f64) -> f64 {
     -20.0 * transfer.log10()
+}
+
+/// The shield's cross-section as thin plates (m): every copper layer but the signal layer
+/// carries the full ring (± the ring's half width about the centreline); the signal layer
+/// carries the coplanar ground outside the trace's clearance. Heights from the board's
+/// mid-plane, at each copper layer's mid-thickness.
+pub fn shield_plates(p: &Probe, s: &SolvedProbe) -> Vec<shield::Plate> {
+    let hw = s.ring_half_width * 1e-3;
+    let slot = (s.trace_width / 2.0 + p.clearance) * 1e-3;
+    let mid = p.stackup.thickness_mm() / 2.0;
+    let mut top = p.stackup.thickness_mm();
+    let mut plates = Vec::new();
+    let mut n = 0;
+    for layer in p.stackup.layers() {
+        match layer {
+            Layer::Copper(c) => {
+                n += 1;
+                let z = (top - c.thickness_mm / 2.0 - mid) * 1e-3;
+                if n == p.signal_layer {
+                    if slot < hw {
+                        plates.push(shield::Plate {
+                            z,
+                            d0: -hw,
+                            d1: -slot,
+                        });
+                        plates.push(shield::Plate {
+                            z,
+                            d0: slot,
+                            d1: hw,
+                        });
+                    }
+                } else {
+                    plates.push(shield::Plate { z, d0: -hw, d1: hw });
+                }
+                top -= c.thickness_mm;
+            }
+            Layer::Dielectric(d) => top -= d.thickness_mm,
+        }
+    }
+    plates
+}
+
+/// The outer current of a probe's shield (module [`shield`]).
+pub fn shield_current(p: &Probe, s: &SolvedProbe) -> Result<shield::ShieldCurrent, Error> {
+    let plates = shield_plates(p, s);
+    let n = shield::RIBBONS_PER_PLATE;
+    let solved = match p.shape {
+        LoopShape::Round { diameter } => shield::solve_round(diameter * 0.5e-3, &plates, n),
+        _ => {
+            let pts = centreline_m(&p.shape);
+            shield::solve_shape(
+                p.shape.centreline_area() * 1e-6,
+                p.shape.circumference() * 1e-3,
+                &pts,
+                &plates,
+                n,
+            )
+        }
+    };
+    solved.ok_or_else(|| {
+        Error::Unsolvable(format!(
+            "{}: the shield's outer current could not be solved (ring half width {} mm on a loop of {})",
+            p.name,
+            s.ring_half_width,
+            p.shape.size_text()
+        ))
+    })
+}
+
+/// The loop's centreline as a closed polygon, m.
+fn centreline_m(shape: &LoopShape) -> Vec<(f64, f64)> {
+    crate::geom::shape::closed(shape, 0.0)
+        .iter()
+        .map(|q| (q.x * 1e-3, q.y * 1e-3))
+        .collect()
+}
+
+/// The shape offset outwards by `d` mm (inwards when negative): a circle's diameter grows by
+/// 2d; a rounded rectangle's sides by 2d and its corner radius by d (not below 0).
+pub fn offset_shape(shape: &LoopShape, d: f64) -> LoopShape {
+    match *shape {
+        LoopShape::Round { diameter } => LoopShape::Round {
+            diameter: diameter + 2.0 * d,
+        },
+        LoopShape::Rect {
+            width,
+            height,
+            corner_radius,
+            square,
+        } => LoopShape::Rect {
+            width: width + 2.0 * d,
+            height: height + 2.0 * d,
+            corner_radius: (corner_radius + d).max(0.0),
+            square,
+        },
+    }
+}
+
+/// Groups the shield's ribbons into at most `per_plate` filaments per plate at their
+/// current-weighted mean offset: (offset m, height m, share). Enough for the flux from a
+/// nearby line, which varies smoothly across the ring.
+pub fn filaments(c: &shield::ShieldCurrent, per_plate: usize) -> Vec<(f64, f64, f64)> {
+    let n = shield::RIBBONS_PER_PLATE;
+    let group = n.div_ceil(per_plate.max(1));
+    let mut out = Vec::new();
+    for (rb, sh) in c.ribbons.chunks(group).zip(c.share.chunks(group)) {
+        let s: f64 = sh.iter().sum();
+        if s == 0.0 {
+            continue;
+        }
+        let d = rb
+            .iter()
+            .zip(sh)
+            .map(|(r, x)| x * 0.5 * (r.d0 + r.d1))
+            .sum::<f64>()
+            / s;
+        out.push((d, rb[0].z, s));
+    }
+    out
+}
+
+/// Flux per ampere divided by μ0 (m) through the shield's current filaments of `shape` (apex of
+/// the centreline `z0` m above a line of height `h`, the board's mid-plane `x` m beside the
+/// line): Σ sᵢ·∫ chord(u)·Hx dudu over each filament's own offset shape, its apex dᵢ lower,
+/// its plane zᵢ further sideways.
+pub fn flux_filaments(
+    shape: &LoopShape,
+    fil: &[(f64, f64, f64)],
+    field: impl Fn(f64, f64) -> f64,
+    x: f64,
+    z0: f64,
+) -> f64 {
+    fil.iter()
+        .map(|&(d, z, s)| {
+            let sh = offset_shape(shape, d * 1e3);
+            s * integrate_over_loop(&sh, |u| field(x + z, z0 - d + u))
+        })
+        .sum()
+}
+
+/// Capacitance across the shield gap, F: the 2-D field solution of the cut along the loop
+/// through the gap (every shield copper layer as two plates facing across the gap, a quarter
+/// turn long each, in the stackup's dielectrics), per metre, times the ring's width. The trace
+/// crossing the gap and the plates' curvature are left out.
+pub fn gap_capacitance(p: &Probe, s: &SolvedProbe) -> Result<f64, Error> {
+    use crate::field::{Boundary, Conductor, CrossSection, Dielectric as FDiel};
+    let g = p.gap;
+    let len = (p.shape.circumference() / 4.0).max(2.0 * g);
+    let layers_top: Vec<&Layer> = p.stackup.layers().iter().collect();
+    // The field solver stacks from the bottom; copper layers become resin of the nearest
+    // dielectric's permittivity (the gap between the plates is filled with it).
+    let mut dielectrics = Vec::new();
+    let mut conductors = Vec::new();
+    let mut y = 0.0;
+    let nl = layers_top.len();
+    for k in (0..nl).rev() {
+        match layers_top[k] {
+            Layer::Copper(c) => {
+                let near = |j: Option<usize>| match j.and_then(|j| layers_top.get(j)) {
+                    Some(Layer::Dielectric(d)) => Some(d.er),
+                    _ => None,
+                };
+                let er = near(k.checked_sub(1))
+                    .into_iter()
+                    .chain(near(Some(k + 1)))
+                    .fold(1.0_f64, f64::max);
+                dielectrics.push(FDiel::new(c.thickness_mm, er));
+                conductors.push(Conductor::ground(
+                    -g / 2.0 - len,
+                    -g / 2.0,
+                    y,
+                    y + c.thickness_mm,
+                ));
+                conductors.push(Conductor {
+                    role: crate::field::Role::Signal,
+                    shape: crate::field::Shape::Rect {
+                        x0: g / 2.0,
+                        x1: g / 2.0 + len,
+                        y0: y,
+                        y1: y + c.thickness_mm,
+                    },
+                });
+                y += c.thickness_mm;
+            }
+            Layer::Dielectric(d) => {
+                dielectrics.push(FDiel::new(d.thickness_mm, d.er));
+                y += d.thickness_mm;
+            }
+        }
+    }
+    let cs = CrossSection {
+        layers: dielectrics,
+        board: Some([-g / 2.0 - len, g / 2.0 + len]),
+        conductors,
+        coat: None,
+        fences: Vec::new(),
+        boundary: Boundary::Open,
+    };
+    let sol = crate::field::solve(&cs, crate::field::Accuracy::Draft)?;
+    Ok(sol.c_per_m * 2.0 * s.ring_half_width * 1e-3)
+}
+
+/// Conductor loss of the inner line at 1 GHz, Np/m, by Wheeler's incremental-inductance rule
+/// (H. A. Wheeler, "Formulas for the skin effect", Proc. IRE 30, 1942; from memory): every
+/// conductor surface receding by δn/2 adds the field energy of the skin layer, so
+/// R' = (R_s/μ0)·∂L'/∂n with L' = Z0·√εeff/c0 the line's inductance per metre, and
+/// α_c = R'/(2·Z0). The derivative is taken on the closed form of the solved stripline (trace
+/// narrower and thinner by 2δn, each plane δn further away). Smooth copper; 0 for a line that
+/// is not a stripline.
+pub fn alpha_c_1ghz(s: &SolvedProbe) -> f64 {
+    use crate::solve::impedance::{Line, analyse};
+    let Line::Stripline(st) = s.line else {
+        return 0.0;
+    };
+    let l_per_m = |st: &crate::solve::impedance::Stripline| {
+        analyse(&Line::Stripline(*st), None)
+            .ok()
+            .map(|sol| sol.z0 * sol.eps_eff.sqrt() / C0)
+    };
+    let dn = 1e-4 * st.t.min(st.width).min(st.h1).min(st.h2);
+    let mut rec = st;
+    rec.width -= 2.0 * dn;
+    rec.t -= 2.0 * dn;
+    rec.h1 += dn;
+    rec.h2 += dn;
+    match (l_per_m(&st), l_per_m(&rec)) {
+        (Some(l0), Some(l1)) => {
+            let dl_dn = (l1 - l0) / (dn * 1e-3);
+            let z0 = s.solution.z0;
+            surface_resistance(1e9) / MU0 * dl_dn / (2.0 * z0)
+        }
+        _ => 0.0,
+    }
 }
 
 /// Predicts the response of a probe.
@@ -312,13 +671,12 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     }
     let shape = &p.shape;
     let area = shape.centreline_area() * 1e-6;
-    // Shield cross-section: the ring's width by the board's thickness.
+    // The earlier closed form, kept as a limit: the solid cross-section's GMD.
     let g = gmd_rectangle(2.0 * s.ring_half_width, p.stackup.thickness_mm()) * 1e-3;
-    let pts: Vec<(f64, f64)> = crate::geom::shape::closed(shape, 0.0)
-        .iter()
-        .map(|q| (q.x * 1e-3, q.y * 1e-3))
-        .collect();
-    let l_outer = neumann_loop(&pts, g);
+    let pts = centreline_m(shape);
+    let l_outer_gmd = neumann_loop(&pts, g);
+    let sc = shield_current(p, s)?;
+    let l_outer = sc.l_outer;
     let circumference = shape.circumference() * 1e-3;
     let l2 = circumference / 2.0;
     let eps_eff = s.solution.eps_eff;
@@ -328,6 +686,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let corner = R_LOAD / (2.0 * PI * l_total);
     let f_small = C0 / (10.0 * circumference);
     let f_null = C0 / (4.0 * l2 * eps_eff.sqrt());
+    let c_gap = gap_capacitance(p, s)?;
     let (upper, rule) = if f_small <= 0.5 * f_null {
         (f_small, "small loop: circumference ≤ λ0/10")
     } else {
@@ -350,41 +709,86 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let freqs: Vec<f64> = (0..=n)
         .map(|i| f_lo * 10f64.powf(decades * i as f64 / n as f64))
         .collect();
+    let (tan_d, _) = signal_dielectrics(p);
     let mut r = Response {
         area_m2: area,
+        area_eff_m2: sc.area_eff,
         gmd_m: g,
+        l_outer_gmd,
         l_outer,
         l_stub,
         l_total,
+        c_gap,
+        z0_line,
+        eps_eff,
+        l2_m: l2,
+        l1_m: l2 + p.handle.length * 1e-3,
+        alpha_c_1ghz: alpha_c_1ghz(s),
+        alpha_dc: RHO_CU / (s.trace_width * 1e-3 * trace_thickness_m(p)) / (2.0 * z0_line),
+        tan_d,
         corner_hz: corner,
         f_small_loop_hz: f_small,
         f_null_hz: f_null,
+        f_gap_res_hz: 1.0 / (2.0 * PI * (l_outer * c_gap).sqrt()),
         upper_hz: upper,
         upper_rule: rule,
         probe_factor: Vec::new(),
         output_per_amp: Vec::new(),
         mutual: 0.0,
         resolution_m: 0.0,
+        filaments: filaments(&sc, 8),
         options: *o,
     };
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.
     let z0 = o.height_mm * 1e-3 + tip_to_apex_m(p, s);
     let h = o.trace_h_mm * 1e-3;
-    let flux0 = flux_per_amp(shape, 0.0, z0, h);
+    let fil = r.filaments.clone();
+    let flux = |x: f64| flux_filaments(shape, &fil, |xx, zz| hx_line(xx, zz, h), x, z0);
+    let flux0 = flux(0.0);
     r.mutual = MU0 * flux0;
-    let half = |x: f64| flux_per_amp(shape, x, z0, h) - 0.5 * flux0;
-    let x6 = crate::solve::roots::brent(half, 1e-9, 1.0, 1e-9).map_err(|e| {
-        Error::Unsolvable(format!("resolution: the −6 dB point was not found ({e:?})"))
-    })?;
-    r.resolution_m = 2.0 * x6;
+    // The filaments sit on both sides of the board's mid-plane, so the scan is symmetric about
+    // x = 0 only to first order: take the −6 dB points on both sides.
+    let half = |x: f64| flux(x) - 0.5 * flux0;
+    let find = |sign: f64| {
+        crate::solve::roots::brent(|x| half(sign * x), 1e-9, 1.0, 1e-9).map_err(|e| {
+            Error::Unsolvable(format!("resolution: the −6 dB point was not found ({e:?})"))
+        })
+    };
+    r.resolution_m = find(1.0)? + find(-1.0)?;
     for f in freqs {
-        let t = transfer(&r, f, z0_line, l2, eps_eff);
+        let t = r.transfer(f);
         r.probe_factor.push((f, pf_db(t)));
         let w = 2.0 * PI * f;
-        let v_per_a = w * r.mutual * t / (w * MU0 * area);
+        let v_per_a = w * r.mutual * r.gap_transfer(f).abs();
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
     }
     Ok(r)
+}
+
+/// Copper thickness of the signal layer, m.
+fn trace_thickness_m(p: &Probe) -> f64 {
+    p.stackup
+        .copper(p.signal_layer)
+        .map(|c| c.thickness_mm * 1e-3)
+        .unwrap_or(35e-6)
+}
+
+/// Loss tangent and εr of the inner line's dielectrics: the mean tan δ of the dielectrics on
+/// either side of the signal layer, and the larger εr.
+fn signal_dielectrics(p: &Probe) -> (f64, f64) {
+    let mut ds = Vec::new();
+    if let Some(d) = p.stackup.dielectric_below(p.signal_layer - 1) {
+        ds.push(d);
+    }
+    if let Some(d) = p.stackup.dielectric_below(p.signal_layer) {
+        ds.push(d);
+    }
+    if ds.is_empty() {
+        return (0.0, 1.0);
+    }
+    let tan_d = ds.iter().map(|d| d.loss_tangent).sum::<f64>() / ds.len() as f64;
+    let er = ds.iter().map(|d| d.er).fold(1.0, f64::max);
+    (tan_d, er)
 }
 
 /// Distance from the probe's tip (its board edge at the apex) to the apex of the loop's
@@ -394,7 +798,6 @@ pub fn tip_to_apex_m(p: &Probe, s: &SolvedProbe) -> f64 {
 }
 
 /// The probe factor at one frequency, dB(S/m) (the model of [`predict`]).
-pub fn probe_factor_at(p: &Probe, s: &SolvedProbe, r: &Response, f: f64) -> f64 {
-    let l2 = p.shape.circumference() * 1e-3 / 2.0;
-    pf_db(transfer(r, f, p.target_z0, l2, s.solution.eps_eff))
+pub fn probe_factor_at(_p: &Probe, _s: &SolvedProbe, r: &Response, f: f64) -> f64 {
+    r.pf_db_at(f)
 }

@@ -334,3 +334,30 @@ pub fn nearest_hole(holes: &[(f64, f64, f64)], i: usize) -> f64 {
         .map(|(_, h)| (h.0 - x).hypot(h.1 - y))
         .fold(f64::INFINITY, f64::min)
 }
+
+/// One of the demo's probes, predicted at the default options, and the demo fixture's test line
+/// (50 Ω ports).
+pub fn demo_probe_and_line(
+    name: &str,
+) -> (
+    loopwright::cli::predict::Predicted,
+    loopwright::physics::coupling::TestLine,
+) {
+    let spec = loopwright::spec::parse_toml(loopwright::cli::DEMO_SPEC, "demo").unwrap();
+    let all = loopwright::cli::predict::predict_spec(
+        &spec,
+        std::path::Path::new("."),
+        &Default::default(),
+    )
+    .unwrap();
+    let x = all.into_iter().find(|x| x.probe.name == name).unwrap();
+    let fx = loopwright::model::fixture::fixture_from_spec(
+        &loopwright::spec::parse_toml(loopwright::cli::demo::DEMO_FIXTURE, "fixture").unwrap(),
+        std::path::Path::new("."),
+    )
+    .unwrap();
+    let line = loopwright::solve::fixture::solve(&fx)
+        .unwrap()
+        .test_line(50.0);
+    (x, line)
+}

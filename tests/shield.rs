@@ -1,0 +1,197 @@
+//! The shield's outer current (`physics::shield`) against an independent computation.
+//!
+//! Reference: `tests/data/shield_refs.toml`, produced by
+//! `nice -n 19 python3 tests/reference/shield_refs.py > tests/data/shield_refs.toml`
+//! (numpy 2.4.6, scipy 1.17.1; the header lists the calls): a Nyström solution with the exact
+//! thin-sheet edge singularity and Maxwell's ring formula (`scipy.special.ellipk`, `ellipe`,
+//! `ellipkm1`), cross-checked there by a Galerkin solution to 1e-6. Our solver is a different
+//! discretisation (edge-clustered ribbons, closed-form ribbon GMDs, Cholesky).
+
+mod common;
+use common::{f, refs, rel};
+use loopwright::physics::shield::{Plate, RIBBONS_PER_PLATE, ln_gmd, solve_round};
+use loopwright::physics::{MU0, maxwell_coaxial};
+
+fn plates(case: &toml::Value) -> (f64, Vec<Plate>) {
+    let r = f(case, "R_mm");
+    let mut out = Vec::new();
+    for p in case["plates"].as_array().unwrap() {
+        let z = f(p, "z_mm") * 1e-3;
+        for iv in p["intervals"].as_array().unwrap() {
+            let iv = iv.as_array().unwrap();
+            let (a, b) = (iv[0].as_float().unwrap(), iv[1].as_float().unwrap());
+            out.push(Plate {
+                z,
+                d0: (a - r) * 1e-3,
+                d1: (b - r) * 1e-3,
+            });
+        }
+    }
+    (r * 1e-3, out)
+}
+
+#[test]
+fn outer_inductance_and_effective_area_match_the_independent_solution() {
+    let cases = refs("shield_refs.toml")["case"].as_array().unwrap().clone();
+    assert!(cases.len() >= 9);
+    for c in &cases {
+        let (r, pl) = plates(c);
+        let s = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+        let (l, a) = (s.l_outer * 1e9, s.area_eff * 1e6);
+        let (dl, da) = (rel(l, f(c, "L_nH")), rel(a, f(c, "A_eff_mm2")));
+        eprintln!(
+            "{}: L {l:.5} nH ({dl:.2e}), A_eff {a:.4} mm² ({da:.2e})",
+            c["name"]
+        );
+        // The bar is 0.5 %; we hold 0.05 %.
+        assert!(dl < 5e-4 && da < 5e-4, "{}: L {l} A {a}", c["name"]);
+    }
+}
+
+#[test]
+// Doubling the ribbons moves the hardest case (5 mm, the strongest crowding) by 2e-4: the
+// default count holds the 0.05 % claimed in docs/response.md.
+fn ribbon_count_is_converged() {
+    let c = refs("shield_refs.toml")["case"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"].as_str() == Some("demo-D5"))
+        .unwrap()
+        .clone();
+    let (r, pl) = plates(&c);
+    let a = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+    let b = solve_round(r, &pl, 2 * RIBBONS_PER_PLATE).unwrap();
+    assert!(
+        rel(a.l_outer, b.l_outer) < 5e-4,
+        "{} {}",
+        a.l_outer,
+        b.l_outer
+    );
+    assert!(rel(a.area_eff, b.area_eff) < 5e-4);
+}
+
+/// As the ring's width goes to zero the solution tends to the centreline forms: the
+/// centreline's area, and the thin ring μ0R(ln(8R/a) − 2) with a thin strip's equivalent
+/// radius a = w/4 (notes §1.3, from memory of the conformal-mapping result; the reference's
+/// own strip cases confirm it to 1e-4 % at w/R = 0.002).
+#[test]
+fn thin_ring_tends_to_the_centreline_forms() {
+    let r = 5e-3;
+    let mut last = f64::INFINITY;
+    for w in [1e-4, 1e-5, 1e-6] {
+        let pl = [Plate {
+            z: 0.0,
+            d0: -w / 2.0,
+            d1: w / 2.0,
+        }];
+        let s = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+        let thin = MU0 * r * ((8.0 * r / (w / 4.0)).ln() - 2.0);
+        let area = std::f64::consts::PI * r * r;
+        let (dl, da) = (rel(s.l_outer, thin), rel(s.area_eff, area));
+        assert!(dl < 1e-3 && da < 1e-3, "w {w}: {dl} {da}");
+        assert!(dl <= last + 1e-9);
+        last = dl;
+    }
+}
+
+/// The ribbons' closed-form log GMD against the textbook values: a strip with itself
+/// ln(w) − 3/2 (Maxwell), and far-apart ribbons tend to their centre distance.
+#[test]
+fn ribbon_gmd_closed_form() {
+    let w = 1e-3;
+    assert!((ln_gmd(0.0, w, 0.0, w, 0.0) - (w.ln() - 1.5)).abs() < 1e-9);
+    let far = ln_gmd(0.0, 1e-6, 1.0, 1.0 + 1e-6, 0.3);
+    assert!((far - (1.0f64 + 0.09).sqrt().ln()).abs() < 1e-9);
+    // Maxwell's formula is what the self term rests on: positive and finite.
+    assert!(maxwell_coaxial(5e-3, 5e-3, w) > 0.0);
+}
+
+/// Our model's transimpedance for one NEC-2 case: (freq, dBΩ) over the case's frequencies, and
+/// the model's corner and upper usable frequency.
+fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
+    use loopwright::model::probe::LoopShape;
+    use loopwright::physics::{flux_filaments, hx_line};
+    let r = f(c, "R_mm");
+    let mut pl = Vec::new();
+    for p in c["plates"].as_array().unwrap() {
+        let z = f(p, "y_mm") * 1e-3;
+        let (a, b) = (f(p, "r_min_mm"), f(p, "r_max_mm"));
+        let cuts: Vec<(f64, f64)> = match p.get("slot_mm").and_then(|s| s.as_array()) {
+            Some(s) => {
+                let (s0, s1) = (s[0].as_float().unwrap(), s[1].as_float().unwrap());
+                vec![(a, s0), (s1, b)]
+            }
+            None => vec![(a, b)],
+        };
+        for (x0, x1) in cuts {
+            pl.push(Plate {
+                z,
+                d0: (x0 - r) * 1e-3,
+                d1: (x1 - r) * 1e-3,
+            });
+        }
+    }
+    let sc = solve_round(r * 1e-3, &pl, RIBBONS_PER_PLATE).unwrap();
+    let fil = loopwright::physics::filaments(&sc, 8);
+    let h = f(c, "h_line_mm") * 1e-3;
+    let z0 = (f(c, "z_apex_mm") - f(c, "h_line_mm")) * 1e-3;
+    let shape = LoopShape::Round { diameter: 2.0 * r };
+    let m = MU0 * flux_filaments(&shape, &fil, |x, z| hx_line(x, z, h), 0.0, z0);
+    let eps = f(top, "eps_eff");
+    let l2 = std::f64::consts::PI * r * 1e-3;
+    let c0 = 299_792_458.0;
+    let l_stub = 50.0 * eps.sqrt() * l2 / c0;
+    let corner = 50.0 / (2.0 * std::f64::consts::PI * (sc.l_outer + l_stub));
+    let upper = c0 / (10.0 * 2.0 * std::f64::consts::PI * r * 1e-3);
+    let zt = c["freq_hz"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|fr| {
+            let fr = fr.as_float().or(fr.as_integer().map(|i| i as f64)).unwrap();
+            let w = 2.0 * std::f64::consts::PI * fr;
+            let x = w * sc.l_outer + 50.0 * (w * eps.sqrt() / c0 * l2).tan();
+            (
+                fr,
+                20.0 * (50.0 * w * m / (50.0f64.powi(2) + x * x).sqrt()).log10(),
+            )
+        })
+        .collect();
+    (zt, corner, upper)
+}
+
+/// Against NEC-2 (`tests/data/nec2_refs.toml`, from `tests/reference/nec2_refs.py` with
+/// PyNEC 2.3.4; its header lists the cards): the transimpedance V_out/I_line of the demo's
+/// cross-section on round loops of 5–30 mm over a thin-wire line, with the same lossless gap
+/// load (50 Ω + jZ0·tan βl2), from a decade below the model's corner to its upper usable
+/// frequency. Holds 0.5 dB for 10, 20 and 30 mm (the model reads 0.15–0.34 dB low, NEC's gap
+/// bus adding about 0.6 nH per its author). The 5 mm loop differs by 0.7–1.1 dB: not yet
+/// explained (NEC's uniform ring grid against our edge-clustered ribbons, or its bus); held at
+/// 1.2 dB so that any drift shows, and reported as open in docs/response.md.
+#[test]
+fn transimpedance_matches_nec2_grid_model() {
+    let top = refs("nec2_refs.toml");
+    let mut seen = 0;
+    for c in top["case"].as_array().unwrap() {
+        if c["variant"].as_str() != Some("plates") {
+            continue;
+        }
+        let (zt, corner, upper) = model_zt(c, &top);
+        let nec = c["zt_db_ohm"].as_array().unwrap();
+        let tol = if f(c, "R_mm") < 3.0 { 1.2 } else { 0.5 };
+        for ((fr, z), n) in zt.iter().zip(nec) {
+            if *fr < corner / 10.0 || *fr > upper {
+                continue;
+            }
+            let d = z - n.as_float().unwrap();
+            assert!(
+                d.abs() < tol,
+                "{} at {fr:.3e} Hz: model {z:.3} dBΩ, NEC {n}",
+                c["name"]
+            );
+            seen += 1;
+        }
+    }
+    assert!(seen > 30, "{seen} points compared");
+}
