@@ -354,13 +354,7 @@ impl Bench<'_> {
             };
             if let Some(s) = shape(&self.diffs(&t)) {
                 let unit = self.net.unit_hz * scale;
-                let name = match unit {
-                    u if u == 1.0 => "Hz".to_string(),
-                    u if u == 1e3 => "kHz".to_string(),
-                    u if u == 1e6 => "MHz".to_string(),
-                    u if u == 1e9 => "GHz".to_string(),
-                    _ => format!("{unit:e} Hz"),
-                };
+                let name = unit_name(unit);
                 out.push(Finding {
                     cause: Cause::Unit,
                     detail: format!(
@@ -643,13 +637,11 @@ impl Verdict {
 
 /// The name of a frequency unit, Hz.
 fn unit_name(u: f64) -> String {
-    match u {
-        u if u == 1.0 => "Hz".into(),
-        u if u == 1e3 => "kHz".into(),
-        u if u == 1e6 => "MHz".into(),
-        u if u == 1e9 => "GHz".into(),
-        _ => format!("{u:e} Hz"),
-    }
+    [(1.0, "Hz"), (1e3, "kHz"), (1e6, "MHz"), (1e9, "GHz")]
+        .iter()
+        .find(|(v, _)| *v == u)
+        .map(|(_, n)| n.to_string())
+        .unwrap_or_else(|| format!("{u:e} Hz"))
 }
 
 #[cfg(test)]

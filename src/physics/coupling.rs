@@ -271,7 +271,7 @@ mod launch_tests {
         // 100²/50 = 200 Ω, so the current into the section's far end (by power conservation,
         // lossless) is |I2|²·50 = P_in = (1 − |Γ|²)·V_inc²/50 with Γ = (200 − 50)/(200 + 50).
         let f = 1e9;
-        let eps = 4.0;
+        let eps: f64 = 4.0;
         let lq = super::super::C0 / (4.0 * f * eps.sqrt());
         let q = Section {
             z0: 100.0,
