@@ -1,7 +1,8 @@
 //! Writes the demo's invented bench data (for the README's calibrate-and-convert walk-through):
 //!
 //! - `data/demo/fm-r10-on-fixture-1mm.s2p`: what a VNA might read with probe FM-R10 held 1 mm
-//!   over the demo fixture's line. It is the coupling model's S21 with invented deviations
+//!   over the demo fixture's line. It is the coupling model's S21 (with the line current of the
+//!   fixture's launch model under the probe) with invented deviations
 //!   added (a +0.8 dB offset, 0.4 dB of loss per GHz, a 0.3 dB ripple every 150 MHz and a
 //!   −100 dB noise floor), so the calibration differs from the prediction as a real one would;
 //! - `data/demo/fm-clock-scan.csv`: an invented analyzer trace (dBµV, 30 MHz–1 GHz, 2 MHz
@@ -10,7 +11,7 @@
 //! None of this is measured. Run: `cargo run --example demo_bench_data`.
 
 use loopwright::cli::demo::{DEMO_FIXTURE, DEMO_SPEC};
-use loopwright::physics::coupling::{probe_coupling, probe_s21};
+use loopwright::physics::coupling::{launch_current, probe_coupling, probe_s21};
 use loopwright::spec::fixture::FixtureFileSpec;
 use loopwright::spec::parse_toml;
 use loopwright::spec::probe::ProbeFileSpec;
@@ -42,12 +43,17 @@ fn main() {
          ! PORT 2 into 50 ohm. Written by examples/demo_bench_data.rs.\n\
          # Hz S DB R 50\n",
     );
+    let secs = loopwright::solve::fixture::launch_sections(&fx, &fs).unwrap();
+    let beyond: Vec<_> = secs.iter().rev().copied().collect();
     for (f, (re, im)) in probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs) {
+        let k = launch_current(&secs, &beyond, 50.0, f);
+        let (re, im) = (re * k.0 - im * k.1, re * k.1 + im * k.0);
         let ghz = f / 1e9;
         let dev_db = 0.8 - 0.4 * ghz + 0.3 * (2.0 * PI * f / 150e6).sin();
         let p = (re * re + im * im) * 10f64.powf(dev_db / 10.0) + 1e-10;
         let mag_db = 10.0 * p.log10();
-        let ang = im.atan2(re).to_degrees() - 360.0 * f * fs.delay_s / 2.0;
+        // The launch current carries the line's delay up to the probe.
+        let ang = im.atan2(re).to_degrees();
         let ang = (ang + 180.0).rem_euclid(360.0) - 180.0;
         let s11 = -28.0 + 6.0 * ghz;
         let _ = writeln!(

@@ -7,6 +7,10 @@
 //! predicted probe factor. Then
 //!
 //!   PF = (H_avg/I)/(R_ref·|S21|),  PF[dB(S/m)] = 20·log10(H_avg/I) − 20·log10(R_ref) − |S21|dB.
+//!
+//! When the line is not uniform (the fixture's launches narrow it at each port) the current
+//! under the probe is k·V_inc/R_ref, with k from the launch model or the measured line
+//! ([`LineCurrent`]); then PF[dB(S/m)] gains 20·log10|k|.
 
 use crate::calib::touchstone::Network;
 use crate::error::{Error, FieldError};
@@ -30,6 +34,9 @@ pub struct CalPoint {
     pub pf_pred_db: f64,
     /// At or below the probe's predicted upper usable frequency.
     pub in_band: bool,
+    /// The line current under the probe relative to V_inc/R_ref, dB (0 on a uniform matched
+    /// line; the launch's or the measured line's standing waves otherwise).
+    pub current_db: f64,
 }
 
 impl CalPoint {
@@ -54,6 +61,16 @@ pub struct Calibration {
     pub ports: (usize, usize),
     /// Points at 0 Hz that were skipped (a probe factor needs f > 0).
     pub skipped_dc: usize,
+    /// How the line current under the probe was found, as text.
+    pub current_source: String,
+}
+
+/// How the line current under the probe is found.
+pub struct LineCurrent<'a> {
+    /// What it is, for the notes and the output.
+    pub source: String,
+    /// The current per V_inc/R_ref at a frequency (Hz), complex (re, im).
+    pub ratio: &'a dyn Fn(f64) -> (f64, f64),
 }
 
 impl Calibration {
@@ -123,6 +140,7 @@ pub fn calibrate(
     path: &str,
     (line_port, probe_port): (usize, usize),
     height_mm: f64,
+    current: &LineCurrent,
 ) -> Result<Calibration, Error> {
     let mut errs = check_ports(net.ports, line_port, probe_port);
     crate::error::check_range(&mut errs, "height", height_mm, 0.0, 100.0);
@@ -191,13 +209,16 @@ pub fn calibrate(
             )));
         }
         let (pr, pi) = probe_s21(p, s, r, &coupling, &[f])[0].1;
+        let (kr, ki) = (current.ratio)(f);
+        let k = kr.hypot(ki);
         points.push(CalPoint {
             f,
             s21_db: 20.0 * mag.log10(),
-            s21_pred_db: 20.0 * pr.hypot(pi).log10(),
-            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp, net.r_ref),
+            s21_pred_db: 20.0 * (pr.hypot(pi) * k).log10(),
+            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp * k, net.r_ref),
             pf_pred_db: crate::physics::probe_factor_at(p, s, r, f),
             in_band: f <= r.upper_hz,
+            current_db: 20.0 * k.log10(),
         });
     }
     if points.is_empty() {
@@ -216,5 +237,6 @@ pub fn calibrate(
         height_mm,
         ports: (line_port, probe_port),
         skipped_dc,
+        current_source: current.source.clone(),
     })
 }

@@ -1,6 +1,9 @@
-//! Calibration and use: reading frequency tables and converting analyzer readings into field
-//! strength (issue 6; the test-line fixture and Touchstone calibration are still to come).
+//! Calibration and use: the probe factor from a Touchstone file measured on the test-line
+//! fixture (with its plausibility gate), reading frequency tables and converting analyzer
+//! readings into field strength.
 
+pub mod band;
 pub mod calibrate;
 pub mod convert;
+pub mod gate;
 pub mod touchstone;

@@ -15,6 +15,8 @@ pub struct Network {
     pub ports: usize,
     /// Reference resistance, Ω.
     pub r_ref: f64,
+    /// The option line's frequency unit, Hz (1, 1e3, 1e6 or 1e9).
+    pub unit_hz: f64,
     /// Frequencies, Hz, strictly increasing.
     pub freqs: Vec<f64>,
     /// S-parameters per frequency, row-major `s[i*n + j]` = S(i+1)(j+1).
@@ -216,6 +218,7 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
     Ok(Network {
         ports,
         r_ref,
+        unit_hz: unit,
         freqs,
         s,
         lines,

@@ -32,9 +32,13 @@ pub struct ConvertArgs {
     /// Also draw the field strength against frequency as an SVG plot.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
-    /// Extend the probe-factor and gain tables' end segments to readings outside them.
+    /// Extend the probe-factor and gain tables' end segments to readings outside them (not
+    /// past the factor's usable band, when its comment lines state one, without --beyond-band).
     #[arg(long)]
     pub extrapolate: bool,
+    /// With --extrapolate: let the probe factor reach past its stated usable band too.
+    #[arg(long = "beyond-band", requires = "extrapolate")]
+    pub beyond_band: bool,
 }
 
 pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
@@ -93,6 +97,34 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
     }
     let readings = read_table(&a.readings, &["level_dbm", "level_dbuv"])?;
     let factor = read_table(&a.factor, &["pf_db_s_per_m"])?;
+    // The usable band the factor's comment lines state (calibrate writes it).
+    let band = std::fs::read_to_string(&a.factor)
+        .ok()
+        .and_then(|t| crate::calib::band::parse_band(&t));
+    let last = factor.rows[factor.rows.len() - 1].0;
+    if let Some((_, hi)) = band
+        && a.extrapolate
+        && !a.beyond_band
+    {
+        let past: Vec<f64> = readings
+            .rows
+            .iter()
+            .map(|r| r.0)
+            .filter(|&f| f > last && f > hi)
+            .collect();
+        if let (Some(lo), Some(top)) = (past.first(), past.last()) {
+            return Err(Error::Invalid(vec![FieldError::new(
+                "--extrapolate",
+                format!("{} reading(s) from {lo} Hz to {top} Hz", past.len()),
+                format!(
+                    "would extend the probe factor past its usable band (up to {hi} Hz, stated \
+                     in {}); the factor is not known there. Give --beyond-band as well to \
+                     accept that",
+                    a.factor.display()
+                ),
+            )]));
+        }
+    }
     let gain = match (&a.gain, a.gain_db) {
         (Some(p), _) => Gain::Table(read_table(p, &["gain_db"])?),
         (None, Some(g)) => Gain::Fixed(g),
@@ -111,7 +143,19 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
         let path = path.display().to_string();
         move |e: std::io::Error| Error::Io { path, source: e }
     };
-    let mut outputs = vec![(a.out.clone(), to_csv(&points))];
+    let above: Vec<f64> = match band {
+        Some((_, hi)) => points
+            .iter()
+            .map(|p| p.freq_hz)
+            .filter(|&f| f > hi)
+            .collect(),
+        None => Vec::new(),
+    };
+    let csv = match band {
+        Some((_, hi)) => band_column(&to_csv(&points), hi),
+        None => to_csv(&points),
+    };
+    let mut outputs = vec![(a.out.clone(), csv)];
     if let Some(plot) = &a.plot {
         let series = crate::emit::plot::Series {
             label: format!(
@@ -144,6 +188,15 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
         .iter()
         .map(|p| p.h_dbua_per_m)
         .fold(f64::NEG_INFINITY, f64::max);
+    if let (Some((_, hi)), Some(lo), Some(top)) = (band, above.first(), above.last()) {
+        eprintln!(
+            "loopwright: warning: {} reading(s) from {lo} Hz to {top} Hz lie above the probe \
+             factor's usable band (up to {hi} Hz); their field strengths are marked \
+             above_band = true in {}",
+            above.len(),
+            a.out.display()
+        );
+    }
     outln!(
         "{} points written to {}; highest field {:.2} dBµA/m. Near-field readings locate and rank \
          sources; they do not predict a compliance result.",
@@ -212,4 +265,24 @@ fn write_files(outputs: &[(PathBuf, String)]) -> Result<(), (PathBuf, std::io::E
         }
     }
     result
+}
+
+/// The output table with a last column `above_band`: whether each reading lies above the
+/// probe factor's usable band (up to `hi` Hz).
+fn band_column(csv: &str, hi: f64) -> String {
+    let mut o = String::with_capacity(csv.len() + 16 * csv.lines().count());
+    for (k, l) in csv.lines().enumerate() {
+        o.push_str(l);
+        if k == 0 {
+            o.push_str(",above_band\n");
+        } else {
+            let f: f64 = l
+                .split(',')
+                .next()
+                .and_then(|v| v.parse().ok())
+                .unwrap_or(0.0);
+            o.push_str(if f > hi { ",true\n" } else { ",false\n" });
+        }
+    }
+    o
 }

@@ -104,8 +104,12 @@ pub struct FixtureCoupling {
     pub height_mm: f64,
     /// The coupling.
     pub coupling: crate::physics::coupling::Coupling,
-    /// Predicted S21 at the probe-factor table's frequencies: (Hz, dB, degrees).
+    /// Predicted S21 at the probe-factor table's frequencies: (Hz, dB, degrees), with the line
+    /// current under the probe from the fixture's launch model (its magnitude; the phase stays
+    /// referred to the current under the probe).
     pub s21: Vec<(f64, f64, f64)>,
+    /// That current per V_inc/R at the same frequencies, dB (0 on a uniform matched line).
+    pub line_current_db: Vec<f64>,
 }
 
 /// The coupling of a predicted probe to a solved fixture at `height_mm`.
@@ -115,7 +119,7 @@ pub fn fixture_coupling(
     fs: &crate::solve::fixture::SolvedFixture,
     height_mm: f64,
 ) -> FixtureCoupling {
-    use crate::physics::coupling::{probe_coupling, probe_s21};
+    use crate::physics::coupling::{launch_current, probe_coupling, probe_s21};
     let c = probe_coupling(
         &x.probe,
         &x.solved,
@@ -124,15 +128,33 @@ pub fn fixture_coupling(
         &fs.test_line(crate::physics::R_LOAD),
     );
     let freqs: Vec<f64> = x.response.probe_factor.iter().map(|(f, _)| *f).collect();
+    // The fixture's launches (a fixture that solved has sections; none would mean k = 1).
+    let secs = crate::solve::fixture::launch_sections(fx, fs).unwrap_or_default();
+    let beyond: Vec<_> = secs.iter().rev().copied().collect();
+    let k_db: Vec<f64> = freqs
+        .iter()
+        .map(|&f| {
+            let k = launch_current(&secs, &beyond, crate::physics::R_LOAD, f);
+            20.0 * k.0.hypot(k.1).log10()
+        })
+        .collect();
     let s21 = probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs)
         .into_iter()
-        .map(|(f, (re, im))| (f, 20.0 * re.hypot(im).log10(), im.atan2(re).to_degrees()))
+        .zip(&k_db)
+        .map(|((f, (re, im)), k)| {
+            (
+                f,
+                20.0 * re.hypot(im).log10() + k,
+                im.atan2(re).to_degrees(),
+            )
+        })
         .collect();
     FixtureCoupling {
         fixture: fx.name.clone(),
         height_mm,
         coupling: c,
         s21,
+        line_current_db: k_db,
     }
 }
 
@@ -146,8 +168,8 @@ pub fn coupling_json(c: &FixtureCoupling) -> Value {
         "mutual_filament_ph": k.mutual_filament * 1e12,
         "h_avg_per_amp": k.h_avg_per_amp,
         "h_centre_per_amp": k.h_centre_per_amp,
-        "field_reference": "area-average Hx over the loop; the line matched, I = V_inc/50 Ω",
-        "s21": c.s21.iter().map(|(f, db, deg)| json!({"freq_hz": f, "db": db, "deg": deg})).collect::<Vec<_>>(),
+        "field_reference": "area-average Hx over the loop; I = k·V_inc/50 Ω, k from the fixture's launch model",
+        "s21": c.s21.iter().zip(&c.line_current_db).map(|((f, db, deg), k)| json!({"freq_hz": f, "db": db, "deg": deg, "line_current_db": k})).collect::<Vec<_>>(),
     })
 }
 

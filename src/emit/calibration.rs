@@ -3,15 +3,28 @@
 
 use super::plot::{Series, hz_label, log_plot};
 use crate::calib::calibrate::Calibration;
+use crate::calib::gate::Verdict;
 use crate::model::fixture::Fixture;
 use crate::model::probe::Probe;
 use crate::physics::Response;
 use std::fmt::Write;
 
+/// `# `-comment lines (the CSV readers skip them), one per line of `header`.
+pub fn comments(header: &[String]) -> String {
+    let mut o = String::new();
+    for h in header {
+        for l in h.lines() {
+            let _ = writeln!(o, "# {l}");
+        }
+    }
+    o
+}
+
 /// The probe-factor table `freq_hz,pf_db_s_per_m`: measured (`measured`) or predicted at the
-/// measured frequencies.
-pub fn pf_csv(c: &Calibration, measured: bool) -> String {
-    let mut o = String::from("freq_hz,pf_db_s_per_m\n");
+/// measured frequencies, after `header` as comment lines.
+pub fn pf_csv(c: &Calibration, measured: bool, header: &[String]) -> String {
+    let mut o = comments(header);
+    o.push_str("freq_hz,pf_db_s_per_m\n");
     for p in &c.points {
         let v = if measured { p.pf_db } else { p.pf_pred_db };
         let _ = writeln!(o, "{},{v:.4}", p.f);
@@ -19,22 +32,25 @@ pub fn pf_csv(c: &Calibration, measured: bool) -> String {
     o
 }
 
-/// The detail table: both S21 and both probe factors, their difference and the band flag.
-pub fn detail_csv(c: &Calibration) -> String {
-    let mut o = String::from(
-        "freq_hz,s21_db,s21_predicted_db,pf_db_s_per_m,pf_predicted_db_s_per_m,difference_db,in_band\n",
+/// The detail table: both S21 and both probe factors, their difference and the band flag,
+/// after `header` as comment lines.
+pub fn detail_csv(c: &Calibration, header: &[String]) -> String {
+    let mut o = comments(header);
+    o.push_str(
+        "freq_hz,s21_db,s21_predicted_db,pf_db_s_per_m,pf_predicted_db_s_per_m,difference_db,in_band,line_current_db\n",
     );
     for p in &c.points {
         let _ = writeln!(
             o,
-            "{},{:.4},{:.4},{:.4},{:.4},{:.4},{}",
+            "{},{:.4},{:.4},{:.4},{:.4},{:.4},{},{:.4}",
             p.f,
             p.s21_db,
             p.s21_pred_db,
             p.pf_db,
             p.pf_pred_db,
             p.diff_db(),
-            p.in_band
+            p.in_band,
+            p.current_db
         );
     }
     o
@@ -86,6 +102,7 @@ pub fn notes(
     c: &Calibration,
     source: &str,
     files: &[String],
+    verdict: &Verdict,
 ) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "# Calibration of {} on {}\n", p.name, fx.name);
@@ -115,11 +132,17 @@ pub fn notes(
     let _ = writeln!(
         o,
         "- Line model: strip {:.3} mm wide, {:.3} mm over its plane, as a uniform current \
-         sheet with its image (quasi-static); matched line, I = V_inc/{} Ω (the file's \
-         reference resistance).",
+         sheet with its image (quasi-static); the line driven and terminated in {} Ω (the \
+         file's reference resistance).",
         c.line.width * 1e3,
         c.line.h * 1e3,
         crate::model::probe::num(c.line.r_port)
+    );
+    let _ = writeln!(
+        o,
+        "- Line current under the probe: {}.{}",
+        c.current_source,
+        launch_summary(c)
     );
     let k = &c.coupling;
     let _ = writeln!(
@@ -142,7 +165,8 @@ pub fn notes(
     );
     let _ = writeln!(
         o,
-        "- PF[dB(S/m)] = 20·log10(H_avg/I) − 20·log10(R_ref) − |S21|[dB].\n"
+        "- PF[dB(S/m)] = 20·log10(H_avg/I) + 20·log10|I/(V_inc/R_ref)| − 20·log10(R_ref) − \
+         |S21|[dB].\n"
     );
     let _ = writeln!(o, "## Result\n");
     let n_in = c.points.iter().filter(|q| q.in_band).count();
@@ -174,11 +198,20 @@ pub fn notes(
             );
         }
     }
+    let _ = writeln!(o, "\n## Plausibility gate\n");
+    for l in verdict.lines() {
+        let _ = writeln!(o, "- {}", l.trim_start());
+    }
     let _ = writeln!(
         o,
-        "\nDifferences of a few dB are usual: the sheet model's field, the height (spacer and \
-         mask), fixture and cable losses not de-embedded, and the probe's own tolerances all \
-         enter. Use the measured table for conversion; keep the prediction as a sanity check.\n"
+        "\nThe gate compares the measured factor with the prediction up to the upper usable \
+         frequency: level (median difference), slope (dB per decade) and ripple (distance from \
+         that slope). Within the limits the difference is what the model leaves out (the sheet \
+         model's field, the height's tolerance, losses not de-embedded, the probe's own \
+         tolerances); beyond them a setup error (frequency unit, ports, probe, height, a pad or \
+         cable left in) is far more likely, and the calibration is refused with a diagnosis \
+         (docs/response.md). Use the measured table for conversion; keep the prediction as the \
+         check.\n"
     );
     let _ = writeln!(o, "## Files\n");
     for f in files {
@@ -191,6 +224,43 @@ pub fn notes(
         crate::cli::CAUTIONS
     );
     o
+}
+
+/// The current's departure from V_inc/R_ref at a few frequencies, as text ("" when none).
+fn launch_summary(c: &Calibration) -> String {
+    let worst = c
+        .points
+        .iter()
+        .fold(0.0f64, |m, p| m.max(p.current_db.abs()));
+    if worst < 5e-4 {
+        return " It equals V_inc/R_ref at every point.".into();
+    }
+    let mut picks: Vec<&crate::calib::calibrate::CalPoint> = Vec::new();
+    for target in [1e8, 3e8, 1e9, 3e9] {
+        if let Some(p) = c
+            .points
+            .iter()
+            .filter(|p| p.f <= target * 1.05)
+            .min_by(|a, b| {
+                (a.f.ln() - target.ln())
+                    .abs()
+                    .total_cmp(&(b.f.ln() - target.ln()).abs())
+            })
+            && !picks.iter().any(|q| q.f == p.f)
+        {
+            picks.push(p);
+        }
+    }
+    let list: Vec<String> = picks
+        .iter()
+        .map(|p| format!("{:+.2} dB at {}", p.current_db, hz_label(p.f)))
+        .collect();
+    format!(
+        " Relative to V_inc/R_ref (a uniform matched line) it is {}; the largest departure is \
+         {worst:.2} dB (column `line_current_db` of the detail table). The measured probe \
+         factor includes this correction; a uniform-line calibration would be off by as much.",
+        list.join(", ")
+    )
 }
 
 /// What the calibration's model does not cover for this fixture.

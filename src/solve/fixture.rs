@@ -194,3 +194,46 @@ pub fn neck_length(f: &Fixture) -> f64 {
 pub fn tab_length(f: &Fixture) -> f64 {
     f.vias.pad + 2.0 * super::probe::VIA_WEB
 }
+
+/// Steps the launch's taper is cut into for the line-current model.
+pub const TAPER_STEPS: usize = 24;
+
+/// The line from one port (the board's edge) to the probe position (the board's centre) as
+/// lossless line sections, the fixture being symmetric: the connector's centre pad and the
+/// neck at the pad's width, the taper in [`TAPER_STEPS`] steps (each at its mid width), then
+/// the uniform line. Z0 and εeff of each width come from the impedance engine on the fixture's
+/// own cross-section, by the method that solved the uniform line. The connector itself and the
+/// pads' fringing are not modelled.
+pub fn launch_sections(
+    f: &Fixture,
+    s: &SolvedFixture,
+) -> Result<Vec<crate::physics::coupling::Section>, Error> {
+    use crate::physics::coupling::Section;
+    let method = Some(s.solution.method);
+    let section = |w: f64, len_mm: f64| -> Result<Section, Error> {
+        let sol =
+            super::impedance::analyse(&s.line.with_width(w), method).map_err(Error::Invalid)?;
+        Ok(Section {
+            z0: sol.z0,
+            eps_eff: sol.eps_eff,
+            len: len_mm * 1e-3,
+        })
+    };
+    let w = s.width;
+    let wn = w.min(f.connector.centre_pad_width);
+    let narrow = f.connector.centre_pad_length + neck_length(f);
+    let uniform = f.length / 2.0 - narrow - s.taper;
+    let mut out = Vec::new();
+    if (w - wn).abs() > 1e-9 {
+        out.push(section(wn, narrow)?);
+        let dl = s.taper / TAPER_STEPS as f64;
+        for k in 0..TAPER_STEPS {
+            let t = (k as f64 + 0.5) / TAPER_STEPS as f64;
+            out.push(section(wn + (w - wn) * t, dl)?);
+        }
+        out.push(section(w, uniform)?);
+    } else {
+        out.push(section(w, f.length / 2.0)?);
+    }
+    Ok(out)
+}
