@@ -314,8 +314,9 @@ fn far_walls_give_the_ideal_stripline() {
     assert!(z_close < 0.97 * ideal, "{z_close} vs {ideal}");
 }
 
-// Rebuilding replaces the probe folders of an earlier build; a folder in the way that is not a
-// loopwright output stops the build before anything is written.
+// Rebuilding replaces an unchanged earlier build; a file loopwright did not write, or one
+// changed since, stops the build before anything is written (tests/output_folder.rs has the
+// writer's own tests).
 #[test]
 fn output_folders_are_replaced_only_when_they_are_ours() {
     let root = std::env::temp_dir().join(format!("loopwright-replace-{}", std::process::id()));
@@ -324,28 +325,22 @@ fn output_folders_are_replaced_only_when_they_are_ours() {
         "{BASE}[[probe]]\nname = \"P2\"\nshape = \"round\"\nsize_mm = 10\n"
     ));
     build_to_dir(&s, Path::new("."), &root, false, Vec::new()).unwrap();
-    std::fs::write(root.join("P2").join("P2-L1.gbr"), "stale").unwrap();
+    let first = std::fs::read(root.join("P2").join("P2-L1.gbr")).unwrap();
     build_to_dir(&s, Path::new("."), &root, false, Vec::new()).unwrap();
-    let l1 = std::fs::read_to_string(root.join("P2").join("P2-L1.gbr")).unwrap();
-    assert!(
-        l1.starts_with("%FSLAX46Y46*%"),
-        "the earlier build was not replaced"
-    );
-    std::fs::write(root.join("keep.txt"), "user").unwrap();
-    let other = root.join("Q3");
-    std::fs::create_dir_all(&other).unwrap();
-    std::fs::write(other.join("notes.txt"), "user data").unwrap();
-    let s2 = spec(&format!(
-        "{BASE}[[probe]]\nname = \"Q3\"\nshape = \"round\"\nsize_mm = 10\n"
-    ));
-    let e = build_to_dir(&s2, Path::new("."), &root, false, Vec::new()).unwrap_err();
-    assert!(
-        e.to_string().contains("not an earlier loopwright output"),
-        "{e}"
-    );
     assert_eq!(
-        std::fs::read_to_string(other.join("notes.txt")).unwrap(),
-        "user data"
+        std::fs::read(root.join("P2").join("P2-L1.gbr")).unwrap(),
+        first
+    );
+    std::fs::write(root.join("P2").join("P2-L1.gbr"), "edited").unwrap();
+    std::fs::write(root.join("keep.txt"), "user").unwrap();
+    let e = build_to_dir(&s, Path::new("."), &root, false, Vec::new())
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("keep.txt is not written by loopwright"), "{e}");
+    assert!(e.contains("P2/P2-L1.gbr changed"), "{e}");
+    assert_eq!(
+        std::fs::read_to_string(root.join("P2").join("P2-L1.gbr")).unwrap(),
+        "edited"
     );
     assert_eq!(
         std::fs::read_to_string(root.join("keep.txt")).unwrap(),
@@ -354,13 +349,33 @@ fn output_folders_are_replaced_only_when_they_are_ours() {
     let leftovers: Vec<_> = std::fs::read_dir(root.parent().unwrap())
         .unwrap()
         .flatten()
-        .filter(|e| e.file_name().to_string_lossy().contains("loopwright-tmp"))
         .filter(|e| {
-            e.file_name()
-                .to_string_lossy()
-                .contains(&format!("{}", std::process::id()))
+            let n = e.file_name().to_string_lossy().to_string();
+            n.starts_with(".loopwright-replace-") && n.contains(&format!("{}", std::process::id()))
         })
         .collect();
     assert!(leftovers.is_empty(), "temporary folder left behind");
+    let _ = std::fs::remove_dir_all(&root);
+}
+
+// An --out that cannot be made is refused with --out named, before the build (here its parent
+// is a file; a read-only parent takes the same path, but the tests may run as root).
+#[test]
+fn an_out_that_cannot_be_made_is_named() {
+    let root = std::env::temp_dir().join(format!("loopwright-nodir-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    std::fs::create_dir_all(&root).unwrap();
+    std::fs::write(root.join("a-file"), "x").unwrap();
+    let out = root.join("a-file").join("boards");
+    let e = loopwright::output::preflight(&out).unwrap_err().to_string();
+    assert!(e.starts_with("--out = "), "{e}");
+    assert!(e.contains("is a file, not a folder"), "{e}");
+    let s = spec(&format!(
+        "{BASE}[[probe]]\nname = \"P2\"\nshape = \"round\"\nsize_mm = 10\n"
+    ));
+    let e = build_to_dir(&s, Path::new("."), &out, false, Vec::new())
+        .unwrap_err()
+        .to_string();
+    assert!(e.starts_with("--out = "), "{e}");
     let _ = std::fs::remove_dir_all(&root);
 }
