@@ -358,6 +358,42 @@ fn output_folders_are_replaced_only_when_they_are_ours() {
     let _ = std::fs::remove_dir_all(&root);
 }
 
+// Names are checked at validation, against what the file systems and the family's own files
+// need: folders differing only in case (one folder on Windows and macOS), a probe folder named
+// like the family's summary, and names too long for the platforms' path limits.
+#[test]
+fn names_that_would_collide_or_overflow_are_refused_at_validation() {
+    let p = |name: &str| format!("[[probe]]\nname = \"{name}\"\nshape = \"round\"\nsize_mm = 10\n");
+    refused(
+        &format!("{}{}", p("fm-r10"), p("FM-R10")),
+        &[
+            "probe[2].name",
+            "\"FM-R10\"",
+            "where case is ignored",
+            "fm-r10",
+        ],
+    );
+    refused(
+        &format!("family = \"X\"\n{}", p("X-summary.md")),
+        &["probe[1].name", "X-summary.md", "family's own file"],
+    );
+    refused(
+        &format!("family = \"X\"\n{}", p("x-REPORT.html")),
+        &["probe[1].name", "X-report.html"],
+    );
+    refused(
+        &p(&"R".repeat(65)),
+        &["probe[1].name", "at most 64 characters"],
+    );
+    refused(
+        &format!("family = \"{}\"\n{}", "F".repeat(65), p("a")),
+        &["family", "at most 64 characters"],
+    );
+    // 64 characters build.
+    let s = spec(&format!("{BASE}{}", p(&"R".repeat(64))));
+    assert!(build_family(&s, Path::new("."), false).is_ok());
+}
+
 // An --out that cannot be made is refused with --out named, before the build (here its parent
 // is a file; a read-only parent takes the same path, but the tests may run as root).
 #[test]
