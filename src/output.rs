@@ -243,11 +243,21 @@ pub fn check_folder(dir: &Path) -> Result<Contents, Error> {
                 .into(),
         ));
     }
-    let tree = walk(dir)?;
+    // Without a manifest the folder is refused whatever it holds: a few names are enough to
+    // say so (no walk through a home folder named by mistake).
+    let has_manifest = fs::symlink_metadata(dir.join(MANIFEST)).is_ok_and(|m| m.is_file());
+    let tree = walk(
+        dir,
+        if has_manifest {
+            usize::MAX
+        } else {
+            4 * LIST_MAX
+        },
+    )?;
     if tree.files.is_empty() && tree.dirs.is_empty() && tree.others.is_empty() {
         return Ok(Contents::Empty);
     }
-    if !tree.files.contains(MANIFEST) {
+    if !has_manifest {
         let all = tree
             .files
             .iter()
@@ -262,7 +272,11 @@ pub fn check_folder(dir: &Path) -> Result<Contents, Error> {
                  of versions before manifests have none either); loopwright replaces only its \
                  own outputs: remove the folder yourself or choose another --out (nothing was \
                  written)",
-                listing(&all)
+                if all.len() >= 4 * LIST_MAX {
+                    format!("{} and more", all[..LIST_MAX].join(", "))
+                } else {
+                    listing(&all)
+                }
             ),
         ));
     }
@@ -779,8 +793,8 @@ struct Tree {
     others: BTreeSet<String>,
 }
 
-/// Everything under `root`, links not followed.
-fn walk(root: &Path) -> Result<Tree, Error> {
+/// Everything under `root`, links not followed; stops after about `limit` entries.
+fn walk(root: &Path, limit: usize) -> Result<Tree, Error> {
     let mut t = Tree {
         files: BTreeSet::new(),
         dirs: BTreeSet::new(),
@@ -788,6 +802,9 @@ fn walk(root: &Path) -> Result<Tree, Error> {
     };
     let mut stack = vec![(root.to_path_buf(), String::new())];
     while let Some((dir, rel)) = stack.pop() {
+        if t.files.len() + t.dirs.len() + t.others.len() >= limit {
+            break;
+        }
         for e in fs::read_dir(&dir).map_err(io(&dir))? {
             let e = e.map_err(io(&dir))?;
             let name = e.file_name().to_string_lossy().to_string();

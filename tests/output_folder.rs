@@ -168,6 +168,16 @@ fn a_folder_without_manifest_is_refused_unless_empty() {
         std::fs::read_to_string(out.join("P1/P1-fab-notes.md")).unwrap(),
         "old"
     );
+    // A big folder without manifest (a home folder named by mistake) is refused from a few
+    // names, not after a walk through all of it.
+    let big = root.join("big");
+    for i in 0..300 {
+        std::fs::create_dir_all(big.join(format!("d{i:03}"))).unwrap();
+        std::fs::write(big.join(format!("d{i:03}/f.txt")), "x").unwrap();
+    }
+    let e = write_output(&big, &entries("new")).unwrap_err().to_string();
+    assert!(e.contains(" and more that loopwright did not write"), "{e}");
+    assert_eq!(std::fs::read_dir(&big).unwrap().count(), 300);
     let empty = root.join("empty");
     std::fs::create_dir_all(&empty).unwrap();
     write_output(&empty, &entries("new")).unwrap();
