@@ -438,9 +438,7 @@ impl Run<'_> {
                 let Some(pid) = name.strip_prefix(&n.legacy_prefix) else {
                     continue;
                 };
-                if let Ok(pid) = pid.parse::<u32>()
-                    && sys::alive(pid) == Some(false)
-                {
+                if pid.parse::<u32>().ok().and_then(sys::alive) == Some(false) {
                     let _ = fs::remove_dir_all(e.path());
                 }
             }

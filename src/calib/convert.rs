@@ -139,9 +139,8 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
                 ),
             ));
         }
-        if let Some((lo, hi, unit)) = column_range(&column)
-            && !(lo..=hi).contains(&v)
-        {
+        let range = column_range(&column).filter(|(lo, hi, _)| !(*lo..=*hi).contains(&v));
+        if let Some((lo, hi, unit)) = range {
             return Err(bad(
                 p,
                 line,
