@@ -18,6 +18,7 @@ pub mod error;
 pub mod field;
 pub mod geom;
 pub mod model;
+pub mod output;
 pub mod physics;
 pub mod pipeline;
 pub mod solve;

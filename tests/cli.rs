@@ -473,7 +473,7 @@ fn malformed_stackup_files_are_refused() {
         ],
         &[
             "layer[2].thickness_mm = -0.2",
-            "greater than 0",
+            "from 0.01 to 10",
             "layer[4].type",
             "\"glass\"",
         ],

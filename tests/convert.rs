@@ -134,7 +134,28 @@ fn malformed_tables_are_refused_with_their_line_and_nothing_is_written() {
             "expected freq_hz,level_dbm|level_dbuv",
         ),
         ("freq_hz,level_dbm\n", "line 2", "no data rows"),
-        ("freq_hz,level_dbm\n-5,-40\n", "line 2", "greater than 0"),
+        (
+            "freq_hz,level_dbm\n-5,-40\n",
+            "line 2",
+            "outside 1 Hz to 1 THz",
+        ),
+        // Physical ranges (calib::convert::column_range, with their reasons): a frequency
+        // pasted into the level column, a level beyond any analyzer, a frequency beyond 1 THz.
+        (
+            "freq_hz,level_dbuv\n1e6,40\n2e6,1e8\n",
+            "line 3",
+            "level_dbuv = 1e8 is outside -93.01 to 166.99 dBµV",
+        ),
+        (
+            "freq_hz,level_dbm\n1e6,1e300\n",
+            "line 2",
+            "level_dbm = 1e300 is outside -200 to 60 dBm",
+        ),
+        (
+            "freq_hz,level_dbm\n1e13,-40\n",
+            "line 2",
+            "outside 1 Hz to 1 THz",
+        ),
     ];
     for (text, line, why) in cases {
         let r = write(&d, "r.csv", text);
@@ -169,6 +190,55 @@ fn malformed_tables_are_refused_with_their_line_and_nothing_is_written() {
     with.push("--extrapolate");
     assert!(run(&with).status.success());
     assert!(out.exists());
+}
+
+// The reliability audit's case: a reading of 1e8 dBµV with --plot once wrote a 1.34 GB SVG.
+// Now it is refused with its line; and a plot of the widest legal data (−200 to +60 dBm over
+// 1 Hz to 1 THz, 100 000 points) stays under 1 MB, with no inf or NaN in any output.
+#[test]
+fn absurd_readings_are_refused_and_plots_stay_small() {
+    let d = dir("absurd");
+    let f = write(&d, "f.csv", "freq_hz,pf_db_s_per_m\n1,250\n1e12,-100\n");
+    let (out, plot) = (d.join("out.csv"), d.join("plot.svg"));
+    let with_plot = |r: &str| {
+        convert_cmd(
+            r,
+            &f,
+            &[
+                "--out",
+                out.to_str().unwrap(),
+                "--plot",
+                plot.to_str().unwrap(),
+            ],
+        )
+    };
+    let r = write(&d, "r.csv", "freq_hz,level_dbuv\n1e6,40\n2e6,1e8\n");
+    let o = with_plot(&r);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("line 3") && err.contains("level_dbuv = 1e8"),
+        "{err}"
+    );
+    assert!(!out.exists() && !plot.exists());
+    let mut text = String::from("freq_hz,level_dbm\n");
+    for i in 0..100_000 {
+        let fr = 10f64.powf(12.0 * i as f64 / 99_999.0);
+        let level = if i % 2 == 0 { -200.0 } else { 60.0 };
+        text.push_str(&format!("{fr:e},{level}\n"));
+    }
+    let r = write(&d, "wide.csv", &text);
+    let t = std::time::Instant::now();
+    let o = with_plot(&r);
+    let took = t.elapsed();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let svg = std::fs::metadata(&plot).unwrap().len();
+    println!("100 000 points, widest ranges: {svg} bytes of SVG in {took:?} (debug build)");
+    assert!(svg < 1_000_000, "{svg} bytes");
+    for p in [&out, &plot] {
+        let t = std::fs::read_to_string(p).unwrap().to_lowercase();
+        assert!(!t.contains("inf") && !t.contains("nan"), "{}", p.display());
+    }
 }
 
 // Outputs never overwrite an input or each other, and a folder is not a file to write: each is

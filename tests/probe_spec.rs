@@ -314,8 +314,9 @@ fn far_walls_give_the_ideal_stripline() {
     assert!(z_close < 0.97 * ideal, "{z_close} vs {ideal}");
 }
 
-// Rebuilding replaces the probe folders of an earlier build; a folder in the way that is not a
-// loopwright output stops the build before anything is written.
+// Rebuilding replaces an unchanged earlier build; a file loopwright did not write, or one
+// changed since, stops the build before anything is written (tests/output_folder.rs has the
+// writer's own tests).
 #[test]
 fn output_folders_are_replaced_only_when_they_are_ours() {
     let root = std::env::temp_dir().join(format!("loopwright-replace-{}", std::process::id()));
@@ -324,28 +325,22 @@ fn output_folders_are_replaced_only_when_they_are_ours() {
         "{BASE}[[probe]]\nname = \"P2\"\nshape = \"round\"\nsize_mm = 10\n"
     ));
     build_to_dir(&s, Path::new("."), &root, false, Vec::new()).unwrap();
-    std::fs::write(root.join("P2").join("P2-L1.gbr"), "stale").unwrap();
+    let first = std::fs::read(root.join("P2").join("P2-L1.gbr")).unwrap();
     build_to_dir(&s, Path::new("."), &root, false, Vec::new()).unwrap();
-    let l1 = std::fs::read_to_string(root.join("P2").join("P2-L1.gbr")).unwrap();
-    assert!(
-        l1.starts_with("%FSLAX46Y46*%"),
-        "the earlier build was not replaced"
-    );
-    std::fs::write(root.join("keep.txt"), "user").unwrap();
-    let other = root.join("Q3");
-    std::fs::create_dir_all(&other).unwrap();
-    std::fs::write(other.join("notes.txt"), "user data").unwrap();
-    let s2 = spec(&format!(
-        "{BASE}[[probe]]\nname = \"Q3\"\nshape = \"round\"\nsize_mm = 10\n"
-    ));
-    let e = build_to_dir(&s2, Path::new("."), &root, false, Vec::new()).unwrap_err();
-    assert!(
-        e.to_string().contains("not an earlier loopwright output"),
-        "{e}"
-    );
     assert_eq!(
-        std::fs::read_to_string(other.join("notes.txt")).unwrap(),
-        "user data"
+        std::fs::read(root.join("P2").join("P2-L1.gbr")).unwrap(),
+        first
+    );
+    std::fs::write(root.join("P2").join("P2-L1.gbr"), "edited").unwrap();
+    std::fs::write(root.join("keep.txt"), "user").unwrap();
+    let e = build_to_dir(&s, Path::new("."), &root, false, Vec::new())
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("keep.txt is not written by loopwright"), "{e}");
+    assert!(e.contains("P2/P2-L1.gbr changed"), "{e}");
+    assert_eq!(
+        std::fs::read_to_string(root.join("P2").join("P2-L1.gbr")).unwrap(),
+        "edited"
     );
     assert_eq!(
         std::fs::read_to_string(root.join("keep.txt")).unwrap(),
@@ -354,13 +349,69 @@ fn output_folders_are_replaced_only_when_they_are_ours() {
     let leftovers: Vec<_> = std::fs::read_dir(root.parent().unwrap())
         .unwrap()
         .flatten()
-        .filter(|e| e.file_name().to_string_lossy().contains("loopwright-tmp"))
         .filter(|e| {
-            e.file_name()
-                .to_string_lossy()
-                .contains(&format!("{}", std::process::id()))
+            let n = e.file_name().to_string_lossy().to_string();
+            n.starts_with(".loopwright-replace-") && n.contains(&format!("{}", std::process::id()))
         })
         .collect();
     assert!(leftovers.is_empty(), "temporary folder left behind");
+    let _ = std::fs::remove_dir_all(&root);
+}
+
+// Names are checked at validation, against what the file systems and the family's own files
+// need: folders differing only in case (one folder on Windows and macOS), a probe folder named
+// like the family's summary, and names too long for the platforms' path limits.
+#[test]
+fn names_that_would_collide_or_overflow_are_refused_at_validation() {
+    let p = |name: &str| format!("[[probe]]\nname = \"{name}\"\nshape = \"round\"\nsize_mm = 10\n");
+    refused(
+        &format!("{}{}", p("fm-r10"), p("FM-R10")),
+        &[
+            "probe[2].name",
+            "\"FM-R10\"",
+            "where case is ignored",
+            "fm-r10",
+        ],
+    );
+    refused(
+        &format!("family = \"X\"\n{}", p("X-summary.md")),
+        &["probe[1].name", "X-summary.md", "family's own file"],
+    );
+    refused(
+        &format!("family = \"X\"\n{}", p("x-REPORT.html")),
+        &["probe[1].name", "X-report.html"],
+    );
+    refused(
+        &p(&"R".repeat(65)),
+        &["probe[1].name", "at most 64 characters"],
+    );
+    refused(
+        &format!("family = \"{}\"\n{}", "F".repeat(65), p("a")),
+        &["family", "at most 64 characters"],
+    );
+    // 64 characters build.
+    let s = spec(&format!("{BASE}{}", p(&"R".repeat(64))));
+    assert!(build_family(&s, Path::new("."), false).is_ok());
+}
+
+// An --out that cannot be made is refused with --out named, before the build (here its parent
+// is a file; a read-only parent takes the same path, but the tests may run as root).
+#[test]
+fn an_out_that_cannot_be_made_is_named() {
+    let root = std::env::temp_dir().join(format!("loopwright-nodir-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    std::fs::create_dir_all(&root).unwrap();
+    std::fs::write(root.join("a-file"), "x").unwrap();
+    let out = root.join("a-file").join("boards");
+    let e = loopwright::output::preflight(&out).unwrap_err().to_string();
+    assert!(e.starts_with("--out = "), "{e}");
+    assert!(e.contains("is a file, not a folder"), "{e}");
+    let s = spec(&format!(
+        "{BASE}[[probe]]\nname = \"P2\"\nshape = \"round\"\nsize_mm = 10\n"
+    ));
+    let e = build_to_dir(&s, Path::new("."), &out, false, Vec::new())
+        .unwrap_err()
+        .to_string();
+    assert!(e.starts_with("--out = "), "{e}");
     let _ = std::fs::remove_dir_all(&root);
 }

@@ -27,6 +27,33 @@ pub struct Table {
     pub rows: Vec<(f64, f64)>,
 }
 
+/// Frequencies any table may hold: 1 Hz to 1 THz (the range the Touchstone reader accepts;
+/// no near-field probe or analyzer works outside it).
+pub const FREQ_RANGE_HZ: (f64, f64) = (1.0, 1e12);
+
+/// The physical range of each value column, with its unit and the reason for its ends. A value
+/// outside is a mistake (a frequency pasted into the level column, a unit slip), not a reading:
+/// it is refused with its line, so that no absurd number reaches a result or a plot.
+///
+/// - `level_dbm`: −200 to +60 dBm. −200 dBm is far below any analyzer's noise floor (thermal
+///   noise is −174 dBm in 1 Hz at 290 K); +60 dBm (1 kW) far above any analyzer's or
+///   preamplifier's input rating (typically +30 dBm at most; makers' data sheets).
+/// - `level_dbuv`: the same range in dBµV in 50 Ω (+106.99 dB): −93.01 to +166.99 dBµV.
+/// - `pf_db_s_per_m`: −100 to +250 dB(S/m). Below its corner a loop gives V = ω·μ0·A·H, so a
+///   1 mm loop read at 1 Hz is about +224 dB(S/m) (the top of the frequency range, the
+///   smallest loop); above the corner the factor flattens at L/(μ0·A·50 Ω), about −3 dB(S/m)
+///   for a 100 mm loop. Printed probes lie well inside.
+/// - `gain_db`: −100 to +100 dB, as `--gain-db`.
+pub fn column_range(column: &str) -> Option<(f64, f64, &'static str)> {
+    match column {
+        "level_dbm" => Some((-200.0, 60.0, "dBm")),
+        "level_dbuv" => Some((-93.01, 166.99, "dBµV")),
+        "pf_db_s_per_m" => Some((-100.0, 250.0, "dB(S/m)")),
+        "gain_db" => Some((-100.0, 100.0, "dB")),
+        _ => None,
+    }
+}
+
 fn bad(path: &str, line: usize, why: String) -> Error {
     Error::Parse {
         path: path.to_string(),
@@ -101,11 +128,27 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
         };
         let f = num(0, "freq_hz")?;
         let v = num(1, &column)?;
-        if f <= 0.0 {
+        let (fmin, fmax) = FREQ_RANGE_HZ;
+        if !(fmin..=fmax).contains(&f) {
             return Err(bad(
                 p,
                 line,
-                format!("freq_hz = {f} must be greater than 0"),
+                format!(
+                    "freq_hz = {} is outside 1 Hz to 1 THz (1e12 Hz)",
+                    crate::error::fmt_num(f)
+                ),
+            ));
+        }
+        let range = column_range(&column).filter(|(lo, hi, _)| !(*lo..=*hi).contains(&v));
+        if let Some((lo, hi, unit)) = range {
+            return Err(bad(
+                p,
+                line,
+                format!(
+                    "{column} = {} is outside {lo} to {hi} {unit} (see docs; a frequency or \
+                     another column pasted here?)",
+                    crate::error::fmt_num(v)
+                ),
             ));
         }
         if let Some(&(prev, _)) = rows.last() {

@@ -94,6 +94,8 @@ pub(super) fn run(a: &BuildArgs) -> Result<(), Error> {
     })?;
     let path = a.spec.display().to_string();
     let base = a.spec.parent().unwrap_or(Path::new("."));
+    // A folder in the way or a place that cannot be written is refused before the build.
+    crate::output::preflight(&a.out)?;
     // A spec with a [fixture] table is a test-line fixture; anything else is a probe spec.
     let probe_or_fixture: toml::Value = parse_toml(&text, &path)?;
     if probe_or_fixture.get("fixture").is_some() {

@@ -45,6 +45,8 @@ pub struct DemoArgs {
 }
 
 pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
+    // A folder in the way or a place that cannot be written is refused before the build.
+    crate::output::preflight(&a.out)?;
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, DEMO_SPEC_NAME)?;
     let fx_spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, DEMO_FIXTURE_NAME)?;
     let fixture = build_fixture(&fx_spec, Path::new("."), false)?;

@@ -4,6 +4,9 @@ use crate::physics::Response;
 use std::fmt::Write;
 
 fn f(v: f64) -> String {
+    if v.abs() >= 1e6 {
+        return format!("{v:.3e}");
+    }
     let s = format!("{v:.2}");
     s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
@@ -45,8 +48,50 @@ fn step_for(span: f64) -> f64 {
         .unwrap_or(10.0 * p)
 }
 
+/// At most this many points of one curve are drawn: beyond, each pixel column keeps its lowest
+/// and highest point (so peaks stay), which bounds the plot's size whatever the data.
+const MAX_DRAWN: usize = 2000;
+
+/// The points of a curve to draw: finite ones with a positive frequency, thinned to the lowest
+/// and highest point per pixel column (`column` maps a frequency to it) when there are more
+/// than [`MAX_DRAWN`].
+fn drawn(points: &[(f64, f64)], column: impl Fn(f64) -> i64) -> Vec<(f64, f64)> {
+    let ok: Vec<(f64, f64)> = points
+        .iter()
+        .copied()
+        .filter(|&(fr, v)| fr.is_finite() && fr > 0.0 && v.is_finite())
+        .collect();
+    if ok.len() <= MAX_DRAWN {
+        return ok;
+    }
+    let mut out: Vec<(f64, f64)> = Vec::new();
+    let mut i = 0;
+    while i < ok.len() {
+        let c = column(ok[i].0);
+        let mut j = i;
+        let (mut lo, mut hi) = (i, i);
+        while j < ok.len() && column(ok[j].0) == c {
+            if ok[j].1 < ok[lo].1 {
+                lo = j;
+            }
+            if ok[j].1 > ok[hi].1 {
+                hi = j;
+            }
+            j += 1;
+        }
+        out.push(ok[lo.min(hi)]);
+        if lo != hi {
+            out.push(ok[lo.max(hi)]);
+        }
+        i = j;
+    }
+    out
+}
+
 /// Curves on one log-frequency plot with a linear value axis (`y_label`, with its unit).
-/// `class` is the SVG's class attribute (the report counts its plots by it).
+/// `class` is the SVG's class attribute (the report counts its plots by it). Its size is
+/// bounded whatever the data: at most about a dozen grid lines on each axis and
+/// [`MAX_DRAWN`] points per curve; points that are not finite are left out.
 pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> String {
     let (w, h) = (640.0, 400.0);
     let (l, r, t, b) = (70.0, 20.0, 40.0, 60.0);
@@ -56,6 +101,9 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
     let mut ymax = f64::NEG_INFINITY;
     for c in curves {
         for &(fr, v) in &c.points {
+            if !(fr.is_finite() && fr > 0.0 && v.is_finite()) {
+                continue;
+            }
             fmin = fmin.min(fr);
             fmax = fmax.max(fr);
             ymin = ymin.min(v);
@@ -66,7 +114,7 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
         (fmin, fmax, ymin, ymax) = (1e6, 1e9, 0.0, 10.0);
     }
     let step = if ymax - ymin >= 20.0 {
-        10.0
+        step_for(ymax - ymin).max(10.0)
     } else {
         step_for((ymax - ymin).max(0.5))
     };
@@ -74,6 +122,8 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
         fmin.log10().floor(),
         fmax.log10().ceil().max(fmin.log10().floor() + 1.0),
     );
+    // One grid line per decade, or per several when the span is wide.
+    let dstep = ((d1 - d0) / 12.0).ceil().max(1.0);
     let (y0, y1) = ((ymin / step).floor() * step, (ymax / step).ceil() * step);
     let y1 = if y1 <= y0 { y0 + step } else { y1 };
     let px = |fr: f64| l + (fr.log10() - d0) / (d1 - d0) * (w - l - r);
@@ -108,7 +158,7 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
             h - b + 16.0,
             hz_label(10f64.powf(d))
         );
-        if d < d1 {
+        if d < d1 && dstep == 1.0 {
             for m in 2..10 {
                 let xm = px(m as f64 * 10f64.powf(d));
                 let _ = write!(
@@ -118,7 +168,7 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
                 );
             }
         }
-        d += 1.0;
+        d += dstep;
     }
     let n_lines = ((y1 - y0) / step).round() as i64;
     for k in 0..=n_lines {
@@ -151,8 +201,7 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
         xml(y_label)
     );
     for (i, c) in curves.iter().enumerate() {
-        let pts: Vec<String> = c
-            .points
+        let pts: Vec<String> = drawn(&c.points, |fr| px(fr).round() as i64)
             .iter()
             .map(|&(fr, v)| format!("{:.1},{:.1}", px(fr), py(v)))
             .collect();
@@ -210,4 +259,51 @@ pub fn xml(t: &str) -> String {
         .replace('<', "&lt;")
         .replace('>', "&gt;")
         .replace('"', "&quot;")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn series(points: Vec<(f64, f64)>) -> Series<'static> {
+        Series {
+            label: "x".into(),
+            colour: "#000",
+            points,
+            marker_hz: None,
+        }
+    }
+
+    // The reliability audit's case: one absurd value (1e8 on a dB axis) once made one grid
+    // line per 10 dB (a 1.34 GB file). Whatever the values, the plot stays small.
+    #[test]
+    fn plot_size_is_bounded_whatever_the_data() {
+        for extreme in [1e8, 1e12, 1e300, -1e300, f64::INFINITY, f64::NAN] {
+            let s = log_plot(
+                "t",
+                "dB",
+                "c",
+                &[series(vec![(1e6, 40.0), (2e6, extreme), (3e6, 41.0)])],
+            );
+            assert!(s.len() < 20_000, "{extreme}: {} bytes", s.len());
+            assert!(!s.contains("inf") && !s.contains("NaN"), "{extreme}");
+        }
+        // Frequencies over 300 decades and a million points.
+        let many: Vec<(f64, f64)> = (0..1_000_000)
+            .map(|i| (10f64.powf(-150.0 + 300.0 * i as f64 / 1e6), (i % 97) as f64))
+            .collect();
+        let s = log_plot("t", "dB", "c", &[series(many)]);
+        assert!(s.len() < 200_000, "{} bytes", s.len());
+    }
+
+    // Thinning keeps each pixel column's extremes: a one-sample peak survives.
+    #[test]
+    fn thinning_keeps_peaks() {
+        let mut pts: Vec<(f64, f64)> = (1..=100_000).map(|i| (i as f64 * 1e3, 0.0)).collect();
+        pts[54_321].1 = 99.0;
+        let d = drawn(&pts, |fr| (fr.log10() * 100.0).round() as i64);
+        assert!(d.len() <= 2 * 600, "{}", d.len());
+        assert!(d.contains(&(54_322e3, 99.0)));
+        assert!(d.windows(2).all(|w| w[0].0 < w[1].0));
+    }
 }

@@ -116,6 +116,7 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
             "fixture".into()
         }
     };
+    crate::model::probe::check_name_length(&mut out, "fixture.name", &name, &folder);
     let stackup_name = f
         .stackup
         .clone()

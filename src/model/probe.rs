@@ -249,6 +249,27 @@ pub mod defaults {
     pub const HANDLE_WIDTH: f64 = 8.0;
 }
 
+/// The longest folder name a probe, fixture or family may give, in characters. A probe's
+/// folder name appears twice in its longest path (`NAME/NAME-legend-bottom.svg`), so with the
+/// temporary folder's prefix and an output path of 100 characters, 64 keeps every file inside
+/// Windows' 260-character path limit and every name well inside the 255 bytes of a file name
+/// (ext4, NTFS, APFS).
+pub const NAME_MAX: usize = 64;
+
+/// Checks a sanitised folder name's length.
+pub fn check_name_length(out: &mut Vec<FieldError>, field: &str, name: &str, folder: &str) {
+    if folder.chars().count() > NAME_MAX {
+        out.push(FieldError::new(
+            field,
+            format!("\"{name}\""),
+            format!(
+                "at most {NAME_MAX} characters (it names a folder and its files, which must fit \
+                 every platform's path limits)"
+            ),
+        ));
+    }
+}
+
 /// Makes a name safe as a folder name: letters, digits, `-`, `_` and `.` are kept, anything
 /// else becomes `-`; leading dots are removed. Returns `None` when nothing usable is left.
 pub fn sanitise(name: &str) -> Option<String> {
@@ -521,11 +542,23 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                 String::new()
             }
         };
-        if !folder.is_empty() && folders.contains(&folder) {
+        check_name_length(&mut out, &format!("{p}.name"), &name, &folder);
+        // Folders that differ only in case are one folder on Windows and macOS.
+        if let Some(other) = folders
+            .iter()
+            .find(|f| !folder.is_empty() && f.to_lowercase() == folder.to_lowercase())
+        {
             out.push(FieldError::new(
                 format!("{p}.name"),
                 format!("\"{name}\""),
-                format!("names the same output folder \"{folder}\" as an earlier probe"),
+                if *other == folder {
+                    format!("names the same output folder \"{folder}\" as an earlier probe")
+                } else {
+                    format!(
+                        "names the output folder \"{folder}\", the same as an earlier probe's \
+                         \"{other}\" where case is ignored (as on Windows and macOS)"
+                    )
+                },
             ));
         }
         folders.push(folder.clone());
@@ -574,6 +607,29 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
             .map(|p| p.name.clone())
             .unwrap_or_else(|| "probe".into())
     });
+    // The family's own files sit beside the probe folders: a probe may not take their names.
+    let fam = sanitise(&family).unwrap_or_else(|| "family".into());
+    check_name_length(&mut out, "family", &family, &fam);
+    let own = [
+        format!("{fam}-summary.md"),
+        format!("{fam}-report.html"),
+        crate::output::MANIFEST.to_string(),
+    ];
+    for (i, folder) in folders.iter().enumerate() {
+        if let Some(f) = own
+            .iter()
+            .find(|f| f.to_lowercase() == folder.to_lowercase())
+        {
+            out.push(FieldError::new(
+                format!("probe[{}].name", i + 1),
+                format!("\"{}\"", spec.probe[i].name.clone().unwrap_or_default()),
+                format!(
+                    "names its folder \"{folder}\" like the family's own file {f}; choose \
+                     another name"
+                ),
+            ));
+        }
+    }
     if !out.is_empty() {
         return Err(Error::Invalid(out));
     }

@@ -62,6 +62,12 @@ pub struct Stackup {
 
 /// Ranges accepted in stackup files.
 pub mod limits {
+    /// The thinnest copper, mm: 3 µm, the ultra-thin carrier foils of fine-line boards (the
+    /// thinnest foil sold for printed boards, from memory); nothing thinner is a board's copper.
+    pub const COPPER_MIN_MM: f64 = 0.003;
+    /// The thinnest dielectric, mm: 10 µm, below the thinnest flex core (12.5 µm, ½ mil
+    /// polyimide, from memory) and any rigid prepreg.
+    pub const DIELECTRIC_MIN_MM: f64 = 0.01;
     /// Copper thickness, mm.
     pub const COPPER_MM: f64 = 0.5;
     /// Copper weight, oz.
@@ -181,11 +187,24 @@ fn layer_from(out: &mut Vec<FieldError>, i: usize, l: &LayerSpec) -> Option<Laye
             }
             let t = match (l.thickness_mm, l.thickness_oz) {
                 (Some(mm), None) => {
-                    check_positive(out, &format!("{p}.thickness_mm"), mm, limits::COPPER_MM);
+                    check_range(
+                        out,
+                        &format!("{p}.thickness_mm"),
+                        mm,
+                        limits::COPPER_MIN_MM,
+                        limits::COPPER_MM,
+                    );
                     mm
                 }
                 (None, Some(oz)) => {
                     check_positive(out, &format!("{p}.thickness_oz"), oz, limits::COPPER_OZ);
+                    if oz.is_finite() && oz > 0.0 && oz_to_mm(oz) < limits::COPPER_MIN_MM {
+                        out.push(FieldError::new(
+                            format!("{p}.thickness_oz"),
+                            fmt_num(oz),
+                            "must be at least 0.086 oz (3 µm, the thinnest board copper)",
+                        ));
+                    }
                     oz_to_mm(oz)
                 }
                 (Some(_), Some(_)) => {
@@ -200,7 +219,7 @@ fn layer_from(out: &mut Vec<FieldError>, i: usize, l: &LayerSpec) -> Option<Laye
                     missing(
                         out,
                         &format!("{p}.thickness_mm"),
-                        "thickness_mm (0 to 0.5) or thickness_oz (0 to 14; 1 oz = 35 µm)",
+                        "thickness_mm (0.003 to 0.5) or thickness_oz (0.086 to 14; 1 oz = 35 µm)",
                     );
                     0.0
                 }
@@ -222,11 +241,17 @@ fn layer_from(out: &mut Vec<FieldError>, i: usize, l: &LayerSpec) -> Option<Laye
                 missing(
                     out,
                     &format!("{p}.thickness_mm"),
-                    "a thickness in mm, 0 to 10",
+                    "a thickness in mm, 0.01 to 10",
                 );
                 1.0
             });
-            check_positive(out, &format!("{p}.thickness_mm"), t, limits::DIELECTRIC_MM);
+            check_range(
+                out,
+                &format!("{p}.thickness_mm"),
+                t,
+                limits::DIELECTRIC_MIN_MM,
+                limits::DIELECTRIC_MM,
+            );
             let er = l.er.unwrap_or_else(|| {
                 missing(
                     out,
@@ -526,6 +551,36 @@ mod tests {
         assert!((a.thickness_mm() - 1.59).abs() < 1e-9);
         let b = builtin("slim-4l-0.8").unwrap();
         assert!((b.thickness_mm() - 0.8).abs() < 1e-9);
+    }
+
+    // Physical lower bounds: copper of 3 µm and dielectric of 10 µm build; thinner (a unit slip,
+    // 1e-300) is refused with the field.
+    #[test]
+    fn thicknesses_have_physical_lower_bounds() {
+        let text = |cu: &str, d: f64| {
+            format!(
+                "name = \"t\"\n[[layer]]\ntype = \"copper\"\nname = \"L1\"\n{cu}\n\
+                 [[layer]]\ntype = \"dielectric\"\nname = \"core\"\nthickness_mm = {d:e}\ner = 4.2\n\
+                 [[layer]]\ntype = \"copper\"\nname = \"L2\"\nthickness_mm = 0.035\n"
+            )
+        };
+        let build = |cu: &str, d: f64| {
+            let spec: StackupSpec = toml::from_str(&text(cu, d)).unwrap();
+            Stackup::from_spec(&spec).map_err(|e| {
+                e.iter()
+                    .map(|x| x.to_string())
+                    .collect::<Vec<_>>()
+                    .join("\n")
+            })
+        };
+        assert!(build("thickness_mm = 0.003", 0.01).is_ok());
+        assert!(build("thickness_oz = 0.1", 0.01).is_ok());
+        let e = build("thickness_mm = 1e-300", 0.2).unwrap_err();
+        assert!(e.contains("layer[1].thickness_mm = 1e-300"), "{e}");
+        let e = build("thickness_oz = 0.05", 0.2).unwrap_err();
+        assert!(e.contains("layer[1].thickness_oz = 0.05"), "{e}");
+        let e = build("thickness_mm = 0.035", 1e-6).unwrap_err();
+        assert!(e.contains("layer[2].thickness_mm"), "{e}");
     }
 
     #[test]
