@@ -530,8 +530,12 @@ pub fn offset_shape(shape: &LoopShape, d: f64) -> LoopShape {
 /// current-weighted mean offset: (offset m, height m, share). Enough for the flux from a
 /// nearby line, which varies smoothly across the ring.
 pub fn filaments(c: &shield::ShieldCurrent, per_plate: usize) -> Vec<(f64, f64, f64)> {
-    let n = shield::RIBBONS_PER_PLATE;
-    let group = n.div_ceil(per_plate.max(1));
+    let n = c.per_plate.max(1);
+    let mut group = n.div_ceil(per_plate.max(1));
+    // Groups must not straddle two plates.
+    while n % group != 0 {
+        group += 1;
+    }
     let mut out = Vec::new();
     for (rb, sh) in c.ribbons.chunks(group).zip(c.share.chunks(group)) {
         let s: f64 = sh.iter().sum();
@@ -653,16 +657,21 @@ pub fn alpha_c_1ghz(s: &SolvedProbe) -> f64 {
             .map(|sol| sol.z0 * sol.eps_eff.sqrt() / C0)
     };
     let dn = 1e-4 * st.t.min(st.width).min(st.h1).min(st.h2);
+    if !(dn.is_finite() && dn > 0.0) {
+        return 0.0;
+    }
     let mut rec = st;
     rec.width -= 2.0 * dn;
     rec.t -= 2.0 * dn;
-    rec.h1 += dn;
-    rec.h2 += dn;
+    // h1, h2 are measured from the trace's faces: the faces recede by δn and the planes by δn.
+    rec.h1 += 2.0 * dn;
+    rec.h2 += 2.0 * dn;
     match (l_per_m(&st), l_per_m(&rec)) {
         (Some(l0), Some(l1)) => {
             let dl_dn = (l1 - l0) / (dn * 1e-3);
             let z0 = s.solution.z0;
-            surface_resistance(1e9) / MU0 * dl_dn / (2.0 * z0)
+            let a = surface_resistance(1e9) / MU0 * dl_dn / (2.0 * z0);
+            if a.is_finite() && a > 0.0 { a } else { 0.0 }
         }
         _ => 0.0,
     }

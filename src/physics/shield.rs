@@ -24,7 +24,8 @@
 //! Other shapes (rectangles with rounded corners) use the current shares of the round loop with
 //! the same perimeter-to-area ratio (R_eq = 2A/P, the ratio that sets how much area an inward
 //! shift of the current costs) applied to the shape's own offset curves: A_eff = Σ sᵢ·A(dᵢ)
-//! with A(d) = A + P·d + π·d² exact for offsets of a rounded rectangle; L_outer is the
+//! with A(d) = A + P·d + π·d² (exact for a rounded rectangle while an inward offset stays within
+//! the corner radius; beyond it the true area is larger by (4 − π)(|d| − rc)²); L_outer is the
 //! regularised Neumann integral of the centreline with the equivalent radius that reproduces the
 //! round solution. An approximation, stated in `docs/response.md`.
 
@@ -55,6 +56,8 @@ pub struct ShieldCurrent {
     pub l_outer: f64,
     /// Effective (current-weighted) area, m².
     pub area_eff: f64,
+    /// Ribbons per plate (each plate's ribbons are consecutive in `ribbons`).
+    pub per_plate: usize,
 }
 
 impl ShieldCurrent {
@@ -69,7 +72,7 @@ impl ShieldCurrent {
 }
 
 /// Ribbons per plate in [`solve_round`]'s default use: enough for 0.05 % on the demo's rings
-/// (the convergence is shown in `tests/physics.rs`).
+/// (the convergence is shown in `tests/shield.rs`).
 pub const RIBBONS_PER_PLATE: usize = 48;
 
 /// Cuts every plate into `n` ribbons with edges at (1 − cos(πk/n))/2 of its width: fine at
@@ -105,7 +108,8 @@ fn g2(u: f64, d: f64) -> f64 {
 
 /// Natural log of the geometric mean distance between two parallel coplanar-or-stacked ribbons
 /// `[a0, a1]` and `[b0, b1]` (m) whose planes are `dz` apart: the mean of ln(distance) over
-/// both widths, in closed form. For one ribbon with itself it is ln(w) − 3/2 (Maxwell).
+/// both widths, in closed form. For one ribbon with itself it is ln(w) − 3/2 (Maxwell). Both
+/// widths must be positive ([`solve_round`] refuses plates without width).
 pub fn ln_gmd(a0: f64, a1: f64, b0: f64, b1: f64, dz: f64) -> f64 {
     let dz = dz.abs();
     let (wa, wb) = (a1 - a0, b1 - b0);
@@ -230,6 +234,7 @@ pub fn solve_round(r: f64, plates: &[Plate], n: usize) -> Option<ShieldCurrent> 
         share,
         l_outer: 1.0 / total,
         area_eff,
+        per_plate: n.max(1),
     })
 }
 
@@ -279,5 +284,6 @@ pub fn solve_shape(
         share: round.share,
         l_outer,
         area_eff,
+        per_plate: round.per_plate,
     })
 }
