@@ -114,6 +114,16 @@ fn read_pf(path: &Path) -> Vec<(f64, f64)> {
         .collect()
 }
 
+/// Calibrates the model's own MA/MHz file named `name`: (the Touchstone file, the measured
+/// factor table written).
+fn calibrated(m: &Model, name: &str) -> (PathBuf, PathBuf) {
+    let ts = tmp_file(&format!("{name}.s2p"), &s2p(m, "MA", ("MHz", 1e6)));
+    let out = ts.with_extension("cal");
+    assert!(calibrate(m, &ts, &[], &out).status.success());
+    let factor = out.join(format!("{PROBE}-pf-measured.csv"));
+    (ts, factor)
+}
+
 fn calibrate(m: &Model, ts: &Path, extra: &[&str], out: &Path) -> Output {
     calibrate_probe(m, ts, PROBE, extra, out)
 }
@@ -309,10 +319,7 @@ fn the_measured_table_feeds_convert() {
     // The calibrate output is a valid --factor table for convert: a reading of 0 dBµV gives
     // the probe factor itself as dBµA/m (no gain, attenuation or cable loss).
     let m = model();
-    let ts = tmp_file("feed.s2p", &s2p(&m, "MA", ("MHz", 1e6)));
-    let out = ts.with_extension("cal");
-    assert!(calibrate(&m, &ts, &[], &out).status.success());
-    let factor = out.join(format!("{PROBE}-pf-measured.csv"));
+    let (ts, factor) = calibrated(&m, "feed");
     let pf = read_pf(&factor);
     let (f, want) = pf[12];
     let readings = tmp_file("feed-readings.csv", &format!("freq_hz,level_dbuv\n{f},0\n"));
@@ -718,10 +725,7 @@ fn convert_warns_above_the_usable_band_and_extrapolates_past_it_only_when_told_t
     // The model file's points run 1 MHz to 1 GHz at 8 per decade; FM-R10's upper usable
     // frequency is 954 MHz, so the band stated in the measured table ends at 10^(23/8) MHz.
     let m = model();
-    let ts = tmp_file("band.s2p", &s2p(&m, "MA", ("MHz", 1e6)));
-    let out = ts.with_extension("cal");
-    assert!(calibrate(&m, &ts, &[], &out).status.success());
-    let factor = out.join(format!("{PROBE}-pf-measured.csv"));
+    let (ts, factor) = calibrated(&m, "band");
     let text = std::fs::read_to_string(&factor).unwrap();
     let hi = 1e6 * 10f64.powf(23.0 / 8.0);
     let band = text

@@ -3,6 +3,8 @@
 //! runs into one folder do not mix. The kill is simulated through the writer's hook (the
 //! process stops at that step and cleans nothing up), not by timing.
 
+mod common;
+
 use loopwright::output::{MANIFEST, Step, check_folder, write_output, write_output_with};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
@@ -17,26 +19,17 @@ fn scratch(name: &str) -> PathBuf {
 
 /// Every file under `root` with its content (the manifest left out).
 fn tree(root: &Path) -> BTreeMap<String, Vec<u8>> {
-    let mut m = BTreeMap::new();
-    let mut stack = vec![root.to_path_buf()];
-    while let Some(d) = stack.pop() {
-        for e in std::fs::read_dir(&d).unwrap().flatten() {
-            let p = e.path();
-            if p.is_dir() {
-                stack.push(p);
-            } else {
-                let rel = p
-                    .strip_prefix(root)
-                    .unwrap()
-                    .to_string_lossy()
-                    .replace('\\', "/");
-                if rel != MANIFEST {
-                    m.insert(rel, std::fs::read(&p).unwrap());
-                }
-            }
-        }
-    }
-    m
+    common::files_under(root)
+        .into_iter()
+        .filter_map(|p| {
+            let rel = p
+                .strip_prefix(root)
+                .unwrap()
+                .to_string_lossy()
+                .replace('\\', "/");
+            (rel != MANIFEST).then(|| (rel, std::fs::read(&p).unwrap()))
+        })
+        .collect()
 }
 
 fn entries(run: &str) -> Vec<(PathBuf, Vec<u8>)> {

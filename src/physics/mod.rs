@@ -723,7 +723,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let freqs: Vec<f64> = (0..=n)
         .map(|i| f_lo * 10f64.powf(decades * i as f64 / n as f64))
         .collect();
-    let (tan_d, _) = signal_dielectrics(p);
+    let tan_d = signal_loss_tangent(p);
     let mut r = Response {
         area_m2: area,
         area_eff_m2: sc.area_eff,
@@ -787,22 +787,19 @@ fn trace_thickness_m(p: &Probe) -> f64 {
         .unwrap_or(35e-6)
 }
 
-/// Loss tangent and εr of the inner line's dielectrics: the mean tan δ of the dielectrics on
-/// either side of the signal layer, and the larger εr.
-fn signal_dielectrics(p: &Probe) -> (f64, f64) {
-    let mut ds = Vec::new();
-    if let Some(d) = p.stackup.dielectric_below(p.signal_layer - 1) {
-        ds.push(d);
-    }
-    if let Some(d) = p.stackup.dielectric_below(p.signal_layer) {
-        ds.push(d);
-    }
+/// Loss tangent of the inner line: the mean tan δ of the dielectrics on either side of the
+/// signal layer.
+fn signal_loss_tangent(p: &Probe) -> f64 {
+    let ds: Vec<f64> = [p.signal_layer - 1, p.signal_layer]
+        .into_iter()
+        .filter_map(|n| p.stackup.dielectric_below(n))
+        .map(|d| d.loss_tangent)
+        .collect();
     if ds.is_empty() {
-        return (0.0, 1.0);
+        0.0
+    } else {
+        ds.iter().sum::<f64>() / ds.len() as f64
     }
-    let tan_d = ds.iter().map(|d| d.loss_tangent).sum::<f64>() / ds.len() as f64;
-    let er = ds.iter().map(|d| d.er).fold(1.0, f64::max);
-    (tan_d, er)
 }
 
 /// Distance from the probe's tip (its board edge at the apex) to the apex of the loop's

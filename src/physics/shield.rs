@@ -60,17 +60,6 @@ pub struct ShieldCurrent {
     pub per_plate: usize,
 }
 
-impl ShieldCurrent {
-    /// Current-weighted mean offset of the current from the centreline, m (negative: inwards).
-    pub fn mean_offset(&self) -> f64 {
-        self.ribbons
-            .iter()
-            .zip(&self.share)
-            .map(|(r, s)| s * 0.5 * (r.d0 + r.d1))
-            .sum()
-    }
-}
-
 /// Ribbons per plate in [`solve_round`]'s default use: enough for 0.05 % on the demo's rings
 /// (the convergence is shown in `tests/shield.rs`).
 pub const RIBBONS_PER_PLATE: usize = 48;

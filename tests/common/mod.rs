@@ -23,8 +23,8 @@ pub fn demo_dir() -> &'static Path {
     })
 }
 
-/// Every file with an extension below a folder.
-pub fn files_with_ext(root: &Path, ext: &str) -> Vec<PathBuf> {
+/// Every file below a folder, sorted.
+pub fn files_under(root: &Path) -> Vec<PathBuf> {
     let mut out = Vec::new();
     let mut stack = vec![root.to_path_buf()];
     while let Some(d) = stack.pop() {
@@ -32,13 +32,21 @@ pub fn files_with_ext(root: &Path, ext: &str) -> Vec<PathBuf> {
             let p = e.path();
             if p.is_dir() {
                 stack.push(p);
-            } else if p.extension().is_some_and(|x| x == ext) {
+            } else {
                 out.push(p);
             }
         }
     }
     out.sort();
     out
+}
+
+/// Every file with an extension below a folder.
+pub fn files_with_ext(root: &Path, ext: &str) -> Vec<PathBuf> {
+    files_under(root)
+        .into_iter()
+        .filter(|p| p.extension().is_some_and(|x| x == ext))
+        .collect()
 }
 
 use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
