@@ -644,6 +644,28 @@ fn predict_json_has_the_documented_keys() {
         assert!(pf.len() > 10);
         assert!(pf[0]["freq_hz"].as_f64().unwrap() > 0.0);
         assert!(pf[0]["db_s_per_m"].is_number());
+        // The added keys: the effective area, and the E-rejection per frequency point
+        // (in each probe-factor point and as its own list on the same frequencies), falling
+        // 20 dB per decade (2ka·(E/H)/η0).
+        let ae = p["effective_area_mm2"].as_f64().unwrap();
+        assert!(ae > 0.0 && ae < p["loop_area_mm2"].as_f64().unwrap());
+        let er = p["e_rejection_db"].as_array().unwrap();
+        assert_eq!(er.len(), pf.len());
+        for (a, b) in er.iter().zip(pf) {
+            assert_eq!(a["freq_hz"], b["freq_hz"]);
+            assert_eq!(a["db"], b["e_rejection_db"]);
+        }
+        let (f0, e0) = (
+            er[0]["freq_hz"].as_f64().unwrap(),
+            er[0]["db"].as_f64().unwrap(),
+        );
+        let last = er.last().unwrap();
+        let (f1, e1) = (
+            last["freq_hz"].as_f64().unwrap(),
+            last["db"].as_f64().unwrap(),
+        );
+        assert!(((e0 - e1) - 20.0 * (f1 / f0).log10()).abs() < 1e-6);
+        assert!(p["upper_quoted_limits"].as_array().unwrap().len() == 2);
     }
     refused(&["predict", spec, "--height", "-2"], &["--height", "-2"]);
     refused(

@@ -195,3 +195,70 @@ fn transimpedance_matches_nec2_grid_model() {
     }
     assert!(seen > 30, "{seen} points compared");
 }
+
+/// The electric pickup against NEC-2 in a plane wave (`tests/data/erej_refs.toml`, from
+/// `tests/reference/erej_refs.py`, PyNEC; the probe alone in free space, the same wire grid,
+/// gap bus and gap load as the transimpedance reference): the electric response (E across the
+/// axis) relative to the magnetic one (H normal), equal |E|. The model is 2ka
+/// (`physics::electric`). A thin ring (a = 5 mm, b = 0.1 mm) holds 0.1 dB from 100 MHz to
+/// 1 GHz, which checks the derivation; the demo's shield on 10, 20 and 30 mm loops holds 1 dB
+/// from 200 MHz to each loop's upper usable frequency (NEC reads 0.3 dB below to 0.8 dB above
+/// the model). Left out: NEC's 5 mm grid gives an electric response that is not monotonic in
+/// frequency (its segments are too short in wavelengths for this small a difference), and
+/// every grid reads low at 100 MHz for the same reason.
+#[test]
+fn electric_pickup_matches_nec2_plane_wave() {
+    use loopwright::physics::electric::{ETA0, e_to_h};
+    let top = refs("erej_refs.toml");
+    let mut seen = (0, 0);
+    for c in top["case"].as_array().unwrap() {
+        let d = f(c, "diameter_mm");
+        let a = d / 2.0 * 1e-3;
+        let thin = c["variant"].as_str() == Some("thin");
+        if !thin && d < 7.0 {
+            continue;
+        }
+        let upper = 299_792_458.0 / (10.0 * std::f64::consts::PI * d * 1e-3);
+        let fs = c["freq_hz"].as_array().unwrap();
+        let nec = c["ratio_db"].as_array().unwrap();
+        for (fr, n) in fs.iter().zip(nec) {
+            let fr = fr.as_float().unwrap();
+            let n = n.as_float().unwrap();
+            let m = 20.0 * e_to_h(fr, a, ETA0).log10();
+            if thin {
+                assert!(
+                    (m - n).abs() < 0.1,
+                    "thin ring at {fr:.3e}: model {m:.3}, NEC {n}"
+                );
+                seen.0 += 1;
+            } else if (2e8..=upper).contains(&fr) {
+                assert!(
+                    (m - n).abs() < 1.0,
+                    "{d} mm at {fr:.3e}: model {m:.3}, NEC {n}"
+                );
+                seen.1 += 1;
+            }
+        }
+    }
+    assert!(seen.0 >= 6 && seen.1 >= 8, "{seen:?}");
+}
+
+/// The upper usable frequency's error budget is what it says: at the budget's frequency the
+/// left-out effects sum to the budget, below it they stay under it, and the upper usable
+/// frequency never exceeds it.
+#[test]
+fn error_budget_frequency_is_where_the_budget_is_spent() {
+    use loopwright::physics::electric::BUDGET_DB;
+    for name in ["FM-R20", "FM-R10", "FM-R5", "FM-T12x6"] {
+        let (x, _) = common::demo_probe_and_line(name);
+        let r = &x.response;
+        let b = r
+            .budget_hz
+            .expect("the demo probes reach the budget below the null");
+        assert!((r.budget_error_db(b) - BUDGET_DB).abs() < 1e-3, "{name}");
+        assert!(r.budget_error_db(0.9 * b) < BUDGET_DB, "{name}");
+        assert!(r.upper_hz <= b * (1.0 + 1e-12), "{name}");
+        // The electric pickup's share alone, at the budget's 20° tilt, is below the budget.
+        assert!(r.e_rejection_db(b, loopwright::physics::electric::ETA0) > 0.0);
+    }
+}

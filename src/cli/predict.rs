@@ -39,7 +39,9 @@ pub struct PredictArgs {
 /// The modelling assumptions, stated with every prediction.
 pub const ASSUMPTIONS: [&str; 7] = [
     "quasi-static: the loop is electrically small below the upper usable frequency; no \
-     radiation, no response to the electric field (not yet predicted)",
+     radiation. The electric field is rejected by symmetry when it lies along the loop's axis; \
+     across the axis the loop responds like a short dipole, 2ka·(E/H)/η0 relative to its \
+     magnetic response (the E-rejection, given for the worst orientation)",
     "probe factor referred to a uniform field normal to the loop (equivalently the average over \
      the effective loop), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
     "shield: a perfect conductor whose outer current is solved over every copper layer of the \
@@ -110,6 +112,14 @@ pub struct FixtureCoupling {
     pub s21: Vec<(f64, f64, f64)>,
     /// That current per V_inc/R at the same frequencies, dB (0 on a uniform matched line).
     pub line_current_db: Vec<f64>,
+    /// Wave impedance of the line's near field assumed for the electric pickup, Ω: η0/√εeff
+    /// of the line (its field in air taken as that of the same line without dielectric at the
+    /// same voltage, an estimate).
+    pub line_wave_ohm: f64,
+    /// Worst-case E-rejection over the line at the same frequencies, dB: the line's electric
+    /// field taken across the loop's axis (a probe in the usual orientation, centred on the
+    /// line, rejects it by symmetry).
+    pub e_rejection_db: Vec<f64>,
 }
 
 /// The coupling of a predicted probe to a solved fixture at `height_mm`.
@@ -149,12 +159,19 @@ pub fn fixture_coupling(
             )
         })
         .collect();
+    let line_wave_ohm = crate::physics::electric::ETA0 / fs.solution.eps_eff.sqrt();
+    let e_rejection_db = freqs
+        .iter()
+        .map(|&f| x.response.e_rejection_db(f, line_wave_ohm))
+        .collect();
     FixtureCoupling {
         fixture: fx.name.clone(),
         height_mm,
         coupling: c,
         s21,
         line_current_db: k_db,
+        line_wave_ohm,
+        e_rejection_db,
     }
 }
 
@@ -169,7 +186,8 @@ pub fn coupling_json(c: &FixtureCoupling) -> Value {
         "h_avg_per_amp": k.h_avg_per_amp,
         "h_centre_per_amp": k.h_centre_per_amp,
         "field_reference": "area-average Hx over the loop; I = k·V_inc/50 Ω, k from the fixture's launch model",
-        "s21": c.s21.iter().zip(&c.line_current_db).map(|((f, db, deg), k)| json!({"freq_hz": f, "db": db, "deg": deg, "line_current_db": k})).collect::<Vec<_>>(),
+        "e_field_reference": format!("worst case: the line's electric field across the loop's axis, E/H = η0/√εeff = {:.1} Ω (estimate); centred in the usual orientation the probe rejects it by symmetry", c.line_wave_ohm),
+        "s21": c.s21.iter().zip(&c.line_current_db).zip(&c.e_rejection_db).map(|(((f, db, deg), k), e)| json!({"freq_hz": f, "db": db, "deg": deg, "line_current_db": k, "e_rejection_db": e})).collect::<Vec<_>>(),
     })
 }
 
@@ -203,7 +221,12 @@ pub fn probe_json(x: &Predicted) -> Value {
         "pf_10mhz_db_s_per_m": pf_at(10e6),
         "pf_100mhz_db_s_per_m": pf_at(100e6),
         "pf_1ghz_db_s_per_m": pf_at(1e9),
-        "probe_factor": r.probe_factor.iter().map(|(f, d)| json!({"freq_hz": f, "db_s_per_m": d})).collect::<Vec<_>>(),
+        "upper_budget_hz": r.budget_hz,
+        "upper_budget_db": crate::physics::electric::BUDGET_DB,
+        "upper_quoted_limits": r.quoted_limits.iter().map(|(k, f)| json!({"rule": k, "hz": f})).collect::<Vec<_>>(),
+        "e_field_reference": "worst case: E across the loop's axis in its plane, wave impedance E/H = η0 (376.7 Ω); E along the axis is rejected by symmetry",
+        "e_rejection_db": r.e_rejection.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
+        "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
     })
 }
@@ -252,6 +275,24 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
         );
         line(
             &mut o,
+            "error budget (1 dB)",
+            match r.budget_hz {
+                Some(b) => format!(
+                    "reached at {:.0} MHz (electric pickup at 20° tilt + stub length ±5 %)",
+                    b / 1e6
+                ),
+                None => "not reached below the first null".to_string(),
+            },
+        );
+        for (rule, f) in &r.quoted_limits {
+            line(
+                &mut o,
+                "  quoted limit",
+                format!("{:.0} MHz: {rule}", f / 1e6),
+            );
+        }
+        line(
+            &mut o,
             "resolution (−6 dB)",
             format!(
                 "{:.2} mm across a trace {} mm over its plane, tip {} mm above it",
@@ -265,11 +306,18 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
             "mutual to the trace",
             format!("{:.3} nH", r.mutual * 1e9),
         );
-        o.push_str("  probe factor (dB(S/m), uniform H, 50 Ω):\n");
+        o.push_str(
+            "  probe factor (dB(S/m), uniform H, 50 Ω) and E-rejection (dB, worst case: E across \
+             the axis, E/H = η0):\n",
+        );
         let step = (r.probe_factor.len() / 10).max(1);
-        for (i, (f, d)) in r.probe_factor.iter().enumerate() {
+        for (i, ((f, d), (_, e))) in r.probe_factor.iter().zip(&r.e_rejection).enumerate() {
             if i % step == 0 || i + 1 == r.probe_factor.len() {
-                o.push_str(&format!("    {:>12.4} MHz  {:>7.2}\n", f / 1e6, d));
+                o.push_str(&format!(
+                    "    {:>12.4} MHz  {:>7.2}  {e:>6.1}\n",
+                    f / 1e6,
+                    d
+                ));
             }
         }
         if let Some(c) = couplings.get(i) {
@@ -295,11 +343,15 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
                     k.h_avg_per_amp, k.h_centre_per_amp
                 ),
             );
-            o.push_str("  predicted S21, line input to probe (dB, degrees):\n");
-            for (j, (f, db, deg)) in c.s21.iter().enumerate() {
+            o.push_str(&format!(
+                "  predicted S21, line input to probe (dB, degrees), and E-rejection over the line \
+                 (dB, its field across the axis, E/H = {:.0} Ω):\n",
+                c.line_wave_ohm
+            ));
+            for (j, ((f, db, deg), e)) in c.s21.iter().zip(&c.e_rejection_db).enumerate() {
                 if j % step == 0 || j + 1 == c.s21.len() {
                     o.push_str(&format!(
-                        "    {:>12.4} MHz  {db:>7.2}  {deg:>7.1}\n",
+                        "    {:>12.4} MHz  {db:>7.2}  {deg:>7.1}  {e:>6.1}\n",
                         f / 1e6
                     ));
                 }

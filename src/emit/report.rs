@@ -75,7 +75,7 @@ fn num(v: f64, d: usize) -> String {
 }
 
 /// The comparison table's column heads.
-const COMPARISON_HEADS: [&str; 10] = [
+const COMPARISON_HEADS: [&str; 12] = [
     "probe",
     "shape",
     "size",
@@ -85,16 +85,20 @@ const COMPARISON_HEADS: [&str; 10] = [
     "PF 10 MHz",
     "PF 100 MHz",
     "PF 1 GHz",
+    "A_eff (mm²)",
+    "E-rej. 100 MHz (dB)",
     "resolution (mm)",
 ];
 
 /// What the comparison table's probe factors mean.
 const COMPARISON_NOTE: &str = "PF in dB(S/m), area-average field normal to the loop, into \
      50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a probe's upper usable frequency are shown \
-     for comparison only. Resolution: −6 dB full width across a trace, at the stated height.";
+     for comparison only. A_eff: effective area of the shield's outer current. E-rej.: E-rejection \
+     in the worst orientation (electric field across the loop's axis, E/H = η0). Resolution: −6 dB \
+     full width across a trace, at the stated height.";
 
 /// One probe's row of the comparison table, from the same numbers as `predict --json`.
-fn comparison_cells(x: &Predicted) -> [String; 10] {
+fn comparison_cells(x: &Predicted) -> [String; 12] {
     let j = probe_json(x);
     let v = |k: &str, scale: f64, d: usize| num(j[k].as_f64().unwrap_or(f64::NAN) / scale, d);
     [
@@ -107,6 +111,12 @@ fn comparison_cells(x: &Predicted) -> [String; 10] {
         v("pf_10mhz_db_s_per_m", 1.0, 2),
         v("pf_100mhz_db_s_per_m", 1.0, 2),
         v("pf_1ghz_db_s_per_m", 1.0, 2),
+        v("effective_area_mm2", 1.0, 2),
+        num(
+            x.response
+                .e_rejection_db(100e6, crate::physics::electric::ETA0),
+            1,
+        ),
         v("resolution_mm", 1.0, 2),
     ]
 }
@@ -182,7 +192,7 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
         let r = &x.response;
         let _ = writeln!(
             o,
-            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
+            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>E-rejection (worst case: electric field across the loop's axis, E/H = η0) {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; error budget ({} dB) {}.<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
             previews.get(i).map(String::as_str).unwrap_or(""),
             xml(&x.probe.name),
             x.probe.shape.kind(),
@@ -198,6 +208,13 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
             r.corner_hz / 1e6,
             r.upper_hz / 1e6,
             xml(r.upper_rule),
+            r.e_rejection_db(100e6, crate::physics::electric::ETA0),
+            r.e_rejection_db(r.upper_hz, crate::physics::electric::ETA0),
+            crate::physics::electric::BUDGET_DB,
+            match r.budget_hz {
+                Some(b) => format!("reached at {:.0} MHz", b / 1e6),
+                None => "not reached below the first null".to_string(),
+            },
             r.resolution_m * 1e3,
             r.options.trace_h_mm,
             r.options.height_mm,

@@ -12,6 +12,7 @@
 //! - the probe factor is |H/V_out| in S/m with H the **area-average** field normal to the loop.
 
 pub mod coupling;
+pub mod electric;
 pub mod elliptic2;
 pub mod shield;
 
@@ -298,10 +299,23 @@ pub struct Response {
     pub f_null_hz: f64,
     /// The outer loop resonating with the gap capacitance, 1/(2π√(L_outer·C_gap)), Hz.
     pub f_gap_res_hz: f64,
-    /// Upper usable frequency: the lower of the small-loop limit and half the null frequency.
+    /// Upper usable frequency: the lower of the error budget's frequency and the small-loop
+    /// limit (module [`electric`]).
     pub upper_hz: f64,
     /// Which rule set `upper_hz`.
     pub upper_rule: &'static str,
+    /// The error budget's frequency: where the electric pickup (field of wave impedance η0,
+    /// probe tilted [`BUDGET_TILT_DEG`] in its plane) plus a ±5 % error in the stub's
+    /// electrical length could change a reading by [`electric::BUDGET_DB`], Hz (None: not
+    /// reached below the first null).
+    pub budget_hz: Option<f64>,
+    /// Published limits quoted beside the upper frequency: (rule, Hz).
+    pub quoted_limits: Vec<(&'static str, f64)>,
+    /// Radius of the electric pickup model, m: that of the circle of the centreline's area.
+    pub e_radius_m: f64,
+    /// Worst-case E-rejection at each probe-factor frequency, (Hz, dB): the electric response
+    /// below the magnetic one for a field of wave impedance η0 lying across the loop's axis.
+    pub e_rejection: Vec<(f64, f64)>,
     /// Probe factor table: (Hz, dB(S/m)).
     pub probe_factor: Vec<(f64, f64)>,
     /// Output per ampere of trace current at the stated height: (Hz, dBΩ).
@@ -423,7 +437,44 @@ impl Response {
     pub fn pf_db_at(&self, f: f64) -> f64 {
         pf_db(self.transfer(f))
     }
+
+    /// |V_E/V_H| at `f` Hz for a field of wave impedance `z_w` Ω lying across the loop's axis
+    /// ([`electric::e_to_h`]).
+    pub fn e_to_h(&self, f: f64, z_w: f64) -> f64 {
+        electric::e_to_h(f, self.e_radius_m, z_w)
+    }
+
+    /// E-rejection at `f` Hz, dB, for a field of wave impedance `z_w` Ω across the axis.
+    pub fn e_rejection_db(&self, f: f64, z_w: f64) -> f64 {
+        -20.0 * self.e_to_h(f, z_w).log10()
+    }
+
+    /// What the effects left out could do to a reading at `f` Hz, dB: the electric pickup of
+    /// the budget's tilted probe in a field of wave impedance η0, plus the largest change of
+    /// |V_out| when the stub's electrical length is off by ±[`electric::STUB_LENGTH_TOL`].
+    pub fn budget_error_db(&self, f: f64) -> f64 {
+        let tilt = BUDGET_TILT_DEG.to_radians().sin();
+        let e = electric::pickup_error_db(tilt * self.e_to_h(f, electric::ETA0));
+        let t0 = self.gap_transfer(f).abs();
+        let stub = [
+            1.0 - electric::STUB_LENGTH_TOL,
+            1.0 + electric::STUB_LENGTH_TOL,
+        ]
+        .iter()
+        .map(|k| {
+            let mut q = self.clone();
+            q.l2_m *= k;
+            (20.0 * (q.gap_transfer(f).abs() / t0).log10()).abs()
+        })
+        .fold(0.0, f64::max);
+        e + stub
+    }
 }
+
+/// The error budget's tilt: a hand-held probe within this angle of upright, in its own plane,
+/// brings sin(tilt) of a trace's electric field across its axis (common practice for the
+/// budget, no source).
+pub const BUDGET_TILT_DEG: f64 = 20.0;
 
 /// Probe factor in dB(S/m) from the V/(A/m) transfer.
 pub fn pf_db(transfer: f64) -> f64 {
@@ -701,28 +752,6 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let f_small = C0 / (10.0 * circumference);
     let f_null = C0 / (4.0 * l2 * eps_eff.sqrt());
     let c_gap = gap_capacitance(p, s)?;
-    let (upper, rule) = if f_small <= 0.5 * f_null {
-        (f_small, "small loop: circumference ≤ λ0/10")
-    } else {
-        (
-            0.5 * f_null,
-            "half the first null (shorted half-turn a quarter wave)",
-        )
-    };
-    let f_lo = o.f_min_hz.unwrap_or(corner / 10.0);
-    let f_hi = o.f_max_hz.unwrap_or(upper);
-    if f_hi <= f_lo {
-        return Err(Error::Invalid(vec![FieldError::new(
-            "f-max",
-            f_hi,
-            format!("must be greater than the lowest frequency {f_lo:.4e} Hz"),
-        )]));
-    }
-    let decades = (f_hi / f_lo).log10();
-    let n = ((decades * o.per_decade as f64).ceil() as usize).max(1);
-    let freqs: Vec<f64> = (0..=n)
-        .map(|i| f_lo * 10f64.powf(decades * i as f64 / n as f64))
-        .collect();
     let tan_d = signal_loss_tangent(p);
     let mut r = Response {
         area_m2: area,
@@ -744,8 +773,12 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         f_small_loop_hz: f_small,
         f_null_hz: f_null,
         f_gap_res_hz: 1.0 / (2.0 * PI * (l_outer * c_gap).sqrt()),
-        upper_hz: upper,
-        upper_rule: rule,
+        upper_hz: f_small,
+        upper_rule: "",
+        budget_hz: None,
+        quoted_limits: electric::quoted_limits(circumference, 2.0 * (area / PI).sqrt()).to_vec(),
+        e_radius_m: (area / PI).sqrt(),
+        e_rejection: Vec::new(),
         probe_factor: Vec::new(),
         output_per_amp: Vec::new(),
         mutual: 0.0,
@@ -753,6 +786,30 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         filaments: filaments(&sc, 8),
         options: *o,
     };
+    r.budget_hz = budget_frequency(&r, corner / 10.0, f_null);
+    (r.upper_hz, r.upper_rule) = match r.budget_hz {
+        Some(b) if b < f_small => (
+            b,
+            "error budget: electric pickup (20° tilt, E/H = η0) and a ±5 % stub length reach 1 dB",
+        ),
+        _ => (f_small, "small loop: circumference ≤ λ0/10"),
+    };
+    let upper = r.upper_hz;
+    let f_lo = o.f_min_hz.unwrap_or(corner / 10.0);
+    let f_hi = o.f_max_hz.unwrap_or(upper);
+    if f_hi <= f_lo {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "f-max",
+            f_hi,
+            format!("must be greater than the lowest frequency {f_lo:.4e} Hz"),
+        )]));
+    }
+    let decades = (f_hi / f_lo).log10();
+    let n = ((decades * o.per_decade as f64).ceil() as usize).max(1);
+    let freqs: Vec<f64> = (0..=n)
+        .map(|i| f_lo * 10f64.powf(decades * i as f64 / n as f64))
+        .collect();
+
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.
     let z0 = o.height_mm * 1e-3 + tip_to_apex_m(p, s);
     let h = o.trace_h_mm * 1e-3;
@@ -772,11 +829,35 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     for f in freqs {
         let t = r.transfer(f);
         r.probe_factor.push((f, pf_db(t)));
+        r.e_rejection.push((f, r.e_rejection_db(f, electric::ETA0)));
         let w = 2.0 * PI * f;
         let v_per_a = w * r.mutual * r.gap_transfer(f).abs();
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
     }
     Ok(r)
+}
+
+/// The lowest frequency from `lo` up to `hi` (the first null) where the budget's error reaches
+/// [`electric::BUDGET_DB`], Hz: a log scan of 200 points per decade, then bisection.
+fn budget_frequency(r: &Response, lo: f64, hi: f64) -> Option<f64> {
+    let over = |f: f64| r.budget_error_db(f) >= electric::BUDGET_DB;
+    if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && hi > lo) {
+        return None;
+    }
+    let n = ((hi / lo).log10() * 200.0).ceil().max(1.0) as usize;
+    let fs: Vec<f64> = (0..=n)
+        .map(|i| lo * (hi / lo).powf(i as f64 / n as f64))
+        .collect();
+    let i = fs.iter().position(|&f| over(f))?;
+    if i == 0 {
+        return Some(lo);
+    }
+    let (mut a, mut b) = (fs[i - 1], fs[i]);
+    for _ in 0..60 {
+        let m = (a * b).sqrt();
+        if over(m) { b = m } else { a = m }
+    }
+    Some(b)
 }
 
 /// Copper thickness of the signal layer, m.

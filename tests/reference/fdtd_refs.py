@@ -75,6 +75,8 @@ MESHES = {
     # end: the run stops when the field energy has fallen this far below its peak
     "coarse": dict(d=0.15, ny_pre=2, ny_core=4, dmax=1.5, end=1e-5),
     "fine": dict(d=0.11, ny_pre=3, ny_core=5, dmax=1.5, end=1e-4),
+    # a third mesh for the 5 mm loop only: is the staircase error first order in d?
+    "finer": dict(d=0.08, ny_pre=4, ny_core=6, dmax=1.5, end=1e-4),
 }
 PROBES = {"R10": 10.0, "R5": 5.0}
 

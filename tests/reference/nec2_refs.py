@@ -175,14 +175,17 @@ def build(ctx, c):
                 g.wire(TAG_RING0 + i, 1, xs_[k] * MM, y * MM, zs_[k] * MM, xs_[k + 1] * MM, y * MM,
                        zs_[k + 1] * MM, a * MM, 1, 1)
         load = (TAG_LOAD, 2)
-    # the test line
+    # the test line (left out for the probe alone in a plane wave: erej_refs.py)
     Z0l = 60 * np.arccosh(H_LINE / A_LINE)
-    xs = line_segments(c["line_half"], c["R"] + 10.0)
-    g.wire(TAG_SRC, 1, xs[0] * MM, 0, 0, xs[0] * MM, 0, H_LINE * MM, A_LINE * MM, 1, 1)
-    for xa, xb in zip(xs[:-1], xs[1:]):
-        g.wire(TAG_LINE, 1, xa * MM, 0, H_LINE * MM, xb * MM, 0, H_LINE * MM, A_LINE * MM, 1, 1)
-    g.wire(TAG_END, 1, xs[-1] * MM, 0, H_LINE * MM, xs[-1] * MM, 0, 0, A_LINE * MM, 1, 1)
-    mid = int(np.argmin(np.abs((np.array(xs[:-1]) + np.array(xs[1:])) / 2)))
+    mid = None
+    if not c.get("probe_only"):
+        xs = line_segments(c["line_half"], c["R"] + 10.0)
+        g.wire(TAG_SRC, 1, xs[0] * MM, 0, 0, xs[0] * MM, 0, H_LINE * MM, A_LINE * MM, 1, 1)
+        for xa, xb in zip(xs[:-1], xs[1:]):
+            g.wire(TAG_LINE, 1, xa * MM, 0, H_LINE * MM, xb * MM, 0, H_LINE * MM, A_LINE * MM,
+                   1, 1)
+        g.wire(TAG_END, 1, xs[-1] * MM, 0, H_LINE * MM, xs[-1] * MM, 0, 0, A_LINE * MM, 1, 1)
+        mid = int(np.argmin(np.abs((np.array(xs[:-1]) + np.array(xs[1:])) / 2)))
     if c["variant"] != "gmd_ring":
         # bus in each gap face; ring ends sit at angle a0 (x > 0) and a1 (x < 0)
         tag = TAG_BUS0
