@@ -50,38 +50,76 @@ fn compare(case: &str, name: &str) -> Vec<(f64, f64, f64, f64, bool)> {
         .collect()
 }
 
-/// In the usable band (a decade below the corner to the upper usable frequency) the model
-/// follows the fine mesh within 1 dB up to about 85 % of the upper frequency: FM-R10 0.2–0.4 dB
-/// to 600 MHz, FM-R5 0.7–1.0 dB high to 1.2 GHz. In the top of the band it drifts to 1.19 dB
-/// (FM-R10, 914 MHz) and 1.10 dB (FM-R5, 1.88 GHz), where the two meshes differ by 0.4 and
-/// 0.8 dB; FDTD puts FM-R10's stub null at 1.98 GHz against the model's 2.26 GHz, so the
-/// model's stub is electrically short. Held at 1.25 dB so any drift shows; the 1 dB
-/// is not met in that top slice (docs/response.md). The earlier centreline model read 1.7 dB
-/// (FM-R10) and 3.7 dB (FM-R5) high at low frequency.
+/// In the usable band (a decade below the corner to the upper usable frequency).
+///
+/// **FM-R5** has three meshes (cells 0.15, 0.11 and 0.08 mm in the probe's region): the model
+/// holds 1 dB against the finest everywhere in its band (worst 0.88 dB, at the top; it reads
+/// 0.65–0.8 dB low below the corner, as it does against NEC-2). The three meshes converge with
+/// an observed order of about 2 to 3.6 in the top of the band (`richardson` in the data).
+///
+/// **FM-R10** has two meshes (0.15 and 0.11 mm). The model holds 1 dB against the fine mesh to
+/// about 87 % of its upper frequency and drifts to 1.19 dB at the top, where the fine mesh is
+/// still moving towards the model (+0.3 to +0.5 dB from the coarse one; FDTD's staircased loop
+/// is electrically long, so its stub null climbs from 1.85 to 1.98 GHz against the model's
+/// 2.26 GHz). Against the fine mesh extrapolated to a zero cell with any order from 1 to 3 (the
+/// orders FM-R5 shows) the model holds 1 dB in the whole band (worst 0.75 / 0.69 / 0.91 dB).
+/// A third FM-R10 mesh (about two hours on two cores) would settle it and was not run. Against
+/// the raw fine mesh the band is held at 1.25 dB so any drift shows. The earlier centreline
+/// model read 1.7 dB (FM-R10) and 3.7 dB (FM-R5) high at low frequency.
 #[test]
 fn predicted_s21_follows_the_fdtd_reference_in_the_usable_band() {
-    for (case, name, tol) in [("R10", "FM-R10", 1.25), ("R5", "FM-R5", 1.25)] {
+    let top = refs("fdtd_refs.toml");
+    for (case, name) in [("R10", "FM-R10"), ("R5", "FM-R5")] {
         let rows = compare(case, name);
         let inband: Vec<_> = rows.iter().filter(|r| r.4).collect();
         assert!(inband.len() > 20, "{case}: {} points", inband.len());
-        for &&(f, m, fine, _, _) in &inband {
+        for &&(f, m, fine, coarse, _) in &inband {
             assert!(
-                (m - fine).abs() < tol,
+                (m - fine).abs() < 1.25,
                 "{case} at {f:.3e} Hz: model {m:.2} dB, FDTD {fine:.2} dB"
             );
+            if case == "R10" {
+                for p in [1.0f64, 2.0, 3.0] {
+                    let x = fine + (fine - coarse) / ((0.15f64 / 0.11).powf(p) - 1.0);
+                    assert!(
+                        (m - x).abs() < 1.0,
+                        "{case} at {f:.3e} Hz: model {m:.2} dB, extrapolated (order {p}) {x:.2}"
+                    );
+                }
+            }
         }
-        // Below 85 % of the upper frequency the model holds 1 dB; below 300 MHz the meshes
-        // agree to 0.2 dB.
-        let upper = inband.last().unwrap().0;
-        for &&(f, m, _, _, _) in inband.iter().filter(|r| r.0 < 0.85 * upper) {
-            assert!(
-                (m - inband.iter().find(|r| r.0 == f).unwrap().2).abs() < 1.0,
-                "{case} {f}"
-            );
-        }
+        // Below 300 MHz the meshes agree to 0.2 dB and the model holds 1 dB.
         for &&(f, m, fine, coarse, _) in inband.iter().filter(|r| r.0 < 3e8) {
             assert!((fine - coarse).abs() < 0.2, "{case} {f}");
             assert!((m - fine).abs() < 1.0, "{case} {f}");
         }
     }
+    // FM-R5 against its finest mesh, every point of the band.
+    let finer = top["sparam"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["case"].as_str() == Some("R5") && s["mesh"].as_str() == Some("finer"))
+        .expect("FM-R5's third mesh");
+    let ff = floats(&finer["s21_probe_db"]);
+    let rows = compare("R5", "FM-R5");
+    let mut n = 0;
+    for (i, &(f, m, _, _, band)) in rows.iter().enumerate() {
+        if band {
+            assert!(
+                (m - ff[i]).abs() < 1.0,
+                "R5 at {f:.3e} Hz: model {m:.2} dB, finest FDTD {:.2} dB",
+                ff[i]
+            );
+            n += 1;
+        }
+    }
+    assert!(n > 20);
+    // The recorded extrapolation found an order at most frequencies (where the three meshes
+    // move monotonically).
+    let rich = top["richardson"].as_array().unwrap();
+    assert_eq!(rich[0]["case"].as_str(), Some("R5"));
+    let x = floats(&rich[0]["extrapolated_db"]);
+    let found = x.iter().filter(|v| v.is_finite()).count();
+    assert!(found > 30, "{found}");
 }

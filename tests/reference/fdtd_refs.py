@@ -9,6 +9,7 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R10 fine
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 coarse
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 fine
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finer  # third mesh, 12 min
 # The FM-R10 runs ring for tens of ns (see the TOML header); they were stopped at 6.5 ns by
 # creating a file ABORT in their run folder, and `... post CASE MESH` redoes the S-parameters
 # of a finished or stopped run.
@@ -465,7 +466,7 @@ def toml_out():
     work = os.environ.get("FDTD_WORK", "/tmp/loopwright-fdtd")
     runs = {}
     for case in ("line", "R10", "R5"):
-        for mesh in ("coarse", "fine"):
+        for mesh in ("coarse", "fine", "finer"):
             fn = os.path.join(work, f"{case}-{mesh}.json")
             if os.path.exists(fn):
                 runs[(case, mesh)] = json.load(open(fn))
@@ -511,6 +512,9 @@ def toml_out():
     w("# null_hz/peak_hz: lowest and highest |S21| of the probe between 1.5 and 2.6 GHz (0.01 GHz grid).")
     w("# Mesh convergence: `convergence` gives fine minus coarse |S21| per frequency, and the same")
     w("# with the coarse record cut at the fine run's end time (same run length, mesh only).")
+    w("# FM-R5 has a third, finer mesh; `richardson` extrapolates its |S21| to a zero cell with")
+    w("# the order observed from the three meshes (Richardson; the grid-convergence method of")
+    w("# Roache, from memory).")
     w("")
     w("[setup]")
     setup = dict(line_length_mm=LINE_LEN, line_width_mm=LINE_W, line_substrate_mm=LINE_H,
@@ -585,6 +589,40 @@ def toml_out():
               f"{_arr([(_deg(b) - _deg(a) + 180) % 360 - 180 for a, b in zip(c, fi)], '{:.2f}')}")
             w(f"coarse_cut_time_s = {t_cut:.4e}")
             w("")
+    for case in ("R10", "R5"):
+        ms = [m for m in ("coarse", "fine", "finer") if (case, m) in runs]
+        if len(ms) < 3:
+            continue
+        # Richardson extrapolation of |S21| in dB to a zero cell (the probe region's cell d):
+        # the observed order p from three meshes, per frequency, where the changes share a sign
+        # and p falls in [0.5, 4]; the extrapolated value m0 = m3 + (m3 - m2)/((d2/d3)^p - 1).
+        ds = [MESHES[m]["d"] for m in ms]
+        mags = [[_db(v) for v in _cplx(runs[(case, m)]["s21_probe"])] for m in ms]
+        fr = runs[(case, ms[-1])]["freq_hz"]
+        pp, m0 = [], []
+        for i in range(len(fr)):
+            a, b, c = (mags[0][i], mags[1][i], mags[2][i])
+            e1, e2 = b - a, c - b
+            p = None
+            if e1 * e2 > 0 and abs(e2) > 1e-4:
+                g = lambda q: (ds[0] ** q - ds[1] ** q) / (ds[1] ** q - ds[2] ** q) - e1 / e2
+                lo, hi = 0.5, 4.0
+                if g(lo) * g(hi) < 0:
+                    for _ in range(60):
+                        mid = 0.5 * (lo + hi)
+                        lo, hi = (mid, hi) if g(lo) * g(mid) > 0 else (lo, mid)
+                    p = 0.5 * (lo + hi)
+            pp.append(p)
+            m0.append(None if p is None else c + e2 / ((ds[1] / ds[2]) ** p - 1))
+        w("[[richardson]]")
+        w(f"case = '{case}'")
+        w(f"meshes = {ms}")
+        w(f"cell_probe_region_mm = {ds}")
+        w(f"freq_hz = {_arr(fr, '{:.6e}')}")
+        w("# nan where the three meshes do not converge monotonically (order undefined)")
+        w("order = [" + ", ".join("nan" if p is None else f"{p:.3f}" for p in pp) + "]")
+        w(f"extrapolated_db = [{', '.join('nan' if v is None else f'{v:.4f}' for v in m0)}]")
+        w("")
     w("# |S21| (dB re the wave incident on the line) at the table frequencies")
     for (case, mesh), r in runs.items():
         k = "s21_probe" if "s21_probe" in r else "s21_thru"
