@@ -54,16 +54,18 @@ fn compare(case: &str, name: &str) -> Vec<(f64, f64, f64, f64, bool)> {
 ///
 /// **FM-R5** has three meshes (cells 0.15, 0.11 and 0.08 mm in the probe's region): the model
 /// holds 1 dB against the finest everywhere in its band (worst 0.88 dB, at the top; it reads
-/// 0.65–0.8 dB low below the corner, as it does against NEC-2). The three meshes converge with
-/// an observed order of about 2 to 3.6 in the top of the band (`richardson` in the data).
+/// 0.65–0.8 dB low below the corner, as it does against NEC-2). The three meshes' observed
+/// order (`richardson` in the data) is about 2 from 0.5 to 0.85 GHz, undefined from 1.16 to
+/// 1.74 GHz (the changes switch sign) and 3.5–4 from 1.75 to 1.91 GHz.
 ///
 /// **FM-R10** has two meshes (0.15 and 0.11 mm). The model holds 1 dB against the fine mesh to
 /// about 87 % of its upper frequency and drifts to 1.19 dB at the top, where the fine mesh is
 /// still moving towards the model (+0.3 to +0.5 dB from the coarse one; FDTD's staircased loop
 /// is electrically long, so its stub null climbs from 1.85 to 1.98 GHz against the model's
-/// 2.26 GHz). Against the fine mesh extrapolated to a zero cell with any order from 1 to 3 (the
-/// orders FM-R5 shows) the model holds 1 dB in the whole band (worst 0.75 / 0.69 / 0.91 dB).
-/// A third FM-R10 mesh (about two hours on two cores) would settle it and was not run. Against
+/// 2.26 GHz). Against the fine mesh extrapolated to a zero cell with order 1, 2 or 3 the model
+/// holds 1 dB in the whole band (worst 0.75 / 0.69 / 0.91 dB); with order 4, which FM-R5 shows
+/// at its top, it reads 1.02 dB at 914 MHz, so FM-R10's top of band is not settled. A third
+/// FM-R10 mesh (about two hours on two cores) would settle it and was not run. Against
 /// the raw fine mesh the band is held at 1.25 dB so any drift shows. The earlier centreline
 /// model read 1.7 dB (FM-R10) and 3.7 dB (FM-R5) high at low frequency.
 #[test]

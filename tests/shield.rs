@@ -202,10 +202,10 @@ fn transimpedance_matches_nec2_grid_model() {
 /// axis) relative to the magnetic one (H normal), equal |E|. The model is 2ka
 /// (`physics::electric`). A thin ring (a = 5 mm, b = 0.1 mm) holds 0.1 dB from 100 MHz to
 /// 1 GHz, which checks the derivation; the demo's shield on 10, 20 and 30 mm loops holds 1 dB
-/// from 200 MHz to each loop's upper usable frequency (NEC reads 0.3 dB below to 0.8 dB above
+/// from 200 MHz to each loop's upper usable frequency (NEC reads 0.3 dB below to 0.7 dB above
 /// the model). Left out: NEC's 5 mm grid gives an electric response that is not monotonic in
-/// frequency (its segments are too short in wavelengths for this small a difference), and
-/// every grid reads low at 100 MHz for the same reason.
+/// frequency, and at 100 MHz the grids scatter (the 5 mm one 24 dB high, the 10 mm one 4.5 dB
+/// low): suspected NEC-2's precision for so small a difference, not established.
 #[test]
 fn electric_pickup_matches_nec2_plane_wave() {
     use loopwright::physics::electric::{ETA0, e_to_h};
@@ -243,9 +243,10 @@ fn electric_pickup_matches_nec2_plane_wave() {
     assert!(seen.0 >= 6 && seen.1 >= 8, "{seen:?}");
 }
 
-/// The upper usable frequency's error budget is what it says: at the budget's frequency the
-/// left-out effects sum to the budget, below it they stay under it, and the upper usable
-/// frequency never exceeds it.
+/// The upper usable frequency's error budget is what it says (an internal invariant, no
+/// outside source: the electric term's outside check is the NEC-2 test above): at the budget's
+/// frequency the left-out effects sum to the budget, below it they stay under it, the electric
+/// share alone is 20·log10(1 + sin 20°·2ka), and the upper usable frequency never exceeds it.
 #[test]
 fn error_budget_frequency_is_where_the_budget_is_spent() {
     use loopwright::physics::electric::BUDGET_DB;
@@ -258,7 +259,12 @@ fn error_budget_frequency_is_where_the_budget_is_spent() {
         assert!((r.budget_error_db(b) - BUDGET_DB).abs() < 1e-3, "{name}");
         assert!(r.budget_error_db(0.9 * b) < BUDGET_DB, "{name}");
         assert!(r.upper_hz <= b * (1.0 + 1e-12), "{name}");
-        // The electric pickup's share alone, at the budget's 20° tilt, is below the budget.
-        assert!(r.e_rejection_db(b, loopwright::physics::electric::ETA0) > 0.0);
+        // The electric share: 2ka at the budget's 20° tilt, a = √(A_centre/π).
+        use loopwright::physics::electric::{ETA0, pickup_error_db};
+        let a = (r.area_m2 / std::f64::consts::PI).sqrt();
+        let ka2 = 2.0 * 2.0 * std::f64::consts::PI * b / 299_792_458.0 * a;
+        let e_share = pickup_error_db(20f64.to_radians().sin() * ka2);
+        assert!((-20.0 * ka2.log10() - r.e_rejection_db(b, ETA0)).abs() < 1e-9);
+        assert!(e_share > 0.0 && e_share < BUDGET_DB, "{name}: {e_share}");
     }
 }

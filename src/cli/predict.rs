@@ -39,7 +39,8 @@ pub struct PredictArgs {
 /// The modelling assumptions, stated with every prediction.
 pub const ASSUMPTIONS: [&str; 7] = [
     "quasi-static: the loop is electrically small below the upper usable frequency; no \
-     radiation. The electric field is rejected by symmetry when it lies along the loop's axis; \
+     radiation. The electric field is ideally rejected by symmetry when it lies along the \
+     loop's axis (the residual is not predicted); \
      across the axis the loop responds like a short dipole, 2ka·(E/H)/η0 relative to its \
      magnetic response (the E-rejection, given for the worst orientation)",
     "probe factor referred to a uniform field normal to the loop (equivalently the average over \
@@ -186,7 +187,7 @@ pub fn coupling_json(c: &FixtureCoupling) -> Value {
         "h_avg_per_amp": k.h_avg_per_amp,
         "h_centre_per_amp": k.h_centre_per_amp,
         "field_reference": "area-average Hx over the loop; I = k·V_inc/50 Ω, k from the fixture's launch model",
-        "e_field_reference": format!("worst case: the line's electric field across the loop's axis, E/H = η0/√εeff = {:.1} Ω (estimate); centred in the usual orientation the probe rejects it by symmetry", c.line_wave_ohm),
+        "e_field_reference": format!("worst case: the line's electric field across the loop's axis, E/H = η0/√εeff = {:.1} Ω (estimate); dB re the magnetic response; centred in the usual orientation the probe ideally rejects it by symmetry", c.line_wave_ohm),
         "s21": c.s21.iter().zip(&c.line_current_db).zip(&c.e_rejection_db).map(|(((f, db, deg), k), e)| json!({"freq_hz": f, "db": db, "deg": deg, "line_current_db": k, "e_rejection_db": e})).collect::<Vec<_>>(),
     })
 }
@@ -224,7 +225,7 @@ pub fn probe_json(x: &Predicted) -> Value {
         "upper_budget_hz": r.budget_hz,
         "upper_budget_db": crate::physics::electric::BUDGET_DB,
         "upper_quoted_limits": r.quoted_limits.iter().map(|(k, f)| json!({"rule": k, "hz": f})).collect::<Vec<_>>(),
-        "e_field_reference": "worst case: E across the loop's axis in its plane, wave impedance E/H = η0 (376.7 Ω); E along the axis is rejected by symmetry",
+        "e_field_reference": "worst case: E across the loop's axis in its plane, wave impedance E/H = η0 (376.7 Ω); dB re the magnetic response; E along the axis is ideally rejected by symmetry (residual not predicted)",
         "e_rejection_db": r.e_rejection.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
         "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),

@@ -223,7 +223,8 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         "- E-rejection (worst case: electric field across the loop's axis, in its plane, E/H = \
          η0): {:.1} dB at 10 MHz, {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; \
          it falls 20 dB per decade. An electric field along the axis (a trace's field, probe \
-         upright over it) is rejected by symmetry.",
+         upright over it) is ideally rejected by symmetry (the residual is not predicted). The \
+         budget assumes E/H = η0: near high-impedance sources the electric pickup is larger.",
         erej(10e6),
         erej(100e6),
         erej(r.upper_hz)

@@ -210,7 +210,7 @@ def build(ctx, c):
         cb, sb = np.cos(a0), np.sin(a0)
         g.wire(TAG_LOAD, 3, rR * ca * MM, 0, (zc + rR * sa) * MM, rR * cb * MM, 0,
                (zc + rR * sb) * MM, a * MM, 1, 1)
-    ctx.geometry_complete(1)
+    ctx.geometry_complete(0 if c.get("probe_only") else 1)   # free space for the probe alone
     return Z0l, mid, load
 
 
