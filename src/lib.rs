@@ -16,6 +16,7 @@ pub mod drc;
 pub mod emit;
 pub mod error;
 pub mod field;
+pub mod fuzzing;
 pub mod geom;
 pub mod model;
 pub mod output;

@@ -1,0 +1,5 @@
+#![no_main]
+// Fuzz target: loopwright::fuzzing::band must return, never panic, whatever the bytes.
+use libfuzzer_sys::fuzz_target;
+
+fuzz_target!(|data: &[u8]| loopwright::fuzzing::band(data));
