@@ -10,6 +10,7 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 coarse
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 fine
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finer  # third mesh, 12 min
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R10 finer # 3.7 M cells, 37 min
 # The FM-R10 runs ring for tens of ns (see the TOML header); they were stopped at 6.5 ns by
 # creating a file ABORT in their run folder, and `... post CASE MESH` redoes the S-parameters
 # of a finished or stopped run.
@@ -76,7 +77,7 @@ MESHES = {
     # end: the run stops when the field energy has fallen this far below its peak
     "coarse": dict(d=0.15, ny_pre=2, ny_core=4, dmax=1.5, end=1e-5),
     "fine": dict(d=0.11, ny_pre=3, ny_core=5, dmax=1.5, end=1e-4),
-    # a third mesh for the 5 mm loop only: is the staircase error first order in d?
+    # a third mesh: how the staircase error falls with d (Richardson, observed order)
     "finer": dict(d=0.08, ny_pre=4, ny_core=6, dmax=1.5, end=1e-4),
 }
 PROBES = {"R10": 10.0, "R5": 5.0}
@@ -512,7 +513,7 @@ def toml_out():
     w("# null_hz/peak_hz: lowest and highest |S21| of the probe between 1.5 and 2.6 GHz (0.01 GHz grid).")
     w("# Mesh convergence: `convergence` gives fine minus coarse |S21| per frequency, and the same")
     w("# with the coarse record cut at the fine run's end time (same run length, mesh only).")
-    w("# FM-R5 has a third, finer mesh; `richardson` extrapolates its |S21| to a zero cell with")
+    w("# Each probe has a third, finer mesh; `richardson` extrapolates |S21| to a zero cell with")
     w("# the order observed from the three meshes (Richardson; the grid-convergence method of")
     w("# Roache, from memory).")
     w("")
