@@ -70,6 +70,74 @@ fn via_pitch_rule_the_fab_cannot_meet_is_refused() {
     );
 }
 
+// Found by the spec census (examples/spec_census.rs): a stitching limit λ/N shorter than the
+// distance the ground vias around the signal via must keep from it (antipad, pad, web) left
+// that via isolated; it is now refused at validation with the highest f_max_hz that works.
+#[test]
+fn stitching_limit_shorter_than_the_signal_via_ring_is_refused() {
+    let text = r#"
+stackup = "slim-4l-0.8"
+signal_layer = 3
+target_z0_ohms = 39.6
+clearance_mm = 0.310
+gap_mm = 0.782
+mill_interior = true
+[via]
+drill_mm = 0.274
+pad_mm = 0.739
+pitch_n = 8.6
+f_max_hz = 1.570e10
+[handle]
+length_mm = 78.0
+width_mm = 8.19
+[fab]
+min_trace_mm = 0.185
+min_space_mm = 0.170
+min_drill_mm = 0.232
+min_annular_ring_mm = 0.120
+min_hole_gap_mm = 0.214
+copper_to_edge_mm = 0.220
+mask_expansion_mm = 0.073
+mask_web_mm = 0.126
+silk_width_mm = 0.117
+silk_text_height_mm = 0.83
+silk_to_pad_mm = 0.246
+[[probe]]
+name = "p"
+shape = "square"
+size_mm = 14.250
+corner_radius_mm = 2.048
+
+"#;
+    match build_family(&spec(text), Path::new("."), false) {
+        Err(Error::Invalid(v)) => {
+            let e = v
+                .iter()
+                .find(|e| e.field == "via.f_max_hz")
+                .expect("via.f_max_hz");
+            assert!(
+                e.allowed.contains("at most") && e.allowed.contains("signal via"),
+                "{e:?}"
+            );
+        }
+        other => panic!(
+            "not refused at validation: {:?}",
+            other.err().map(|e| e.to_string())
+        ),
+    }
+}
+
+// Found by the spec census: the feed's fence on the outside of its bend left a gap wider than
+// λ/N (1.87 mm against 1.60 mm); the fences now follow the bend.
+#[test]
+fn fence_follows_the_outside_of_the_feed_bend() {
+    let text = "stackup = \"slim-4l-0.8\"\nsignal_layer = 2\nclearance_mm = 0.596\n\
+                [via]\ndrill_mm = 0.558\npad_mm = 0.882\npitch_n = 37.4\nf_max_hz = 2.365e9\n\
+                [handle]\nwidth_mm = 19.75\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 25\n";
+    let b = build_family(&spec(text), Path::new("."), false);
+    assert!(b.is_ok(), "{:?}", b.err().map(|e| e.to_string()));
+}
+
 #[test]
 fn trace_narrower_than_the_fab_minimum_is_refused() {
     refused(
@@ -155,13 +223,35 @@ fn shape_text() -> impl Strategy<Value = String> {
     ]
 }
 
+/// The via table's stitching fields, a fab profile and a probe's silk text, over the ranges a
+/// fab might offer (the spec census's ranges, examples/spec_census.rs).
+fn via_fab_silk() -> impl Strategy<Value = (String, String, String)> {
+    (
+        (6.0f64..40.0, 8.0f64..10.3),
+        (0.075f64..0.2, 0.075f64..0.2, 0.1f64..1.0, 0.0f64..0.1),
+        "[A-Za-z0-9 µ-]{0,24}",
+    )
+        .prop_map(|((n, lf), (tr, sp, cte, me), silk)| {
+            (
+                format!("pitch_n = {n:.1}\nf_max_hz = {:.4e}\n", 10f64.powf(lf)),
+                format!(
+                    "[fab]\nmin_trace_mm = {tr:.3}\nmin_space_mm = {sp:.3}\n\
+                     copper_to_edge_mm = {cte:.3}\nmask_expansion_mm = {me:.3}\n"
+                ),
+                format!("silk_text = \"{silk}\"\n"),
+            )
+        })
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
 
-    // Random specs within the documented ranges: either every probe is built, passes the
-    // design-rule check and writes Gerber files that gerber_parser reads without error, or the
-    // spec is refused with field errors that each name a field, a value and what is allowed;
-    // never a panic, never a design-rule failure.
+    // Random specs within the documented ranges (shape, stackup, layer, gap, clearance, vias,
+    // stitching limit, handle, connector holes, fab profile, silk text): either every probe is
+    // built, passes the design-rule check and writes Gerber files that gerber_parser reads
+    // without error, or the spec is refused with field errors that each name a field, a value
+    // and what is allowed; never a panic, never a design-rule failure. (The spec census runs
+    // the same idea over hundreds of specs: examples/spec_census.rs.)
     #[test]
     fn random_specs_build_clean_or_are_refused(
         shape in shape_text(),
@@ -176,12 +266,14 @@ proptest! {
         target in 35.0f64..55.0,
         mill in any::<bool>(),
         holes in prop_oneof![Just(0.0f64), 0.3f64..0.8],
+        vfs in via_fab_silk(),
     ) {
+        let (via_extra, fab, silk) = vfs;
         let text = format!(
             "stackup = \"{}\"\nsignal_layer = {}\ntarget_z0_ohms = {target:.2}\nclearance_mm = {clearance:.3}\ngap_mm = {gap:.3}\nmill_interior = {mill}\n\
-             [via]\ndrill_mm = {drill:.3}\npad_mm = {:.3}\n[handle]\nlength_mm = {handle_len:.2}\nwidth_mm = {handle_w:.2}\n\
-             [connector]\nground_hole_drill_mm = {holes:.3}\n\
-             [[probe]]\nname = \"p\"\n{shape}",
+             [via]\ndrill_mm = {drill:.3}\npad_mm = {:.3}\n{via_extra}[handle]\nlength_mm = {handle_len:.2}\nwidth_mm = {handle_w:.2}\n\
+             [connector]\nground_hole_drill_mm = {holes:.3}\n{fab}\
+             [[probe]]\nname = \"p\"\n{silk}{shape}",
             if slim { "slim-4l-0.8" } else { "common-4l-1.6" },
             if layer3 { 3 } else { 2 },
             drill + 2.0 * ring,
@@ -284,7 +376,9 @@ fn width_from_auto_takes_the_field_solution_when_the_closed_form_is_off() {
 fn far_walls_give_the_ideal_stripline() {
     use loopwright::solve::impedance::{Line, Method, analyse};
     use loopwright::solve::probe::{Section, cross_section, solve};
-    let p = one_probe("clearance_mm = 2.5\n[handle]\nwidth_mm = 40\n");
+    // pitch_n 10: with a 2.5 mm clearance the ground vias around the signal via stand 3.3 mm
+    // from it, beyond λ/20 at 3 GHz (refused), within λ/10.
+    let p = one_probe("clearance_mm = 2.5\n[via]\npitch_n = 10\n[handle]\nwidth_mm = 40\n");
     let s = solve(&p).unwrap();
     let Line::Stripline(st) = s.line else {
         panic!()

@@ -345,7 +345,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     placer.rows(shape, f, ViaRole::OuterRow);
     // Ground vias around the signal via.
     let antipad = pad.max(w).max(s.top_width) / 2.0 + c;
-    let rg = antipad + pad / 2.0 + VIA_WEB + 0.05;
+    let rg = antipad + pad / 2.0 + VIA_WEB + crate::solve::probe::SIGNAL_RING_MARGIN;
     for i in 0..8 {
         let ang = std::f64::consts::FRAC_PI_8 + i as f64 * std::f64::consts::FRAC_PI_4;
         placer.try_add(
@@ -650,23 +650,64 @@ impl ViaPlacer<'_> {
         }
     }
 
-    /// Fences on both sides of the feed line, up to where it joins the loop.
+    /// Fences on both sides of the feed line, up to where it joins the loop. Each side walks
+    /// the feed's offset curve with round joins (so that the outside of a bend is covered) in
+    /// fine steps and places a via as soon as it stands a step from the last one on that side:
+    /// consecutive fence vias are a step apart, or the first allowed place after a blocked
+    /// stretch.
     fn fences(&mut self, feed: &[Point]) {
         let f = self.s.fence_offset;
-        let s = arclengths(feed);
-        let total = *s.last().unwrap();
         // Half the pitch limit: a tight fence beside the feed, where the line leaves the loop.
         let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
-        let mut t = 0.0;
-        while t <= total + 1e-9 {
-            let (q, dir) = point_at(feed, &s, t.min(total));
-            let normal = Vec2::new(-dir.y, dir.x);
-            for side in [-1.0, 1.0] {
-                self.try_add(q + normal * (side * f), ViaRole::Fence);
+        for side in [-1.0, 1.0] {
+            let path = offset_round(feed, side * f, 0.05);
+            let s = arclengths(&path);
+            let total = *s.last().unwrap();
+            let mut last: Option<Point> = None;
+            let mut t = 0.0;
+            while t <= total + 1e-9 {
+                let (q, _) = point_at(&path, &s, t.min(total));
+                if last.is_none_or(|l| (q - l).hypot() >= step) && self.try_add(q, ViaRole::Fence) {
+                    last = Some(q);
+                }
+                t += 0.02;
             }
-            t += step;
         }
     }
+}
+
+/// The polyline `pts` offset by `d` to its left (negative: right), with round joins of
+/// angular step about `max_seg`/|d| on the outside of each bend.
+fn offset_round(pts: &[Point], d: f64, max_seg: f64) -> Vec<Point> {
+    let mut out = Vec::new();
+    let normal = |a: Point, b: Point| {
+        let v = b - a;
+        let l = v.hypot().max(1e-12);
+        Vec2::new(-v.y / l, v.x / l)
+    };
+    for i in 0..pts.len().saturating_sub(1) {
+        let n = normal(pts[i], pts[i + 1]);
+        if i > 0 {
+            let n0 = normal(pts[i - 1], pts[i]);
+            let (a0, a1) = (n0.y.atan2(n0.x), n.y.atan2(n.x));
+            let mut da = a1 - a0;
+            while da > std::f64::consts::PI {
+                da -= std::f64::consts::TAU;
+            }
+            while da < -std::f64::consts::PI {
+                da += std::f64::consts::TAU;
+            }
+            let k = ((da.abs() * d.abs() / max_seg).ceil() as usize).clamp(1, 64);
+            for j in 1..k {
+                let a = a0 + da * j as f64 / k as f64;
+                out.push(pts[i] + Vec2::new(a.cos(), a.sin()) * d);
+            }
+        }
+        out.push(pts[i] + n * d);
+        out.push(pts[i + 1] + n * d);
+    }
+    out.dedup_by(|a, b| (*a - *b).hypot() < 1e-9);
+    out
 }
 
 /// Silkscreen: name, size and stackup along the handle, and the sensitive-direction mark.

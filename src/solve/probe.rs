@@ -15,6 +15,9 @@ pub const C0: f64 = 299_792_458.0;
 pub const VIA_WEB: f64 = 0.05;
 /// Copper rim beyond the outer via pads of the shield ring, mm (our construction rule).
 pub const RING_RIM: f64 = 0.15;
+/// Extra radius of the ground vias around the signal via beyond antipad + pad/2 + web, mm
+/// (the geometry's ring, `geom::build`).
+pub const SIGNAL_RING_MARGIN: f64 = 0.05;
 
 /// Numbers computed for one probe.
 #[derive(Debug, Clone, PartialEq)]
@@ -245,6 +248,24 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         ),
         Err(_) => (p.connector.centre_pad_width, f64::NAN),
     };
+    // The signal via's ground neighbours cannot stand closer than its antipad, their pad and a
+    // web allow (the ring the geometry places, `geom`); λ/N must reach them, or the via is
+    // isolated beyond the stitching limit whatever the layout.
+    let antipad = p.vias.pad.max(w).max(top_width) / 2.0 + p.clearance;
+    let ring_r = antipad + p.vias.pad / 2.0 + VIA_WEB + SIGNAL_RING_MARGIN;
+    if pitch_max < ring_r && !errs.iter().any(|e| e.field == "via.pitch_n") {
+        let f_ok = C0 / (er_max.sqrt() * p.vias.pitch_n * ring_r * 1e-3);
+        errs.push(FieldError::new(
+            "via.f_max_hz",
+            crate::model::probe::num(p.vias.f_max_hz),
+            format!(
+                "at most {f_ok:.4e} Hz with pitch_n = {}: λ/N ({pitch_max:.3} mm) must reach the \
+                 ground vias around the signal via, which stand {ring_r:.3} mm from it (antipad, \
+                 pad and web); or lower pitch_n, or use smaller via pads or clearance",
+                p.vias.pitch_n
+            ),
+        ));
+    }
     let fence_offset = fence_offset(p, w);
     let ring_half_width = fence_offset + p.vias.pad / 2.0 + RING_RIM;
     let feed_offset = fence_offset / 2.0;
