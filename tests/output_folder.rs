@@ -333,3 +333,40 @@ fn a_second_run_into_the_same_folder_is_refused() {
     assert_eq!(leftovers(&root, &out), Vec::<String>::new());
     let _ = std::fs::remove_dir_all(&root);
 }
+
+// `calibrate` checks its output folder before any work, as `build` does: a user's file in the
+// way is named even when the inputs would fail later (here the Touchstone file does not
+// exist), and the file survives.
+#[test]
+fn calibrate_refuses_a_folder_in_the_way_before_reading_anything() {
+    let root = scratch("calibrate-first");
+    let out = root.join("cal");
+    std::fs::create_dir_all(&out).unwrap();
+    std::fs::write(out.join("notes.txt"), "mine").unwrap();
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/demo");
+    let run = Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .arg("calibrate")
+        .arg("--touchstone")
+        .arg(root.join("missing.s2p"))
+        .arg("--probes")
+        .arg(demo.join("fenwick-marsh-probes.toml"))
+        .arg("--probe")
+        .arg("FM-R10")
+        .arg("--fixture")
+        .arg(demo.join("fenwick-marsh-fixture.toml"))
+        .arg("--height")
+        .arg("1")
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(2), "{err}");
+    assert!(err.contains("--out") && err.contains("notes.txt"), "{err}");
+    assert!(!err.contains("missing.s2p"), "{err}");
+    assert_eq!(
+        std::fs::read_to_string(out.join("notes.txt")).unwrap(),
+        "mine"
+    );
+    let _ = std::fs::remove_dir_all(&root);
+}

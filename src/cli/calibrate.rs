@@ -78,6 +78,8 @@ fn ports_of(path: &Path) -> Result<usize, Error> {
 }
 
 pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
+    // A folder in the way or a place that cannot be written is refused before any work.
+    crate::output::preflight(&a.out)?;
     let ports = ports_of(&a.touchstone)?;
     let (line_port, probe_port) = match (a.line_port, a.probe_port, ports) {
         (l, p, 2) => (l.unwrap_or(1), p.unwrap_or(2)),
