@@ -54,6 +54,18 @@ fn expected(e: &[(PathBuf, Vec<u8>)]) -> BTreeMap<String, Vec<u8>> {
 }
 
 /// Names in the parent folder other than the output itself.
+/// Runs the binary, expects exit code 2 with `--out` named, and returns its stderr.
+fn refused_run(args: &[&std::ffi::OsStr]) -> String {
+    let run = Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .args(args)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&run.stderr).to_string();
+    assert_eq!(run.status.code(), Some(2), "{err}");
+    assert!(err.contains("--out"), "{err}");
+    err
+}
+
 fn leftovers(parent: &Path, out: &Path) -> Vec<String> {
     std::fs::read_dir(parent)
         .unwrap()
@@ -75,16 +87,12 @@ fn a_users_file_in_the_way_is_refused_and_survives() {
     std::fs::write(fx.join("meeting-fab-notes.md"), "x").unwrap();
     std::fs::write(fx.join("thesis.docx"), "irreplaceable").unwrap();
     let spec = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/demo/fenwick-marsh-fixture.toml");
-    let run = Command::new(env!("CARGO_BIN_EXE_loopwright"))
-        .arg("build")
-        .arg(&spec)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{err}");
-    assert!(err.contains("--out"), "{err}");
+    let err = refused_run(&[
+        "build".as_ref(),
+        spec.as_os_str(),
+        "--out".as_ref(),
+        out.as_os_str(),
+    ]);
     assert!(err.contains("fenwick-marsh-fixture/thesis.docx"), "{err}");
     assert!(
         err.contains("fenwick-marsh-fixture/meeting-fab-notes.md"),
@@ -344,24 +352,26 @@ fn calibrate_refuses_a_folder_in_the_way_before_reading_anything() {
     std::fs::create_dir_all(&out).unwrap();
     std::fs::write(out.join("notes.txt"), "mine").unwrap();
     let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/demo");
-    let run = Command::new(env!("CARGO_BIN_EXE_loopwright"))
-        .arg("calibrate")
-        .arg("--touchstone")
-        .arg(root.join("missing.s2p"))
-        .arg("--probes")
-        .arg(demo.join("fenwick-marsh-probes.toml"))
-        .arg("--probe")
-        .arg("FM-R10")
-        .arg("--fixture")
-        .arg(demo.join("fenwick-marsh-fixture.toml"))
-        .arg("--height")
-        .arg("1")
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{err}");
+    let (ts, probes, fixture) = (
+        root.join("missing.s2p"),
+        demo.join("fenwick-marsh-probes.toml"),
+        demo.join("fenwick-marsh-fixture.toml"),
+    );
+    let err = refused_run(&[
+        "calibrate".as_ref(),
+        "--touchstone".as_ref(),
+        ts.as_os_str(),
+        "--probes".as_ref(),
+        probes.as_os_str(),
+        "--probe".as_ref(),
+        "FM-R10".as_ref(),
+        "--fixture".as_ref(),
+        fixture.as_os_str(),
+        "--height".as_ref(),
+        "1".as_ref(),
+        "--out".as_ref(),
+        out.as_os_str(),
+    ]);
     assert!(err.contains("--out") && err.contains("notes.txt"), "{err}");
     assert!(!err.contains("missing.s2p"), "{err}");
     assert_eq!(
