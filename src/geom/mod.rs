@@ -659,6 +659,9 @@ impl ViaPlacer<'_> {
         let f = self.s.fence_offset;
         // Half the pitch limit: a tight fence beside the feed, where the line leaves the loop.
         let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
+        // The walk's resolution: a via lands at most `dt` beyond `step` from the last one,
+        // which keeps it within the limit even when the fab's pitch is close to it.
+        let dt = (0.5 * (self.s.pitch_max - step)).clamp(0.002, 0.02);
         for side in [-1.0, 1.0] {
             let path = offset_round(feed, side * f, 0.05);
             let s = arclengths(&path);
@@ -670,7 +673,7 @@ impl ViaPlacer<'_> {
                 if last.is_none_or(|l| (q - l).hypot() >= step) && self.try_add(q, ViaRole::Fence) {
                     last = Some(q);
                 }
-                t += 0.02;
+                t += dt;
             }
         }
     }
