@@ -243,15 +243,15 @@ pub fn summary(family: &Family, built: &[BuiltProbe]) -> String {
     }
     o.push_str("\n## Predicted response\n\n");
     o.push_str(&crate::emit::report::comparison_markdown(&predicted(built)));
-    o.push_str(&format!("\n{}\n", crate::cli::CAUTIONS));
+    o.push_str(&format!("\n{}\n", crate::emit::cautions::CAUTIONS));
     o
 }
 
 /// The predictions of built probes, for the report and the summary.
-pub fn predicted(built: &[BuiltProbe]) -> Vec<crate::cli::predict::Predicted> {
+pub fn predicted(built: &[BuiltProbe]) -> Vec<crate::physics::predicted::Predicted> {
     built
         .iter()
-        .map(|b| crate::cli::predict::Predicted {
+        .map(|b| crate::physics::predicted::Predicted {
             probe: b.probe.clone(),
             solved: b.solved.clone(),
             response: b.response.clone(),

@@ -1,9 +1,9 @@
 //! `loopwright predict`: what each probe of a spec will measure.
 
 use crate::error::Error;
-use crate::model::probe::{Probe, family_from_spec};
-use crate::physics::{PredictOptions, Response, predict, probe_factor_at};
-use crate::solve::probe::{SolvedProbe, solve};
+use crate::model::probe::family_from_spec;
+use crate::physics::{PredictOptions, predict};
+use crate::solve::probe::solve;
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
 use serde_json::{Value, json};
@@ -36,37 +36,8 @@ pub struct PredictArgs {
     pub json: bool,
 }
 
-/// The modelling assumptions, stated with every prediction.
-pub const ASSUMPTIONS: [&str; 7] = [
-    "quasi-static: the loop is electrically small below the upper usable frequency; no \
-     radiation. The electric field is ideally rejected by symmetry when it lies along the \
-     loop's axis (the residual is not predicted); \
-     across the axis the loop responds like a short dipole, 2ka·(E/H)/η0 relative to its \
-     magnetic response (the E-rejection, given for the worst orientation)",
-    "probe factor referred to a uniform field normal to the loop (equivalently the average over \
-     the effective loop), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
-    "shield: a perfect conductor whose outer current is solved over every copper layer of the \
-     ring (thin plates, equal flux linkage): it gives the effective area and the outer-loop \
-     inductance; via walls, the handle junction and (for non-round loops) the corners' own \
-     crowding are approximated",
-    "inner line: a shorted stub from the gap to the short (half the turn) and a matched run to \
-     the output, with conductor loss (smooth copper, Wheeler's rule) and dielectric loss",
-    "gap capacitance: 2-D field solution across the gap, the plates straight for a quarter \
-     turn each side; the trace crossing the gap left out",
-    "coupling and resolution: a thin trace over a perfect plane (image theory), loop plane \
-     vertical and containing the trace's axis, tip at the stated height",
-    "near-field readings locate and rank sources; they do not predict a compliance result",
-];
-
-/// A probe with its solved values and prediction.
-pub struct Predicted {
-    /// The probe.
-    pub probe: Probe,
-    /// Its solved values.
-    pub solved: SolvedProbe,
-    /// Its response.
-    pub response: Response,
-}
+pub use crate::emit::json::probe_json;
+pub use crate::physics::predicted::{ASSUMPTIONS, Predicted};
 
 /// Loads a spec and predicts every probe.
 pub fn predict_spec(
@@ -189,46 +160,6 @@ pub fn coupling_json(c: &FixtureCoupling) -> Value {
         "field_reference": "area-average Hx over the loop; I = k·V_inc/50 Ω, k from the fixture's launch model",
         "e_field_reference": format!("worst case: the line's electric field across the loop's axis, E/H = η0/√εeff = {:.1} Ω (estimate); dB re the magnetic response; centred in the usual orientation the probe ideally rejects it by symmetry", c.line_wave_ohm),
         "s21": c.s21.iter().zip(&c.line_current_db).zip(&c.e_rejection_db).map(|(((f, db, deg), k), e)| json!({"freq_hz": f, "db": db, "deg": deg, "line_current_db": k, "e_rejection_db": e})).collect::<Vec<_>>(),
-    })
-}
-
-/// The JSON object of one probe.
-pub fn probe_json(x: &Predicted) -> Value {
-    let r = &x.response;
-    let pf_at = |f: f64| probe_factor_at(&x.probe, &x.solved, r, f);
-    json!({
-        "name": x.probe.name,
-        "shape": x.probe.shape.kind(),
-        "size": x.probe.shape.size_text(),
-        "loop_area_mm2": r.area_m2 * 1e6,
-        "effective_area_mm2": r.area_eff_m2 * 1e6,
-        "outer_inductance_gmd_nh": r.l_outer_gmd * 1e9,
-        "gap_capacitance_pf": r.c_gap * 1e12,
-        "gap_resonance_hz": r.f_gap_res_hz,
-        "inductance_nh": r.l_total * 1e9,
-        "outer_inductance_nh": r.l_outer * 1e9,
-        "stub_inductance_nh": r.l_stub * 1e9,
-        "gmd_mm": r.gmd_m * 1e3,
-        "corner_hz": r.corner_hz,
-        "upper_hz": r.upper_hz,
-        "upper_rule": r.upper_rule,
-        "f_small_loop_hz": r.f_small_loop_hz,
-        "f_null_hz": r.f_null_hz,
-        "resolution_mm": r.resolution_m * 1e3,
-        "resolution_height_mm": r.options.height_mm,
-        "trace_height_mm": r.options.trace_h_mm,
-        "mutual_nh": r.mutual * 1e9,
-        "field_reference": "uniform H normal to the loop (the area-average over the effective loop), into 50 Ω",
-        "pf_10mhz_db_s_per_m": pf_at(10e6),
-        "pf_100mhz_db_s_per_m": pf_at(100e6),
-        "pf_1ghz_db_s_per_m": pf_at(1e9),
-        "upper_budget_hz": r.budget_hz,
-        "upper_budget_db": crate::physics::electric::BUDGET_DB,
-        "upper_quoted_limits": r.quoted_limits.iter().map(|(k, f)| json!({"rule": k, "hz": f})).collect::<Vec<_>>(),
-        "e_field_reference": "worst case: E across the loop's axis in its plane, wave impedance E/H = η0 (376.7 Ω); dB re the magnetic response; E along the axis is ideally rejected by symmetry (residual not predicted)",
-        "e_rejection_db": r.e_rejection.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
-        "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e})).collect::<Vec<_>>(),
-        "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
     })
 }
 

@@ -220,8 +220,8 @@ pub fn notes(
     let _ = writeln!(
         o,
         "\n## Cautions\n\n{}\n\n{}",
-        crate::cli::CAL_CAUTIONS,
-        crate::cli::CAUTIONS
+        crate::emit::cautions::CAL_CAUTIONS,
+        crate::emit::cautions::CAUTIONS
     );
     o
 }

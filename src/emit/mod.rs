@@ -2,9 +2,11 @@
 //! geometry of their own.
 
 pub mod calibration;
+pub mod cautions;
 pub mod excellon;
 pub mod gerber;
 pub mod job;
+pub mod json;
 pub mod notes;
 pub mod plot;
 pub mod report;

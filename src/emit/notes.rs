@@ -1,8 +1,8 @@
 //! Fabrication notes (Markdown) for one probe board.
 
 use crate::artwork::Artwork;
-use crate::cli::CAUTIONS;
 use crate::drc::Violation;
+use crate::emit::cautions::CAUTIONS;
 use crate::geom::Board;
 use crate::model::probe::Probe;
 use crate::model::stackup::Layer;
@@ -252,7 +252,7 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         r.mutual * 1e9
     );
     let _ = writeln!(o, "- Assumptions:");
-    for a in crate::cli::predict::ASSUMPTIONS {
+    for a in crate::physics::predicted::ASSUMPTIONS {
         let _ = writeln!(o, "  - {a}");
     }
     o
@@ -500,7 +500,7 @@ pub fn fixture_notes(
     let _ = writeln!(
         o,
         "\n## Cautions\n\n{}\n\n{CAUTIONS}",
-        crate::cli::CAL_CAUTIONS
+        crate::emit::cautions::CAL_CAUTIONS
     );
     o
 }

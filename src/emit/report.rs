@@ -3,9 +3,10 @@
 //! table, the modelling assumptions and the cautions.
 
 use super::plot::xml;
-use crate::cli::CAUTIONS;
-use crate::cli::predict::{ASSUMPTIONS, Predicted, probe_json};
+use crate::emit::cautions::CAUTIONS;
+use crate::emit::json::probe_json;
 use crate::model::stackup::{Layer, Stackup};
+use crate::physics::predicted::{ASSUMPTIONS, Predicted};
 use std::fmt::Write;
 
 /// Curve colours (our own palette).

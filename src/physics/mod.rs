@@ -14,6 +14,7 @@
 pub mod coupling;
 pub mod electric;
 pub mod elliptic2;
+pub mod predicted;
 pub mod shield;
 
 use crate::error::{Error, FieldError, check_range};

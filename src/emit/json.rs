@@ -1,0 +1,46 @@
+//! The JSON object of a predicted probe: `predict --json` prints it and the family report embeds
+//! it, so both carry the same numbers.
+
+use crate::physics::predicted::Predicted;
+use crate::physics::probe_factor_at;
+use serde_json::{Value, json};
+
+/// The JSON object of one probe.
+pub fn probe_json(x: &Predicted) -> Value {
+    let r = &x.response;
+    let pf_at = |f: f64| probe_factor_at(&x.probe, &x.solved, r, f);
+    json!({
+        "name": x.probe.name,
+        "shape": x.probe.shape.kind(),
+        "size": x.probe.shape.size_text(),
+        "loop_area_mm2": r.area_m2 * 1e6,
+        "effective_area_mm2": r.area_eff_m2 * 1e6,
+        "outer_inductance_gmd_nh": r.l_outer_gmd * 1e9,
+        "gap_capacitance_pf": r.c_gap * 1e12,
+        "gap_resonance_hz": r.f_gap_res_hz,
+        "inductance_nh": r.l_total * 1e9,
+        "outer_inductance_nh": r.l_outer * 1e9,
+        "stub_inductance_nh": r.l_stub * 1e9,
+        "gmd_mm": r.gmd_m * 1e3,
+        "corner_hz": r.corner_hz,
+        "upper_hz": r.upper_hz,
+        "upper_rule": r.upper_rule,
+        "f_small_loop_hz": r.f_small_loop_hz,
+        "f_null_hz": r.f_null_hz,
+        "resolution_mm": r.resolution_m * 1e3,
+        "resolution_height_mm": r.options.height_mm,
+        "trace_height_mm": r.options.trace_h_mm,
+        "mutual_nh": r.mutual * 1e9,
+        "field_reference": "uniform H normal to the loop (the area-average over the effective loop), into 50 Ω",
+        "pf_10mhz_db_s_per_m": pf_at(10e6),
+        "pf_100mhz_db_s_per_m": pf_at(100e6),
+        "pf_1ghz_db_s_per_m": pf_at(1e9),
+        "upper_budget_hz": r.budget_hz,
+        "upper_budget_db": crate::physics::electric::BUDGET_DB,
+        "upper_quoted_limits": r.quoted_limits.iter().map(|(k, f)| json!({"rule": k, "hz": f})).collect::<Vec<_>>(),
+        "e_field_reference": "worst case: E across the loop's axis in its plane, wave impedance E/H = η0 (376.7 Ω); dB re the magnetic response; E along the axis is ideally rejected by symmetry (residual not predicted)",
+        "e_rejection_db": r.e_rejection.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
+        "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e})).collect::<Vec<_>>(),
+        "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
+    })
+}

@@ -1,0 +1,38 @@
+//! A probe with its solved values and predicted response, and the modelling assumptions stated
+//! with every prediction (library side: the command line, the notes and the report share them).
+
+use crate::model::probe::Probe;
+use crate::physics::Response;
+use crate::solve::probe::SolvedProbe;
+
+/// The modelling assumptions, stated with every prediction.
+pub const ASSUMPTIONS: [&str; 7] = [
+    "quasi-static: the loop is electrically small below the upper usable frequency; no \
+     radiation. The electric field is ideally rejected by symmetry when it lies along the \
+     loop's axis (the residual is not predicted); \
+     across the axis the loop responds like a short dipole, 2ka·(E/H)/η0 relative to its \
+     magnetic response (the E-rejection, given for the worst orientation)",
+    "probe factor referred to a uniform field normal to the loop (equivalently the average over \
+     the effective loop), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
+    "shield: a perfect conductor whose outer current is solved over every copper layer of the \
+     ring (thin plates, equal flux linkage): it gives the effective area and the outer-loop \
+     inductance; via walls, the handle junction and (for non-round loops) the corners' own \
+     crowding are approximated",
+    "inner line: a shorted stub from the gap to the short (half the turn) and a matched run to \
+     the output, with conductor loss (smooth copper, Wheeler's rule) and dielectric loss",
+    "gap capacitance: 2-D field solution across the gap, the plates straight for a quarter \
+     turn each side; the trace crossing the gap left out",
+    "coupling and resolution: a thin trace over a perfect plane (image theory), loop plane \
+     vertical and containing the trace's axis, tip at the stated height",
+    "near-field readings locate and rank sources; they do not predict a compliance result",
+];
+
+/// A probe with its solved values and prediction.
+pub struct Predicted {
+    /// The probe.
+    pub probe: Probe,
+    /// Its solved values.
+    pub solved: SolvedProbe,
+    /// Its response.
+    pub response: Response,
+}
