@@ -24,6 +24,8 @@ pub struct BuiltProbe {
     pub artwork: Artwork,
     /// Design-rule violations (empty unless forced).
     pub violations: Vec<Violation>,
+    /// Warnings (a launch above its return-loss limit).
+    pub warnings: Vec<String>,
     /// Predicted response at the default prediction options.
     pub response: crate::physics::Response,
     /// Its files: (name inside the probe's folder, content).
@@ -33,6 +35,17 @@ pub struct BuiltProbe {
 /// Builds one probe in memory. `spec_copy` is the TOML written beside its files.
 pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe, Error> {
     let solved = solve(p)?;
+    let mut warnings = Vec::new();
+    if let Some(w) = launch_over_limit(p, &solved) {
+        if p.connector.refuse_above_limit {
+            return Err(Error::Invalid(vec![crate::error::FieldError::new(
+                "connector.refuse_above_limit",
+                "true",
+                w,
+            )]));
+        }
+        warnings.push(w);
+    }
     let board = build(p, &solved);
     let artwork = compose(p, &board);
     let violations = check(p, &solved, &board, &artwork);
@@ -74,9 +87,37 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
         board,
         artwork,
         violations,
+        warnings,
         response,
         files,
     })
+}
+
+/// The launch budget's verdict: a message when the launch's worst return loss up to f_max is
+/// above the connector's limit, with what would shorten the via's stub.
+pub fn launch_over_limit(p: &Probe, s: &SolvedProbe) -> Option<String> {
+    let (worst, at) = s.launch.worst_s11;
+    let limit = p.connector.return_loss_limit_db;
+    if worst.is_nan() || worst <= limit {
+        return None;
+    }
+    let n = p.stackup.copper_count();
+    let hint = if p.signal_layer + 1 < n {
+        format!(
+            "; the signal via's open stub runs from L{} to L{n}: a loop layer nearer the bottom \
+             (signal_layer = {}) shortens it",
+            p.signal_layer,
+            n - 1
+        )
+    } else {
+        String::new()
+    };
+    Some(format!(
+        "probe '{}': the connector launch's worst return loss up to f_max is {worst:.1} dB \
+         (at {:.0} MHz), above connector.return_loss_limit_db = {limit}{hint}",
+        p.name,
+        at / 1e6
+    ))
 }
 
 /// The files every board has, from its artwork: Gerber layers, drill files, the Gerber job file,

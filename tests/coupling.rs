@@ -157,9 +157,9 @@ fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
     let e = &r["probe_on_fixture"];
     let name = e["probe"].as_str().unwrap();
     // The tip-to-apex distance, measured on the emitted files: from the outline's top edge to
-    // the middle of the trace where it crosses the shield gap on the loop's layer (L2).
+    // the middle of the trace where it crosses the shield gap on the loop's layer (L3).
     let dir = common::demo_dir().join(name);
-    let l2 = common::read_gerber(&dir.join(format!("{name}-L2.gbr")));
+    let l2 = common::read_gerber(&dir.join(format!("{name}-L3.gbr")));
     let outline = common::read_gerber(&dir.join(format!("{name}-profile.gbr")));
     let top = outline
         .strokes

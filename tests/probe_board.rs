@@ -11,6 +11,10 @@ use std::path::PathBuf;
 const PROBES: [&str; 4] = ["FM-R20", "FM-R10", "FM-R5", "FM-T12x6"];
 /// Gap width in the demo spec, mm.
 const GAP: f64 = 0.4;
+/// The demo's loop layer (its spec's `signal_layer`).
+const SIGNAL: usize = 3;
+/// A shield layer the signal via passes without joining (between L1 and the loop's layer).
+const PASSED: usize = 2;
 /// 1 µm.
 const UM: f64 = 1e-3;
 
@@ -32,7 +36,7 @@ fn mirror(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
     out
 }
 
-/// The signal via: the via pad on the loop's layer with no land on L3 (it joins L1 and L2 only,
+/// The signal via: the via pad on the loop's layer with no land on L2 (it joins L1 and L3 only,
 /// with an isolated land on L4).
 fn signal_via(l2: &ReadGerber, l3: &ReadGerber) -> common::ReadFlash {
     l2.flashes
@@ -48,13 +52,13 @@ fn signal_via(l2: &ReadGerber, l3: &ReadGerber) -> common::ReadFlash {
         .expect("signal via")
 }
 
-/// Pitch limit from first principles: λ/20 at 3 GHz in the highest εr around L2 (4.5, the
+/// Pitch limit from first principles: λ/20 at 3 GHz in the highest εr around L3 (4.5, the
 /// core of the built-in stackup): λ = c/(f·√εr).
 fn pitch_limit() -> f64 {
     299_792_458.0 / (3e9 * 4.5_f64.sqrt()) * 1e3 / 20.0
 }
 
-/// The trace width the library solves for the demo's probes (L2, 50 Ω, set by the field
+/// The trace width the library solves for the demo's probes (L3, 50 Ω, set by the field
 /// solution of the loop arm's cross-section): the files must carry exactly this width.
 fn solved_width() -> f64 {
     let spec: loopwright::spec::probe::ProbeFileSpec =
@@ -71,7 +75,7 @@ fn gap_is_centred_on_every_shield_layer_and_the_coplanar_ground() {
         for n in 1..=4 {
             let c = copper(&layer(probe, n), |_| true);
             let top = c.bounding_rect().unwrap().max().y;
-            // A band just inside the ring's outer edge at the apex (clear of the trace on L2).
+            // A band just inside the ring's outer edge at the apex (clear of the trace on L3).
             let band = c.intersection(&rect(-3.0, top - 0.3, 3.0, top - 0.1));
             let (mut left, mut right) = (f64::NEG_INFINITY, f64::INFINITY);
             for p in &band.0 {
@@ -100,7 +104,7 @@ fn gap_is_centred_on_every_shield_layer_and_the_coplanar_ground() {
 #[test]
 fn shield_layers_are_mirror_symmetric() {
     for probe in PROBES {
-        for n in [1, 3, 4] {
+        for n in [1, 2, 4] {
             let c = copper(&layer(probe, n), |_| true);
             let asym = c.xor(&mirror(&c)).unsigned_area();
             assert!(
@@ -115,7 +119,7 @@ fn shield_layers_are_mirror_symmetric() {
 fn trace_crosses_the_gap_on_the_signal_layer_only() {
     let w = solved_width();
     for probe in PROBES {
-        let c = copper(&layer(probe, 2), |_| true);
+        let c = copper(&layer(probe, SIGNAL), |_| true);
         let top = c.bounding_rect().unwrap().max().y;
         let strip = c.intersection(&rect(-GAP / 2.0 + UM, top - 2.5, GAP / 2.0 - UM, top + 1.0));
         // Only the trace: one piece, as wide as the trace, crossing the whole gap.
@@ -236,7 +240,7 @@ fn every_via_has_pads_on_the_layers_it_joins_and_matches_the_drill_file() {
                 })
                 .map(|(i, _)| i + 1)
                 .collect();
-            if on == [1, 2, 4] {
+            if on == [1, SIGNAL, 4] {
                 // The transition from the loop's layer to the connector's, with an isolated
                 // land on the bottom layer.
                 signal_vias += 1;
@@ -252,7 +256,7 @@ fn every_via_has_pads_on_the_layers_it_joins_and_matches_the_drill_file() {
 fn trace_runs_from_the_signal_via_to_the_short_with_the_solved_width() {
     let w = solved_width();
     for probe in PROBES {
-        let g = layer(probe, 2);
+        let g = layer(probe, SIGNAL);
         let c = copper(&g, |_| true);
         // Remove everything at least 2r wide: what remains is the narrow trace.
         let r = w / 2.0 + 0.03;
@@ -266,7 +270,7 @@ fn trace_runs_from_the_signal_via_to_the_short_with_the_solved_width() {
             .clone();
         let trace = MultiPolygon(vec![trace]);
         // It starts at the signal via...
-        let signal = signal_via(&g, &layer(probe, 3));
+        let signal = signal_via(&g, &layer(probe, PASSED));
         let near = |m: &MultiPolygon<f64>, x: f64, y: f64, d: f64| {
             m.intersection(&rect(x - d, y - d, x + d, y + d))
                 .unsigned_area()
@@ -384,7 +388,8 @@ fn files_carry_their_x2_attributes() {
     for probe in PROBES {
         for (suffix, function) in [
             ("L1.gbr", "FileFunction,Copper,L1,Top,Plane"),
-            ("L2.gbr", "FileFunction,Copper,L2,Inr,Signal"),
+            ("L2.gbr", "FileFunction,Copper,L2,Inr,Plane"),
+            ("L3.gbr", "FileFunction,Copper,L3,Inr,Signal"),
             ("L4.gbr", "FileFunction,Copper,L4,Bot,Plane"),
             ("mask-top.gbr", "FileFunction,Soldermask,Top"),
             ("legend-top.gbr", "FileFunction,Legend,Top"),
@@ -407,7 +412,7 @@ fn files_carry_their_x2_attributes() {
             );
             assert!(g.file_attrs.iter().any(|a| a == "Part,Single"));
         }
-        let text = std::fs::read_to_string(file(probe, "L2.gbr")).unwrap();
+        let text = std::fs::read_to_string(file(probe, "L3.gbr")).unwrap();
         assert!(text.contains("%TO.N,PROBE*%"));
         // Every aperture definition is preceded by its function.
         let lines: Vec<&str> = text.lines().collect();
@@ -427,7 +432,7 @@ fn files_carry_their_x2_attributes() {
         assert_eq!(job["GeneralSpecs"]["LayerNumber"], 4);
         let notes = std::fs::read_to_string(file(probe, "fab-notes.md")).unwrap();
         assert!(
-            notes.contains("50 Ω ± 10 %, referenced to L1 and L3"),
+            notes.contains("50 Ω ± 10 %, referenced to L2 and L4"),
             "{probe}"
         );
         assert!(notes.contains("SAFETY"));
@@ -452,7 +457,7 @@ fn connector_centre_pad_is_linked_to_the_signal_via_and_isolated_from_ground() {
             c.0.iter()
                 .find(|p| p.intersects(&geo::Point::new(centre.x, centre.y)))
                 .expect("centre pad copper");
-        let signal = signal_via(&g, &layer(probe, 3));
+        let signal = signal_via(&g, &layer(probe, PASSED));
         assert!(
             piece.intersects(&geo::Point::new(signal.x, signal.y)),
             "{probe}: link broken"

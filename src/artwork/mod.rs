@@ -273,8 +273,39 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     // The anti-pad clears the via pad and the ends of both lines that meet it.
     let antipad_r = sv.pad.max(b.trace_width).max(b.top_width) / 2.0 + c;
     let antipad = MultiPolygon(vec![circle(sv.at, antipad_r)]);
+    // Between layer 1 and the loop's layer the via is a coaxial barrel, below it a stub: their
+    // antipads are the launch solve's.
+    let stub_antipad = MultiPolygon(vec![circle(sv.at, antipad_r.max(b.stub_antipad_d / 2.0))]);
+    let barrel_antipad = MultiPolygon(vec![circle(sv.at, antipad_r.max(b.barrel_antipad_d / 2.0))]);
     let sv_pad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0)]);
     let shield_cut = b.shield.difference(&gap);
+    // The relief under the connector's centre pad, on the layers the launch solve chose: the
+    // pad grown by its gap across, from beyond the board edge to the pad's inner end.
+    let relief = |n: usize| -> MultiPolygon<f64> {
+        let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
+        if !b.relief_layers.contains(&n) {
+            return MultiPolygon(vec![]);
+        }
+        // Where the signal via's antipad on this layer comes within a sliver of the relief's
+        // end, the relief runs on into the antipad (no copper sliver between them).
+        let r_n = if n > p.signal_layer {
+            antipad_r.max(b.stub_antipad_d / 2.0)
+        } else if n > 1 {
+            antipad_r.max(b.barrel_antipad_d / 2.0)
+        } else {
+            antipad_r
+        };
+        let pad_end = centre.at.y + centre.h / 2.0;
+        let web = sv.at.y - r_n - pad_end;
+        let sliver = 2.0 * p.fab.min_trace.max(p.fab.min_space);
+        let top = if web < sliver { sv.at.y } else { pad_end };
+        MultiPolygon(vec![rect(
+            centre.at.x - centre.w / 2.0 - b.pad_gap,
+            centre.at.y - centre.h / 2.0 - 1.0,
+            centre.at.x + centre.w / 2.0 + b.pad_gap,
+            top,
+        )])
+    };
     let mut copper = Vec::new();
     for n in 1..=n_layers {
         let side = Side::of(n, n_layers);
@@ -285,14 +316,16 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
             shield_cut
                 .difference(&channel)
                 .difference(&antipad)
+                .difference(&relief(n))
                 .union(&trace)
                 .union(&sv_pad)
         } else if n == 1 {
             let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
+            let g = b.pad_gap;
             let pad_clear = MultiPolygon(vec![rect(
-                centre.at.x - centre.w / 2.0 - c,
+                centre.at.x - centre.w / 2.0 - g,
                 centre.at.y - centre.h / 2.0 - 1.0,
-                centre.at.x + centre.w / 2.0 + c,
+                centre.at.x + centre.w / 2.0 + g,
                 centre.at.y + centre.h / 2.0 + c,
             )]);
             let channel = stroke_butt(&b.top_path, b.top_width / 2.0 + c);
@@ -303,8 +336,12 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
                 .difference(&pad_clear)
                 .union(&link)
                 .union(&sv_pad)
+        } else if n > p.signal_layer {
+            shield_cut.difference(&stub_antipad).difference(&relief(n))
         } else {
-            shield_cut.difference(&antipad)
+            shield_cut
+                .difference(&barrel_antipad)
+                .difference(&relief(n))
         };
         let mut flashes = Vec::new();
         for v in &b.vias {

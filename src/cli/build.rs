@@ -54,6 +54,9 @@ pub fn print_summary(out: &Path, built: &[BuiltProbe]) {
                 b.violations.len()
             );
         }
+        for w in &b.warnings {
+            eprintln!("loopwright: warning: {w}");
+        }
     }
 }
 

@@ -238,6 +238,26 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
             "mutual to the trace",
             format!("{:.3} nH", r.mutual * 1e9),
         );
+        if let Some(l) = &r.launch {
+            line(
+                &mut o,
+                "connector launch",
+                format!(
+                    "worst return loss {:.1} dB at {:.0} MHz up to f_max {:.0} MHz (limit {} dB); \
+                     probe factor changed by at most {:+.2} dB below the upper usable \
+                     frequency{} (not included above)",
+                    l.s11.worst_db,
+                    l.s11.worst_hz / 1e6,
+                    l.f_max_hz / 1e6,
+                    x.probe.connector.return_loss_limit_db,
+                    l.pf_below_upper.1,
+                    match l.pf_to_fmax {
+                        Some((_, d)) => format!(", {d:+.2} dB from there to f_max"),
+                        None => String::new(),
+                    }
+                ),
+            );
+        }
         o.push_str(
             "  probe factor (dB(S/m), uniform H, 50 Ω) and E-rejection (dB, worst case: E across \
              the axis, E/H = η0):\n",

@@ -9,6 +9,29 @@ use serde_json::{Value, json};
 pub fn probe_json(x: &Predicted) -> Value {
     let r = &x.response;
     let pf_at = |f: f64| probe_factor_at(&x.probe, &x.solved, r, f);
+    let launch = r.launch.as_ref().map(|l| {
+        let sl = &x.solved.launch;
+        json!({
+            "return_loss_worst_db": l.s11.worst_db,
+            "return_loss_worst_hz": l.s11.worst_hz,
+            "return_loss_limit_db": x.probe.connector.return_loss_limit_db,
+            "f_max_hz": l.f_max_hz,
+            "pf_effect_below_upper_db": l.pf_below_upper.1,
+            "pf_effect_below_upper_hz": l.pf_below_upper.0,
+            "pf_effect_to_fmax_db": l.pf_to_fmax.map(|x| x.1),
+            "pf_effect_to_fmax_hz": l.pf_to_fmax.map(|x| x.0),
+            "centre_pad_z0_ohms": sl.pad_z0,
+            "centre_pad_gap_mm": sl.pad_gap,
+            "relief_layers": sl.relieved_layers().collect::<Vec<_>>(),
+            "link_width_mm": sl.link_width,
+            "link_z0_ohms": sl.link_z0,
+            "link_method": sl.link_method.name(),
+            "antipad_mm": sl.antipad_d,
+            "barrel_antipad_mm": sl.barrel_antipad_d,
+            "stub_antipad_mm": sl.stub_antipad_d,
+            "s11_db": l.s11.s11_db.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
+        })
+    });
     json!({
         "name": x.probe.name,
         "shape": x.probe.shape.kind(),
@@ -42,5 +65,6 @@ pub fn probe_json(x: &Predicted) -> Value {
         "e_rejection_db": r.e_rejection.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
         "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
+        "launch": launch,
     })
 }

@@ -128,11 +128,39 @@ pub fn notes(
          impedance on its own process.",
         p.signal_layer, p.clearance
     );
+    let l = &s.launch;
+    let relief = if l.relief_depth == 0 {
+        "no relief below it".to_string()
+    } else {
+        let names: Vec<String> = l.relieved_layers().map(|n| format!("L{n}")).collect();
+        format!(
+            "the copper below it relieved on {} (the pad and its gap, from the edge to the pad's \
+             inner end), so it is referenced to L{}",
+            names.join(" and "),
+            l.relief_depth + 2
+        )
+    };
     let _ = writeln!(
         o,
-        "- Top-layer link from the connector to the signal via: w = {:.3} mm (grounded CPW, short; \
-         not impedance-critical).\n",
-        s.top_width
+        "- **Connector launch (part of the 50 Ω path).** Centre pad {} × {} mm with a gap of \
+         {:.3} mm to the top ground and {relief}: {:.2} Ω by the field solution. Top-layer link \
+         from the pad to the signal via: **L1, w = {:.3} mm** (grounded CPW over L2, gap {:.3} mm), \
+         {:.2} Ω by {}. Signal via antipads (sized for a {:.0} Ω coaxial via): {:.3} mm on L1 \
+        and L{}, {:.3} mm on the layers between, {:.3} mm below L{} (around the via's stub).\n",
+        crate::model::probe::num(p.connector.centre_pad_width),
+        crate::model::probe::num(p.connector.centre_pad_length),
+        l.pad_gap,
+        l.pad_z0,
+        l.link_width,
+        p.clearance,
+        l.link_z0,
+        l.link_method,
+        p.target_z0,
+        l.antipad_d,
+        p.signal_layer,
+        l.barrel_antipad_d,
+        l.stub_antipad_d,
+        p.signal_layer
     );
     o.push_str(&drill_table(art));
     let _ = writeln!(
@@ -242,6 +270,9 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
             ""
         }
     );
+    if let Some(l) = &r.launch {
+        o.push_str(&launch_line(l));
+    }
     let _ = writeln!(
         o,
         "- Resolution: {:.2} mm (−6 dB full width) across a trace {} mm over its plane, tip {} mm \
@@ -256,6 +287,36 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         let _ = writeln!(o, "  - {a}");
     }
     o
+}
+
+/// The launch budget's line in the predictions.
+pub fn launch_line(l: &crate::physics::launch::ProbeLaunch) -> String {
+    let lim = crate::solve::network::DEFAULT_LIMIT_DB;
+    let verdict = if l.s11.worst_db <= lim {
+        format!("meets the {lim} dB limit")
+    } else {
+        format!("**exceeds the {lim} dB limit**")
+    };
+    let after = match l.pf_to_fmax {
+        Some((f, d)) => format!(
+            ", and up to {:.2} dB (at {:.0} MHz) from there to f_max",
+            d,
+            f / 1e6
+        ),
+        None => String::new(),
+    };
+    format!(
+        "- Connector launch (pad, link, signal via and its stub, cascaded as line sections into \
+         the handle's {:.2} Ω line): worst return loss {:.1} dB at {:.0} MHz up to f_max = {} \
+         GHz ({verdict}); it changes the probe factor by at most {:.2} dB (at {:.0} MHz) below the \
+         upper usable frequency{after}. Not in the probe factor above.\n",
+        l.z_line,
+        l.s11.worst_db,
+        l.s11.worst_hz / 1e6,
+        crate::model::probe::num(l.f_max_hz / 1e9),
+        l.pf_below_upper.1,
+        l.pf_below_upper.0 / 1e6,
+    )
 }
 
 /// The stackup table (Markdown), top to bottom; `role` names what each copper layer carries.

@@ -33,6 +33,8 @@ pub enum ViaRole {
     Signal,
     /// Ground via around the signal via.
     SignalGround,
+    /// Ground via beside a connector ground pad, joining its pad to the shield planes.
+    PadGround,
 }
 
 /// A plated via (through all layers).
@@ -92,6 +94,15 @@ pub struct Board {
     pub top_width: f64,
     /// Clearance from traces to coplanar ground, mm.
     pub clearance: f64,
+    /// Gap from the connector's centre pad to the top-layer ground, mm.
+    pub pad_gap: f64,
+    /// Antipad diameter of the signal via's barrel, between layer 1 and the loop's layer, mm.
+    pub barrel_antipad_d: f64,
+    /// Antipad diameter of the signal via's stub below the loop's layer, mm.
+    pub stub_antipad_d: f64,
+    /// Copper layers with a relief under the centre pad (the pad grown by `pad_gap` across,
+    /// from the board edge to the pad's inner end).
+    pub relief_layers: Vec<usize>,
     /// Shield outline (ring ∪ handle) before the gap and clearances, pulled back from the edge.
     pub shield: MultiPolygon<f64>,
     /// The shield gap: x from −gap/2 to +gap/2, y from `gap_y.0` to `gap_y.1`.
@@ -222,7 +233,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let ring_bottom = bottom - hr;
     let edge_y = ring_bottom - p.handle.length;
     let cp_len = p.connector.centre_pad_length;
-    let sv = Point::new(0.0, edge_y + cp_len + c + pad / 2.0 + 0.3);
+    let sv = Point::new(0.0, edge_y + cp_len + s.launch.link_length);
     let jog_y = sv.y + pad / 2.0 + c + pad;
     let feed = vec![sv, Point::new(0.0, jog_y), Point::new(-e, jog_y + e), e_in];
     let mut trace_path = feed.clone();
@@ -343,16 +354,9 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     }
     placer.rows(shape, -f, ViaRole::InnerRow);
     placer.rows(shape, f, ViaRole::OuterRow);
-    // Ground vias around the signal via.
-    let antipad = pad.max(w).max(s.top_width) / 2.0 + c;
-    let rg = antipad + pad / 2.0 + VIA_WEB + crate::solve::probe::SIGNAL_RING_MARGIN;
-    for i in 0..8 {
-        let ang = std::f64::consts::FRAC_PI_8 + i as f64 * std::f64::consts::FRAC_PI_4;
-        placer.try_add(
-            sv + Vec2::new(ang.cos(), ang.sin()) * rg,
-            ViaRole::SignalGround,
-        );
-    }
+    // Ground vias around the signal via, then around the connector's ground pads.
+    placer.signal_ring(crate::solve::launch::signal_ring_radius(p, &s.launch));
+    placer.pad_vias();
     placer.fences(&feed);
     let vias = placer.vias;
 
@@ -375,6 +379,10 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         top_path,
         top_width: s.top_width,
         clearance: c,
+        pad_gap: s.launch.pad_gap,
+        barrel_antipad_d: s.launch.barrel_antipad_d,
+        stub_antipad_d: s.launch.stub_antipad_d,
+        relief_layers: s.launch.relieved_layers().collect(),
         shield,
         gap_y,
         gap: p.gap,
@@ -550,7 +558,8 @@ impl ViaPlacer<'_> {
         if dist_to_polyline(q, &self.top_path) < f_top - TOL {
             return false;
         }
-        let antipad = pad.max(self.s.trace_width).max(self.s.top_width) / 2.0 + c;
+        let l = &self.s.launch;
+        let antipad = l.antipad_d.max(l.barrel_antipad_d).max(l.stub_antipad_d) / 2.0;
         if (q - self.sv).hypot() < antipad + pad / 2.0 + VIA_WEB - TOL {
             return false;
         }
@@ -558,9 +567,15 @@ impl ViaPlacer<'_> {
         if q.y > 0.0 && q.x.abs() < self.p.gap / 2.0 + pad / 2.0 + 0.1 {
             return false;
         }
-        // Clear of the connector pads.
+        // Clear of the connector pads (the centre pad with its gap, which is also the
+        // relief's extent on the layers below).
         for pd in &self.pads {
-            if (q.x - pd.at.x).abs() < pd.w / 2.0 + pad / 2.0 + 0.1
+            let w = if pd.centre {
+                pd.w + 2.0 * self.s.launch.pad_gap
+            } else {
+                pd.w
+            };
+            if (q.x - pd.at.x).abs() < w / 2.0 + pad / 2.0 + 0.1
                 && (q.y - pd.at.y).abs() < pd.h / 2.0 + pad / 2.0 + 0.1
             {
                 return false;
@@ -602,6 +617,112 @@ impl ViaPlacer<'_> {
             true
         } else {
             false
+        }
+    }
+
+    /// The ring of ground vias around the signal via, radius `rg`, in mirror pairs: walking the
+    /// circle from straight down (towards the connector) to straight up, a via goes at the
+    /// first allowed place and then wherever it stands the fab's smallest pitch from the last
+    /// one, so the ring is as dense as the fab allows where the two lines leave it free (the
+    /// top link's channel below, the feed's channel above).
+    fn signal_ring(&mut self, rg: f64) {
+        let spacing = self.s.pitch_min + 1e-4;
+        let steps = 720;
+        let mut last: Option<Point> = None;
+        for i in 0..=steps {
+            let phi = std::f64::consts::PI * i as f64 / steps as f64;
+            let q = self.sv + Vec2::new(phi.sin(), -phi.cos()) * rg;
+            if last.is_some_and(|l| (q - l).hypot() < spacing) {
+                continue;
+            }
+            if q.x < 1e-9 {
+                // On the axis (straight down or up): one via, no mirror.
+                let q = Point::new(0.0, q.y);
+                if self.try_add(q, ViaRole::SignalGround) {
+                    last = Some(q);
+                }
+                continue;
+            }
+            if self.ok(q) && self.ok(mirror(q)) && 2.0 * q.x >= spacing {
+                self.try_add(q, ViaRole::SignalGround);
+                if self.try_add(mirror(q), ViaRole::SignalGround) {
+                    last = Some(q);
+                } else {
+                    self.vias.pop();
+                }
+            }
+        }
+    }
+
+    /// Ground vias around each connector ground pad: a walk round the pad's keep-out (the pad
+    /// grown by half a via pad and a 0.1 mm web), placing a via wherever it stands half the
+    /// stitching limit from the last one there, with its mirror image. Places outside the shield (towards the board
+    /// edge) or in a line's channel are refused by [`Self::ok`]. Top and bottom pads share
+    /// their place, so one walk serves both.
+    fn pad_vias(&mut self) {
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
+        let grow = self.p.vias.pad / 2.0 + 0.1 + 1e-3;
+        let mut seen: Vec<Point> = Vec::new();
+        // The right-hand pads; each via is placed with its mirror image (the board is
+        // symmetric about its axis).
+        let pads: Vec<Pad> = self
+            .pads
+            .iter()
+            .filter(|pd| !pd.centre && pd.at.x > 0.0)
+            .copied()
+            .collect();
+        for pd in pads {
+            if seen.iter().any(|q| (*q - pd.at).hypot() < 1e-9) {
+                continue;
+            }
+            seen.push(pd.at);
+            let (hx, hy) = (pd.w / 2.0 + grow, pd.h / 2.0 + grow);
+            // Anticlockwise from the inner end's middle (towards the loop).
+            let (x0, y0) = (pd.at.x, pd.at.y);
+            let ring = [
+                Point::new(x0, y0 + hy),
+                Point::new(x0 - hx, y0 + hy),
+                Point::new(x0 - hx, y0 - hy),
+                Point::new(x0 + hx, y0 - hy),
+                Point::new(x0 + hx, y0 + hy),
+                Point::new(x0, y0 + hy),
+            ];
+            let s = arclengths(&ring);
+            let total = *s.last().unwrap();
+            let mut first: Option<Point> = None;
+            let mut last: Option<Point> = None;
+            let mut t = 0.0;
+            while t < total {
+                let (q, _) = point_at(&ring, &s, t);
+                let far_enough = last.is_none_or(|l| (q - l).hypot() >= step)
+                    && first.is_none_or(|f| (q - f).hypot() >= step);
+                if far_enough && self.ok(q) && self.ok(mirror(q)) {
+                    self.try_add(q, ViaRole::PadGround);
+                    if self.try_add(mirror(q), ViaRole::PadGround) {
+                        first = first.or(Some(q));
+                        last = Some(q);
+                    } else {
+                        self.vias.pop();
+                    }
+                }
+                t += 0.01;
+            }
+        }
+        // A via left alone by a blocked stretch (farther than the stitching limit from every
+        // other via) stitches nothing: drop it with its mirror image, until none is left.
+        loop {
+            let lonely = self.vias.iter().position(|v| {
+                v.role == ViaRole::PadGround
+                    && self
+                        .vias
+                        .iter()
+                        .filter(|o| (o.at - v.at).hypot() > 1e-9)
+                        .all(|o| (o.at - v.at).hypot() > self.s.pitch_max)
+            });
+            let Some(i) = lonely else { break };
+            let q = self.vias.remove(i).at;
+            self.vias
+                .retain(|v| !(v.role == ViaRole::PadGround && (v.at - mirror(q)).hypot() < 1e-9));
         }
     }
 

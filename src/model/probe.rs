@@ -142,6 +142,10 @@ pub struct Connector {
     pub ground_pad_offset: f64,
     /// Ground-leg hole drill (0 = none).
     pub ground_hole_drill: f64,
+    /// Worst return loss the launch may have up to f_max, dB.
+    pub return_loss_limit_db: f64,
+    /// Refuse a build whose launch exceeds the limit (false: warn).
+    pub refuse_above_limit: bool,
 }
 
 impl Connector {
@@ -154,6 +158,8 @@ impl Connector {
         ground_pad_length: 3.0,
         ground_pad_offset: 2.5,
         ground_hole_drill: 0.0,
+        return_loss_limit_db: crate::solve::network::DEFAULT_LIMIT_DB,
+        refuse_above_limit: false,
     };
 }
 
@@ -416,6 +422,8 @@ pub fn connector_from_spec(
         ground_pad_length: c.ground_pad_length_mm.unwrap_or(g.ground_pad_length),
         ground_pad_offset: c.ground_pad_offset_mm.unwrap_or(g.ground_pad_offset),
         ground_hole_drill: c.ground_hole_drill_mm.unwrap_or(g.ground_hole_drill),
+        return_loss_limit_db: c.return_loss_limit_db.unwrap_or(g.return_loss_limit_db),
+        refuse_above_limit: c.refuse_above_limit.unwrap_or(g.refuse_above_limit),
     };
     for (f, v) in [
         ("centre_pad_width_mm", connector.centre_pad_width),
@@ -426,6 +434,13 @@ pub fn connector_from_spec(
     ] {
         check_positive(out, &format!("connector.{f}"), v, 20.0);
     }
+    check_range(
+        out,
+        "connector.return_loss_limit_db",
+        connector.return_loss_limit_db,
+        -60.0,
+        -3.0,
+    );
     check_range(
         out,
         "connector.ground_hole_drill_mm",

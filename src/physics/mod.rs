@@ -14,6 +14,7 @@
 pub mod coupling;
 pub mod electric;
 pub mod elliptic2;
+pub mod launch;
 pub mod predicted;
 pub mod shield;
 
@@ -328,6 +329,9 @@ pub struct Response {
     /// The shield's outer current grouped into filaments: (offset from the centreline m,
     /// height across the board from its mid-plane m, share of the current).
     pub filaments: Vec<(f64, f64, f64)>,
+    /// The connector launch's budget: its return loss to f_max and its effect on the probe
+    /// factor (module [`launch`]).
+    pub launch: Option<launch::ProbeLaunch>,
     /// The options used.
     pub options: PredictOptions,
 }
@@ -785,6 +789,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         mutual: 0.0,
         resolution_m: 0.0,
         filaments: filaments(&sc, 8),
+        launch: None,
         options: *o,
     };
     r.budget_hz = budget_frequency(&r, corner / 10.0, f_null);
@@ -835,6 +840,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         let v_per_a = w * r.mutual * r.gap_transfer(f).abs();
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
     }
+    r.launch = Some(launch::probe_launch(p, s, &r));
     Ok(r)
 }
 

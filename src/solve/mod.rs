@@ -3,5 +3,7 @@
 pub mod elliptic;
 pub mod fixture;
 pub mod impedance;
+pub mod launch;
+pub mod network;
 pub mod probe;
 pub mod roots;

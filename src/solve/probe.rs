@@ -32,6 +32,8 @@ pub struct SolvedProbe {
     pub top_width: f64,
     /// Z0 of that link, Ω.
     pub top_z0: f64,
+    /// The connector launch: centre-pad gap and relief, the link's solution.
+    pub launch: crate::solve::launch::SolvedLaunch,
     /// Largest allowed via pitch (λ/N in the dielectric at f_max), mm.
     pub pitch_max: f64,
     /// Smallest via pitch the fab allows: max(pad + space, drill + hole gap), mm.
@@ -237,22 +239,19 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     let handle_z0 = field_z(w, Section::Handle).ok();
     let line = Line::Stripline(Stripline { width: w, ..st });
 
-    // The top-layer link: grounded CPW on layer 1 with the probe's clearance.
-    let top_template = p
-        .stackup
-        .line_for_layer(1, Structure::Cpwg, 1.0, Some(p.clearance))?;
-    let (top_width, top_z0) = match solve_width(&top_template, None, p.target_z0, &limits) {
-        Ok((l, s)) => (
-            l.width().min(p.connector.centre_pad_width).min(p.vias.pad),
-            s.z0,
-        ),
-        Err(_) => (p.connector.centre_pad_width, f64::NAN),
-    };
+    // The connector launch: the centre pad's gap and relief, the top-layer link's width, the
+    // via stub's antipad.
+    let launch = crate::solve::launch::solve(
+        p,
+        w,
+        handle_z0.unwrap_or(solution.z0),
+        pitch_max.max(pitch_min),
+    )?;
+    let (top_width, top_z0) = (launch.link_width, launch.link_z0);
     // The signal via's ground neighbours cannot stand closer than its antipad, their pad and a
     // web allow (the ring the geometry places, `geom`); λ/N must reach them, or the via is
     // isolated beyond the stitching limit whatever the layout.
-    let antipad = p.vias.pad.max(w).max(top_width) / 2.0 + p.clearance;
-    let ring_r = antipad + p.vias.pad / 2.0 + VIA_WEB + SIGNAL_RING_MARGIN;
+    let ring_r = crate::solve::launch::signal_ring_radius(p, &launch);
     if pitch_max < ring_r && !errs.iter().any(|e| e.field == "via.pitch_n") {
         let f_ok = C0 / (er_max.sqrt() * p.vias.pitch_n * ring_r * 1e-3);
         errs.push(FieldError::new(
@@ -269,17 +268,27 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     let fence_offset = fence_offset(p, w);
     let ring_half_width = fence_offset + p.vias.pad / 2.0 + RING_RIM;
     let feed_offset = fence_offset / 2.0;
-    // The ring must leave an opening inside the loop.
-    let min_size = 2.0 * ring_half_width + 1.0;
+    // The ring must leave an opening inside the loop; a milled interior must leave a cut at
+    // least 1 mm across inside the copper-to-edge pull-back (our rule: a common small router).
+    let min_size = if p.mill_interior {
+        2.0 * (ring_half_width + p.fab.copper_to_edge) + 1.0
+    } else {
+        2.0 * ring_half_width + 1.0
+    };
     if p.shape.min_dimension() < min_size {
         errs.push(FieldError::new(
             "size_mm",
             crate::model::probe::num(p.shape.min_dimension()),
             format!(
                 "probe '{}' is too small for its shield ring ({:.3} mm wide with these vias and \
-                 clearances): the loop's smallest size must be at least {:.3} mm",
+                 clearances{}): the loop's smallest size must be at least {:.3} mm",
                 p.name,
                 2.0 * ring_half_width,
+                if p.mill_interior {
+                    ", and a milled interior inside the copper-to-edge pull-back"
+                } else {
+                    ""
+                },
                 min_size
             ),
         ));
@@ -301,6 +310,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         solution,
         top_width,
         top_z0,
+        launch,
         pitch_max,
         pitch_min,
         fence_offset,

@@ -99,6 +99,10 @@ pub struct ConnectorSpec {
     pub ground_pad_offset_mm: Option<f64>,
     /// Optional plated ground-leg holes through the ground pads: drill diameter, mm (0 = none).
     pub ground_hole_drill_mm: Option<f64>,
+    /// Worst return loss the launch may have up to f_max, dB (default −20).
+    pub return_loss_limit_db: Option<f64>,
+    /// Refuse to build a probe whose launch exceeds the limit (default false: warn).
+    pub refuse_above_limit: Option<bool>,
 }
 
 /// Fab capability overrides (mm).

@@ -1,0 +1,107 @@
+//! Writes the geometry of a demo probe's connector launch as JSON, for the full-wave
+//! reference script `tests/reference/launch_fdtd.py` (run outside CI).
+//!
+//! Run: `cargo run --release --example launch_geometry -- [probe] [stackup] [signal layer]
+//! > launch.json` (defaults: FM-R10 on the demo's own stackup and layer). Coordinates in mm, the board's own (origin
+//! at the loop centre, connector edge at `edge_y`).
+
+use loopwright::cli::demo::DEMO_SPEC;
+use loopwright::geom::ViaRole;
+use loopwright::model::stackup::Layer;
+use loopwright::pipeline::build_family;
+use loopwright::spec::parse_toml;
+use loopwright::spec::probe::ProbeFileSpec;
+use serde_json::json;
+use std::path::Path;
+
+fn main() {
+    let args: Vec<String> = std::env::args().collect();
+    let name = args.get(1).map(String::as_str).unwrap_or("FM-R10");
+    let mut text = DEMO_SPEC.to_string();
+    if let Some(st) = args.get(2) {
+        text = text.replace(
+            "stackup = \"common-4l-1.6\"",
+            &format!("stackup = \"{st}\""),
+        );
+    }
+    if let Some(n) = args.get(3) {
+        text = text.replace("signal_layer = 3", &format!("signal_layer = {n}"));
+    }
+    let spec: ProbeFileSpec = parse_toml(&text, "demo").unwrap();
+    let fam = build_family(&spec, Path::new("."), false).unwrap();
+    let b = fam
+        .probes
+        .iter()
+        .find(|b| b.probe.name == name)
+        .expect("probe name in the demo family");
+    let (p, s, board) = (&b.probe, &b.solved, &b.board);
+    let l = &s.launch;
+    let layers: Vec<_> = p
+        .stackup
+        .layers()
+        .iter()
+        .map(|x| match x {
+            Layer::Copper(c) => json!({"type": "copper", "name": c.name, "t": c.thickness_mm}),
+            Layer::Dielectric(d) => json!({
+                "type": "dielectric", "t": d.thickness_mm, "er": d.er, "tan_d": d.loss_tangent
+            }),
+        })
+        .collect();
+    let sv = board
+        .vias
+        .iter()
+        .find(|v| v.role == ViaRole::Signal)
+        .unwrap()
+        .at;
+    // Ground vias within 8 mm of the signal via (the launch's neighbourhood).
+    let grounds: Vec<_> = board
+        .vias
+        .iter()
+        .filter(|v| v.role != ViaRole::Signal && (v.at - sv).hypot() < 8.0)
+        .map(|v| json!([v.at.x, v.at.y]))
+        .collect();
+    let centre = board.pads.iter().find(|pd| pd.centre).unwrap();
+    let ground_pads: Vec<_> = board
+        .pads
+        .iter()
+        .filter(|pd| !pd.centre)
+        .map(|pd| json!({"x": pd.at.x, "y": pd.at.y, "w": pd.w, "h": pd.h, "top": pd.top}))
+        .collect();
+    use loopwright::solve::network::Section;
+    let sections: Vec<_> = loopwright::solve::launch::sections(p, l)
+        .iter()
+        .map(|x| match *x {
+            Section::Line { z0, eps_eff, len_m } => {
+                json!({"kind": "line", "z0": z0, "eps_eff": eps_eff, "len_m": len_m})
+            }
+            Section::OpenStub { z0, eps_eff, len_m } => {
+                json!({"kind": "open_stub", "z0": z0, "eps_eff": eps_eff, "len_m": len_m})
+            }
+        })
+        .collect();
+    let out = json!({
+        "probe": name,
+        "stackup": p.stackup.name(),
+        "layers": layers,
+        "signal_layer": p.signal_layer,
+        "edge_y": board.edge_y,
+        "copper_to_edge": p.fab.copper_to_edge,
+        "handle_width": p.handle.width,
+        "centre_pad": {"x": centre.at.x, "y": centre.at.y, "w": centre.w, "h": centre.h},
+        "ground_pads": ground_pads,
+        "pad_gap": l.pad_gap,
+        "relief_layers": board.relief_layers,
+        "link": {"width": l.link_width, "gap": p.clearance, "from_y": centre.at.y + centre.h / 2.0, "to_y": sv.y},
+        "signal_via": {"x": sv.x, "y": sv.y, "drill": p.vias.drill, "pad": p.vias.pad,
+                        "antipad_d": l.antipad_d, "barrel_antipad_d": l.barrel_antipad_d,
+                        "stub_antipad_d": l.stub_antipad_d},
+        "ground_via": {"drill": p.vias.drill, "pad": p.vias.pad},
+        "ground_vias": grounds,
+        "trace": {"width": s.trace_width, "gap": p.clearance, "fence_offset": s.fence_offset},
+        "z_line": s.handle_z0,
+        "model": {"sections": sections, "z_ref": 50.0, "z_load": s.handle_z0.unwrap_or(s.solution.z0),
+                  "worst_s11_db": l.worst_s11.0, "worst_s11_hz": l.worst_s11.1},
+        "f_max_hz": p.vias.f_max_hz,
+    });
+    println!("{}", serde_json::to_string_pretty(&out).unwrap());
+}

@@ -1,0 +1,106 @@
+//! What the connector launch does to the probe factor: the response model's circuit with the
+//! feed run written out as a lossy line and the launch (`solve::launch`, cascaded by
+//! `solve::network`) between it and the 50 Ω load.
+
+use super::{Cx, R_LOAD, Response};
+use crate::model::probe::Probe;
+use crate::solve::network::{Abcd, Budget, Section, budget, cascade};
+use crate::solve::probe::SolvedProbe;
+use std::f64::consts::PI;
+
+/// A line of characteristic impedance `z0` and propagation constant `g` (1/m), `len_m` long:
+/// its ABCD matrix (cosh γl, Z0·sinh γl; sinh γl/Z0, cosh γl).
+pub fn lossy_line(z0: f64, g: Cx, len_m: f64) -> Abcd {
+    let (a, b) = (g.re * len_m, g.im * len_m);
+    let ch = Cx::new(a.cosh() * b.cos(), a.sinh() * b.sin());
+    let sh = Cx::new(a.sinh() * b.cos(), a.cosh() * b.sin());
+    Abcd {
+        a: ch,
+        b: Cx::new(z0, 0.0) * sh,
+        c: sh / Cx::new(z0, 0.0),
+        d: ch,
+    }
+}
+
+/// V_out/V_oc of the probe at `f` Hz with the launch `sections` (connector side first) between
+/// the feed run and the 50 Ω load: the response model's circuit
+/// ([`Response::gap_transfer`]) with the run written out as a lossy line and the launch as its
+/// cascade. With no sections it is the ideal launch (the run straight into R_L).
+pub fn transfer_with(r: &Response, sections: &[Section], f: f64) -> Cx {
+    let w = 2.0 * PI * f;
+    let g = r.gamma(f);
+    // The launch seen from the line, the 50 Ω load on the connector's side: the sections are
+    // symmetric, so the reversed network is the sections in reverse order.
+    let rev: Vec<Section> = sections.iter().rev().copied().collect();
+    let load = cascade(&rev, f).z_in(Cx::new(R_LOAD, 0.0));
+    let run = lossy_line(r.z0_line, g, r.l1_m);
+    let z_run = run.z_in(load);
+    let stub = Cx::new(r.z0_line, 0.0) * Cx::new(g.re * r.l2_m, g.im * r.l2_m).tanh();
+    let z_in = z_run + stub;
+    let den =
+        z_in + Cx::new(0.0, w * r.l_outer) + z_in * Cx::new(-w * w * r.l_outer * r.c_gap, 0.0);
+    let i = Cx::new(1.0, 0.0) / den;
+    let v_run = i * z_run;
+    // V at the run's input = (A + B/R_L)·V_out for the whole chain, run then launch.
+    let m = run.then(cascade(sections, f));
+    v_run / (m.a + m.b / Cx::new(R_LOAD, 0.0))
+}
+
+/// What the launch does to the probe factor at `f` Hz, dB: 20·log10 of |V_out| with the
+/// launch over |V_out| with an ideal one (positive: the probe reads higher).
+pub fn pf_effect_db(r: &Response, sections: &[Section], f: f64) -> f64 {
+    20.0 * (transfer_with(r, sections, f).abs() / transfer_with(r, &[], f).abs()).log10()
+}
+
+/// A probe's launch budget.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ProbeLaunch {
+    /// The sections, connector side first.
+    pub sections: Vec<Section>,
+    /// The load the launch sees: the handle line's Z0, Ω.
+    pub z_line: f64,
+    /// |S11| at the connector (50 Ω) from 10 MHz to the probe's f_max.
+    pub s11: Budget,
+    /// The frequency the budget runs to (the stitching design frequency f_max), Hz.
+    pub f_max_hz: f64,
+    /// Largest |effect| on the probe factor from the corner/10 up to the upper usable
+    /// frequency, dB (signed), and where.
+    pub pf_below_upper: (f64, f64),
+    /// The same from the upper usable frequency to f_max, dB, and where (None when f_max
+    /// is below the upper frequency).
+    pub pf_to_fmax: Option<(f64, f64)>,
+}
+
+/// Points per decade of the launch scans.
+const PER_DECADE: f64 = 50.0;
+
+/// The largest |pf_effect_db| over a log scan from `lo` to `hi`: (Hz, dB).
+fn worst_effect(r: &Response, sections: &[Section], lo: f64, hi: f64) -> (f64, f64) {
+    let n = (((hi / lo).log10() * PER_DECADE).ceil() as usize).max(1);
+    (0..=n)
+        .map(|i| {
+            let f = lo * (hi / lo).powf(i as f64 / n as f64);
+            (f, pf_effect_db(r, sections, f))
+        })
+        .fold((lo, 0.0), |a, b| if b.1.abs() > a.1.abs() { b } else { a })
+}
+
+/// The probe's launch budget for its response `r`.
+pub fn probe_launch(p: &Probe, s: &SolvedProbe, r: &Response) -> ProbeLaunch {
+    let (sections, z_line) = crate::solve::launch::probe_sections(p, s);
+    let f_max = p.vias.f_max_hz;
+    let lo = 10e6_f64.min(f_max / 10.0);
+    let n = (((f_max / lo).log10() * PER_DECADE).ceil() as usize).max(2);
+    let s11 = budget(&sections, R_LOAD, z_line, lo, f_max, n);
+    let f0 = r.corner_hz / 10.0;
+    let pf_below_upper = worst_effect(r, &sections, f0, r.upper_hz);
+    let pf_to_fmax = (f_max > r.upper_hz).then(|| worst_effect(r, &sections, r.upper_hz, f_max));
+    ProbeLaunch {
+        sections,
+        z_line,
+        s11,
+        f_max_hz: f_max,
+        pf_below_upper,
+        pf_to_fmax,
+    }
+}

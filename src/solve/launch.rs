@@ -1,0 +1,369 @@
+//! The probe's connector launch, solved: the connector's centre pad with its top-layer gap and
+//! the ground relief under it, and the short top-layer link from the pad to the signal via.
+//!
+//! The centre pad's width is the connector's, so its impedance is set by what lies around it:
+//! the gap to the top-layer ground and how deep the ground beneath it is relieved (a cut-out
+//! in the copper layers under the pad, so that the pad is referenced to a plane further
+//! down). Each relief depth, shallowest first, is tried: the first where a gap between the
+//! fab's smallest space and the ground pads' inner edge reaches the target wins, and the gap
+//! is solved there by the 2-D field solver. When no depth reaches the target, the nearest
+//! (depth, gap) is taken and its impedance reported; the launch budget
+//! (`physics::launch`) then shows what that mismatch costs.
+//!
+//! The link is grounded CPW over layer 2 with the probe's clearance; its width comes from
+//! the conformal-mapping closed form (Ghione & Naldi) where that is inside its validity and
+//! the field solver agrees with it to 1 %, and from the field solver otherwise (on the demo's
+//! 1.6 mm build the closed form's 0.361 mm is 47.2 Ω by the field solver, 5.6 % apart):
+//! never another width.
+
+use crate::error::{Error, FieldError};
+use crate::field::{Boundary, Conductor, CrossSection, Dielectric};
+use crate::model::probe::Probe;
+use crate::model::probe::WidthFrom;
+use crate::model::stackup::Stackup;
+use crate::solve::impedance::{
+    Accuracy, Method, SolveLimits, Structure, analyse_with, solve_width,
+};
+use crate::solve::network::{Budget, Section, budget, coax_z0};
+use crate::solve::probe::{SIGNAL_RING_MARGIN, SolvedProbe, VIA_WEB};
+use std::f64::consts::PI;
+
+/// The solved launch.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SolvedLaunch {
+    /// Gap from the centre pad to the top-layer ground, mm.
+    pub pad_gap: f64,
+    /// Copper layers relieved under the centre pad (0: none; 1: layer 2; 2: layers 2 and 3…).
+    pub relief_depth: usize,
+    /// The pad's Z0 as laid out, Ω (field solution).
+    pub pad_z0: f64,
+    /// The pad's effective permittivity.
+    pub pad_eps_eff: f64,
+    /// Top-layer link width, mm.
+    pub link_width: f64,
+    /// Its Z0, Ω.
+    pub link_z0: f64,
+    /// Its effective permittivity.
+    pub link_eps_eff: f64,
+    /// What solved the link.
+    pub link_method: Method,
+    /// Antipad diameter of the signal via on layer 1 and down to the loop's layer, mm: the via
+    /// pad or the wider line end, plus the clearance on each side.
+    pub antipad_d: f64,
+    /// Antipad diameter on the copper layers between layer 1 and the loop's layer, around the
+    /// via's barrel, mm: sized so that the barrel is a coaxial line of the target Z0 in its
+    /// dielectrics (common practice for a controlled-impedance via), never below `antipad_d`
+    /// and never so large that the ring of ground vias would stand beyond the stitching limit.
+    pub barrel_antipad_d: f64,
+    /// The same below the loop's layer, around the via's stub (open at the bottom land).
+    pub stub_antipad_d: f64,
+    /// Worst |S11| of the launch up to f_max, dB, and where (Hz).
+    pub worst_s11: (f64, f64),
+    /// Length of the link beyond the centre pad's inner end to the signal via's centre, mm:
+    /// the clearance, half a via pad and 0.3 mm (our construction rule: the via's antipad
+    /// stays clear of the pad).
+    pub link_length: f64,
+}
+
+impl SolvedLaunch {
+    /// The copper layers relieved under the centre pad (2, 3, …).
+    pub fn relieved_layers(&self) -> std::ops::RangeInclusive<usize> {
+        2..=1 + self.relief_depth
+    }
+}
+
+/// The centre pad's cross-section: the pad on layer 1 with the top-layer ground `gap` from it
+/// out to the handle's copper edge, layers 2…1+depth relieved `gap` beyond the pad's edges,
+/// referenced to layer 2+depth (a plane across the handle), board edges at the handle's
+/// edges, air above (the pad is bare: no mask). Copper layers inside the stack are layers of
+/// the dielectric above them.
+pub fn pad_cross_section(p: &Probe, gap: f64, depth: usize) -> CrossSection {
+    let st: &Stackup = &p.stackup;
+    let wp = p.connector.centre_pad_width;
+    let half = p.handle.width / 2.0 - p.fab.copper_to_edge;
+    let reference = 2 + depth;
+    // Heights from the reference layer's top face up: walk from layer 1 down.
+    let mut layers_top_down: Vec<Dielectric> = Vec::new();
+    let mut relieved_at: Vec<(f64, f64)> = Vec::new(); // (depth from L1's bottom, thickness)
+    let mut d = 0.0;
+    for n in 1..reference {
+        let diel = st.dielectric_below(n).expect("validated stackup");
+        layers_top_down.push(Dielectric::new(diel.thickness_mm, diel.er));
+        d += diel.thickness_mm;
+        if n + 1 < reference {
+            let t = st.copper(n + 1).map(|c| c.thickness_mm).unwrap_or(0.0);
+            if t > 0.0 {
+                layers_top_down.push(Dielectric::new(t, diel.er));
+            }
+            relieved_at.push((d, t));
+            d += t;
+        }
+    }
+    let top = d;
+    let layers: Vec<Dielectric> = layers_top_down.into_iter().rev().collect();
+    let t1 = st.copper(1).map(|c| c.thickness_mm).unwrap_or(0.0);
+    let [left, right] = Conductor::coplanar_pair(0.0, top, wp, gap, half - wp / 2.0 - gap, t1);
+    let mut conductors = vec![
+        Conductor::finite_plane(-half, half, 0.0, 0.0),
+        Conductor::trace(0.0, top, wp, t1, 0.0),
+        left,
+        right,
+    ];
+    let r = wp / 2.0 + gap;
+    for (below_top, t) in relieved_at {
+        let y = top - below_top - t;
+        conductors.push(Conductor::ground(-half, -r, y, y + t));
+        conductors.push(Conductor::ground(r, half, y, y + t));
+    }
+    CrossSection {
+        layers,
+        board: Some([-p.handle.width / 2.0, p.handle.width / 2.0]),
+        conductors,
+        coat: None,
+        fences: vec![],
+        boundary: Boundary::Open,
+    }
+}
+
+/// The smallest and largest gap around the centre pad: the fab's smallest space, and the
+/// ground pads' inner edge (the ground pads are part of the top-layer ground).
+pub fn pad_gap_range(p: &Probe) -> (f64, f64) {
+    let c = &p.connector;
+    let g_max = c.ground_pad_offset - c.ground_pad_width / 2.0 - c.centre_pad_width / 2.0;
+    (p.fab.min_space, g_max.max(p.fab.min_space))
+}
+
+/// Solves the launch of a probe whose loop trace is `trace_width` mm wide, whose handle
+/// line is `z_line` Ω and whose stitching limit is `pitch_max` mm.
+pub fn solve(
+    p: &Probe,
+    trace_width: f64,
+    z_line: f64,
+    pitch_max: f64,
+) -> Result<SolvedLaunch, Error> {
+    let target = p.target_z0;
+    let acc = Accuracy::default();
+    let field_err = |what: &str, e: Error| {
+        Error::Invalid(vec![FieldError::new(
+            "connector",
+            format!(
+                "centre pad {} × {} mm",
+                p.connector.centre_pad_width, p.connector.centre_pad_length
+            ),
+            format!("the field solution of the {what} failed: {e}"),
+        )])
+    };
+    let z = |g: f64, depth: usize| -> Result<(f64, f64), Error> {
+        crate::field::solve(&pad_cross_section(p, g, depth), acc)
+            .map(|s| (s.z0_ohms, s.eps_eff))
+            .map_err(|e| field_err("connector's centre pad", e))
+    };
+    let (g_lo, g_hi) = pad_gap_range(p);
+    // Deepest relief: the reference must be a copper layer.
+    let max_depth = p.stackup.copper_count().saturating_sub(2);
+    let mut best: Option<(f64, usize, f64, f64)> = None; // (|Z − target|, depth, gap, …)
+    let mut chosen = None;
+    for depth in 0..=max_depth {
+        let (z_lo, _) = z(g_lo, depth)?;
+        let (z_hi, _) = z(g_hi, depth)?;
+        for (g, zz) in [(g_lo, z_lo), (g_hi, z_hi)] {
+            let miss = (zz - target).abs();
+            if best.is_none_or(|b| miss < b.0) {
+                best = Some((miss, depth, g, zz));
+            }
+        }
+        if z_lo <= target && target <= z_hi {
+            // Z rises with the gap: bisect in ln g (a handful of field solutions).
+            let (mut a, mut b) = (g_lo, g_hi);
+            for _ in 0..40 {
+                let m = (a * b).sqrt();
+                if z(m, depth)?.0 < target {
+                    a = m;
+                } else {
+                    b = m;
+                }
+                if b / a - 1.0 < 2e-3 {
+                    break;
+                }
+            }
+            chosen = Some((depth, (a * b).sqrt()));
+            break;
+        }
+    }
+    let (relief_depth, pad_gap) = match chosen {
+        Some(c) => c,
+        None => {
+            let (_, d, g, _) = best.expect("at least one depth is tried");
+            (d, g)
+        }
+    };
+    // Round the gap to a µm, as the artwork will.
+    let pad_gap = (pad_gap * 1e3).round() / 1e3;
+    let (pad_z0, pad_eps_eff) = z(pad_gap, relief_depth)?;
+
+    let template = p
+        .stackup
+        .line_for_layer(1, Structure::Cpwg, 1.0, Some(p.clearance))?;
+    let limits = SolveLimits {
+        min_trace_mm: p.fab.min_trace,
+        accuracy: acc,
+    };
+    let link_err = |e: Error| {
+        Error::Invalid(vec![FieldError::new(
+            "target_z0_ohms",
+            p.target_z0,
+            format!(
+                "the top-layer link (grounded CPW on layer 1, clearance {} mm) cannot be solved \
+                 for it: {e}",
+                p.clearance
+            ),
+        )])
+    };
+    // The closed form where it is valid and the field solution agrees with it to the probe's
+    // own threshold (`WidthFrom::AUTO_THRESHOLD`); the field solver otherwise.
+    let closed = solve_width(&template, None, target, &limits).ok();
+    let agrees = closed.as_ref().is_some_and(|(l, s)| {
+        analyse_with(l, Some(Method::Field), acc)
+            .is_ok_and(|f| (f.z0 / s.z0 - 1.0).abs() <= WidthFrom::AUTO_THRESHOLD)
+    });
+    let (line, sol) = match closed {
+        Some(x) if agrees => x,
+        _ => solve_width(&template, Some(Method::Field), target, &limits).map_err(link_err)?,
+    };
+    let link_width = line.width();
+    let antipad_d = p.vias.pad.max(trace_width).max(link_width) + 2.0 * p.clearance;
+    // The barrel's and the stub's antipads: a coaxial line of the target Z0, within what the
+    // ring allows (its radius must stay within the stitching limit λ/N of the signal via).
+    let d_max = 2.0 * (pitch_max - p.vias.pad / 2.0 - VIA_WEB - SIGNAL_RING_MARGIN);
+    let ((_, er_up), (_, er_down)) = via_stretches(p, p.signal_layer);
+    let coax_d = |er: f64| {
+        let d = p.vias.drill
+            * (target * er.sqrt() / (crate::physics::electric::ETA0 / (2.0 * PI))).exp();
+        d.min(d_max).max(antipad_d)
+    };
+    let mut launch = SolvedLaunch {
+        pad_gap,
+        relief_depth,
+        pad_z0,
+        pad_eps_eff,
+        link_width,
+        link_z0: sol.z0,
+        link_eps_eff: sol.eps_eff,
+        link_method: sol.method,
+        antipad_d,
+        barrel_antipad_d: coax_d(er_up),
+        stub_antipad_d: coax_d(er_down),
+        worst_s11: (f64::NAN, f64::NAN),
+        link_length: p.clearance + p.vias.pad / 2.0 + 0.3,
+    };
+    let b = budget_of(p, &launch, z_line);
+    launch.worst_s11 = (b.worst_db, b.worst_hz);
+    Ok(launch)
+}
+
+/// Heights in the stack, mm: (layer 1's top face to the middle of copper layer `n`, and from
+/// there to the bottom face), with the thickness-weighted mean εr of the dielectrics on each
+/// stretch.
+fn via_stretches(p: &Probe, n: usize) -> ((f64, f64), (f64, f64)) {
+    let st = &p.stackup;
+    let count = st.copper_count();
+    let mut above = (0.0, 0.0); // (length, Σ er·h)
+    let mut below = (0.0, 0.0);
+    for k in 1..=count {
+        let t = st.copper(k).map(|c| c.thickness_mm).unwrap_or(0.0);
+        let er_near = st
+            .dielectric_below(k.min(count - 1))
+            .map(|d| d.er)
+            .unwrap_or(1.0);
+        let acc = |x: &mut (f64, f64), h: f64| {
+            x.0 += h;
+            x.1 += er_near * h;
+        };
+        if k < n {
+            acc(&mut above, t);
+        } else if k == n {
+            acc(&mut above, t / 2.0);
+            acc(&mut below, t / 2.0);
+        } else {
+            acc(&mut below, t);
+        }
+        if let Some(d) = st.dielectric_below(k) {
+            let x = if k < n { &mut above } else { &mut below };
+            x.0 += d.thickness_mm;
+            x.1 += d.er * d.thickness_mm;
+        }
+    }
+    let mean = |x: (f64, f64)| (x.0, if x.0 > 0.0 { x.1 / x.0 } else { 1.0 });
+    (mean(above), mean(below))
+}
+
+/// The launch's sections, connector side first: the centre pad, the link, the signal via
+/// down to the loop's layer (coaxial, in its antipad) and the via's stub below it (an open
+/// shunt stub in the stub antipad).
+pub fn sections(p: &Probe, l: &SolvedLaunch) -> Vec<Section> {
+    let ((h_up, er_up), (h_down, er_down)) = via_stretches(p, p.signal_layer);
+    let mut v = vec![
+        Section::Line {
+            z0: l.pad_z0,
+            eps_eff: l.pad_eps_eff,
+            len_m: p.connector.centre_pad_length * 1e-3,
+        },
+        Section::Line {
+            z0: l.link_z0,
+            eps_eff: l.link_eps_eff,
+            len_m: l.link_length * 1e-3,
+        },
+        Section::Line {
+            // With no plane between layer 1 and the loop's layer the barrel sees the smaller
+            // antipad of those two layers.
+            z0: coax_z0(
+                p.vias.drill,
+                if p.signal_layer > 2 {
+                    l.barrel_antipad_d
+                } else {
+                    l.antipad_d
+                },
+                er_up,
+            ),
+            eps_eff: er_up,
+            len_m: h_up * 1e-3,
+        },
+    ];
+    if h_down > 0.0 {
+        v.push(Section::OpenStub {
+            z0: coax_z0(p.vias.drill, l.stub_antipad_d, er_down),
+            eps_eff: er_down,
+            len_m: h_down * 1e-3,
+        });
+    }
+    v
+}
+
+/// Points per decade of the launch's return-loss scan.
+pub const PER_DECADE: f64 = 50.0;
+
+/// The launch's |S11| (50 Ω at the connector, `z_line` beyond the via) from 10 MHz (or
+/// f_max/10) to the probe's f_max.
+pub fn budget_of(p: &Probe, l: &SolvedLaunch, z_line: f64) -> Budget {
+    let f_max = p.vias.f_max_hz;
+    let lo = 10e6_f64.min(f_max / 10.0);
+    let n = (((f_max / lo).log10() * PER_DECADE).ceil() as usize).max(2);
+    budget(&sections(p, l), R_REF, z_line, lo, f_max, n)
+}
+
+/// The connector's reference impedance, Ω.
+const R_REF: f64 = 50.0;
+
+/// The probe's launch sections and the load beyond them (the handle line's Z0, Ω).
+pub fn probe_sections(p: &Probe, s: &SolvedProbe) -> (Vec<Section>, f64) {
+    (sections(p, &s.launch), s.handle_z0.unwrap_or(s.solution.z0))
+}
+
+/// Radius of the ring of ground vias around the signal via: the larger antipad, a ground
+/// via's pad, a web and a margin, mm.
+pub fn signal_ring_radius(p: &Probe, l: &SolvedLaunch) -> f64 {
+    l.antipad_d.max(l.barrel_antipad_d).max(l.stub_antipad_d) / 2.0
+        + p.vias.pad / 2.0
+        + VIA_WEB
+        + SIGNAL_RING_MARGIN
+}
