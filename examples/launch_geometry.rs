@@ -2,7 +2,8 @@
 //! reference script `tests/reference/launch_fdtd.py` (run outside CI).
 //!
 //! Run: `cargo run --release --example launch_geometry -- [probe] [stackup] [signal layer]
-//! > launch.json` (defaults: FM-R10 on the demo's own stackup and layer). Coordinates in mm, the board's own (origin
+//! > launch.json` (defaults: FM-R10 on the demo's own stackup and layer), or
+//! `... -- fixture > fixture.json` for the demo fixture's ports and network. Coordinates in mm, the board's own (origin
 //! at the loop centre, connector edge at `edge_y`).
 
 use loopwright::cli::demo::DEMO_SPEC;
@@ -14,8 +15,107 @@ use loopwright::spec::probe::ProbeFileSpec;
 use serde_json::json;
 use std::path::Path;
 
+/// A stackup's layers as JSON, top first.
+fn layers_json(st: &loopwright::model::stackup::Stackup) -> Vec<serde_json::Value> {
+    st.layers()
+        .iter()
+        .map(|x| match x {
+            Layer::Copper(c) => json!({"type": "copper", "name": c.name, "t": c.thickness_mm}),
+            Layer::Dielectric(d) => json!({
+                "type": "dielectric", "t": d.thickness_mm, "er": d.er, "tan_d": d.loss_tangent
+            }),
+        })
+        .collect()
+}
+
+/// A section as JSON.
+fn section_json(x: &loopwright::solve::network::Section) -> serde_json::Value {
+    use loopwright::solve::network::Section;
+    match *x {
+        Section::Line { z0, eps_eff, len_m } => {
+            json!({"kind": "line", "z0": z0, "eps_eff": eps_eff, "len_m": len_m})
+        }
+        Section::OpenStub { z0, eps_eff, len_m } => {
+            json!({"kind": "open_stub", "z0": z0, "eps_eff": eps_eff, "len_m": len_m})
+        }
+        Section::LossyLine {
+            z0,
+            eps_eff,
+            len_m,
+            alpha_c_1ghz,
+            alpha_d_1ghz,
+        } => json!({"kind": "lossy_line", "z0": z0, "eps_eff": eps_eff, "len_m": len_m,
+                    "alpha_c_1ghz": alpha_c_1ghz, "alpha_d_1ghz": alpha_d_1ghz}),
+    }
+}
+
+/// The demo fixture's ports and network.
+fn fixture() {
+    use loopwright::cli::demo::DEMO_FIXTURE;
+    use loopwright::spec::fixture::FixtureFileSpec;
+    let spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, "fixture").unwrap();
+    let b = loopwright::pipeline::build_fixture(&spec, Path::new("."), false).unwrap();
+    let (f, s, board) = (&b.fixture, &b.solved, &b.board);
+    let layers = layers_json(&f.stackup);
+    let x_port = f.length / 2.0;
+    let vias: Vec<_> = board
+        .vias
+        .iter()
+        .filter(|v| v.at.x > x_port - 12.0)
+        .map(|v| json!([v.at.x, v.at.y]))
+        .collect();
+    let pads: Vec<_> = board
+        .pads
+        .iter()
+        .filter(|pd| pd.at.x > 0.0)
+        .map(|pd| json!({"x": pd.at.x, "y": pd.at.y, "w": pd.w, "h": pd.h, "top": pd.top, "centre": pd.centre}))
+        .collect();
+    let st = |v: &[loopwright::solve::fixture::Station]| -> Vec<serde_json::Value> {
+        v.iter()
+            .map(|x| {
+                json!({"x": x.x, "width": x.width, "gap": x.gap, "z0_conformal": x.z0,
+                             "z0_field": x.field_z0, "eps_field": x.field_eps_eff})
+            })
+            .collect()
+    };
+    let port_secs: Vec<_> = loopwright::solve::fixture::port_sections(f, &s.port, s.taper)
+        .iter()
+        .map(section_json)
+        .collect();
+    let all: Vec<_> = loopwright::physics::launch::fixture_sections(f, s)
+        .iter()
+        .map(section_json)
+        .collect();
+    let out = json!({
+        "fixture": f.name,
+        "stackup": f.stackup.name(),
+        "layers": layers,
+        "line_layer": f.line_layer,
+        "length": f.length,
+        "width": f.width,
+        "copper_to_edge": f.fab.copper_to_edge,
+        "mask": f.stackup.mask_top().map(|m| json!({"t": m.thickness_mm, "er": m.er})),
+        "line_width": s.width,
+        "keepout": s.keepout,
+        "taper": s.taper,
+        "pad_gap": s.port.pad_gap,
+        "stations": st(&s.port.stations),
+        "pads_port2": pads,
+        "vias_port2": vias,
+        "via": {"drill": f.vias.drill, "pad": f.vias.pad},
+        "model": {"port_sections": port_secs, "z_ref": 50.0, "z_load": s.port.line_field.0,
+                  "worst_s11_db": s.port_s11.0, "worst_s11_hz": s.port_s11.1,
+                  "fixture_sections": all},
+        "f_max_hz": f.vias.f_max_hz,
+    });
+    println!("{}", serde_json::to_string_pretty(&out).unwrap());
+}
+
 fn main() {
     let args: Vec<String> = std::env::args().collect();
+    if args.get(1).map(String::as_str) == Some("fixture") {
+        return fixture();
+    }
     let name = args.get(1).map(String::as_str).unwrap_or("FM-R10");
     let mut text = DEMO_SPEC.to_string();
     if let Some(st) = args.get(2) {
@@ -36,17 +136,7 @@ fn main() {
         .expect("probe name in the demo family");
     let (p, s, board) = (&b.probe, &b.solved, &b.board);
     let l = &s.launch;
-    let layers: Vec<_> = p
-        .stackup
-        .layers()
-        .iter()
-        .map(|x| match x {
-            Layer::Copper(c) => json!({"type": "copper", "name": c.name, "t": c.thickness_mm}),
-            Layer::Dielectric(d) => json!({
-                "type": "dielectric", "t": d.thickness_mm, "er": d.er, "tan_d": d.loss_tangent
-            }),
-        })
-        .collect();
+    let layers = layers_json(&p.stackup);
     let sv = board
         .vias
         .iter()
@@ -67,17 +157,9 @@ fn main() {
         .filter(|pd| !pd.centre)
         .map(|pd| json!({"x": pd.at.x, "y": pd.at.y, "w": pd.w, "h": pd.h, "top": pd.top}))
         .collect();
-    use loopwright::solve::network::Section;
     let sections: Vec<_> = loopwright::solve::launch::sections(p, l)
         .iter()
-        .map(|x| match *x {
-            Section::Line { z0, eps_eff, len_m } => {
-                json!({"kind": "line", "z0": z0, "eps_eff": eps_eff, "len_m": len_m})
-            }
-            Section::OpenStub { z0, eps_eff, len_m } => {
-                json!({"kind": "open_stub", "z0": z0, "eps_eff": eps_eff, "len_m": len_m})
-            }
-        })
+        .map(section_json)
         .collect();
     let out = json!({
         "probe": name,

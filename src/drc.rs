@@ -617,7 +617,8 @@ pub fn check_fixture(
             }
             // Keepout along the uniform line.
             let xu = b.uniform_half_length;
-            let band = MultiPolygon(vec![rect(-xu, -f.width, xu, f.width)]);
+            // Strictly inside the uniform part: its ends meet the tapers' own gaps.
+            let band = MultiPolygon(vec![rect(-xu + 1e-3, -f.width, xu - 1e-3, f.width)]);
             let ground = MultiPolygon(
                 copper
                     .0

@@ -394,6 +394,10 @@ pub fn build_fixture(
             solved.width
         ),
     );
+    files.push((
+        format!("{base_name}-predicted.s2p"),
+        crate::physics::launch::fixture_touchstone(&f, &solved).into_bytes(),
+    ));
     let mut spec_copy = spec.clone();
     let stackup_name = spec
         .fixture

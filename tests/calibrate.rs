@@ -30,9 +30,12 @@ struct Model {
     points: Vec<(f64, f64, f64, f64)>,
 }
 
-fn model() -> Model {
-    let probes = tmp_file("probes.toml", DEMO_SPEC);
-    let fixture = tmp_file("fixture.toml", DEMO_FIXTURE);
+/// The demo's FM-R10 as predicted, and the demo fixture solved.
+fn demo_probe_and_fixture() -> (
+    loopwright::physics::predicted::Predicted,
+    loopwright::model::fixture::Fixture,
+    loopwright::solve::fixture::SolvedFixture,
+) {
     let spec = parse_toml(DEMO_SPEC, "demo").unwrap();
     let all = loopwright::cli::predict::predict_spec(
         &spec,
@@ -44,6 +47,13 @@ fn model() -> Model {
     let fx_spec = parse_toml(DEMO_FIXTURE, "fixture").unwrap();
     let fx = loopwright::model::fixture::fixture_from_spec(&fx_spec, Path::new(".")).unwrap();
     let fs = loopwright::solve::fixture::solve(&fx).unwrap();
+    (x, fx, fs)
+}
+
+fn model() -> Model {
+    let probes = tmp_file("probes.toml", DEMO_SPEC);
+    let fixture = tmp_file("fixture.toml", DEMO_FIXTURE);
+    let (x, fx, fs) = demo_probe_and_fixture();
     let line = fs.test_line(50.0);
     let c = probe_coupling(&x.probe, &x.solved, &x.response, HEIGHT_MM, &line);
     let freqs: Vec<f64> = (0..25).map(|i| 1e6 * 10f64.powf(i as f64 / 8.0)).collect();
@@ -648,33 +658,31 @@ fn launch_refs() -> toml::Value {
     toml::from_str(&std::fs::read_to_string(p).unwrap()).unwrap()
 }
 
-/// (Hz, pf_db) of a calibrate run on the scikit-rf file with `extra` flags, and its stdout.
-fn calibrate_launch(m: &Model, name: &str, extra: &[&str]) -> (Vec<(f64, f64)>, String) {
-    let fx = tmp_file(
-        "launch-fixture.toml",
-        &format!("{DEMO_FIXTURE}\n[connector]\ncentre_pad_width_mm = 0.7457\n"),
-    );
-    let ts = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/launch_skrf.s3p");
-    let out = fx.with_file_name(format!("launch-{name}.cal"));
-    // At 1 mm (the helpers' HEIGHT_MM is the model files' height).
-    let mut args = vec!["--line-port", "1", "--probe-port", "3", "--height", "1"];
-    args.extend_from_slice(extra);
-    let o = calibrate_with(m, &ts, PROBE, &fx, &args, &out);
-    let stdout = String::from_utf8_lossy(&o.stdout).to_string();
-    assert!(
-        o.status.success(),
-        "{name}: {}",
-        String::from_utf8_lossy(&o.stderr)
-    );
-    (
-        read_pf(&out.join(format!("{PROBE}-pf-measured.csv"))),
-        stdout,
-    )
+/// The stated line's left half (port 1 to the middle) as sections.
+fn stated_sections(refs: &toml::Value) -> Vec<loopwright::solve::network::Section> {
+    refs["sections"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| {
+            let v: Vec<f64> = x
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(|y| y.as_float().unwrap())
+                .collect();
+            loopwright::solve::network::Section::Line {
+                len_m: v[0],
+                z0: v[1],
+                eps_eff: v[2],
+            }
+        })
+        .collect()
 }
 
 #[test]
 fn a_line_with_a_93_ohm_neck_round_trips_through_the_launch_aware_current() {
-    let m = model();
+    use loopwright::calib::calibrate::{LineCurrent, calibrate};
     let refs = launch_refs();
     let points = refs["point"].as_array().unwrap();
     let stated: Vec<(f64, f64, f64)> = points
@@ -687,37 +695,58 @@ fn a_line_with_a_93_ohm_neck_round_trips_through_the_launch_aware_current() {
             )
         })
         .collect();
-    // The launch model (the default) gives the stated probe factor back within 0.1 dB to 3 GHz.
-    let name = "launch";
-    let (pf, stdout) = calibrate_launch(&m, name, &[]);
-    assert!(stdout.contains("H_avg/I 7.827 A/m per A"), "{stdout}");
-    assert_eq!(pf.len(), stated.len());
-    let worst = pf
-        .iter()
-        .zip(&stated)
-        .map(|((f, v), (f0, want, _))| {
-            assert!((f / f0 - 1.0).abs() < 1e-9);
-            (v - want).abs()
-        })
-        .fold(0.0f64, f64::max);
-    assert!(worst < 0.1, "{name}: worst {worst} dB");
-    assert!(stdout.contains("launch model"), "{name}: {stdout}");
-    // The uniform-line assumption misses by the current scikit-rf computes, which reaches
-    // 2.78 dB below 3 GHz on this line.
-    let (pf, _) = calibrate_launch(
-        &m,
-        "uniform",
-        &["--uniform-line", "--accept-deviation", "10"],
-    );
+    // Our cascade of the stated sections gives scikit-rf's current under the probe (0.01 dB).
+    let secs = stated_sections(&refs);
+    let beyond: Vec<_> = secs.iter().rev().copied().collect();
+    let k = |f: f64| launch_current(&secs, &beyond, 50.0, f);
     let mut largest: f64 = 0.0;
-    for ((_, v), (f, want, k)) in pf.iter().zip(&stated) {
+    for (f, _, want) in &stated {
+        let got = 20.0 * k(*f).0.hypot(k(*f).1).log10();
         assert!(
-            ((v - want) + k).abs() < 0.02,
-            "{f} Hz: {v} − {want} vs −{k}"
+            (got - want).abs() < 0.01,
+            "{f} Hz: {got} vs scikit-rf {want}"
         );
-        largest = largest.max(k.abs());
+        largest = largest.max(want.abs());
     }
     assert!(largest > 2.5, "{largest}");
+    // Calibrating the scikit-rf 3-port file with that current gives the stated probe factor
+    // back within 0.1 dB to 3 GHz; with a uniform line's current it misses by scikit-rf's k.
+    let (x, _, fs) = demo_probe_and_fixture();
+    let ts = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/launch_skrf.s3p");
+    let text = std::fs::read_to_string(&ts).unwrap();
+    let net = loopwright::calib::touchstone::parse(&text, "launch_skrf.s3p", 3).unwrap();
+    let uniform = |_: f64| (1.0, 0.0);
+    for (name, ratio) in [
+        ("launch", &k as &dyn Fn(f64) -> (f64, f64)),
+        ("uniform", &uniform),
+    ] {
+        let cal = calibrate(
+            &x.probe,
+            &x.solved,
+            &x.response,
+            fs.test_line(50.0),
+            50.0,
+            &net,
+            "launch_skrf.s3p",
+            (1, 3),
+            1.0,
+            &LineCurrent {
+                source: name.into(),
+                ratio,
+            },
+        )
+        .unwrap();
+        assert_eq!(cal.points.len(), stated.len());
+        for (pt, (f0, want, kk)) in cal.points.iter().zip(&stated) {
+            assert!((pt.f / f0 - 1.0).abs() < 1e-9);
+            let miss = pt.pf_db - want;
+            if name == "launch" {
+                assert!(miss.abs() < 0.1, "{f0} Hz: {} vs {want}", pt.pf_db);
+            } else {
+                assert!((miss + kk).abs() < 0.02, "{f0} Hz: {miss} vs −{kk}");
+            }
+        }
+    }
 }
 
 #[test]

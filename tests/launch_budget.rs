@@ -5,36 +5,12 @@
 
 mod common;
 
-use common::{f, refs, section};
+use common::{f, floats, refs, section, sections_of};
 use loopwright::cli::demo::DEMO_SPEC;
 use loopwright::solve::network::{DEFAULT_LIMIT_DB, Section, s11_db};
 use loopwright::spec::parse_toml;
 use loopwright::spec::probe::ProbeFileSpec;
 use std::path::Path;
-
-fn sections_of(case: &toml::Value) -> Vec<Section> {
-    case["sections"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|s| {
-            let (z0, eps_eff, len_m) = (f(s, "z0"), f(s, "eps_eff"), f(s, "len_m"));
-            match s["kind"].as_str().unwrap() {
-                "line" => Section::Line { z0, eps_eff, len_m },
-                "open_stub" => Section::OpenStub { z0, eps_eff, len_m },
-                k => panic!("unknown section kind {k}"),
-            }
-        })
-        .collect()
-}
-
-fn floats(v: &toml::Value, k: &str) -> Vec<f64> {
-    v[k].as_array()
-        .unwrap()
-        .iter()
-        .map(|x| x.as_float().unwrap())
-        .collect()
-}
 
 /// scikit-rf 2.2.0 `DefinedGammaZ0.line` / `shunt_delay_open` cascade (calls in the script):
 /// our cascade's |S11| within 0.001 dB at every recorded frequency.

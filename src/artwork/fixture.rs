@@ -24,14 +24,9 @@ pub fn compose(f: &Fixture, b: &FixtureBoard) -> Artwork {
     let mut copper = Vec::new();
     for n in 1..=n_layers {
         let side = Side::of(n, n_layers);
-        let outer = side != Side::Inner;
         let is_line = n == f.line_layer;
         let mut regions = if is_line {
-            b.pour
-                .union(&MultiPolygon(vec![b.line.clone()]))
-                .union(&b.tabs)
-        } else if outer {
-            b.plane.union(&b.tabs)
+            b.pour.union(&MultiPolygon(vec![b.line.clone()]))
         } else {
             b.plane.clone()
         };

@@ -420,27 +420,27 @@ fn line_current(
 }
 
 /// The launch sections in words.
-fn launch_text(secs: &[crate::physics::coupling::Section]) -> String {
+fn launch_text(secs: &[crate::solve::network::Section]) -> String {
     let first = secs[0];
     let last = secs[secs.len() - 1];
     if secs.len() == 1 {
         return format!(
             "one uniform line of {:.1} Ω from each port to the probe",
-            first.z0
+            first.z0()
         );
     }
-    let taper: f64 = secs[1..secs.len() - 1].iter().map(|s| s.len).sum();
+    let taper: f64 = secs[1..secs.len() - 1].iter().map(|s| s.len_m()).sum();
     format!(
-        "from each port {:.2} mm of {:.1} Ω (connector pad and neck, εeff {:.3}), a {:.2} mm \
-         taper in {} steps, then {:.2} mm of {:.1} Ω (εeff {:.3}) to the probe; lossless \
-         sections, Z0 and εeff from the impedance engine",
-        first.len * 1e3,
-        first.z0,
-        first.eps_eff,
+        "from each port {:.2} mm of {:.1} Ω (connector pad in its coplanar gap, εeff {:.3}), a \
+         {:.2} mm constant-impedance taper in {} steps, then {:.2} mm of {:.1} Ω (εeff {:.3}) to \
+         the probe; lossless sections, Z0 and εeff from the 2-D field solver",
+        first.len_m() * 1e3,
+        first.z0(),
+        first.eps_eff(),
         taper * 1e3,
         secs.len() - 2,
-        last.len * 1e3,
-        last.z0,
-        last.eps_eff
+        last.len_m() * 1e3,
+        last.z0(),
+        last.eps_eff()
     )
 }

@@ -472,14 +472,62 @@ pub fn fixture_notes(
             o,
             "- 2-D field solution of the same cross-section: {z:.2} Ω ({:+.2} % from the \
              closed form).",
-            (s.solution.z0 / z - 1.0) * 100.0
+            (z / s.solution.z0 - 1.0) * 100.0
         );
     }
+    let port = &s.port;
+    let gaps = |v: &[crate::solve::fixture::Station]| {
+        v.iter()
+            .map(|st| format!("{:.2}/{:.3}", st.width, st.gap))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let (worst, at) = s.port_s11;
     let _ = writeln!(
         o,
-        "- Ground on L{} kept {:.3} mm from the line's edges along its uniform part. At each \
-         end the line narrows to the connector's centre pad ({:.3} mm) over {:.3} mm.",
-        f.line_layer, s.keepout, f.connector.centre_pad_width, s.taper
+        "- Ground on L{} kept {:.3} mm from the line's edges along its uniform part.\n\
+         - **Ports (part of the 50 Ω path).** The connector's centre pad ({} mm wide) sits in a \
+         {:.3} mm gap to the ground on L{} ({:.2} Ω, grounded CPW by the conformal closed form), \
+         which takes in the ground pads. From the pad's inner end the line widens linearly to \
+         {:.3} mm over {:.3} mm with the ground gap solved for {} Ω at each station (a \
+         constant-impedance coplanar taper, no narrow neck); width/gap in mm: {}. Ground vias \
+         follow the ground's edge beside the launch and ring the ground pads. By the 2-D field \
+         solver (with the mask) the pad is {:.2} Ω and the taper's steps {:.1}–{:.1} Ω into the \
+         line's {:.2} Ω; cascaded, the worst return loss per port up to {} GHz is {worst:.1} dB \
+         at {:.0} MHz ({}).",
+        f.line_layer,
+        s.keepout,
+        crate::model::probe::num(f.connector.centre_pad_width),
+        port.pad_gap,
+        f.line_layer,
+        port.pad_z0,
+        s.width,
+        s.taper,
+        crate::model::probe::num(f.target_z0),
+        gaps(&port.stations),
+        port.pad_field.0,
+        port.mid
+            .iter()
+            .map(|m| m.field_z0)
+            .fold(f64::INFINITY, f64::min),
+        port.mid
+            .iter()
+            .map(|m| m.field_z0)
+            .fold(f64::NEG_INFINITY, f64::max),
+        port.line_field.0,
+        crate::model::probe::num(f.vias.f_max_hz / 1e9),
+        at / 1e6,
+        if worst <= crate::solve::network::DEFAULT_LIMIT_DB {
+            format!(
+                "meets the {} dB limit",
+                crate::solve::network::DEFAULT_LIMIT_DB
+            )
+        } else {
+            format!(
+                "**exceeds the {} dB limit**",
+                crate::solve::network::DEFAULT_LIMIT_DB
+            )
+        }
     );
     let _ = writeln!(
         o,

@@ -1,14 +1,16 @@
-//! Geometry of the test-line fixture: the line (with its neck and tapers into the connectors'
-//! centre pads), the connector footprints at both ends, the ground pour on the line's layer, the
-//! planes, the stitching vias, the outline and the silkscreen marks.
+//! Geometry of the test-line fixture: the line (with its constant-impedance tapers into the
+//! connectors' centre pads), the connector footprints at both ends, the ground pour on the line's
+//! layer (brought beside the pads and tapers at the solved gaps, so that it takes in the ground
+//! pads), the planes, the ground vias (along the launch's ground edge, round the ground pads,
+//! and a stitching grid), the outline and the silkscreen marks.
 //!
 //! Coordinates: origin at the centre of the line, line along x (port 1 at −x, port 2 at +x),
 //! y across. The board is symmetric about both axes.
 
 use super::font;
-use super::{Pad, Via, ViaRole, circle, polygon, rect, round_buffer};
+use super::{Pad, Via, ViaRole, circle, polygon, rect};
 use crate::model::fixture::Fixture;
-use crate::solve::fixture::{SolvedFixture, neck_length, tab_length};
+use crate::solve::fixture::{SolvedFixture, port_zone_length};
 use crate::solve::probe::VIA_WEB;
 use geo::{BooleanOps, Contains, MultiPolygon, Polygon};
 use kurbo::{Affine, Point, Vec2};
@@ -16,12 +18,11 @@ use kurbo::{Affine, Point, Vec2};
 /// The board model of a fixture.
 #[derive(Debug, Clone)]
 pub struct FixtureBoard {
-    /// The line: neck, tapers and uniform part, reaching into both centre pads.
+    /// The line: the constant-impedance tapers and the uniform part, reaching into both centre
+    /// pads.
     pub line: Polygon<f64>,
     /// Connector pads: centre pads on the line's side, ground pads on both sides.
     pub pads: Vec<Pad>,
-    /// Ground tabs from each ground pad to its via, on both outer layers.
-    pub tabs: MultiPolygon<f64>,
     /// Ground copper on the line's layer (without tabs and pads).
     pub pour: MultiPolygon<f64>,
     /// Ground copper on every other layer.
@@ -38,33 +39,64 @@ pub struct FixtureBoard {
     pub bbox: (Point, Point),
 }
 
+/// The half-width profile (x ≥ 0 side) of the line and of its clearance, from the board's
+/// centre to the edge: (x, line half-width, clearance half-width) at each vertex.
+fn port_profile(f: &Fixture, s: &SolvedFixture) -> Vec<(f64, f64, f64)> {
+    let l2 = f.length / 2.0;
+    let con = &f.connector;
+    let cp_w = con.centre_pad_width;
+    let x_pad = l2 - con.centre_pad_length;
+    let port = &s.port;
+    let w = s.width;
+    let line_clear = w / 2.0 + s.keepout;
+    let mut v = vec![(0.0, w / 2.0, line_clear)];
+    if port.stations.is_empty() {
+        // The line is no wider than the pad: it runs on at its own width into the pad's gap.
+        v.push((x_pad, w / 2.0, line_clear));
+    } else {
+        // The uniform line's keepout up to the taper's end, then a step to the taper's gaps.
+        v.push((x_pad - s.taper, w / 2.0, line_clear));
+        for st in port.stations.iter().rev() {
+            v.push((x_pad - st.x, st.width / 2.0, st.width / 2.0 + st.gap));
+        }
+    }
+    v.push((x_pad, cp_w / 2.0, cp_w / 2.0 + port.pad_gap));
+    v.push((l2 + 1.0, cp_w / 2.0, cp_w / 2.0 + port.pad_gap));
+    v
+}
+
+/// A closed polygon symmetric about both axes from a half-width profile along +x.
+fn symmetric(profile: &[(f64, f64)]) -> Polygon<f64> {
+    let mut ring: Vec<Point> = profile
+        .iter()
+        .rev()
+        .map(|&(x, y)| Point::new(-x, y))
+        .collect();
+    ring.extend(profile.iter().map(|&(x, y)| Point::new(x, y)));
+    let lower: Vec<Point> = ring.iter().rev().map(|p| Point::new(p.x, -p.y)).collect();
+    ring.extend(lower);
+    ring.dedup();
+    polygon(&ring)
+}
+
 /// Builds the fixture board.
 pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
     let (l2, w2) = (f.length / 2.0, f.width / 2.0);
     let cte = f.fab.copper_to_edge;
     let con = &f.connector;
-    let w = s.width;
-    let wn = w.min(con.centre_pad_width);
     let x_pad = l2 - con.centre_pad_length;
-    let x_neck = x_pad - neck_length(f);
-    let x_uniform = x_neck - s.taper;
-    // The line's upper edge from −x to +x, then the lower edge back.
-    let right = [
-        Point::new(x_uniform, w / 2.0),
-        Point::new(x_neck, wn / 2.0),
-        Point::new(x_pad + con.centre_pad_length / 2.0, wn / 2.0),
-    ];
-    let mut ring: Vec<Point> = right.iter().rev().map(|p| Point::new(-p.x, p.y)).collect();
-    ring.extend(right);
-    let lower: Vec<Point> = ring.iter().rev().map(|p| Point::new(p.x, -p.y)).collect();
-    ring.extend(lower);
-    ring.dedup();
-    let line = polygon(&ring);
+    let x_uniform = x_pad - s.taper;
+    let profile = port_profile(f, s);
+    // The line reaches into both centre pads (to their middle); its clearance runs off the
+    // board's ends.
+    let line_profile: Vec<(f64, f64)> = profile
+        .iter()
+        .map(|&(x, hw, _)| (x.min(l2 - con.centre_pad_length / 2.0), hw))
+        .collect();
+    let line = symmetric(&line_profile);
+    let clearance = symmetric(&profile.iter().map(|&(x, _, c)| (x, c)).collect::<Vec<_>>());
 
     let mut pads = Vec::new();
-    let mut tabs = Vec::new();
-    let mut vias = Vec::new();
-    let tab = tab_length(f);
     for side in [-1.0, 1.0] {
         pads.push(Pad {
             at: Point::new(side * (l2 - con.centre_pad_length / 2.0), 0.0),
@@ -74,77 +106,122 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
             centre: true,
         });
         for yside in [-1.0, 1.0] {
-            let y = yside * con.ground_pad_offset;
-            let x_in = l2 - con.ground_pad_length;
             for top in [true, false] {
                 pads.push(Pad {
-                    at: Point::new(side * (l2 - con.ground_pad_length / 2.0), y),
+                    at: Point::new(
+                        side * (l2 - con.ground_pad_length / 2.0),
+                        yside * con.ground_pad_offset,
+                    ),
                     w: con.ground_pad_length,
                     h: con.ground_pad_width,
                     top,
                     centre: false,
                 });
             }
-            // The tab overlaps its pad by a hair so the two are one copper shape.
-            let (xa, xb) = (side * (x_in + 0.01), side * (x_in - tab));
-            tabs.push(rect(
-                xa.min(xb),
-                y - con.ground_pad_width / 2.0,
-                xa.max(xb),
-                y + con.ground_pad_width / 2.0,
-            ));
-            vias.push(Via {
-                at: Point::new(side * (x_in - tab / 2.0), y),
-                drill: f.vias.drill,
-                pad: f.vias.pad,
-                role: ViaRole::SignalGround,
-            });
         }
     }
-    let tabs = MultiPolygon(tabs);
     let inset = MultiPolygon(vec![rect(-l2 + cte, -w2 + cte, l2 - cte, w2 - cte)]);
-    let centre_pads = MultiPolygon(
-        pads.iter()
-            .filter(|p| p.centre)
-            .map(|p| {
-                rect(
-                    p.at.x - p.w / 2.0,
-                    -p.h / 2.0,
-                    p.at.x + p.w / 2.0,
-                    p.h / 2.0,
-                )
-            })
-            .collect(),
-    );
-    let signal = MultiPolygon(vec![line.clone()]).union(&centre_pads);
-    let keep = round_buffer(&signal, s.keepout);
-    let pour = inset.difference(&keep);
+    let pour = inset.difference(&MultiPolygon(vec![clearance]));
     let plane = inset;
 
-    // Stitching: a grid at the largest allowed pitch over the pour, aligned so that one row
-    // runs along the pour's edge by the line; a via is kept where its pad (plus the web) lies
-    // inside the pour and clear of every connector pad and tab.
-    let p = s.pitch_max.min(5.0) * 0.98;
-    let y0 = w / 2.0 + s.keepout + f.vias.pad / 2.0 + VIA_WEB;
+    // Vias, in this order: along the ground's edge beside the launch (both sides of the line,
+    // every half stitching limit: the coplanar ground there must be tied to the plane), round
+    // each ground pad (every half limit), then a grid at the largest allowed pitch over the rest
+    // of the pour. A via is kept where its pad (plus the web) lies inside the pour, clear of the
+    // connector pads and at least the fab's pitch from every other via.
     let r_keep = f.vias.pad / 2.0 + VIA_WEB;
+    let step = (0.5 * s.pitch_max).max(s.pitch_min + 1e-4);
+    let mut vias: Vec<Via> = Vec::new();
+    let ok = |q: Point, vias: &[Via]| {
+        pour.contains(&circle(q, r_keep))
+            && !pads.iter().any(|pd| {
+                let dx = ((q.x - pd.at.x).abs() - pd.w / 2.0).max(0.0);
+                let dy = ((q.y - pd.at.y).abs() - pd.h / 2.0).max(0.0);
+                dx.hypot(dy) < f.vias.pad / 2.0 + f.fab.min_space + f.fab.mask_expansion
+            })
+            && vias
+                .iter()
+                .all(|v| (v.at - q).hypot() >= s.pitch_min + 1e-5)
+    };
+    // Place along a path (right-hand, upper quadrant), with the three mirror images.
+    let walk = |path: &[Point], role: ViaRole, vias: &mut Vec<Via>| {
+        let lens = super::shape::arclengths(path);
+        let total = *lens.last().unwrap();
+        let mut last: Option<Point> = None;
+        let mut t = 0.0;
+        while t <= total {
+            let (q, _) = super::shape::point_at(path, &lens, t);
+            let images = [
+                q,
+                Point::new(-q.x, q.y),
+                Point::new(q.x, -q.y),
+                Point::new(-q.x, -q.y),
+            ];
+            if last.is_none_or(|l| (q - l).hypot() >= step)
+                && images.iter().all(|&p| ok(p, vias))
+                && (q.x.abs() > r_keep && q.y.abs() > r_keep)
+            {
+                for p in images {
+                    vias.push(Via {
+                        at: p,
+                        drill: f.vias.drill,
+                        pad: f.vias.pad,
+                        role,
+                    });
+                }
+                last = Some(q);
+            }
+            t += 0.01;
+        }
+    };
+    // The ground edge beside the launch, offset by a via's keep, from the board's end to a
+    // millimetre past the taper.
+    let off = r_keep + 0.01;
+    let edge: Vec<Point> = profile
+        .iter()
+        .rev()
+        .filter(|&&(x, _, _)| x >= x_uniform - 1.0)
+        .map(|&(x, _, c)| Point::new(x.min(l2 - cte), c + off))
+        .collect();
+    let mut edge_path = edge.clone();
+    edge_path.dedup_by(|a, b| (*a - *b).hypot() < 1e-9);
+    if edge_path.len() >= 2 {
+        walk(&edge_path, ViaRole::Fence, &mut vias);
+    }
+    // Round each ground pad (the upper right one; its images are the others).
+    let gp = pads
+        .iter()
+        .find(|pd| !pd.centre && pd.at.x > 0.0 && pd.at.y > 0.0)
+        .copied()
+        .expect("ground pads");
+    let grow = f.vias.pad / 2.0 + f.fab.min_space + f.fab.mask_expansion + 0.01;
+    let (hx, hy) = (gp.w / 2.0 + grow, gp.h / 2.0 + grow);
+    let around = [
+        Point::new(gp.at.x + hx, gp.at.y - hy),
+        Point::new(gp.at.x - hx, gp.at.y - hy),
+        Point::new(gp.at.x - hx, gp.at.y + hy),
+        Point::new(gp.at.x + hx, gp.at.y + hy),
+    ];
+    walk(&around, ViaRole::PadGround, &mut vias);
+
+    // Stitching: a grid at the largest allowed pitch over the pour, aligned so that one row
+    // runs along the pour's edge by the uniform line.
+    let p = s.pitch_max.min(5.0) * 0.98;
+    // (1 µm beyond the exact tangent, which the containment test may refuse by rounding.)
+    let y0 = s.width / 2.0 + s.keepout + f.vias.pad / 2.0 + VIA_WEB + 1e-3;
     let nx = ((l2 - cte) / p).floor() as i64;
     let ny = ((w2 - y0) / p).floor() as i64 + 1;
-    let blocked = |q: Point| {
-        pads.iter().any(|pd| {
-            let dx = ((q.x - pd.at.x).abs() - pd.w / 2.0).max(0.0);
-            let dy = ((q.y - pd.at.y).abs() - pd.h / 2.0).max(0.0);
-            dx.hypot(dy) < f.vias.pad / 2.0 + f.fab.min_space + f.fab.mask_expansion
-        }) || vias
-            .iter()
-            .any(|v| (v.at - q).hypot() < s.pitch_min.max(p * 0.5))
-    };
     let mut stitch = Vec::new();
     for j in 0..ny {
         for yside in [-1.0, 1.0] {
             let y = yside * (y0 + j as f64 * p);
             for i in -nx..=nx {
                 let q = Point::new(i as f64 * p, y);
-                if pour.contains(&circle(q, r_keep)) && !blocked(q) {
+                let crowded = vias
+                    .iter()
+                    .chain(stitch.iter())
+                    .any(|v: &Via| (v.at - q).hypot() < s.pitch_min + 1e-5);
+                if !crowded && ok(q, &[]) {
                     stitch.push(Via {
                         at: q,
                         drill: f.vias.drill,
@@ -162,7 +239,6 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
     FixtureBoard {
         line,
         pads,
-        tabs,
         pour,
         plane,
         vias,
@@ -211,7 +287,7 @@ fn silk(f: &Fixture, s: &SolvedFixture, x_uniform: f64) -> Vec<Vec<Point>> {
     };
     // Above the line: how to hold the probe; below: what the line is. Each text is shortened
     // to fit between the connectors' tabs.
-    let room = 2.0 * (f.length / 2.0 - f.connector.ground_pad_length - tab_length(f) - 1.0);
+    let room = 2.0 * (f.length / 2.0 - port_zone_length(f) - 1.0);
     let fit = |choices: &[String]| -> String {
         let mut t = choices
             .iter()
@@ -243,7 +319,7 @@ fn silk(f: &Fixture, s: &SolvedFixture, x_uniform: f64) -> Vec<Vec<Point>> {
     out.extend(text(&what, Point::new(0.0, -(y_in + 3.6 + h))));
     // Port names beside the connectors, clear of their pads and tabs.
     let con = &f.connector;
-    let x_port = f.length / 2.0 - con.ground_pad_length - tab_length(f) - f.fab.silk_to_pad;
+    let x_port = f.length / 2.0 - port_zone_length(f) - f.fab.silk_to_pad;
     let y_port = con.ground_pad_offset + con.ground_pad_width / 2.0 + f.fab.silk_to_pad + 0.5;
     for (name, side) in [("PORT 1", -1.0), ("PORT 2", 1.0)] {
         let tw = font::text_width(name, h);

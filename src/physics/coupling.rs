@@ -172,89 +172,29 @@ pub fn probe_s21(
 }
 
 // The line current under the probe when the line is not one uniform matched line: the
-// fixture's launches (connector pad, neck, taper) as cascaded lossless line sections. Complex
-// numbers are (re, im).
+// fixture's launches (connector pad in its coplanar gap, taper) as cascaded lossless line
+// sections (`solve::network`).
 
-type Cx = (f64, f64);
-
-fn c_add(a: Cx, b: Cx) -> Cx {
-    (a.0 + b.0, a.1 + b.1)
-}
-
-fn c_mul(a: Cx, b: Cx) -> Cx {
-    (a.0 * b.0 - a.1 * b.1, a.0 * b.1 + a.1 * b.0)
-}
-
-fn c_div(a: Cx, b: Cx) -> Cx {
-    let d = b.0 * b.0 + b.1 * b.1;
-    ((a.0 * b.0 + a.1 * b.1) / d, (a.1 * b.0 - a.0 * b.1) / d)
-}
-
-/// A 2×2 complex matrix, row-major: [[A, B], [C, D]].
-pub type Abcd = [Cx; 4];
-
-fn m_mul(x: &Abcd, y: &Abcd) -> Abcd {
-    [
-        c_add(c_mul(x[0], y[0]), c_mul(x[1], y[2])),
-        c_add(c_mul(x[0], y[1]), c_mul(x[1], y[3])),
-        c_add(c_mul(x[2], y[0]), c_mul(x[3], y[2])),
-        c_add(c_mul(x[2], y[1]), c_mul(x[3], y[3])),
-    ]
-}
-
-/// One uniform lossless line section.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Section {
-    /// Characteristic impedance, Ω.
-    pub z0: f64,
-    /// Effective permittivity.
-    pub eps_eff: f64,
-    /// Length, m.
-    pub len: f64,
-}
-
-/// ABCD matrix of sections in cascade at `f` Hz (the first section at the input):
-/// per section [[cos βl, jZ0 sin βl], [j sin βl/Z0, cos βl]], β = 2πf√εeff/c0 (Pozar,
-/// *Microwave Engineering*, table 4.1, from memory).
-pub fn cascade_abcd(sections: &[Section], f: f64) -> Abcd {
-    let mut m: Abcd = [(1.0, 0.0), (0.0, 0.0), (0.0, 0.0), (1.0, 0.0)];
-    for s in sections {
-        let bl = 2.0 * PI * f * s.eps_eff.sqrt() / super::C0 * s.len;
-        let (c, sn) = (bl.cos(), bl.sin());
-        let x: Abcd = [(c, 0.0), (0.0, s.z0 * sn), (0.0, sn / s.z0), (c, 0.0)];
-        m = m_mul(&m, &x);
-    }
-    m
-}
+use crate::solve::network::{Abcd, Section, cascade};
 
 /// The current into the load end of a two-port `left` driven by a source of `r_port` Ω (an
 /// incident wave V_inc) when that end sees `z_right` Ω, per V_inc/r_port: 1 (at some phase) for
 /// a matched uniform line. With V_s = 2·V_inc behind r_port and (V1, I1) = M·(V2, I2),
 /// V2 = Z·I2: I2 = 2·V_inc/(A·Z + B + r_port·(C·Z + D)).
-pub fn current_ratio(left: &Abcd, z_right: Cx, r_port: f64) -> Cx {
-    let [a, b, c, d] = *left;
-    let den = c_add(
-        c_add(c_mul(a, z_right), b),
-        c_mul((r_port, 0.0), c_add(c_mul(c, z_right), d)),
-    );
-    c_div((2.0 * r_port, 0.0), den)
-}
-
-/// Input impedance of a two-port `m` terminated in `z_load` Ω: (A·Z + B)/(C·Z + D).
-pub fn input_impedance(m: &Abcd, z_load: Cx) -> Cx {
-    c_div(
-        c_add(c_mul(m[0], z_load), m[1]),
-        c_add(c_mul(m[2], z_load), m[3]),
-    )
+pub fn current_ratio(left: &Abcd, z_right: super::Cx, r_port: f64) -> (f64, f64) {
+    use super::Cx;
+    let r = Cx::new(r_port, 0.0);
+    let den = left.a * z_right + left.b + r * (left.c * z_right + left.d);
+    let k = Cx::new(2.0 * r_port, 0.0) / den;
+    (k.re, k.im)
 }
 
 /// The line current at the probe per V_inc/r_port at `f` Hz, for a line made of `to_probe`
 /// (sections from the driven port to the probe position) and `beyond` (from the probe to the
-/// far end, terminated in r_port).
-pub fn launch_current(to_probe: &[Section], beyond: &[Section], r_port: f64, f: f64) -> Cx {
-    let right = cascade_abcd(beyond, f);
-    let z = input_impedance(&right, (r_port, 0.0));
-    current_ratio(&cascade_abcd(to_probe, f), z, r_port)
+/// far end, terminated in r_port). Complex result as (re, im).
+pub fn launch_current(to_probe: &[Section], beyond: &[Section], r_port: f64, f: f64) -> (f64, f64) {
+    let z = cascade(beyond, f).z_in(super::Cx::new(r_port, 0.0));
+    current_ratio(&cascade(to_probe, f), z, r_port)
 }
 
 #[cfg(test)]
@@ -263,10 +203,10 @@ mod launch_tests {
 
     #[test]
     fn a_matched_uniform_line_carries_v_over_r_everywhere() {
-        let s = |len| Section {
+        let s = |len_m| Section::Line {
             z0: 50.0,
             eps_eff: 3.3,
-            len,
+            len_m,
         };
         for f in [1e6, 1e9, 3e9] {
             let k = launch_current(&[s(0.03)], &[s(0.05)], 50.0, f);
@@ -282,10 +222,10 @@ mod launch_tests {
         let f = 1e9;
         let eps: f64 = 4.0;
         let lq = super::super::C0 / (4.0 * f * eps.sqrt());
-        let q = Section {
+        let q = Section::Line {
             z0: 100.0,
             eps_eff: eps,
-            len: lq,
+            len_m: lq,
         };
         let k = launch_current(&[q], &[], 50.0, f);
         let g: f64 = 150.0 / 250.0;

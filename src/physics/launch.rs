@@ -4,23 +4,9 @@
 
 use super::{Cx, R_LOAD, Response};
 use crate::model::probe::Probe;
-use crate::solve::network::{Abcd, Budget, Section, budget, cascade};
+use crate::solve::network::{Budget, Section, budget, cascade, lossy_line};
 use crate::solve::probe::SolvedProbe;
 use std::f64::consts::PI;
-
-/// A line of characteristic impedance `z0` and propagation constant `g` (1/m), `len_m` long:
-/// its ABCD matrix (cosh γl, Z0·sinh γl; sinh γl/Z0, cosh γl).
-pub fn lossy_line(z0: f64, g: Cx, len_m: f64) -> Abcd {
-    let (a, b) = (g.re * len_m, g.im * len_m);
-    let ch = Cx::new(a.cosh() * b.cos(), a.sinh() * b.sin());
-    let sh = Cx::new(a.sinh() * b.cos(), a.cosh() * b.sin());
-    Abcd {
-        a: ch,
-        b: Cx::new(z0, 0.0) * sh,
-        c: sh / Cx::new(z0, 0.0),
-        d: ch,
-    }
-}
 
 /// V_out/V_oc of the probe at `f` Hz with the launch `sections` (connector side first) between
 /// the feed run and the 50 Ω load: the response model's circuit
@@ -103,4 +89,88 @@ pub fn probe_launch(p: &Probe, s: &SolvedProbe, r: &Response) -> ProbeLaunch {
         pf_below_upper,
         pf_to_fmax,
     }
+}
+
+/// The fixture's predicted network from port 1's board edge to port 2's: port 1's launch, the
+/// uniform line with its loss, port 2's launch (the mirror image). The uniform line's loss
+/// per metre: conductor α_c = R_s/(Z0·w) (the wide-strip approximation, R_s of smooth copper)
+/// and dielectric α_d = k0·εr·(εeff − 1)·tan δ/(2·√εeff·(εr − 1)) (both as in Pozar,
+/// *Microwave Engineering*, §3.8, from memory); the launches are lossless.
+pub fn fixture_sections(
+    f: &crate::model::fixture::Fixture,
+    s: &crate::solve::fixture::SolvedFixture,
+) -> Vec<Section> {
+    let port = crate::solve::fixture::port_sections(f, &s.port, s.taper);
+    let (z0, eps_eff) = s.port.line_field;
+    let n = f.stackup.copper_count();
+    let diel = if f.on_top() {
+        f.stackup.dielectric_below(1)
+    } else {
+        f.stackup.dielectric_below(n - 1)
+    };
+    let (er, tan_d) = diel.map(|d| (d.er, d.loss_tangent)).unwrap_or((1.0, 0.0));
+    let k0_1ghz = 2.0 * PI * 1e9 / super::C0;
+    let alpha_d_1ghz = if er > 1.0 {
+        k0_1ghz * er * (eps_eff - 1.0) * tan_d / (2.0 * eps_eff.sqrt() * (er - 1.0))
+    } else {
+        0.0
+    };
+    let alpha_c_1ghz = super::surface_resistance(1e9) / (z0 * s.width * 1e-3);
+    let uniform = f.length - 2.0 * (f.connector.centre_pad_length + s.taper);
+    let mut v = port.clone();
+    v.push(Section::LossyLine {
+        z0,
+        eps_eff,
+        len_m: uniform * 1e-3,
+        alpha_c_1ghz,
+        alpha_d_1ghz,
+    });
+    v.extend(port.iter().rev().copied());
+    v
+}
+
+/// Frequencies of the fixture's predicted Touchstone file: 201 points, log-spaced from 1 MHz
+/// to the fixture's f_max.
+pub fn fixture_freqs(f_max: f64) -> Vec<f64> {
+    let (lo, n) = (1e6_f64.min(f_max / 10.0), 200);
+    (0..=n)
+        .map(|i| lo * (f_max / lo).powf(i as f64 / n as f64))
+        .collect()
+}
+
+/// The fixture's predicted S-parameters as Touchstone v1 text (`# Hz S DB R 50`, S11 S21 S12
+/// S22 as dB and degrees), with a header that says what the model holds.
+pub fn fixture_touchstone(
+    f: &crate::model::fixture::Fixture,
+    s: &crate::solve::fixture::SolvedFixture,
+) -> String {
+    use std::fmt::Write;
+    let secs = fixture_sections(f, s);
+    let mut o = String::new();
+    let _ = writeln!(
+        o,
+        "! Predicted S-parameters of fixture '{}' (loopwright {}), port 1 and port 2 at the\n\
+         ! board's edges (the connectors are not included), 50 ohm reference. Model: each\n\
+         ! port's launch (centre pad in its coplanar gap, constant-impedance taper) as line\n\
+         ! sections with 2-D field-solver Z0 and eeff; the uniform line with conductor and\n\
+         ! dielectric loss (docs/formulas.md section 10). Compare a thru measurement with it\n\
+         ! after removing the connectors' and cables' own effect.",
+        f.name,
+        env!("CARGO_PKG_VERSION")
+    );
+    let _ = writeln!(o, "# Hz S DB R 50");
+    for fr in fixture_freqs(f.vias.f_max_hz) {
+        let sp = crate::solve::network::s_params(&cascade(&secs, fr), R_LOAD);
+        let _ = write!(o, "{:.0}", fr);
+        for x in sp {
+            let _ = write!(
+                o,
+                " {:.6} {:.4}",
+                20.0 * x.abs().log10(),
+                x.im.atan2(x.re).to_degrees()
+            );
+        }
+        let _ = writeln!(o);
+    }
+    o
 }

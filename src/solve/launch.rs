@@ -141,6 +141,46 @@ pub fn solve(
     z_line: f64,
     pitch_max: f64,
 ) -> Result<SolvedLaunch, Error> {
+    // The probes of a family share their launch: solve each distinct one once per process.
+    // The key is every input the solve reads, exactly (floats by their bits).
+    static CACHE: std::sync::Mutex<Vec<(String, SolvedLaunch)>> = std::sync::Mutex::new(Vec::new());
+    let key = format!(
+        "{:?}|{:?}|{:?}|{}|{}|{}|{}|{}|{}|{}|{}|{}|{}",
+        p.stackup,
+        p.connector,
+        p.fab,
+        p.handle.width.to_bits(),
+        p.target_z0.to_bits(),
+        p.clearance.to_bits(),
+        p.signal_layer,
+        p.vias.drill.to_bits(),
+        p.vias.pad.to_bits(),
+        p.vias.f_max_hz.to_bits(),
+        trace_width.to_bits(),
+        z_line.to_bits(),
+        pitch_max.to_bits()
+    );
+    if let Ok(c) = CACHE.lock()
+        && let Some((_, l)) = c.iter().find(|(k, _)| *k == key)
+    {
+        return Ok(l.clone());
+    }
+    let l = solve_uncached(p, trace_width, z_line, pitch_max)?;
+    if let Ok(mut c) = CACHE.lock() {
+        if c.len() >= 64 {
+            c.remove(0);
+        }
+        c.push((key, l.clone()));
+    }
+    Ok(l)
+}
+
+fn solve_uncached(
+    p: &Probe,
+    trace_width: f64,
+    z_line: f64,
+    pitch_max: f64,
+) -> Result<SolvedLaunch, Error> {
     let target = p.target_z0;
     let acc = Accuracy::default();
     let field_err = |what: &str, e: Error| {

@@ -18,6 +18,19 @@ pub const DEFAULT_LIMIT_DB: f64 = -20.0;
 /// One section of a launch.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Section {
+    /// A series line with loss: α(f) = α_c(1 GHz)·√(f/1 GHz) + α_d(1 GHz)·(f/1 GHz), Np/m.
+    LossyLine {
+        /// Characteristic impedance, Ω.
+        z0: f64,
+        /// Effective relative permittivity.
+        eps_eff: f64,
+        /// Length, m.
+        len_m: f64,
+        /// Conductor loss at 1 GHz, Np/m.
+        alpha_c_1ghz: f64,
+        /// Dielectric loss at 1 GHz, Np/m.
+        alpha_d_1ghz: f64,
+    },
     /// A series line: Z0 (Ω), effective permittivity, length (m).
     Line {
         /// Characteristic impedance, Ω.
@@ -77,6 +90,33 @@ impl Abcd {
 }
 
 impl Section {
+    /// Its characteristic impedance, Ω.
+    pub fn z0(&self) -> f64 {
+        match *self {
+            Section::Line { z0, .. }
+            | Section::OpenStub { z0, .. }
+            | Section::LossyLine { z0, .. } => z0,
+        }
+    }
+
+    /// Its effective permittivity.
+    pub fn eps_eff(&self) -> f64 {
+        match *self {
+            Section::Line { eps_eff, .. }
+            | Section::OpenStub { eps_eff, .. }
+            | Section::LossyLine { eps_eff, .. } => eps_eff,
+        }
+    }
+
+    /// Its length, m.
+    pub fn len_m(&self) -> f64 {
+        match *self {
+            Section::Line { len_m, .. }
+            | Section::OpenStub { len_m, .. }
+            | Section::LossyLine { len_m, .. } => len_m,
+        }
+    }
+
     /// Its ABCD matrix at `f` Hz (lossless).
     pub fn abcd(&self, f: f64) -> Abcd {
         match *self {
@@ -89,6 +129,18 @@ impl Section {
                     c: Cx::new(0.0, s / z0),
                     d: Cx::new(c, 0.0),
                 }
+            }
+            Section::LossyLine {
+                z0,
+                eps_eff,
+                len_m,
+                alpha_c_1ghz,
+                alpha_d_1ghz,
+            } => {
+                let u = f / 1e9;
+                let alpha = alpha_c_1ghz * u.sqrt() + alpha_d_1ghz * u;
+                let beta = 2.0 * PI * f * eps_eff.sqrt() / C0;
+                lossy_line(z0, Cx::new(alpha, beta), len_m)
             }
             Section::OpenStub { z0, eps_eff, len_m } => {
                 // Y = j·tan(βl)/Z0.
@@ -162,4 +214,38 @@ pub fn budget(
         worst_hz,
         s11_db: pts,
     }
+}
+
+/// A line of characteristic impedance `z0` and propagation constant `g` (1/m), `len_m` long:
+/// its ABCD matrix (cosh γl, Z0·sinh γl; sinh γl/Z0, cosh γl).
+pub fn lossy_line(z0: f64, g: Cx, len_m: f64) -> Abcd {
+    let (a, b) = (g.re * len_m, g.im * len_m);
+    let ch = Cx::new(a.cosh() * b.cos(), a.sinh() * b.sin());
+    let sh = Cx::new(a.sinh() * b.cos(), a.cosh() * b.sin());
+    Abcd {
+        a: ch,
+        b: Cx::new(z0, 0.0) * sh,
+        c: sh / Cx::new(z0, 0.0),
+        d: ch,
+    }
+}
+
+/// The S-parameters [S11, S21, S12, S22] of a two-port with ABCD `m`, both ports referenced to
+/// `z_ref` Ω: Δ = A + B/Z + C·Z + D, S11 = (A + B/Z − C·Z − D)/Δ, S21 = 2/Δ,
+/// S12 = 2(AD − BC)/Δ, S22 = (−A + B/Z − C·Z + D)/Δ (the textbook conversion, e.g. Pozar,
+/// *Microwave Engineering*, table 4.2, from memory; checked against scikit-rf by
+/// `tests/fixture_network.rs`).
+pub fn s_params(m: &Abcd, z_ref: f64) -> [Cx; 4] {
+    let z = Cx::new(z_ref, 0.0);
+    let bz = m.b / z;
+    let cz = m.c * z;
+    let neg = |x: Cx| Cx::new(-x.re, -x.im);
+    let delta = m.a + bz + cz + m.d;
+    let two = Cx::new(2.0, 0.0);
+    [
+        (m.a + bz + neg(cz) + neg(m.d)) / delta,
+        two / delta,
+        two * (m.a * m.d + neg(m.b * m.c)) / delta,
+        (neg(m.a) + bz + neg(cz) + m.d) / delta,
+    ]
 }

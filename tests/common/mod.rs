@@ -369,3 +369,38 @@ pub fn demo_probe_and_line(
         .test_line(50.0);
     (x, line)
 }
+
+/// A float array field of a reference entry.
+pub fn floats(v: &toml::Value, k: &str) -> Vec<f64> {
+    v[k].as_array()
+        .unwrap_or_else(|| panic!("{k} in {v:?}"))
+        .iter()
+        .map(|x| x.as_float().unwrap())
+        .collect()
+}
+
+/// The `sections` array of a reference entry as network sections (`kind` = line, open_stub
+/// or lossy_line, with z0, eps_eff, len_m and, for loss, alpha_c_1ghz and alpha_d_1ghz).
+pub fn sections_of(v: &toml::Value) -> Vec<loopwright::solve::network::Section> {
+    use loopwright::solve::network::Section;
+    v["sections"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| {
+            let (z0, eps_eff, len_m) = (f(s, "z0"), f(s, "eps_eff"), f(s, "len_m"));
+            match s["kind"].as_str().unwrap() {
+                "line" => Section::Line { z0, eps_eff, len_m },
+                "open_stub" => Section::OpenStub { z0, eps_eff, len_m },
+                "lossy_line" => Section::LossyLine {
+                    z0,
+                    eps_eff,
+                    len_m,
+                    alpha_c_1ghz: f(s, "alpha_c_1ghz"),
+                    alpha_d_1ghz: f(s, "alpha_d_1ghz"),
+                },
+                k => panic!("unknown section kind {k}"),
+            }
+        })
+        .collect()
+}

@@ -10,11 +10,12 @@
 # - 3.827 mm at 93.0 ohm (the connector's centre pad, 3.0 mm, and the neck, 0.827 mm),
 # - a 3.110778 mm taper as 24 equal steps (Z0 and eps_eff per step below),
 # - 33.062222 mm of 50.0 ohm line to the middle.
-# These are the numbers of the demo fixture with its connector's centre pad 0.7457 mm wide (the
-# fixture tests/calibrate.rs builds for this check) as loopwright's impedance engine gives them:
+# These were the numbers of the demo fixture with its connector's centre pad 0.7457 mm wide
+# before the fixture's ports got their coplanar gap and constant-impedance taper (no neck now);
+# the line is kept as a stated mismatched line for the check, as the impedance engine gave them:
 #     loopwright impedance --stackup common-2l-1.6 --layer 1 --width W --method cover-blend --json
 # for W = the pad width, each taper step's mid width and the line's width; they are stated here
-# as inputs, and the Rust test checks that loopwright's launch model uses the same numbers.
+# as inputs; the Rust test cascades the same sections with loopwright's network code.
 # The probe: H_avg/I = 7.8268 A/m per A (the demo's 10 mm loop 1 mm above the demo line, the
 # coupling loopwright's own tests check against scipy) and a stated probe factor, the small-loop
 # formula PF = -20*log10(w*mu0*A*R/|R + j*w*L|) with A = pi*(5 mm)^2, L = 16 nH, R = 50 ohm.
@@ -87,7 +88,10 @@ print("# k = S21_left*(1 - Gamma_right)/(1 - S22_left*Gamma_right), Gamma_right 
 print("# net.write_touchstone('tests/data/launch_skrf', form='ri') for the 3-port file.")
 print(f"neck_ohms = {NECK[1]}\nneck_mm = {NECK[0] * 1e3}\ntaper_mm = {TAPER_LEN * 1e3}")
 print(f"taper_ohms = {[z for z, _ in TAPER]}\nuniform_mm = {UNIFORM[0] * 1e3}")
-print(f"h_avg_per_amp = {H_AVG_PER_AMP}\n")
+print(f"h_avg_per_amp = {H_AVG_PER_AMP}")
+# The left half's sections as stated (length m, Z0 ohm, eps_eff), port 1 first.
+halves = [NECK] + [(TAPER_LEN / len(TAPER), z, e) for z, e in TAPER] + [UNIFORM]
+print("sections = [" + ", ".join(f"[{l!r}, {z!r}, {e!r}]" for l, z, e in halves) + "]\n")
 for f, kk, p in zip(freq.f, k, pf_lin):
     print(f"[[point]]\nfreq_hz = {float(f)!r}\ncurrent_db = {float(20 * np.log10(abs(kk)))!r}\n"
           f"pf_db_s_per_m = {float(20 * np.log10(p))!r}\n")
