@@ -517,46 +517,140 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
             });
         }
     }
-    // Stitching rows along the loop: consecutive vias no farther apart than the limit, except
-    // across the gap and where the feed and the short cross the outer row.
-    for off in [-s.fence_offset, s.fence_offset] {
-        let half = crate::geom::shape::left_half(&p.shape, off);
-        let sl = crate::geom::shape::arclengths(&half);
-        let mut on_row: Vec<f64> = vias
+    out.extend(row_coverage(p, s, b, &vias));
+    out
+}
+
+/// A required row of vias: the path it follows and the stretches it may leave bare.
+struct Row {
+    name: String,
+    path: Vec<Point>,
+    /// Arc positions where the row's coverage starts and ends.
+    from: f64,
+    to: f64,
+    /// Points near which a gap is allowed (within the given radius): where the feed and the
+    /// short cross the outer row, where the signal via's ring takes over from a fence.
+    exempt: Vec<(Point, f64)>,
+}
+
+/// Via coverage of every required row from end to end: the loop's inner and outer stitching
+/// rows on both halves (from the gap's keep-out to the axis) and the fences on both sides of
+/// the feed (from the signal via to where the feed joins the loop). The vias standing on a row
+/// (within 0.01 mm of its path) are taken in order along it, with the row's two ends, and no
+/// step between consecutive ones may exceed the pitch limit (straight-line distance), outside
+/// the row's stated exemptions. A row with missing vias, or none, fails: the nearest-neighbour
+/// rule alone cannot see them.
+fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Violation> {
+    use crate::geom::shape::{arclengths, gap_keep, left_half, point_at, row_start};
+    let mut rows = Vec::new();
+    let keep = gap_keep(p.gap, p.vias.pad);
+    let feed_zone = s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
+    for (off, label) in [(-s.fence_offset, "inner"), (s.fence_offset, "outer")] {
+        let half = left_half(&p.shape, off);
+        let sl = arclengths(&half);
+        let from = row_start(&half, &sl, keep);
+        let to = *sl.last().unwrap();
+        let bottom = *half.last().unwrap();
+        for (side, sign) in [("left", 1.0), ("right", -1.0)] {
+            let path: Vec<Point> = half.iter().map(|q| Point::new(sign * q.x, q.y)).collect();
+            // The outer row is crossed by the feed and the short at the bottom of the loop.
+            let exempt = if off > 0.0 {
+                vec![(bottom, feed_zone)]
+            } else {
+                Vec::new()
+            };
+            rows.push(Row {
+                name: format!("{label} stitching row, {side} half"),
+                path,
+                from,
+                to,
+                exempt,
+            });
+        }
+    }
+    let feed = &b.trace_path[..=b.entry_index.min(b.trace_path.len() - 1)];
+    if feed.len() >= 2 {
+        let sv = feed[0];
+        let ring =
+            s.launch.antipad_d.max(s.launch.barrel_antipad_d) / 2.0 + p.vias.pad + s.pitch_max;
+        // Left and right as seen from the connector looking towards the loop (−x and +x).
+        for (side, sign) in [("right", -1.0), ("left", 1.0)] {
+            let path = crate::geom::offset_round(feed, sign * s.fence_offset, 0.05);
+            let to = *arclengths(&path).last().unwrap();
+            // Where the feed joins the loop, the outer row's exemption zone continues.
+            let join = *feed.last().unwrap();
+            rows.push(Row {
+                name: format!("feed fence, {side} side"),
+                path,
+                from: 0.0,
+                to,
+                exempt: vec![(sv, ring), (join, feed_zone)],
+            });
+        }
+    }
+    let mut out = Vec::new();
+    for row in &rows {
+        let sl = arclengths(&row.path);
+        let at: Vec<f64> = vias
             .iter()
-            .filter(|v| v.x <= 1e-9)
             .filter_map(|v| {
-                let d = crate::geom::shape::dist_to_polyline(*v, &half);
-                (d < 0.01).then(|| {
-                    // Arc-length position of the closest point.
-                    let mut best = (f64::INFINITY, 0.0);
-                    for (k, w) in half.windows(2).enumerate() {
-                        let ab = w[1] - w[0];
-                        let t = ((*v - w[0]).dot(ab) / ab.hypot2()).clamp(0.0, 1.0);
-                        let dd = (*v - (w[0] + ab * t)).hypot();
-                        if dd < best.0 {
-                            best = (dd, sl[k] + t * ab.hypot());
-                        }
+                let mut best = (f64::INFINITY, 0.0);
+                for (k, w) in row.path.windows(2).enumerate() {
+                    let ab = w[1] - w[0];
+                    let len2 = ab.hypot2().max(1e-30);
+                    let t = ((*v - w[0]).dot(ab) / len2).clamp(0.0, 1.0);
+                    let dd = (*v - (w[0] + ab * t)).hypot();
+                    if dd < best.0 {
+                        best = (dd, sl[k] + t * ab.hypot());
                     }
-                    best.1
-                })
+                }
+                (best.0 < 0.01 && best.1 >= row.from - 1e-9 && best.1 <= row.to + 1e-9)
+                    .then_some(best.1)
             })
             .collect();
-        on_row.sort_by(|a, b| a.partial_cmp(b).unwrap());
-        for w in on_row.windows(2) {
-            let (p0, _) = crate::geom::shape::point_at(&half, &sl, w[0]);
-            let (q, _) = crate::geom::shape::point_at(&half, &sl, w[1]);
-            let exempt =
-                off > 0.0 && q.x.abs() < s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
-            // Straight-line distance between neighbours along the row.
-            let gap_mm = (q - p0).hypot();
-            if gap_mm > s.pitch_max + 1e-6 && !exempt {
-                out.push(Violation {
-                    rule: "stitching row pitch above the limit",
-                    layer: "drill".into(),
-                    at: q,
-                    detail: format!("{gap_mm:.3} mm > {:.3} mm between neighbours", s.pitch_max),
-                });
+        // The row's stretches outside its exemption zones, each checked from end to end.
+        let exempt = |x: f64| {
+            let q = point_at(&row.path, &sl, x).0;
+            row.exempt.iter().any(|(c, r)| (q - *c).hypot() < *r)
+        };
+        let h = 0.02;
+        let n = ((row.to - row.from) / h).ceil().max(1.0) as usize;
+        let mut stretches: Vec<(f64, f64)> = Vec::new();
+        let mut open: Option<f64> = None;
+        for k in 0..=n {
+            let x = row.from + (row.to - row.from) * k as f64 / n as f64;
+            match (exempt(x), open) {
+                (false, None) => open = Some(x),
+                (true, Some(u)) => {
+                    stretches.push((u, x));
+                    open = None;
+                }
+                _ => {}
+            }
+        }
+        if let Some(u) = open {
+            stretches.push((u, row.to));
+        }
+        for (u, v) in stretches {
+            let mut pos: Vec<f64> = at.iter().copied().filter(|x| *x > u && *x < v).collect();
+            pos.push(u);
+            pos.push(v);
+            pos.sort_by(f64::total_cmp);
+            for w in pos.windows(2) {
+                let (p0, _) = point_at(&row.path, &sl, w[0]);
+                let (q, _) = point_at(&row.path, &sl, w[1]);
+                let step = (q - p0).hypot();
+                if step > s.pitch_max + 1e-6 {
+                    out.push(Violation {
+                        rule: "stitching row pitch above the limit",
+                        layer: "drill".into(),
+                        at: q,
+                        detail: format!(
+                            "{}: {step:.3} mm without a via (limit {:.3} mm), from ({:.2}, {:.2})",
+                            row.name, s.pitch_max, p0.x, p0.y
+                        ),
+                    });
+                }
             }
         }
     }

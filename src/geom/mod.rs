@@ -730,28 +730,21 @@ impl ViaPlacer<'_> {
     fn rows(&mut self, shape: &LoopShape, off: f64, role: ViaRole) {
         let half = left_half(shape, off);
         let s = arclengths(&half);
-        let total = *s.last().unwrap();
-        let keep = self.p.gap / 2.0 + self.p.vias.pad / 2.0 + 0.1;
+        let keep = shape::gap_keep(self.p.gap, self.p.vias.pad);
         // Start where the row leaves the gap's keep-out.
-        let s0 = (0..half.len())
-            .find(|&i| half[i].x <= -keep)
-            .map(|i| {
-                if i == 0 {
-                    0.0
-                } else {
-                    let (a, b) = (half[i - 1], half[i]);
-                    let t = (-keep - a.x) / (b.x - a.x);
-                    s[i - 1] + t * (s[i] - s[i - 1])
-                }
-            })
-            .unwrap_or(total);
+        let s0 = shape::row_start(&half, &s, keep);
         // Equal straight-line spacing from the gap's edge to the axis, so that corners do not
-        // bring two vias closer than the fab allows: the fewest steps whose length is within
-        // the pitch limit.
-        let positions = (1..=200)
+        // bring two vias closer than the fab allows, with the fewest steps whose length is
+        // within the pitch limit: one walk at the limit counts the whole steps that fit, and
+        // one more (shortened) step ends on the axis. No ceiling on the count; should a
+        // strange path need more, the next counts are tried, and the design-rule check's row
+        // coverage refuses a row left with gaps.
+        let d_max = 0.95 * self.s.pitch_max;
+        let fit = walk(&half, &s, s0, d_max, usize::MAX).len() - 1;
+        let positions = (fit.max(1)..=2 * fit + 8)
             .find_map(|n| {
                 let d = steps_to_end(&half, &s, s0, n)?;
-                (d <= 0.95 * self.s.pitch_max).then_some((n, d))
+                (d <= d_max).then_some((n, d))
             })
             .map(|(n, d)| walk(&half, &s, s0, d, n))
             .unwrap_or_else(|| vec![s0]);
@@ -802,7 +795,7 @@ impl ViaPlacer<'_> {
 
 /// The polyline `pts` offset by `d` to its left (negative: right), with round joins of
 /// angular step about `max_seg`/|d| on the outside of each bend.
-fn offset_round(pts: &[Point], d: f64, max_seg: f64) -> Vec<Point> {
+pub(crate) fn offset_round(pts: &[Point], d: f64, max_seg: f64) -> Vec<Point> {
     let mut out = Vec::new();
     let normal = |a: Point, b: Point| {
         let v = b - a;

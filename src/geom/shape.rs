@@ -98,12 +98,38 @@ pub fn arclengths(pts: &[Point]) -> Vec<f64> {
     s
 }
 
+/// Where a stitching row (a [`left_half`]) leaves the shield gap's keep-out: the arc position
+/// of its first point at `x <= -keep` (the row's end when none is).
+pub fn row_start(half: &[Point], s: &[f64], keep: f64) -> f64 {
+    let total = s.last().copied().unwrap_or(0.0);
+    (0..half.len())
+        .find(|&i| half[i].x <= -keep)
+        .map(|i| {
+            if i == 0 {
+                0.0
+            } else {
+                let (a, b) = (half[i - 1], half[i]);
+                let t = (-keep - a.x) / (b.x - a.x);
+                s[i - 1] + t * (s[i] - s[i - 1])
+            }
+        })
+        .unwrap_or(total)
+}
+
+/// The shield gap's keep-out half-width for stitching vias: half the gap, the via's pad
+/// radius and 0.1 mm.
+pub fn gap_keep(gap: f64, via_pad: f64) -> f64 {
+    gap / 2.0 + via_pad / 2.0 + 0.1
+}
+
 /// The point at arc length `t` along a polyline, with its unit tangent.
 pub fn point_at(pts: &[Point], s: &[f64], t: f64) -> (Point, Vec2) {
-    let i = match s.iter().position(|&x| x >= t) {
-        Some(0) => 1,
-        Some(i) => i,
-        None => pts.len() - 1,
+    // The first arc position at or beyond t (s is sorted): a binary search, as the via
+    // placement calls this many times along long paths.
+    let i = match s.partition_point(|&x| x < t) {
+        0 => 1,
+        i if i >= pts.len() => pts.len() - 1,
+        i => i,
     };
     let (a, b) = (pts[i - 1], pts[i]);
     let seg = b - a;
