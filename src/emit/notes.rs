@@ -309,7 +309,10 @@ pub fn launch_line(l: &crate::physics::launch::ProbeLaunch) -> String {
         "- Connector launch (pad, link, signal via and its stub, cascaded as line sections into \
          the handle's {:.2} Ω line): worst return loss {:.1} dB at {:.0} MHz up to f_max = {} \
          GHz ({verdict}); it changes the probe factor by at most {:.2} dB (at {:.0} MHz) below the \
-         upper usable frequency{after}. Not in the probe factor above.\n",
+         upper usable frequency{after}. Not in the probe factor above. The sections leave \
+         out the via lands' and the steps' reactances: treat the figure as the least reflection to \
+         expect (on the demo's transition a full-wave check found it several dB worse near 3 GHz; \
+         loopwright's docs/response.md).\n",
         l.z_line,
         l.s11.worst_db,
         l.s11.worst_hz / 1e6,
