@@ -112,7 +112,7 @@ fn main() {
             Ok(Err(Error::Drc { violations, .. })) => {
                 drc += 1;
                 for v in violations {
-                    let k = v.split(':').next().unwrap_or("").to_string();
+                    let k = format!("{} on {}", v.rule, v.layer);
                     *rules.entry(k).or_default() += 1;
                 }
                 if std::env::var("CENSUS_SHOW").is_ok() {

@@ -97,12 +97,12 @@ pub enum Error {
     #[error("{0}")]
     Unsolvable(String),
     /// The design-rule check found violations; nothing was written.
-    #[error("design-rule check failed for '{probe}' ({} violation(s)); nothing was written (--force writes anyway and marks the notes):\n{}", .violations.len(), .violations.join("\n"))]
+    #[error("design-rule check failed for '{probe}' ({} violation(s)); nothing was written (--force writes anyway and marks the notes):\n{}", .violations.len(), .violations.iter().map(|v| v.to_string()).collect::<Vec<_>>().join("\n"))]
     Drc {
         /// The probe.
         probe: String,
-        /// Each violation, as text (rule, layer, location, measurement).
-        violations: Vec<String>,
+        /// Each violation (rule, layer, location, measurement).
+        violations: Vec<crate::drc::Violation>,
     },
     /// A file could not be read or written.
     #[error("{path}: {source}")]

@@ -52,7 +52,7 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
     if !violations.is_empty() && !force {
         return Err(Error::Drc {
             probe: p.name.clone(),
-            violations: violations.iter().map(|v| v.to_string()).collect(),
+            violations: violations.clone(),
         });
     }
     let response = crate::physics::predict(p, &solved, &crate::physics::PredictOptions::default())?;
@@ -377,7 +377,7 @@ pub fn build_fixture(
     if !violations.is_empty() && !force {
         return Err(Error::Drc {
             probe: f.name.clone(),
-            violations: violations.iter().map(|v| v.to_string()).collect(),
+            violations: violations.clone(),
         });
     }
     let base_name = f.folder.clone();

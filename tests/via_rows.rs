@@ -141,7 +141,8 @@ fn a_board_missing_vias_fails_the_pitch_rule() {
         let v = check(&p, &s, &b, &art);
         assert!(
             v.iter()
-                .any(|x| x.rule == "stitching row pitch above the limit" && x.detail.contains(row)),
+                .any(|x| x.rule == loopwright::drc::Rule::StitchingRowPitch
+                    && x.detail.contains(row)),
             "{what}: no row violation naming '{row}': {v:?}"
         );
     }

@@ -1,0 +1,251 @@
+//! The rules every board gets (probe or fixture): contours, width and space, copper to edge,
+//! drills, mask web and silkscreen.
+
+use super::kernel::{
+    body_copper, flash_polygon, layer_copper, near_pairs, ring_ls, rings_of, seg_seg, segments,
+};
+use super::{Rule, Violation};
+use crate::artwork::{Artwork, Shape};
+use crate::geom::{TOL, stroke_round};
+use crate::model::fab::FabProfile;
+use geo::{Contains, Distance, Euclidean, MultiPolygon};
+use kurbo::Point;
+
+/// Checks that every ring is closed and simple (no self-intersection or self-touch).
+fn check_rings(out: &mut Vec<Violation>, layer: &str, m: &MultiPolygon<f64>) {
+    let rings = rings_of(m);
+    for r in &rings {
+        if r.len() < 4 || r.first() != r.last() {
+            out.push(Violation {
+                rule: Rule::RegionNotClosed,
+                layer: layer.into(),
+                at: r.first().copied().unwrap_or(Point::ZERO),
+                detail: format!("{} points, first ≠ last", r.len()),
+            });
+        }
+    }
+    // Each contour is written as its own region (holes as clear regions), so each must be
+    // simple on its own.
+    let (segs, _) = segments(&rings);
+    for (i, j) in near_pairs(&segs, 0.0) {
+        let (a, b) = (&segs[i], &segs[j]);
+        if a.ring != b.ring {
+            continue;
+        }
+        let dk = a.k.abs_diff(b.k);
+        if dk == 1 || dk + 1 == a.nseg {
+            continue;
+        }
+        let (d, t, _) = seg_seg(a.a, a.b, b.a, b.b);
+        if d < 1e-7 {
+            out.push(Violation {
+                rule: Rule::RegionNotSimple,
+                layer: layer.into(),
+                at: a.a + (a.b - a.a) * t,
+                detail: "a contour crosses or touches itself".into(),
+            });
+        }
+    }
+}
+
+/// Width and spacing on one layer's copper.
+fn check_width_space(
+    out: &mut Vec<Violation>,
+    layer: &str,
+    copper: &MultiPolygon<f64>,
+    min_w: f64,
+    min_s: f64,
+) {
+    let rings = rings_of(copper);
+    let (segs, lens) = segments(&rings);
+    let dmax = min_w.max(min_s);
+    let mut reported: Vec<Point> = Vec::new();
+    for (i, j) in near_pairs(&segs, dmax) {
+        let (a, b) = (&segs[i], &segs[j]);
+        let (d, t, u) = seg_seg(a.a, a.b, b.a, b.b);
+        if d >= dmax - 1e-6 || d < 1e-9 {
+            continue;
+        }
+        if a.ring == b.ring {
+            let pa = a.s0 + t * (a.b - a.a).hypot();
+            let pb = b.s0 + u * (b.b - b.a).hypot();
+            let along = (pa - pb).abs();
+            let along = along.min(lens[a.ring] - along);
+            if along < 2.5 * dmax {
+                continue;
+            }
+        }
+        let p = a.a + (a.b - a.a) * t;
+        let q = b.a + (b.b - b.a) * u;
+        let m = p.midpoint(q);
+        let inside = copper.contains(&geo::Point::new(m.x, m.y));
+        let (rule, limit) = if inside {
+            (Rule::MinTraceWidth, min_w)
+        } else {
+            (Rule::MinSpace, min_s)
+        };
+        // Within the arc-flattening tolerance of the limit counts as meeting it.
+        if d < limit - TOL && !reported.iter().any(|r| (*r - m).hypot() < dmax) {
+            reported.push(m);
+            out.push(Violation {
+                rule,
+                layer: layer.into(),
+                at: m,
+                detail: format!("{d:.4} mm < {limit:.4} mm"),
+            });
+        }
+    }
+}
+
+/// copper to edge, drills (size, annular ring, pads, hole gap, inside the outline), mask web and
+/// silkscreen. Returns the violations (empty: clean).
+pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
+    let mut out = Vec::new();
+    let outline = {
+        let mut poly = geo::Polygon::new(ring_ls(&art.profile[0]), vec![]);
+        for r in &art.profile[1..] {
+            poly.interiors_push(ring_ls(r));
+        }
+        poly
+    };
+    let edge = |pt: &geo::Point<f64>| -> f64 {
+        std::iter::once(outline.exterior())
+            .chain(outline.interiors())
+            .map(|r| Euclidean.distance(pt, r))
+            .fold(f64::INFINITY, f64::min)
+    };
+    for l in &art.copper {
+        let name = format!("L{}", l.n);
+        check_rings(&mut out, &name, &l.regions);
+        let copper = layer_copper(&l.regions, &l.flashes);
+        check_width_space(&mut out, &name, &copper, fab.min_trace, fab.min_space);
+        // Copper to edge: regions and non-connector pads.
+        let body = body_copper(l);
+        for poly in &body.0 {
+            for c in poly.exterior().coords() {
+                let pt = geo::Point::new(c.x, c.y);
+                let inside = outline.contains(&pt);
+                let d = edge(&pt);
+                if !inside || d < fab.copper_to_edge - TOL {
+                    out.push(Violation {
+                        rule: Rule::CopperToEdge,
+                        layer: name.clone(),
+                        at: Point::new(c.x, c.y),
+                        detail: format!("{d:.4} mm < {:.4} mm", fab.copper_to_edge),
+                    });
+                    break;
+                }
+            }
+        }
+    }
+    // Drills: size, annular ring, hole gap, inside the board.
+    for (i, d) in art.drills.iter().enumerate() {
+        if d.d < fab.min_drill - 1e-9 {
+            out.push(Violation {
+                rule: Rule::MinDrill,
+                layer: "drill".into(),
+                at: d.at,
+                detail: format!("{:.3} mm < {:.3} mm", d.d, fab.min_drill),
+            });
+        }
+        let mut pads = 0;
+        for l in &art.copper {
+            for f in l.flashes.iter().filter(|f| (f.at - d.at).hypot() < 1e-6) {
+                pads += 1;
+                let dia = match f.shape {
+                    Shape::Circle(x) => x,
+                    Shape::Rect(w, h) => w.min(h),
+                };
+                let ring = (dia - d.d) / 2.0;
+                if ring < fab.min_annular_ring - 1e-9 {
+                    out.push(Violation {
+                        rule: Rule::AnnularRing,
+                        layer: format!("L{}", l.n),
+                        at: d.at,
+                        detail: format!("{ring:.4} mm < {:.4} mm", fab.min_annular_ring),
+                    });
+                }
+            }
+        }
+        if d.plated && pads < 2 {
+            out.push(Violation {
+                rule: Rule::PlatedHoleWithoutPads,
+                layer: "drill".into(),
+                at: d.at,
+                detail: format!("pads on {pads} layer(s); a plated hole joins at least 2"),
+            });
+        }
+        for e in &art.drills[i + 1..] {
+            let gap_mm = (e.at - d.at).hypot() - (d.d + e.d) / 2.0;
+            if gap_mm < fab.min_hole_gap - 1e-9 {
+                out.push(Violation {
+                    rule: Rule::HoleToHole,
+                    layer: "drill".into(),
+                    at: d.at,
+                    detail: format!("{gap_mm:.4} mm < {:.4} mm", fab.min_hole_gap),
+                });
+            }
+        }
+        let pt = geo::Point::new(d.at.x, d.at.y);
+        if !outline.contains(&pt) || edge(&pt) < d.d / 2.0 + fab.copper_to_edge - 1e-6 {
+            out.push(Violation {
+                rule: Rule::HoleInsideOutline,
+                layer: "drill".into(),
+                at: d.at,
+                detail: "hole outside the board or too near its edge".into(),
+            });
+        }
+    }
+    // Mask web between openings.
+    for (openings, name) in [
+        (&art.mask_top, "mask-top"),
+        (&art.mask_bottom, "mask-bottom"),
+    ] {
+        for (i, a) in openings.iter().enumerate() {
+            for bb in &openings[i + 1..] {
+                let d = Euclidean.distance(&flash_polygon(a), &flash_polygon(bb));
+                if d < fab.mask_web - 1e-6 {
+                    out.push(Violation {
+                        rule: Rule::MaskWeb,
+                        layer: name.into(),
+                        at: a.at,
+                        detail: format!("{d:.4} mm < {:.4} mm", fab.mask_web),
+                    });
+                }
+            }
+        }
+    }
+    // Silkscreen off the pads.
+    for (strokes, openings, name) in [
+        (&art.silk_top, &art.mask_top, "legend-top"),
+        (&art.silk_bottom, &art.mask_bottom, "legend-bottom"),
+    ] {
+        for st in strokes.iter() {
+            let ink = stroke_round(st, art.silk_width / 2.0);
+            for o in openings.iter() {
+                let d = Euclidean.distance(&ink, &MultiPolygon(vec![flash_polygon(o)]));
+                if d < fab.silk_to_pad - 1e-6 {
+                    out.push(Violation {
+                        rule: Rule::SilkOnPad,
+                        layer: name.into(),
+                        at: st[0],
+                        detail: format!("{d:.4} mm from a pad opening < {:.4} mm", fab.silk_to_pad),
+                    });
+                }
+            }
+            for q in st {
+                let pt = geo::Point::new(q.x, q.y);
+                if !outline.contains(&pt) {
+                    out.push(Violation {
+                        rule: Rule::SilkOffBoard,
+                        layer: name.into(),
+                        at: *q,
+                        detail: "stroke outside the outline".into(),
+                    });
+                    break;
+                }
+            }
+        }
+    }
+    out
+}

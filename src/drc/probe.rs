@@ -1,0 +1,241 @@
+//! The probe board's own rules: no copper inside the loop, the shield gap, via pitch and the
+//! coverage of every required row of vias.
+
+use super::board::check_board;
+use super::kernel::{body_copper, layer_copper, nearest_neighbours};
+use super::{Rule, Violation};
+use crate::artwork::Artwork;
+use crate::geom::{Board, rect};
+use crate::model::probe::Probe;
+use crate::solve::probe::SolvedProbe;
+use geo::{Area, BooleanOps, MultiPolygon};
+use kurbo::Point;
+
+/// Runs every check of a probe board: [`check_board`] and the probe's own rules (no copper
+/// inside the loop, the shield gap, via pitch and stitching rows). Returns the violations.
+pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
+    let mut out = check_board(&p.fab, art);
+    let Some((gx0, gy0, gx1, gy1)) = art.gap_rect else {
+        return out;
+    };
+    let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
+    let interior = MultiPolygon(vec![b.interior.clone()]);
+    for l in &art.copper {
+        let name = format!("L{}", l.n);
+        let copper = layer_copper(&l.regions, &l.flashes);
+        let body = body_copper(l);
+        // No copper inside the loop.
+        let inside = body.intersection(&interior).unsigned_area();
+        if inside > 1e-4 {
+            out.push(Violation {
+                rule: Rule::CopperInsideLoop,
+                layer: name.clone(),
+                at: Point::ZERO,
+                detail: format!("{inside:.4} mm² of copper where flux must pass"),
+            });
+        }
+        // The gap.
+        let in_gap = copper.intersection(&gap).unsigned_area();
+        if l.signal {
+            // The trace's own area in the gap: its width times the length of its centreline
+            // between the gap's edges (a curved loop crosses on a slant).
+            let half = (gx1 - gx0) / 2.0;
+            let mut len = 0.0;
+            for w in b.trace_path.windows(2) {
+                let (a, c) = (w[0], w[1]);
+                if a.y < gy0 || c.y < gy0 {
+                    continue;
+                }
+                let (lo, hi) = (a.x.min(c.x), a.x.max(c.x));
+                let inside = (hi.min(half) - lo.max(-half)).max(0.0);
+                if hi > lo {
+                    len += (c - a).hypot() * inside / (hi - lo);
+                }
+            }
+            let allowed = b.trace_width * len * 1.01 + 1e-4;
+            if in_gap > allowed || in_gap < 0.5 * allowed {
+                out.push(Violation {
+                    rule: Rule::GapHoldsOnlyTrace,
+                    layer: name.clone(),
+                    at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                    detail: format!(
+                        "{in_gap:.5} mm² of copper in the gap; the trace alone is {:.5} mm²",
+                        b.trace_width * len
+                    ),
+                });
+            }
+        } else if in_gap > 1e-6 {
+            out.push(Violation {
+                rule: Rule::GapFreeOfCopper,
+                layer: name.clone(),
+                at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                detail: format!("{in_gap:.6} mm² of copper in the shield gap"),
+            });
+        }
+    }
+    for d in &art.drills {
+        if d.via {
+            let dx = (d.at.x.abs() - gx1).max(0.0);
+            let dy = (gy0 - d.at.y).max(d.at.y - gy1).max(0.0);
+            if dx.hypot(dy) < p.vias.pad / 2.0 + 1e-6 {
+                out.push(Violation {
+                    rule: Rule::ViaInGap,
+                    layer: "drill".into(),
+                    at: d.at,
+                    detail: "a via stands in or touches the shield gap".into(),
+                });
+            }
+        }
+    }
+    // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
+    let vias: Vec<Point> = art.drills.iter().filter(|d| d.via).map(|d| d.at).collect();
+    for (v, nn) in nearest_neighbours(&vias, s.pitch_max, &mut out) {
+        // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
+        if nn < s.pitch_min - 1e-5 {
+            out.push(Violation {
+                rule: Rule::ViaPitchBelowFab,
+                layer: "drill".into(),
+                at: v,
+                detail: format!("nearest via {nn:.3} mm < {:.3} mm", s.pitch_min),
+            });
+        }
+    }
+    out.extend(row_coverage(p, s, b, &vias));
+    out
+}
+
+/// A required row of vias: the path it follows and the stretches it may leave bare.
+struct Row {
+    name: String,
+    path: Vec<Point>,
+    /// Arc positions where the row's coverage starts and ends.
+    from: f64,
+    to: f64,
+    /// Points near which a gap is allowed (within the given radius): where the feed and the
+    /// short cross the outer row, where the signal via's ring takes over from a fence.
+    exempt: Vec<(Point, f64)>,
+}
+
+/// Via coverage of every required row from end to end: the loop's inner and outer stitching
+/// rows on both halves (from the gap's keep-out to the axis) and the fences on both sides of
+/// the feed (from the signal via to where the feed joins the loop). The vias standing on a row
+/// (within 0.01 mm of its path) are taken in order along it, with the row's two ends, and no
+/// step between consecutive ones may exceed the pitch limit (straight-line distance), outside
+/// the row's stated exemptions. A row with missing vias, or none, fails: the nearest-neighbour
+/// rule alone cannot see them.
+fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Violation> {
+    use crate::geom::shape::{arclengths, gap_keep, left_half, point_at, row_start};
+    let mut rows = Vec::new();
+    let keep = gap_keep(p.gap, p.vias.pad);
+    let feed_zone = s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
+    for (off, label) in [(-s.fence_offset, "inner"), (s.fence_offset, "outer")] {
+        let half = left_half(&p.shape, off);
+        let sl = arclengths(&half);
+        let from = row_start(&half, &sl, keep);
+        let to = *sl.last().unwrap();
+        let bottom = *half.last().unwrap();
+        for (side, sign) in [("left", 1.0), ("right", -1.0)] {
+            let path: Vec<Point> = half.iter().map(|q| Point::new(sign * q.x, q.y)).collect();
+            // The outer row is crossed by the feed and the short at the bottom of the loop.
+            let exempt = if off > 0.0 {
+                vec![(bottom, feed_zone)]
+            } else {
+                Vec::new()
+            };
+            rows.push(Row {
+                name: format!("{label} stitching row, {side} half"),
+                path,
+                from,
+                to,
+                exempt,
+            });
+        }
+    }
+    let feed = &b.trace_path[..=b.entry_index.min(b.trace_path.len() - 1)];
+    if feed.len() >= 2 {
+        let sv = feed[0];
+        let ring =
+            s.launch.antipad_d.max(s.launch.barrel_antipad_d) / 2.0 + p.vias.pad + s.pitch_max;
+        // Left and right as seen from the connector looking towards the loop (−x and +x).
+        for (side, sign) in [("right", -1.0), ("left", 1.0)] {
+            let path = crate::geom::offset_round(feed, sign * s.fence_offset, 0.05);
+            let to = *arclengths(&path).last().unwrap();
+            // Where the feed joins the loop, the outer row's exemption zone continues.
+            let join = *feed.last().unwrap();
+            rows.push(Row {
+                name: format!("feed fence, {side} side"),
+                path,
+                from: 0.0,
+                to,
+                exempt: vec![(sv, ring), (join, feed_zone)],
+            });
+        }
+    }
+    let mut out = Vec::new();
+    for row in &rows {
+        let sl = arclengths(&row.path);
+        let at: Vec<f64> = vias
+            .iter()
+            .filter_map(|v| {
+                let mut best = (f64::INFINITY, 0.0);
+                for (k, w) in row.path.windows(2).enumerate() {
+                    let ab = w[1] - w[0];
+                    let len2 = ab.hypot2().max(1e-30);
+                    let t = ((*v - w[0]).dot(ab) / len2).clamp(0.0, 1.0);
+                    let dd = (*v - (w[0] + ab * t)).hypot();
+                    if dd < best.0 {
+                        best = (dd, sl[k] + t * ab.hypot());
+                    }
+                }
+                (best.0 < 0.01 && best.1 >= row.from - 1e-9 && best.1 <= row.to + 1e-9)
+                    .then_some(best.1)
+            })
+            .collect();
+        // The row's stretches outside its exemption zones, each checked from end to end.
+        let exempt = |x: f64| {
+            let q = point_at(&row.path, &sl, x).0;
+            row.exempt.iter().any(|(c, r)| (q - *c).hypot() < *r)
+        };
+        let h = 0.02;
+        let n = ((row.to - row.from) / h).ceil().max(1.0) as usize;
+        let mut stretches: Vec<(f64, f64)> = Vec::new();
+        let mut open: Option<f64> = None;
+        for k in 0..=n {
+            let x = row.from + (row.to - row.from) * k as f64 / n as f64;
+            match (exempt(x), open) {
+                (false, None) => open = Some(x),
+                (true, Some(u)) => {
+                    stretches.push((u, x));
+                    open = None;
+                }
+                _ => {}
+            }
+        }
+        if let Some(u) = open {
+            stretches.push((u, row.to));
+        }
+        for (u, v) in stretches {
+            let mut pos: Vec<f64> = at.iter().copied().filter(|x| *x > u && *x < v).collect();
+            pos.push(u);
+            pos.push(v);
+            pos.sort_by(f64::total_cmp);
+            for w in pos.windows(2) {
+                let (p0, _) = point_at(&row.path, &sl, w[0]);
+                let (q, _) = point_at(&row.path, &sl, w[1]);
+                let step = (q - p0).hypot();
+                if step > s.pitch_max + 1e-6 {
+                    out.push(Violation {
+                        rule: Rule::StitchingRowPitch,
+                        layer: "drill".into(),
+                        at: q,
+                        detail: format!(
+                            "{}: {step:.3} mm without a via (limit {:.3} mm), from ({:.2}, {:.2})",
+                            row.name, s.pitch_max, p0.x, p0.y
+                        ),
+                    });
+                }
+            }
+        }
+    }
+    out
+}
