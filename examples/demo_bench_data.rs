@@ -45,9 +45,9 @@ fn main() {
     );
     let secs = loopwright::solve::fixture::launch_sections(&fx, &fs).unwrap();
     let beyond: Vec<_> = secs.iter().rev().copied().collect();
-    for (f, (re, im)) in probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs) {
-        let k = launch_current(&secs, &beyond, 50.0, f);
-        let (re, im) = (re * k.0 - im * k.1, re * k.1 + im * k.0);
+    for (f, s) in probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs) {
+        let s = s * launch_current(&secs, &beyond, 50.0, f);
+        let (re, im) = (s.re, s.im);
         let ghz = f / 1e9;
         let dev_db = 0.8 - 0.4 * ghz + 0.3 * (2.0 * PI * f / 150e6).sin();
         let p = (re * re + im * im) * 10f64.powf(dev_db / 10.0) + 1e-10;

@@ -18,6 +18,7 @@ pub mod error;
 pub mod field;
 pub mod fuzzing;
 pub mod geom;
+pub mod math;
 pub mod model;
 pub mod output;
 pub mod physics;

@@ -69,8 +69,8 @@ pub struct Calibration {
 pub struct LineCurrent<'a> {
     /// What it is, for the notes and the output.
     pub source: String,
-    /// The current per V_inc/R_ref at a frequency (Hz), complex (re, im).
-    pub ratio: &'a dyn Fn(f64) -> (f64, f64),
+    /// The current per V_inc/R_ref at a frequency (Hz), complex.
+    pub ratio: &'a dyn Fn(f64) -> crate::math::Cx,
 }
 
 impl Calibration {
@@ -208,13 +208,12 @@ pub fn calibrate(
                 20.0 * mag.log10()
             )));
         }
-        let (pr, pi) = probe_s21(p, s, r, &coupling, &[f])[0].1;
-        let (kr, ki) = (current.ratio)(f);
-        let k = kr.hypot(ki);
+        let pred = probe_s21(p, s, r, &coupling, &[f])[0].1;
+        let k = (current.ratio)(f).abs();
         points.push(CalPoint {
             f,
             s21_db: 20.0 * mag.log10(),
-            s21_pred_db: 20.0 * (pr.hypot(pi) * k).log10(),
+            s21_pred_db: 20.0 * (pred.abs() * k).log10(),
             pf_db: pf_from_s21(mag, coupling.h_avg_per_amp * k, net.r_ref),
             pf_pred_db: crate::physics::probe_factor_at(p, s, r, f),
             in_band: f <= r.upper_hz,

@@ -164,8 +164,8 @@ impl Shape {
             self.ripple_db,
             self.largest_db,
             self.points,
-            crate::emit::plot::hz_label(self.f_lo),
-            crate::emit::plot::hz_label(self.f_hi)
+            crate::math::hz_label(self.f_lo),
+            crate::math::hz_label(self.f_hi)
         )
     }
 }

@@ -146,7 +146,7 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
     if nums.is_empty() {
         return Err(err(path, text.lines().count().max(1), "no data"));
     }
-    if nums.len() % per_point != 0 {
+    if !nums.len().is_multiple_of(per_point) {
         let line = nums.last().map(|n| n.1).unwrap_or(0);
         return Err(err(
             path,

@@ -152,10 +152,7 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
         a.height,
         &current,
     )?;
-    let magnitude = |f: f64| {
-        let k = (current.ratio)(f);
-        k.0.hypot(k.1)
-    };
+    let magnitude = |f: f64| (current.ratio)(f).abs();
     let verdict = gate(
         a,
         &spec,
@@ -398,7 +395,7 @@ fn line_current(
     fx: &crate::model::fixture::Fixture,
     fs: &crate::solve::fixture::SolvedFixture,
     net: &touchstone::Network,
-) -> Result<(String, Box<dyn Fn(f64) -> (f64, f64)>), Error> {
+) -> Result<(String, Box<dyn Fn(f64) -> crate::math::Cx>), Error> {
     use crate::physics::coupling::launch_current;
     let r = net.r_ref;
     if a.uniform_line {
@@ -406,7 +403,7 @@ fn line_current(
             "a uniform matched line, I = V_inc/R_ref (--uniform-line: the fixture's launches \
              are ignored)"
                 .into(),
-            Box::new(|_| (1.0, 0.0)),
+            Box::new(|_| crate::math::Cx::new(1.0, 0.0)),
         ));
     }
     let secs = crate::solve::fixture::launch_sections(fx, fs)?;

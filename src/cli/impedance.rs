@@ -15,8 +15,8 @@ use serde_json::{Value, json};
 pub struct ImpedanceArgs {
     /// Trace structure: microstrip, coated-microstrip, stripline or cpwg. With --stackup it
     /// defaults to the layer's natural structure.
-    #[arg(long, value_name = "NAME")]
-    pub structure: Option<String>,
+    #[arg(long, value_name = "NAME", value_parser = structure_arg)]
+    pub structure: Option<Structure>,
     /// Relative permittivity of the dielectric (overrides the stackup's).
     #[arg(long, value_name = "E")]
     pub er: Option<f64>,
@@ -33,8 +33,8 @@ pub struct ImpedanceArgs {
     /// Method: hammerstad-jensen, ipc-2141 (microstrip); cover-blend, ipc-2141 (coated);
     /// wheeler, cohn, ipc-2141 (stripline); conformal (cpwg); field (the 2-D field solver, any
     /// structure). Default: the most accurate closed form.
-    #[arg(long, value_name = "NAME")]
-    pub method: Option<String>,
+    #[arg(long, value_name = "NAME", value_parser = method_arg)]
+    pub method: Option<Method>,
     /// Microstrip and cpwg: dielectric between the trace's bottom and the plane, mm.
     #[arg(long, value_name = "MM")]
     pub h: Option<f64>,
@@ -73,23 +73,20 @@ pub struct ImpedanceArgs {
     pub min_trace: f64,
     /// Field-solver accuracy for `--method field`: draft (≤ 0.25 %), standard (≤ 0.06 %) or
     /// fine (≤ 0.015 %).
-    #[arg(long, value_name = "LEVEL", default_value = "standard")]
-    pub accuracy: String,
+    #[arg(long, value_name = "LEVEL", default_value = "standard", value_parser = accuracy_arg)]
+    pub accuracy: Accuracy,
     /// Print one JSON object instead of the table.
     #[arg(long)]
     pub json: bool,
 }
 
-fn parse_accuracy(s: &str) -> Result<Accuracy, Error> {
+/// `--accuracy` (clap value parser).
+fn accuracy_arg(s: &str) -> Result<Accuracy, String> {
     match s {
         "draft" => Ok(Accuracy::Draft),
         "standard" => Ok(Accuracy::Standard),
         "fine" => Ok(Accuracy::Fine),
-        other => Err(Error::Unknown {
-            what: "accuracy (--accuracy)",
-            value: other.to_string(),
-            allowed: "draft, standard, fine".into(),
-        }),
+        _ => Err("use one of: draft, standard, fine".into()),
     }
 }
 
@@ -127,20 +124,20 @@ fn flags_of(s: Structure) -> &'static [&'static str] {
         .unwrap_or(&[])
 }
 
-fn parse_structure(s: &str) -> Result<Structure, Error> {
-    Structure::parse(s).ok_or_else(|| Error::Unknown {
-        what: "structure (--structure)",
-        value: s.to_string(),
-        allowed: Structure::ALL.map(|s| s.name()).join(", "),
+/// `--structure` (clap value parser).
+fn structure_arg(s: &str) -> Result<Structure, String> {
+    Structure::parse(s).ok_or_else(|| {
+        format!(
+            "use one of: {}",
+            Structure::ALL.map(|s| s.name()).join(", ")
+        )
     })
 }
 
-fn parse_method(s: &str) -> Result<Method, Error> {
-    Method::parse(s).ok_or_else(|| Error::Unknown {
-        what: "method (--method)",
-        value: s.to_string(),
-        allowed: Method::ALL.map(|m| m.name()).join(", "),
-    })
+/// `--method` (clap value parser).
+fn method_arg(s: &str) -> Result<Method, String> {
+    Method::parse(s)
+        .ok_or_else(|| format!("use one of: {}", Method::ALL.map(|m| m.name()).join(", ")))
 }
 
 /// Renames library field names to the flags the user typed.
@@ -316,7 +313,7 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
         None => None,
     };
     let structure = match (&a.structure, &stackup) {
-        (Some(s), _) => parse_structure(s)?,
+        (Some(s), _) => *s,
         (None, Some(st)) => st.natural_structure(a.layer.unwrap_or(1)),
         (None, None) => {
             return Err(Error::Invalid(vec![FieldError::new(
@@ -329,9 +326,9 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
             )]));
         }
     };
-    let method = a.method.as_deref().map(parse_method).transpose()?;
+    let method = a.method;
     let line = build_line(a, structure, stackup.as_ref())?;
-    let accuracy = parse_accuracy(&a.accuracy)?;
+    let accuracy = a.accuracy;
     let limits = SolveLimits {
         min_trace_mm: a.min_trace,
         accuracy,

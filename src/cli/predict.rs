@@ -117,19 +117,13 @@ pub fn fixture_coupling(
         .iter()
         .map(|&f| {
             let k = launch_current(&secs, &beyond, crate::physics::R_LOAD, f);
-            20.0 * k.0.hypot(k.1).log10()
+            20.0 * k.abs().log10()
         })
         .collect();
     let s21 = probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs)
         .into_iter()
         .zip(&k_db)
-        .map(|((f, (re, im)), k)| {
-            (
-                f,
-                20.0 * re.hypot(im).log10() + k,
-                im.atan2(re).to_degrees(),
-            )
-        })
+        .map(|((f, s), k)| (f, 20.0 * s.abs().log10() + k, s.im.atan2(s.re).to_degrees()))
         .collect();
     let line_wave_ohm = crate::physics::electric::ETA0 / fs.solution.eps_eff.sqrt();
     let e_rejection_db = freqs

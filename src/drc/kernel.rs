@@ -128,7 +128,7 @@ pub(super) fn near_pairs(segs: &[Seg], grow: f64) -> Vec<(usize, usize)> {
     let mut idx: Vec<usize> = (0..segs.len()).collect();
     let xmin = |s: &Seg| s.a.x.min(s.b.x);
     let xmax = |s: &Seg| s.a.x.max(s.b.x);
-    idx.sort_by(|&i, &j| xmin(&segs[i]).partial_cmp(&xmin(&segs[j])).unwrap());
+    idx.sort_by(|&i, &j| xmin(&segs[i]).total_cmp(&xmin(&segs[j])));
     let mut out = Vec::new();
     for (k, &i) in idx.iter().enumerate() {
         let si = &segs[i];

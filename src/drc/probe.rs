@@ -177,14 +177,13 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
         let at: Vec<f64> = vias
             .iter()
             .filter_map(|v| {
+                use kurbo::ParamCurveNearest;
                 let mut best = (f64::INFINITY, 0.0);
                 for (k, w) in row.path.windows(2).enumerate() {
-                    let ab = w[1] - w[0];
-                    let len2 = ab.hypot2().max(1e-30);
-                    let t = ((*v - w[0]).dot(ab) / len2).clamp(0.0, 1.0);
-                    let dd = (*v - (w[0] + ab * t)).hypot();
+                    let n = kurbo::Line::new(w[0], w[1]).nearest(*v, 1e-12);
+                    let dd = n.distance_sq.sqrt();
                     if dd < best.0 {
-                        best = (dd, sl[k] + t * ab.hypot());
+                        best = (dd, sl[k] + n.t * (w[1] - w[0]).hypot());
                     }
                 }
                 (best.0 < 0.01 && best.1 >= row.from - 1e-9 && best.1 <= row.to + 1e-9)

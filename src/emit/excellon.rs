@@ -13,7 +13,7 @@ pub fn drill_file(drills: &[Drill], plated: bool, copper_layers: usize) -> Strin
             tools.push((d.d, d.via));
         }
     }
-    tools.sort_by(|a, b| a.0.partial_cmp(&b.0).unwrap().then(a.1.cmp(&b.1)));
+    tools.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
     let mut s = String::new();
     s.push_str("M48\n");
     let _ = writeln!(

@@ -7,22 +7,10 @@ fn f(v: f64) -> String {
     if v.abs() >= 1e6 {
         return format!("{v:.3e}");
     }
-    let s = format!("{v:.2}");
-    s.trim_end_matches('0').trim_end_matches('.').to_string()
+    crate::math::trimmed(v, 2)
 }
 
-/// A frequency with its unit (Hz, kHz, MHz, GHz), two decimals at most.
-pub fn hz_label(hz: f64) -> String {
-    if hz >= 1e9 {
-        format!("{} GHz", f(hz / 1e9))
-    } else if hz >= 1e6 {
-        format!("{} MHz", f(hz / 1e6))
-    } else if hz >= 1e3 {
-        format!("{} kHz", f(hz / 1e3))
-    } else {
-        format!("{} Hz", f(hz))
-    }
-}
+pub use crate::math::hz_label;
 
 /// One curve of a log-frequency plot.
 #[derive(Debug, Clone)]

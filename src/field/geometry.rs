@@ -7,7 +7,7 @@
 //! the stack (and outside the board's edges, when given) is air.
 
 use crate::error::{FieldError, fmt_num};
-use crate::solve::impedance::{MAX_ER, MAX_LENGTH_MM};
+use crate::model::line::{MAX_ER, MAX_LENGTH_MM};
 
 /// One horizontal dielectric layer.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -517,15 +517,8 @@ fn polygon_distance(a: &[(f64, f64); 4], b: &[(f64, f64); 4]) -> f64 {
 }
 
 fn point_segment(p: (f64, f64), a: (f64, f64), b: (f64, f64)) -> f64 {
-    let (dx, dy) = (b.0 - a.0, b.1 - a.1);
-    let l2 = dx * dx + dy * dy;
-    let t = if l2 > 0.0 {
-        (((p.0 - a.0) * dx + (p.1 - a.1) * dy) / l2).clamp(0.0, 1.0)
-    } else {
-        0.0
-    };
-    let (cx, cy) = (a.0 + t * dx, a.1 + t * dy);
-    ((p.0 - cx).powi(2) + (p.1 - cy).powi(2)).sqrt()
+    let pt = |q: (f64, f64)| kurbo::Point::new(q.0, q.1);
+    crate::model::centreline::dist_to_segment(pt(p), pt(a), pt(b))
 }
 
 /// Separating-axis test for two convex quadrilaterals (degenerate ones included).
@@ -971,16 +964,7 @@ impl CrossSection {
 
 /// A computed length for a message: 6 significant digits, no float noise.
 fn num(v: f64) -> String {
-    if !v.is_finite() || v == 0.0 {
-        return fmt_num(v);
-    }
-    let digits = (5 - v.abs().log10().floor() as i32).max(0) as usize;
-    let s = format!("{v:.digits$}");
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
+    crate::math::sig_fig(v, 6)
 }
 
 fn signal_centre(conductors: &[Conductor]) -> f64 {

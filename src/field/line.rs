@@ -4,7 +4,7 @@
 use super::geometry::{Boundary, Coat, Conductor, CrossSection, Dielectric};
 use super::{Accuracy, FieldSolution, solve};
 use crate::error::Error;
-use crate::solve::impedance::Line;
+use crate::model::line::Line;
 
 /// Solves one of the impedance engine's lines by the field method: validates the line (the
 /// errors name the command-line fields: `width`, `h1`, `er`…), builds its cross-section

@@ -15,7 +15,7 @@
 //!   planes of unlimited width), an optional conformal [`Coat`] (solder mask), via
 //!   [`Fence`]s and a [`Boundary`] (open, or a grounded box). Lengths in mm.
 //!   [`cross_section_for_line`] builds it for every structure of the impedance engine
-//!   ([`Line`](crate::solve::impedance::Line)).
+//!   ([`Line`](crate::model::line::Line)).
 //! - [`solve`]`(&cs, Accuracy::default())` returns a [`FieldSolution`] (Z0, εeff, C, C0,
 //!   mesh size, an error estimate), or an [`Error::Invalid`]
 //!   listing every bad field (name, value, allowed range) for degenerate geometry.
@@ -56,7 +56,7 @@ use mesh::MeshParams;
 use solver::System;
 
 /// Speed of light in vacuum, m/s (exact).
-pub const C0: f64 = 299_792_458.0;
+pub use crate::math::C0;
 
 /// Mesh density. Every setting solves the cross-section on two nested meshes (the second
 /// with every cell of the first halved) and Richardson-extrapolates C and C0 to zero cell

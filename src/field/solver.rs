@@ -18,7 +18,7 @@
 use super::mesh::{FREE, Grid, SIGNAL};
 
 /// Vacuum permittivity ε0 = 1/(μ0·c0²), F/m (CODATA 2022 μ0 = 1.25663706127e-6 H/m).
-pub const EPS0: f64 = 8.854_187_818_8e-12;
+pub use crate::math::EPS0;
 
 /// The assembled system for one grid and one set of permittivities.
 pub(crate) struct System {

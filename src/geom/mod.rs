@@ -10,7 +10,8 @@
 
 pub mod fixture;
 pub mod font;
-pub mod shape;
+/// The loop centreline and its offsets (owned by the model; kept here under its old name).
+pub use crate::model::centreline as shape;
 
 use crate::model::probe::{LoopShape, Probe};
 use crate::solve::probe::{SolvedProbe, VIA_WEB};
@@ -520,7 +521,7 @@ pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
 fn largest(m: &MultiPolygon<f64>) -> Polygon<f64> {
     use geo::Area;
     m.0.iter()
-        .max_by(|a, b| a.unsigned_area().partial_cmp(&b.unsigned_area()).unwrap())
+        .max_by(|a, b| a.unsigned_area().total_cmp(&b.unsigned_area()))
         .cloned()
         .expect("a non-empty region")
 }

@@ -3,8 +3,10 @@
 //!
 //! The model does no IO except through [`stackup::load`], which resolves a name or a path.
 
+pub mod centreline;
 pub mod fab;
 pub mod fixture;
+pub mod line;
 pub mod probe;
 pub mod stackup;
 pub mod units;

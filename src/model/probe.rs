@@ -101,8 +101,7 @@ impl LoopShape {
 
 /// Trims a number for labels: 10 → "10", 2.5 → "2.5".
 pub fn num(v: f64) -> String {
-    let s = format!("{v:.3}");
-    s.trim_end_matches('0').trim_end_matches('.').to_string()
+    crate::math::trimmed(v, 3)
 }
 
 /// Via settings.
@@ -158,7 +157,7 @@ impl Connector {
         ground_pad_length: 3.0,
         ground_pad_offset: 2.5,
         ground_hole_drill: 0.0,
-        return_loss_limit_db: crate::solve::network::DEFAULT_LIMIT_DB,
+        return_loss_limit_db: defaults::RETURN_LOSS_LIMIT_DB,
         refuse_above_limit: false,
     };
 }
@@ -235,6 +234,10 @@ pub struct Family {
 
 /// Default settings (documented in docs/probe-spec.md).
 pub mod defaults {
+    /// Worst return loss a launch may have up to f_max, dB (below 0: −20 dB means
+    /// |S11| ≤ 0.1). Common practice for a launch that is "good enough" for EMC probing; no
+    /// single source.
+    pub const RETURN_LOSS_LIMIT_DB: f64 = -20.0;
     /// Target Z0, Ω.
     pub const TARGET_Z0: f64 = 50.0;
     /// Trace to coplanar ground clearance, mm.

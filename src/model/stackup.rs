@@ -6,7 +6,7 @@
 
 use super::units::oz_to_mm;
 use crate::error::{Error, FieldError, check_positive, check_range, fmt_num};
-use crate::solve::impedance::{CoatedMicrostrip, Cpwg, Line, Microstrip, Stripline, Structure};
+use crate::model::line::{CoatedMicrostrip, Cpwg, Line, Microstrip, Stripline, Structure};
 use crate::spec::parse_toml;
 use crate::spec::stackup::{LayerSpec, MaskSpec, StackupSpec};
 

@@ -19,19 +19,7 @@
 use super::{LoopShape, MU0, Response, loop_height_mm};
 use std::f64::consts::PI;
 
-/// A test line as the coupling model sees it (all m, Ω).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct TestLine {
-    /// Strip width, m (0: a thin filament).
-    pub width: f64,
-    /// Height of the current sheet (the strip's mid-thickness) over its ground plane, m.
-    pub h: f64,
-    /// Height of the strip's copper top above the sheet (half the copper thickness), m:
-    /// probe heights are given above the copper's top.
-    pub top: f64,
-    /// Port (and termination) impedance, Ω.
-    pub r_port: f64,
-}
+pub use crate::solve::fixture::TestLine;
 
 /// Field of one strip and its image at (x, z), z above the strip (A/m per A): (Hx, Hz).
 ///
@@ -82,16 +70,15 @@ pub struct Coupling {
 }
 
 impl Coupling {
-    /// Predicted S21 (line input → probe output) at `f` Hz, as (re, im), for a probe whose
+    /// Predicted S21 (line input → probe output) at `f` Hz, complex, for a probe whose
     /// response is `r` (its outer inductance, gap capacitance and inner line). The phase is
     /// referred to the line's current under the probe: the delay of the fixture's line up to
     /// the probe is not included (a measured phase carries it); the probe's own feed run
     /// enters by its loss only, and the sign follows the loop's orientation.
-    pub fn s21(&self, r: &Response, f: f64) -> (f64, f64) {
+    pub fn s21(&self, r: &Response, f: f64) -> super::Cx {
         // jωM/R_port · V_out/V_oc.
         let w = 2.0 * PI * f;
-        let t = r.gap_transfer(f) * super::Cx::new(0.0, w * self.mutual / self.r_port);
-        (t.re, t.im)
+        r.gap_transfer(f) * super::Cx::new(0.0, w * self.mutual / self.r_port)
     }
 }
 
@@ -160,14 +147,14 @@ pub fn probe_coupling(
     }
 }
 
-/// Predicted S21 of a built probe over `freqs` (Hz): (Hz, (re, im)).
+/// Predicted S21 of a built probe over `freqs` (Hz): (Hz, S21).
 pub fn probe_s21(
     _p: &crate::model::probe::Probe,
     _s: &crate::solve::probe::SolvedProbe,
     r: &Response,
     c: &Coupling,
     freqs: &[f64],
-) -> Vec<(f64, (f64, f64))> {
+) -> Vec<(f64, super::Cx)> {
     freqs.iter().map(|&f| (f, c.s21(r, f))).collect()
 }
 
@@ -181,18 +168,17 @@ use crate::solve::network::{Abcd, Section, cascade};
 /// incident wave V_inc) when that end sees `z_right` Ω, per V_inc/r_port: 1 (at some phase) for
 /// a matched uniform line. With V_s = 2·V_inc behind r_port and (V1, I1) = M·(V2, I2),
 /// V2 = Z·I2: I2 = 2·V_inc/(A·Z + B + r_port·(C·Z + D)).
-pub fn current_ratio(left: &Abcd, z_right: super::Cx, r_port: f64) -> (f64, f64) {
+pub fn current_ratio(left: &Abcd, z_right: super::Cx, r_port: f64) -> super::Cx {
     use super::Cx;
     let r = Cx::new(r_port, 0.0);
     let den = left.a * z_right + left.b + r * (left.c * z_right + left.d);
-    let k = Cx::new(2.0 * r_port, 0.0) / den;
-    (k.re, k.im)
+    Cx::new(2.0 * r_port, 0.0) / den
 }
 
 /// The line current at the probe per V_inc/r_port at `f` Hz, for a line made of `to_probe`
 /// (sections from the driven port to the probe position) and `beyond` (from the probe to the
-/// far end, terminated in r_port). Complex result as (re, im).
-pub fn launch_current(to_probe: &[Section], beyond: &[Section], r_port: f64, f: f64) -> (f64, f64) {
+/// far end, terminated in r_port). Complex.
+pub fn launch_current(to_probe: &[Section], beyond: &[Section], r_port: f64, f: f64) -> super::Cx {
     let z = cascade(beyond, f).z_in(super::Cx::new(r_port, 0.0));
     current_ratio(&cascade(to_probe, f), z, r_port)
 }
@@ -210,7 +196,7 @@ mod launch_tests {
         };
         for f in [1e6, 1e9, 3e9] {
             let k = launch_current(&[s(0.03)], &[s(0.05)], 50.0, f);
-            assert!((k.0.hypot(k.1) - 1.0).abs() < 1e-12, "{f}: {k:?}");
+            assert!((k.abs() - 1.0).abs() < 1e-12, "{f}: {k:?}");
         }
     }
 
@@ -229,9 +215,6 @@ mod launch_tests {
         };
         let k = launch_current(&[q], &[], 50.0, f);
         let g: f64 = 150.0 / 250.0;
-        assert!(
-            (k.0.hypot(k.1) - (1.0 - g * g).sqrt()).abs() < 1e-12,
-            "{k:?}"
-        );
+        assert!((k.abs() - (1.0 - g * g).sqrt()).abs() < 1e-12, "{k:?}");
     }
 }

@@ -34,11 +34,11 @@
 //! straight trace, with the loop's plane along it, the trace's field lies along the axis and is
 //! rejected by symmetry; tilting the probe in its own plane by ψ brings sin ψ of it across.
 
-use super::{C0, MU0};
+use super::C0;
 use std::f64::consts::PI;
 
 /// Wave impedance of free space, μ0·c0, Ω.
-pub const ETA0: f64 = MU0 * C0;
+pub use crate::math::ETA0;
 
 /// The error budget of the upper usable frequency: the largest change, dB, that the effects
 /// the model leaves out may make to a reading.

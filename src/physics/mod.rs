@@ -24,10 +24,7 @@ use crate::model::stackup::Layer;
 use crate::solve::probe::SolvedProbe;
 use std::f64::consts::PI;
 
-/// μ0, H/m (CODATA 2022, 1.25663706127e-6; the classical 4π·1e-7 differs by 1e-10).
-pub const MU0: f64 = 1.256_637_061_27e-6;
-/// Speed of light, m/s.
-pub const C0: f64 = 299_792_458.0;
+pub use crate::math::{C0, MU0};
 /// The load the probe drives, Ω.
 pub const R_LOAD: f64 = 50.0;
 
@@ -336,59 +333,7 @@ pub struct Response {
     pub options: PredictOptions,
 }
 
-/// A complex number, just what the transfer needs.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Cx {
-    /// Real part.
-    pub re: f64,
-    /// Imaginary part.
-    pub im: f64,
-}
-
-impl std::ops::Add for Cx {
-    type Output = Cx;
-    fn add(self, o: Cx) -> Cx {
-        Cx::new(self.re + o.re, self.im + o.im)
-    }
-}
-
-impl std::ops::Mul for Cx {
-    type Output = Cx;
-    fn mul(self, o: Cx) -> Cx {
-        Cx::new(
-            self.re * o.re - self.im * o.im,
-            self.re * o.im + self.im * o.re,
-        )
-    }
-}
-
-impl std::ops::Div for Cx {
-    type Output = Cx;
-    fn div(self, o: Cx) -> Cx {
-        let d = o.re * o.re + o.im * o.im;
-        Cx::new(
-            (self.re * o.re + self.im * o.im) / d,
-            (self.im * o.re - self.re * o.im) / d,
-        )
-    }
-}
-
-impl Cx {
-    /// re + j·im.
-    pub const fn new(re: f64, im: f64) -> Cx {
-        Cx { re, im }
-    }
-    /// Modulus.
-    pub fn abs(self) -> f64 {
-        self.re.hypot(self.im)
-    }
-    /// tanh(z) = (sinh 2a + j sin 2b)/(cosh 2a + cos 2b), z = a + jb.
-    pub fn tanh(self) -> Cx {
-        let (a, b) = (2.0 * self.re, 2.0 * self.im);
-        let d = a.cosh() + b.cos();
-        Cx::new(a.sinh() / d, b.sin() / d)
-    }
-}
+pub use crate::math::Cx;
 
 /// Resistivity of annealed copper, Ω·m (IEC 60028 standard annealed copper, 1.7241e-8).
 pub const RHO_CU: f64 = 1.7241e-8;
@@ -555,7 +500,7 @@ pub fn shield_current(p: &Probe, s: &SolvedProbe) -> Result<shield::ShieldCurren
 
 /// The loop's centreline as a closed polygon, m.
 fn centreline_m(shape: &LoopShape) -> Vec<(f64, f64)> {
-    crate::geom::shape::closed(shape, 0.0)
+    crate::model::centreline::closed(shape, 0.0)
         .iter()
         .map(|q| (q.x * 1e-3, q.y * 1e-3))
         .collect()
@@ -589,7 +534,7 @@ pub fn filaments(c: &shield::ShieldCurrent, per_plate: usize) -> Vec<(f64, f64, 
     let n = c.per_plate.max(1);
     let mut group = n.div_ceil(per_plate.max(1));
     // Groups must not straddle two plates.
-    while n % group != 0 {
+    while !n.is_multiple_of(group) {
         group += 1;
     }
     let mut out = Vec::new();

@@ -42,8 +42,8 @@ pub struct SolvedFixture {
 
 impl SolvedFixture {
     /// The line as the coupling model sees it (m), driven and terminated in `r_port` Ω.
-    pub fn test_line(&self, r_port: f64) -> crate::physics::coupling::TestLine {
-        crate::physics::coupling::TestLine {
+    pub fn test_line(&self, r_port: f64) -> TestLine {
+        TestLine {
             width: self.width * 1e-3,
             h: (self.h + self.t / 2.0) * 1e-3,
             top: self.t / 2.0 * 1e-3,
@@ -402,4 +402,18 @@ pub fn launch_sections(f: &Fixture, s: &SolvedFixture) -> Result<Vec<Section>, E
         len_m: (f.length / 2.0 - narrow) * 1e-3,
     });
     Ok(out)
+}
+
+/// A test line as the coupling model sees it (all m, Ω).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TestLine {
+    /// Strip width, m (0: a thin filament).
+    pub width: f64,
+    /// Height of the current sheet (the strip's mid-thickness) over its ground plane, m.
+    pub h: f64,
+    /// Height of the strip's copper top above the sheet (half the copper thickness), m:
+    /// probe heights are given above the copper's top.
+    pub top: f64,
+    /// Port (and termination) impedance, Ω.
+    pub r_port: f64,
 }

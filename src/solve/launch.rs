@@ -277,8 +277,7 @@ fn solve_uncached(
     let d_max = 2.0 * (pitch_max - p.vias.pad / 2.0 - VIA_WEB - SIGNAL_RING_MARGIN);
     let ((_, er_up), (_, er_down)) = via_stretches(p, p.signal_layer);
     let coax_d = |er: f64| {
-        let d = p.vias.drill
-            * (target * er.sqrt() / (crate::physics::electric::ETA0 / (2.0 * PI))).exp();
+        let d = p.vias.drill * (target * er.sqrt() / (crate::math::ETA0 / (2.0 * PI))).exp();
         d.min(d_max).max(antipad_d)
     };
     let mut launch = SolvedLaunch {

@@ -4,16 +4,14 @@
 //! 4th ed., ch. 4, from memory; checked against scikit-rf's cascade in
 //! `tests/launch_budget.rs`).
 
-use crate::physics::Cx;
+use crate::math::Cx;
 use std::f64::consts::PI;
 
 /// Speed of light, m/s.
-const C0: f64 = 299_792_458.0;
+use crate::math::C0;
 
-/// Default worst return loss a launch may have up to f_max, dB (below 0: −20 dB means
-/// |S11| ≤ 0.1). Common practice for a launch that is "good enough" for EMC probing; no
-/// single source.
-pub const DEFAULT_LIMIT_DB: f64 = -20.0;
+/// Default worst return loss a launch may have up to f_max, dB (the model's default).
+pub use crate::model::probe::defaults::RETURN_LOSS_LIMIT_DB as DEFAULT_LIMIT_DB;
 
 /// One section of a launch.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -174,7 +172,7 @@ pub fn s11_db(sections: &[Section], z_ref: f64, z_load: f64, f: f64) -> f64 {
 /// Coaxial Z0 of a via of finished hole `d` mm in an antipad of diameter `dd` mm, in a
 /// dielectric `er`: (η0/2π)/√εr·ln(D/d), Ω.
 pub fn coax_z0(d: f64, dd: f64, er: f64) -> f64 {
-    crate::physics::electric::ETA0 / (2.0 * PI) / er.sqrt() * (dd / d).ln()
+    crate::math::ETA0 / (2.0 * PI) / er.sqrt() * (dd / d).ln()
 }
 
 /// A launch's budget over a band.

@@ -9,7 +9,7 @@ use crate::solve::impedance::{
 };
 
 /// Speed of light in vacuum, m/s (exact).
-pub const C0: f64 = 299_792_458.0;
+pub use crate::math::C0;
 
 /// Margin between a via pad and a copper edge of the same net, mm (our construction rule).
 pub const VIA_WEB: f64 = 0.05;

@@ -157,7 +157,7 @@ pub fn solve_width(
         z_wide = z_or_nan(w_hi);
     }
     if !(target_ohms <= z_narrow && target_ohms >= z_wide) {
-        return Err(Error::Unsolvable(format!(
+        return Err(Error::OutOfReach(format!(
             "target = {} Ω is out of reach for {} by {}: Z0 runs from {} Ω (w = {} mm) \
              down to {} Ω (w = {} mm)",
             sig(target_ohms),
@@ -212,9 +212,7 @@ fn solve_width_field(
         Ok((l, _)) => l.width(),
         // Out of the closed form's reach is out of the field's too, to within a few percent;
         // say so plainly rather than search blindly.
-        Err(Error::Unsolvable(m)) if m.contains("out of reach") => {
-            return Err(Error::Unsolvable(m));
-        }
+        Err(e @ Error::OutOfReach(_)) => return Err(e),
         Err(_) => scale,
     };
     let z_of = |w: f64| -> Result<f64, Error> {

@@ -150,13 +150,8 @@ pub fn dist_to_polyline(p: Point, pts: &[Point]) -> f64 {
 
 /// Distance from a point to a segment.
 pub fn dist_to_segment(p: Point, a: Point, b: Point) -> f64 {
-    let ab = b - a;
-    let l2 = ab.hypot2();
-    if l2 == 0.0 {
-        return (p - a).hypot();
-    }
-    let t = ((p - a).dot(ab) / l2).clamp(0.0, 1.0);
-    (p - (a + ab * t)).hypot()
+    use kurbo::ParamCurveNearest;
+    kurbo::Line::new(a, b).nearest(p, 1e-12).distance_sq.sqrt()
 }
 
 #[cfg(test)]

@@ -1,0 +1,141 @@
+//! Physical constants, complex numbers and number formatting: the bottom of the library's
+//! import order (docs/architecture.md), used by every layer above it.
+
+/// Speed of light in vacuum, m/s (exact by the SI definition).
+pub const C0: f64 = 299_792_458.0;
+/// μ0, H/m (CODATA 2022, 1.25663706127e-6; the classical 4π·1e-7 differs by 1e-10).
+pub const MU0: f64 = 1.256_637_061_27e-6;
+/// ε0, F/m (CODATA 2022).
+pub const EPS0: f64 = 8.854_187_818_8e-12;
+/// Impedance of free space η0 = μ0·c0, Ω.
+pub const ETA0: f64 = MU0 * C0;
+
+/// A complex number, just what the transfer needs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Cx {
+    /// Real part.
+    pub re: f64,
+    /// Imaginary part.
+    pub im: f64,
+}
+
+impl std::ops::Add for Cx {
+    type Output = Cx;
+    fn add(self, o: Cx) -> Cx {
+        Cx::new(self.re + o.re, self.im + o.im)
+    }
+}
+
+impl std::ops::Mul for Cx {
+    type Output = Cx;
+    fn mul(self, o: Cx) -> Cx {
+        Cx::new(
+            self.re * o.re - self.im * o.im,
+            self.re * o.im + self.im * o.re,
+        )
+    }
+}
+
+impl std::ops::Div for Cx {
+    type Output = Cx;
+    fn div(self, o: Cx) -> Cx {
+        let d = o.re * o.re + o.im * o.im;
+        Cx::new(
+            (self.re * o.re + self.im * o.im) / d,
+            (self.im * o.re - self.re * o.im) / d,
+        )
+    }
+}
+
+impl Cx {
+    /// re + j·im.
+    pub const fn new(re: f64, im: f64) -> Cx {
+        Cx { re, im }
+    }
+    /// Modulus.
+    pub fn abs(self) -> f64 {
+        self.re.hypot(self.im)
+    }
+    /// tanh(z) = (sinh 2a + j sin 2b)/(cosh 2a + cos 2b), z = a + jb.
+    pub fn tanh(self) -> Cx {
+        let (a, b) = (2.0 * self.re, 2.0 * self.im);
+        let d = a.cosh() + b.cos();
+        Cx::new(a.sinh() / d, b.sin() / d)
+    }
+}
+
+/// Formats a number for a message without noise (`NaN`, `inf`, `0.2`).
+pub fn fmt_num(v: f64) -> String {
+    if v.is_nan() {
+        "NaN".to_string()
+    } else if v != 0.0 && v.is_finite() && !(1e-4..1e7).contains(&v.abs()) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
+    }
+}
+
+/// A number to `n` significant digits for a message, trailing zeros trimmed, no float noise
+/// (`0` as "0", NaN and infinities as [`fmt_num`] writes them).
+pub fn sig_fig(v: f64, n: i32) -> String {
+    if !v.is_finite() {
+        return fmt_num(v);
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let digits = (n - 1 - v.abs().log10().floor() as i32).max(0) as usize;
+    let s = format!("{v:.digits$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// A number to at most `d` decimals, trailing zeros trimmed: 10 → "10", 2.5 → "2.5".
+pub fn trimmed(v: f64, d: usize) -> String {
+    let s = format!("{v:.d$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// A frequency with its unit (Hz, kHz, MHz, GHz), two decimals at most.
+pub fn hz_label(hz: f64) -> String {
+    let f = |v: f64| {
+        if v.abs() >= 1e6 {
+            format!("{v:.3e}")
+        } else {
+            trimmed(v, 2)
+        }
+    };
+    if hz >= 1e9 {
+        format!("{} GHz", f(hz / 1e9))
+    } else if hz >= 1e6 {
+        format!("{} MHz", f(hz / 1e6))
+    } else if hz >= 1e3 {
+        format!("{} kHz", f(hz / 1e3))
+    } else {
+        format!("{} Hz", f(hz))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formats() {
+        assert_eq!(sig_fig(49.8612, 4), "49.86");
+        assert_eq!(sig_fig(0.000123456, 6), "0.000123456");
+        assert_eq!(sig_fig(1000.025, 4), "1000");
+        assert_eq!(trimmed(10.0, 3), "10");
+        assert_eq!(trimmed(2.5, 3), "2.5");
+        assert_eq!(hz_label(2.5e9), "2.5 GHz");
+        assert_eq!(hz_label(150e3), "150 kHz");
+        assert!((ETA0 - 376.730_313_412).abs() < 1e-6);
+    }
+}
