@@ -1,0 +1,212 @@
+//! The probe board builder: from a probe and its solved values to the `Board`.
+
+use super::region::*;
+use super::shape::{closed, left_half, mirror};
+use super::silk::*;
+use super::vias::*;
+use super::*;
+use crate::model::probe::Probe;
+use crate::solve::probe::{SolvedProbe, VIA_WEB};
+use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
+use kurbo::Point;
+
+/// Builds the board of a probe.
+pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
+    let w = s.trace_width;
+    let c = p.clearance;
+    let pad = p.vias.pad;
+    let f = s.fence_offset;
+    let hr = s.ring_half_width;
+    let e = s.feed_offset;
+    let cte = p.fab.copper_to_edge;
+    let shape = &p.shape;
+
+    // --- Loop part of the trace: E_in (x = −e, lower left) → top → E_out (x = +e).
+    let left = left_half(shape, 0.0);
+    // The last segment (from the top) where the left half crosses x = −e on its way back to the
+    // axis at the bottom.
+    let k = (0..left.len() - 1)
+        .rev()
+        .find(|&i| left[i].x <= -e && left[i + 1].x > -e)
+        .expect("the loop is wider than the feed offset (checked in solve)");
+    let (a, b) = (left[k], left[k + 1]);
+    let t = (-e - a.x) / (b.x - a.x);
+    let e_in = Point::new(-e, a.y + t * (b.y - a.y));
+    // Flattened-curve points very close to the entry or exit would make segments too short to
+    // have a direction (the offset of such a segment is noise): skip them.
+    let far = |q: &Point| (*q - e_in).hypot() > 1e-3;
+    let mut loop_part: Vec<Point> = vec![e_in];
+    loop_part.extend(left[..=k].iter().rev().copied().filter(far));
+    loop_part.extend(left[1..=k].iter().filter(|q| far(q)).map(|q| mirror(*q)));
+    loop_part.push(mirror(e_in));
+    dedup(&mut loop_part);
+
+    // --- Board frame: connector edge and signal via.
+    let bottom = left.last().unwrap().y; // centreline bottom (on the axis)
+    let ring_bottom = bottom - hr;
+    let edge_y = ring_bottom - p.handle.length;
+    let cp_len = p.connector.centre_pad_length;
+    let sv = Point::new(0.0, edge_y + cp_len + s.launch.link_length);
+    let jog_y = sv.y + pad / 2.0 + c + pad;
+    let feed = vec![sv, Point::new(0.0, jog_y), Point::new(-e, jog_y + e), e_in];
+    let mut trace_path = feed.clone();
+    let entry_index = trace_path.len() - 1;
+    trace_path.extend(loop_part.iter().skip(1).copied());
+    let exit_index = trace_path.len() - 1;
+    let e_out = *trace_path.last().unwrap();
+    let stub_end = Point::new(e, e_out.y - (w / 2.0 + c + 2.0 * pad));
+    trace_path.push(stub_end);
+
+    // --- Top-layer link: from the centre pad's inner end to the signal via.
+    let top_path = vec![
+        Point::new(
+            0.0,
+            edge_y + cp_len - 0.5 * p.connector.centre_pad_width.min(cp_len),
+        ),
+        sv,
+    ];
+
+    // --- Shield: ring ∪ handle, pulled back from the board edge. Where the handle meets the
+    // ring the union can leave a sharp notch; a closing (grow, then shrink, by more than the fab
+    // space) fills every notch narrower than that, and the loop interior is then taken out again.
+    let hw = p.handle.width / 2.0;
+    let interior = polygon(&closed(shape, -hr));
+    let r_close = p.fab.min_space.max(p.clearance) + 0.05;
+    let extent = MultiPolygon(vec![polygon(&closed(shape, hr))]).union(&MultiPolygon(vec![rect(
+        -hw,
+        edge_y + cte,
+        hw,
+        bottom,
+    )]));
+    let extent = largest(&symmetrise(&round_buffer(
+        &round_buffer(&extent, r_close),
+        -r_close,
+    )));
+    let shield =
+        MultiPolygon(vec![extent.clone()]).difference(&MultiPolygon(vec![interior.clone()]));
+
+    // --- Gap over the top of the ring.
+    let top = left[0].y;
+    let gap_y = (top - hr - 0.5, top + hr + 0.5);
+
+    // --- Outline: the copper extent grown by the copper-to-edge rule (round joins), which puts
+    // the connector edge at `edge_y`.
+    let grown = largest(&symmetrise(&round_buffer(&MultiPolygon(vec![extent]), cte)));
+    let mut outline = Polygon::new(grown.exterior().clone(), vec![]);
+    if p.mill_interior {
+        let cut = closed(shape, -hr - cte);
+        outline.interiors_push(LineString::from(
+            cut.iter()
+                .map(|q| Coord { x: q.x, y: q.y })
+                .collect::<Vec<_>>(),
+        ));
+    }
+
+    // --- Connector pads and holes.
+    let con = &p.connector;
+    let mut pads = vec![Pad {
+        at: Point::new(0.0, edge_y + cp_len / 2.0),
+        w: con.centre_pad_width,
+        h: cp_len,
+        top: true,
+        centre: true,
+    }];
+    let mut holes = Vec::new();
+    for side in [-1.0, 1.0] {
+        for top_side in [true, false] {
+            pads.push(Pad {
+                at: Point::new(
+                    side * con.ground_pad_offset,
+                    edge_y + con.ground_pad_length / 2.0,
+                ),
+                w: con.ground_pad_width,
+                h: con.ground_pad_length,
+                top: top_side,
+                centre: false,
+            });
+        }
+        if con.ground_hole_drill > 0.0 {
+            holes.push(Hole {
+                at: Point::new(
+                    side * con.ground_pad_offset,
+                    edge_y + con.ground_pad_length / 2.0,
+                ),
+                drill: con.ground_hole_drill,
+                pad: (con.ground_hole_drill + 2.0 * p.fab.min_annular_ring.max(0.15))
+                    .min(con.ground_pad_width),
+            });
+        }
+    }
+
+    // --- Vias.
+    let mut placer = ViaPlacer {
+        p,
+        s,
+        vias: Vec::new(),
+        trace: trace_path[..=exit_index].to_vec(),
+        top_path: top_path.clone(),
+        shield: shield.clone(),
+        pads: pads.clone(),
+        sv,
+    };
+    placer.vias.push(Via {
+        at: sv,
+        drill: p.vias.drill,
+        pad,
+        role: ViaRole::Signal,
+    });
+    // Short vias on the stub, in solid ground below the channel.
+    let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
+    for q in [short1, Point::new(e, short1.y - s.pitch_min - 1e-4)] {
+        placer.vias.push(Via {
+            at: q,
+            drill: p.vias.drill,
+            pad,
+            role: ViaRole::Short,
+        });
+    }
+    placer.rows(shape, -f, ViaRole::InnerRow);
+    placer.rows(shape, f, ViaRole::OuterRow);
+    // Ground vias around the signal via, then around the connector's ground pads.
+    placer.signal_ring(crate::solve::launch::signal_ring_radius(p, &s.launch));
+    placer.pad_vias();
+    placer.fences(&feed);
+    let vias = placer.vias;
+
+    // --- Silkscreen.
+    let (silk_top, silk_bottom) = silk(p, s, edge_y, bottom, hw);
+
+    let (mut lo, mut hi) = (
+        Point::new(f64::MAX, f64::MAX),
+        Point::new(f64::MIN, f64::MIN),
+    );
+    for q in outline.exterior().coords() {
+        lo = Point::new(lo.x.min(q.x), lo.y.min(q.y));
+        hi = Point::new(hi.x.max(q.x), hi.y.max(q.y));
+    }
+    Board {
+        trace_path,
+        exit_index,
+        entry_index,
+        trace_width: w,
+        top_path,
+        top_width: s.top_width,
+        clearance: c,
+        pad_gap: s.launch.pad_gap,
+        barrel_antipad_d: s.launch.barrel_antipad_d,
+        stub_antipad_d: s.launch.stub_antipad_d,
+        relief_layers: s.launch.relieved_layers().collect(),
+        shield,
+        gap_y,
+        gap: p.gap,
+        vias,
+        pads,
+        holes,
+        outline,
+        interior,
+        silk_top,
+        silk_bottom,
+        edge_y,
+        bbox: (lo, hi),
+    }
+}

@@ -1,0 +1,271 @@
+//! Via placement: the stitching rows, the ring round the signal via, the connector pads' vias
+//! and the feed's fences, each via checked against the construction rules.
+
+use super::path::*;
+use super::shape::{arclengths, dist_to_polyline, left_half, mirror, point_at};
+use super::*;
+use crate::model::probe::{LoopShape, Probe};
+use crate::solve::probe::{SolvedProbe, VIA_WEB};
+use geo::MultiPolygon;
+use kurbo::{Point, Vec2};
+
+pub(super) struct ViaPlacer<'a> {
+    pub(super) p: &'a Probe,
+    pub(super) s: &'a SolvedProbe,
+    pub(super) vias: Vec<Via>,
+    pub(super) trace: Vec<Point>,
+    pub(super) top_path: Vec<Point>,
+    pub(super) shield: MultiPolygon<f64>,
+    pub(super) pads: Vec<Pad>,
+    pub(super) sv: Point,
+}
+
+impl ViaPlacer<'_> {
+    /// True when a via at `q` keeps every construction rule.
+    pub(super) fn ok(&self, q: Point) -> bool {
+        use geo::{Contains, Distance, Euclidean};
+        let pad = self.p.vias.pad;
+        let f = self.s.fence_offset;
+        let c = self.p.clearance;
+        // Clear of the loop trace and its channel, and of the top link's channel.
+        if dist_to_polyline(q, &self.trace) < f - TOL {
+            return false;
+        }
+        let f_top = self.s.top_width / 2.0 + c + pad / 2.0 + VIA_WEB;
+        if dist_to_polyline(q, &self.top_path) < f_top - TOL {
+            return false;
+        }
+        let l = &self.s.launch;
+        let antipad = l.antipad_d.max(l.barrel_antipad_d).max(l.stub_antipad_d) / 2.0;
+        if (q - self.sv).hypot() < antipad + pad / 2.0 + VIA_WEB - TOL {
+            return false;
+        }
+        // Clear of the gap.
+        if q.y > 0.0 && q.x.abs() < self.p.gap / 2.0 + pad / 2.0 + 0.1 {
+            return false;
+        }
+        // Clear of the connector pads (the centre pad with its gap, which is also the
+        // relief's extent on the layers below).
+        for pd in &self.pads {
+            let w = if pd.centre {
+                pd.w + 2.0 * self.s.launch.pad_gap
+            } else {
+                pd.w
+            };
+            if (q.x - pd.at.x).abs() < w / 2.0 + pad / 2.0 + 0.1
+                && (q.y - pd.at.y).abs() < pd.h / 2.0 + pad / 2.0 + 0.1
+            {
+                return false;
+            }
+        }
+        // Inside the shield with a rim.
+        let pt = geo::Point::new(q.x, q.y);
+        if !self.shield.contains(&pt) {
+            return false;
+        }
+        let edge = self
+            .shield
+            .0
+            .iter()
+            .map(|poly| {
+                std::iter::once(poly.exterior())
+                    .chain(poly.interiors())
+                    .map(|r| Euclidean.distance(&pt, r))
+                    .fold(f64::INFINITY, f64::min)
+            })
+            .fold(f64::INFINITY, f64::min);
+        if edge < pad / 2.0 + VIA_WEB - TOL {
+            return false;
+        }
+        // Fab via pitch.
+        self.vias
+            .iter()
+            .all(|v| (v.at - q).hypot() >= self.s.pitch_min + 1e-5)
+    }
+
+    pub(super) fn try_add(&mut self, q: Point, role: ViaRole) -> bool {
+        if self.ok(q) {
+            self.vias.push(Via {
+                at: q,
+                drill: self.p.vias.drill,
+                pad: self.p.vias.pad,
+                role,
+            });
+            true
+        } else {
+            false
+        }
+    }
+
+    /// The ring of ground vias around the signal via, radius `rg`, in mirror pairs: walking the
+    /// circle from straight down (towards the connector) to straight up, a via goes at the
+    /// first allowed place and then wherever it stands the fab's smallest pitch from the last
+    /// one, so the ring is as dense as the fab allows where the two lines leave it free (the
+    /// top link's channel below, the feed's channel above).
+    pub(super) fn signal_ring(&mut self, rg: f64) {
+        let spacing = self.s.pitch_min + 1e-4;
+        let steps = 720;
+        let mut last: Option<Point> = None;
+        for i in 0..=steps {
+            let phi = std::f64::consts::PI * i as f64 / steps as f64;
+            let q = self.sv + Vec2::new(phi.sin(), -phi.cos()) * rg;
+            if last.is_some_and(|l| (q - l).hypot() < spacing) {
+                continue;
+            }
+            if q.x < 1e-9 {
+                // On the axis (straight down or up): one via, no mirror.
+                let q = Point::new(0.0, q.y);
+                if self.try_add(q, ViaRole::SignalGround) {
+                    last = Some(q);
+                }
+                continue;
+            }
+            if self.ok(q) && self.ok(mirror(q)) && 2.0 * q.x >= spacing {
+                self.try_add(q, ViaRole::SignalGround);
+                if self.try_add(mirror(q), ViaRole::SignalGround) {
+                    last = Some(q);
+                } else {
+                    self.vias.pop();
+                }
+            }
+        }
+    }
+
+    /// Ground vias around each connector ground pad: a walk round the pad's keep-out (the pad
+    /// grown by half a via pad and a 0.1 mm web), placing a via wherever it stands half the
+    /// stitching limit from the last one there, with its mirror image. Places outside the shield (towards the board
+    /// edge) or in a line's channel are refused by [`Self::ok`]. Top and bottom pads share
+    /// their place, so one walk serves both.
+    pub(super) fn pad_vias(&mut self) {
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
+        let grow = self.p.vias.pad / 2.0 + 0.1 + 1e-3;
+        let mut seen: Vec<Point> = Vec::new();
+        // The right-hand pads; each via is placed with its mirror image (the board is
+        // symmetric about its axis).
+        let pads: Vec<Pad> = self
+            .pads
+            .iter()
+            .filter(|pd| !pd.centre && pd.at.x > 0.0)
+            .copied()
+            .collect();
+        for pd in pads {
+            if seen.iter().any(|q| (*q - pd.at).hypot() < 1e-9) {
+                continue;
+            }
+            seen.push(pd.at);
+            let (hx, hy) = (pd.w / 2.0 + grow, pd.h / 2.0 + grow);
+            // Anticlockwise from the inner end's middle (towards the loop).
+            let (x0, y0) = (pd.at.x, pd.at.y);
+            let ring = [
+                Point::new(x0, y0 + hy),
+                Point::new(x0 - hx, y0 + hy),
+                Point::new(x0 - hx, y0 - hy),
+                Point::new(x0 + hx, y0 - hy),
+                Point::new(x0 + hx, y0 + hy),
+                Point::new(x0, y0 + hy),
+            ];
+            let s = arclengths(&ring);
+            let total = *s.last().unwrap();
+            let mut first: Option<Point> = None;
+            let mut last: Option<Point> = None;
+            let mut t = 0.0;
+            while t < total {
+                let (q, _) = point_at(&ring, &s, t);
+                let far_enough = last.is_none_or(|l| (q - l).hypot() >= step)
+                    && first.is_none_or(|f| (q - f).hypot() >= step);
+                if far_enough && self.ok(q) && self.ok(mirror(q)) {
+                    self.try_add(q, ViaRole::PadGround);
+                    if self.try_add(mirror(q), ViaRole::PadGround) {
+                        first = first.or(Some(q));
+                        last = Some(q);
+                    } else {
+                        self.vias.pop();
+                    }
+                }
+                t += 0.01;
+            }
+        }
+        // A via left alone by a blocked stretch (farther than the stitching limit from every
+        // other via) stitches nothing: drop it with its mirror image, until none is left.
+        loop {
+            let lonely = self.vias.iter().position(|v| {
+                v.role == ViaRole::PadGround
+                    && self
+                        .vias
+                        .iter()
+                        .filter(|o| (o.at - v.at).hypot() > 1e-9)
+                        .all(|o| (o.at - v.at).hypot() > self.s.pitch_max)
+            });
+            let Some(i) = lonely else { break };
+            let q = self.vias.remove(i).at;
+            self.vias
+                .retain(|v| !(v.role == ViaRole::PadGround && (v.at - mirror(q)).hypot() < 1e-9));
+        }
+    }
+
+    /// A stitching row along the loop at offset `off`, in mirror pairs.
+    pub(super) fn rows(&mut self, shape: &LoopShape, off: f64, role: ViaRole) {
+        let half = left_half(shape, off);
+        let s = arclengths(&half);
+        let keep = shape::gap_keep(self.p.gap, self.p.vias.pad);
+        // Start where the row leaves the gap's keep-out.
+        let s0 = shape::row_start(&half, &s, keep);
+        // Equal straight-line spacing from the gap's edge to the axis, so that corners do not
+        // bring two vias closer than the fab allows, with the fewest steps whose length is
+        // within the pitch limit: one walk at the limit counts the whole steps that fit, and
+        // one more (shortened) step ends on the axis. No ceiling on the count; should a
+        // strange path need more, the next counts are tried, and the design-rule check's row
+        // coverage refuses a row left with gaps.
+        let d_max = 0.95 * self.s.pitch_max;
+        let fit = walk(&half, &s, s0, d_max, usize::MAX).len() - 1;
+        let positions = (fit.max(1)..=2 * fit + 8)
+            .find_map(|n| {
+                let d = steps_to_end(&half, &s, s0, n)?;
+                (d <= d_max).then_some((n, d))
+            })
+            .map(|(n, d)| walk(&half, &s, s0, d, n))
+            .unwrap_or_else(|| vec![s0]);
+        for t in positions {
+            let (q, _) = point_at(&half, &s, t);
+            if q.x.abs() < 1e-6 {
+                let q = Point::new(0.0, q.y);
+                self.try_add(q, role);
+                continue;
+            }
+            if self.ok(q) && self.ok(mirror(q)) {
+                self.try_add(q, role);
+                if !self.try_add(mirror(q), role) {
+                    self.vias.pop();
+                }
+            }
+        }
+    }
+
+    /// Fences on both sides of the feed line, up to where it joins the loop. Each side walks
+    /// the feed's offset curve with round joins (so that the outside of a bend is covered) in
+    /// fine steps and places a via as soon as it stands a step from the last one on that side:
+    /// consecutive fence vias are a step apart, or the first allowed place after a blocked
+    /// stretch.
+    pub(super) fn fences(&mut self, feed: &[Point]) {
+        let f = self.s.fence_offset;
+        // Half the pitch limit: a tight fence beside the feed, where the line leaves the loop.
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
+        // The walk's resolution: a via lands at most `dt` beyond `step` from the last one,
+        // which keeps it within the limit even when the fab's pitch is close to it.
+        let dt = (0.5 * (self.s.pitch_max - step)).clamp(0.002, 0.02);
+        for side in [-1.0, 1.0] {
+            let path = offset_round(feed, side * f, 0.05);
+            let s = arclengths(&path);
+            let total = *s.last().unwrap();
+            let mut last: Option<Point> = None;
+            let mut t = 0.0;
+            while t <= total + 1e-9 {
+                let (q, _) = point_at(&path, &s, t.min(total));
+                if last.is_none_or(|l| (q - l).hypot() >= step) && self.try_add(q, ViaRole::Fence) {
+                    last = Some(q);
+                }
+                t += dt;
+            }
+        }
+    }
+}

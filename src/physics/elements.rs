@@ -1,0 +1,255 @@
+//! The response model's elements from a probe's geometry: the shield's plates and their
+//! current (outer inductance, effective area), the gap capacitance, the feed's loss.
+
+use super::*;
+use crate::error::Error;
+use crate::model::probe::{LoopShape, Probe};
+use crate::model::stackup::Layer;
+use crate::solve::probe::SolvedProbe;
+
+/// The shield's cross-section as thin plates (m): every copper layer but the signal layer
+/// carries the full ring (± the ring's half width about the centreline); the signal layer
+/// carries the coplanar ground outside the trace's clearance. Heights from the board's
+/// mid-plane, at each copper layer's mid-thickness.
+pub fn shield_plates(p: &Probe, s: &SolvedProbe) -> Vec<shield::Plate> {
+    let hw = s.ring_half_width * 1e-3;
+    let slot = (s.trace_width / 2.0 + p.clearance) * 1e-3;
+    let mid = p.stackup.thickness_mm() / 2.0;
+    let mut top = p.stackup.thickness_mm();
+    let mut plates = Vec::new();
+    let mut n = 0;
+    for layer in p.stackup.layers() {
+        match layer {
+            Layer::Copper(c) => {
+                n += 1;
+                let z = (top - c.thickness_mm / 2.0 - mid) * 1e-3;
+                if n == p.signal_layer {
+                    if slot < hw {
+                        plates.push(shield::Plate {
+                            z,
+                            d0: -hw,
+                            d1: -slot,
+                        });
+                        plates.push(shield::Plate {
+                            z,
+                            d0: slot,
+                            d1: hw,
+                        });
+                    }
+                } else {
+                    plates.push(shield::Plate { z, d0: -hw, d1: hw });
+                }
+                top -= c.thickness_mm;
+            }
+            Layer::Dielectric(d) => top -= d.thickness_mm,
+        }
+    }
+    plates
+}
+
+/// The outer current of a probe's shield (module [`shield`]).
+pub fn shield_current(p: &Probe, s: &SolvedProbe) -> Result<shield::ShieldCurrent, Error> {
+    let plates = shield_plates(p, s);
+    let n = shield::RIBBONS_PER_PLATE;
+    let solved = match p.shape {
+        LoopShape::Round { diameter } => shield::solve_round(diameter * 0.5e-3, &plates, n),
+        _ => {
+            let pts = centreline_m(&p.shape);
+            shield::solve_shape(
+                p.shape.centreline_area() * 1e-6,
+                p.shape.circumference() * 1e-3,
+                &pts,
+                &plates,
+                n,
+            )
+        }
+    };
+    solved.ok_or_else(|| {
+        Error::Unsolvable(format!(
+            "{}: the shield's outer current could not be solved (ring half width {} mm on a loop of {})",
+            p.name,
+            s.ring_half_width,
+            p.shape.size_text()
+        ))
+    })
+}
+
+/// The loop's centreline as a closed polygon, m.
+pub(super) fn centreline_m(shape: &LoopShape) -> Vec<(f64, f64)> {
+    crate::model::centreline::closed(shape, 0.0)
+        .iter()
+        .map(|q| (q.x * 1e-3, q.y * 1e-3))
+        .collect()
+}
+
+/// The shape offset outwards by `d` mm (inwards when negative): a circle's diameter grows by
+/// 2d; a rounded rectangle's sides by 2d and its corner radius by d (not below 0).
+pub fn offset_shape(shape: &LoopShape, d: f64) -> LoopShape {
+    match *shape {
+        LoopShape::Round { diameter } => LoopShape::Round {
+            diameter: diameter + 2.0 * d,
+        },
+        LoopShape::Rect {
+            width,
+            height,
+            corner_radius,
+            square,
+        } => LoopShape::Rect {
+            width: width + 2.0 * d,
+            height: height + 2.0 * d,
+            corner_radius: (corner_radius + d).max(0.0),
+            square,
+        },
+    }
+}
+
+/// Groups the shield's ribbons into at most `per_plate` filaments per plate at their
+/// current-weighted mean offset: (offset m, height m, share). Enough for the flux from a
+/// nearby line, which varies smoothly across the ring.
+pub fn filaments(c: &shield::ShieldCurrent, per_plate: usize) -> Vec<(f64, f64, f64)> {
+    let n = c.per_plate.max(1);
+    let mut group = n.div_ceil(per_plate.max(1));
+    // Groups must not straddle two plates.
+    while !n.is_multiple_of(group) {
+        group += 1;
+    }
+    let mut out = Vec::new();
+    for (rb, sh) in c.ribbons.chunks(group).zip(c.share.chunks(group)) {
+        let s: f64 = sh.iter().sum();
+        if s == 0.0 {
+            continue;
+        }
+        let d = rb
+            .iter()
+            .zip(sh)
+            .map(|(r, x)| x * 0.5 * (r.d0 + r.d1))
+            .sum::<f64>()
+            / s;
+        out.push((d, rb[0].z, s));
+    }
+    out
+}
+
+/// Flux per ampere divided by μ0 (m) through the shield's current filaments of `shape` (apex of
+/// the centreline `z0` m above a line of height `h`, the board's mid-plane `x` m beside the
+/// line): Σ sᵢ·∫ chord(u)·Hx dudu over each filament's own offset shape, its apex dᵢ lower,
+/// its plane zᵢ further sideways.
+pub fn flux_filaments(
+    shape: &LoopShape,
+    fil: &[(f64, f64, f64)],
+    field: impl Fn(f64, f64) -> f64,
+    x: f64,
+    z0: f64,
+) -> f64 {
+    fil.iter()
+        .map(|&(d, z, s)| {
+            let sh = offset_shape(shape, d * 1e3);
+            s * integrate_over_loop(&sh, |u| field(x + z, z0 - d + u))
+        })
+        .sum()
+}
+
+/// Capacitance across the shield gap, F: the 2-D field solution of the cut along the loop
+/// through the gap (every shield copper layer as two plates facing across the gap, a quarter
+/// turn long each, in the stackup's dielectrics), per metre, times the ring's width. The trace
+/// crossing the gap and the plates' curvature are left out.
+pub fn gap_capacitance(p: &Probe, s: &SolvedProbe) -> Result<f64, Error> {
+    use crate::field::{Boundary, Conductor, CrossSection, Dielectric as FDiel};
+    let g = p.gap;
+    let len = (p.shape.circumference() / 4.0).max(2.0 * g);
+    let layers_top: Vec<&Layer> = p.stackup.layers().iter().collect();
+    // The field solver stacks from the bottom; copper layers become resin of the nearest
+    // dielectric's permittivity (the gap between the plates is filled with it).
+    let mut dielectrics = Vec::new();
+    let mut conductors = Vec::new();
+    let mut y = 0.0;
+    let nl = layers_top.len();
+    for k in (0..nl).rev() {
+        match layers_top[k] {
+            Layer::Copper(c) => {
+                let near = |j: Option<usize>| match j.and_then(|j| layers_top.get(j)) {
+                    Some(Layer::Dielectric(d)) => Some(d.er),
+                    _ => None,
+                };
+                let er = near(k.checked_sub(1))
+                    .into_iter()
+                    .chain(near(Some(k + 1)))
+                    .fold(1.0_f64, f64::max);
+                dielectrics.push(FDiel::new(c.thickness_mm, er));
+                conductors.push(Conductor::ground(
+                    -g / 2.0 - len,
+                    -g / 2.0,
+                    y,
+                    y + c.thickness_mm,
+                ));
+                conductors.push(Conductor {
+                    role: crate::field::Role::Signal,
+                    shape: crate::field::Shape::Rect {
+                        x0: g / 2.0,
+                        x1: g / 2.0 + len,
+                        y0: y,
+                        y1: y + c.thickness_mm,
+                    },
+                });
+                y += c.thickness_mm;
+            }
+            Layer::Dielectric(d) => {
+                dielectrics.push(FDiel::new(d.thickness_mm, d.er));
+                y += d.thickness_mm;
+            }
+        }
+    }
+    let cs = CrossSection {
+        layers: dielectrics,
+        board: Some([-g / 2.0 - len, g / 2.0 + len]),
+        conductors,
+        coat: None,
+        fences: Vec::new(),
+        boundary: Boundary::Open,
+    };
+    let sol = crate::field::solve(&cs, crate::field::Accuracy::Draft).map_err(|e| {
+        Error::Unsolvable(format!(
+            "{}: the gap capacitance (2-D field solution across the {} mm shield gap) failed: {e}",
+            p.name, p.gap
+        ))
+    })?;
+    Ok(sol.c_per_m * 2.0 * s.ring_half_width * 1e-3)
+}
+
+/// Conductor loss of the inner line at 1 GHz, Np/m, by Wheeler's incremental-inductance rule
+/// (H. A. Wheeler, "Formulas for the skin effect", Proc. IRE 30, 1942; from memory): every
+/// conductor surface receding by δn/2 adds the field energy of the skin layer, so
+/// R' = (R_s/μ0)·∂L'/∂n with L' = Z0·√εeff/c0 the line's inductance per metre, and
+/// α_c = R'/(2·Z0). The derivative is taken on the closed form of the solved stripline (trace
+/// narrower and thinner by 2δn, each plane δn further away). Smooth copper; 0 for a line that
+/// is not a stripline.
+pub fn alpha_c_1ghz(s: &SolvedProbe) -> f64 {
+    use crate::solve::impedance::{Line, analyse};
+    let Line::Stripline(st) = s.line else {
+        return 0.0;
+    };
+    let l_per_m = |st: &crate::solve::impedance::Stripline| {
+        analyse(&Line::Stripline(*st), None)
+            .ok()
+            .map(|sol| sol.z0 * sol.eps_eff.sqrt() / C0)
+    };
+    let dn = 1e-4 * st.t.min(st.width).min(st.h1).min(st.h2);
+    if !(dn.is_finite() && dn > 0.0) {
+        return 0.0;
+    }
+    let mut rec = st;
+    rec.width -= 2.0 * dn;
+    rec.t -= 2.0 * dn;
+    // h1, h2 are measured from the trace's faces: the faces recede by δn and the planes by δn.
+    rec.h1 += 2.0 * dn;
+    rec.h2 += 2.0 * dn;
+    match (l_per_m(&st), l_per_m(&rec)) {
+        (Some(l0), Some(l1)) => {
+            let dl_dn = (l1 - l0) / (dn * 1e-3);
+            let z0 = s.solution.z0;
+            let a = surface_resistance(1e9) / MU0 * dl_dn / (2.0 * z0);
+            if a.is_finite() && a > 0.0 { a } else { 0.0 }
+        }
+        _ => 0.0,
+    }
+}
