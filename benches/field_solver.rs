@@ -79,7 +79,7 @@ fn bench(c: &mut Criterion) {
     let mut g = c.benchmark_group("field_solver default");
     for (name, cs) in &sections {
         g.bench_function(*name, |b| {
-            b.iter(|| field::solve(black_box(cs), Accuracy::default()).unwrap())
+            b.iter(|| field::solve_uncached(black_box(cs), Accuracy::default()).unwrap())
         });
     }
     g.finish();
@@ -87,7 +87,7 @@ fn bench(c: &mut Criterion) {
         let mut g = c.benchmark_group(format!("field_solver {label}"));
         for (name, cs) in &sections {
             g.bench_function(*name, |b| {
-                b.iter(|| field::solve(black_box(cs), acc).unwrap())
+                b.iter(|| field::solve_uncached(black_box(cs), acc).unwrap())
             });
         }
         g.finish();

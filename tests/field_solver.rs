@@ -754,3 +754,20 @@ fn bad_lines_are_refused_with_their_flag_names() {
     .to_string();
     assert!(e.contains("width = -0.1") && e.contains("h2 = NaN"), "{e}");
 }
+
+/// A kept solution is the solution: solving the same cross-section again (served from the
+/// process's kept solutions) gives exactly what a fresh solve gives, and a cross-section that
+/// differs in one number's last bit is solved anew.
+#[test]
+fn kept_solutions_are_exact_and_keyed_to_the_last_bit() {
+    let cs = one_sided_coplanar();
+    let first = field::solve(&cs, Accuracy::Draft).unwrap();
+    let again = field::solve(&cs, Accuracy::Draft).unwrap();
+    let fresh = field::solve_uncached(&cs, Accuracy::Draft).unwrap();
+    assert_eq!(first, again);
+    assert_eq!(first, fresh);
+    let mut nudged = cs.clone();
+    nudged.layers[0].thickness = f64::from_bits(nudged.layers[0].thickness.to_bits() + 1);
+    let other = field::solve(&nudged, Accuracy::Draft).unwrap();
+    assert_eq!(other, field::solve_uncached(&nudged, Accuracy::Draft).unwrap());
+}

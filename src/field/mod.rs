@@ -165,7 +165,46 @@ const CG_TOL: f64 = 1e-7;
 /// length or permittivity, a signal conductor of zero width, a signal touching or
 /// overlapping a ground, a conductor outside the solved region (outside the shield or
 /// behind an unlimited plane), no signal or no ground.
+///
+/// Solutions are kept for the rest of the process, keyed by the cross-section's exact
+/// geometry and the accuracy (every number to its last bit): a family's probes, the launch,
+/// the fixture and `predict` after `build` solve the same few cross-sections many times, and the
+/// solver is deterministic, so a kept solution is the one a new solve would give.
 pub fn solve(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
+    /// Kept solutions; cleared when it reaches this many (a long fuzzing or census run).
+    const KEEP: usize = 4096;
+    // Debug writes every f64 as its shortest round-trip text: equal keys, equal bits.
+    let key = format!("{cs:?}|{acc:?}");
+    let kept = kept();
+    if let Some(s) = kept.lock().ok().and_then(|m| m.get(&key).cloned()) {
+        return Ok(s);
+    }
+    let s = solve_uncached(cs, acc)?;
+    if let Ok(mut m) = kept.lock() {
+        if m.len() >= KEEP {
+            m.clear();
+        }
+        m.insert(key, s.clone());
+    }
+    Ok(s)
+}
+
+type Kept = std::sync::Mutex<std::collections::HashMap<String, FieldSolution>>;
+
+fn kept() -> &'static Kept {
+    static KEPT: std::sync::OnceLock<Kept> = std::sync::OnceLock::new();
+    KEPT.get_or_init(Default::default)
+}
+
+/// Forgets every kept solution (benchmarks of a cold run use it).
+pub fn forget_kept() {
+    if let Ok(mut m) = kept().lock() {
+        m.clear();
+    }
+}
+
+/// [`solve`] without the kept solutions.
+pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
     let (params, m) = acc.mesh();
     if m == 0 || m > MAX_REFINEMENT {
         return Err(Error::Invalid(vec![FieldError::new(
