@@ -769,5 +769,8 @@ fn kept_solutions_are_exact_and_keyed_to_the_last_bit() {
     let mut nudged = cs.clone();
     nudged.layers[0].thickness = f64::from_bits(nudged.layers[0].thickness.to_bits() + 1);
     let other = field::solve(&nudged, Accuracy::Draft).unwrap();
-    assert_eq!(other, field::solve_uncached(&nudged, Accuracy::Draft).unwrap());
+    assert_eq!(
+        other,
+        field::solve_uncached(&nudged, Accuracy::Draft).unwrap()
+    );
 }

@@ -4,7 +4,7 @@
 use super::{Rule, Violation};
 use crate::artwork::{Flash, PadFunction, Shape};
 use crate::geom::{circle, rect};
-use geo::{BooleanOps, Coord, LineString, MultiPolygon};
+use geo::{Coord, LineString, MultiPolygon};
 use kurbo::Point;
 
 /// A flash as a polygon.
@@ -31,18 +31,22 @@ pub(super) fn body_copper(l: &crate::artwork::CopperLayer) -> MultiPolygon<f64> 
     layer_copper(&l.regions, &others)
 }
 
-/// A layer's copper: regions ∪ flashes.
+/// A layer's copper: regions ∪ flashes, united in one pass (a sweep over every ring at once,
+/// `geo::unary_union`, with each polygon oriented the same way first), not pad by pad, which
+/// grew about as the square of the number of vias.
 pub fn layer_copper(regions: &MultiPolygon<f64>, flashes: &[Flash]) -> MultiPolygon<f64> {
-    let pads = MultiPolygon(flashes.iter().map(flash_polygon).collect());
-    if pads.0.is_empty() {
+    use geo::orient::{Direction, Orient};
+    if flashes.is_empty() {
         return regions.clone();
     }
-    // Union pads one by one with the regions: pads may overlap each other.
-    let mut u = regions.clone();
-    for p in pads.0 {
-        u = u.union(&MultiPolygon(vec![p]));
-    }
-    u
+    let polys: Vec<geo::Polygon<f64>> = regions
+        .0
+        .iter()
+        .cloned()
+        .chain(flashes.iter().map(flash_polygon))
+        .map(|p| p.orient(Direction::Default))
+        .collect();
+    geo::unary_union(&polys)
 }
 
 pub(super) struct Seg {

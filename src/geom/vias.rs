@@ -45,16 +45,21 @@ impl ViaPlacer<'_> {
             return false;
         }
         // Clear of the connector pads (the centre pad with its gap, which is also the
-        // relief's extent on the layers below).
+        // relief's extent on the layers below; that clearance runs one trace clearance past
+        // the pad's inner end, towards the loop, as the artwork draws it: a via pad reaching
+        // into it would leave a sliver of space at its corner).
         for pd in &self.pads {
-            let w = if pd.centre {
-                pd.w + 2.0 * self.s.launch.pad_gap
+            let (w, beyond) = if pd.centre {
+                (pd.w + 2.0 * self.s.launch.pad_gap, self.p.clearance)
             } else {
-                pd.w
+                (pd.w, 0.0)
             };
-            if (q.x - pd.at.x).abs() < w / 2.0 + pad / 2.0 + 0.1
-                && (q.y - pd.at.y).abs() < pd.h / 2.0 + pad / 2.0 + 0.1
-            {
+            let keep = pad / 2.0 + 0.1;
+            let (lo, hi) = (
+                pd.at.y - pd.h / 2.0 - keep,
+                pd.at.y + pd.h / 2.0 + beyond + keep,
+            );
+            if (q.x - pd.at.x).abs() < w / 2.0 + keep && q.y > lo && q.y < hi {
                 return false;
             }
         }
