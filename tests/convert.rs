@@ -291,3 +291,69 @@ fn outputs_that_collide_are_refused_and_inputs_survive() {
         .unwrap();
     assert!((h - 30.0).abs() < 1e-9);
 }
+
+/// The line a refused table names, for a file written with `end` as its line end.
+fn refused_line(d: &Path, name: &str, lines: &[&[u8]], end: &[u8]) -> String {
+    let mut bytes = Vec::new();
+    for l in lines {
+        bytes.extend_from_slice(l);
+        bytes.extend_from_slice(end);
+    }
+    let p = d.join(name);
+    std::fs::write(&p, &bytes).unwrap();
+    match read_table(&p, &["level_dbuv"]) {
+        Ok(_) => panic!("{name}: accepted"),
+        Err(e) => e.to_string(),
+    }
+}
+
+/// Line numbers are the file's own, whatever its line ends (instrument exports are often
+/// CRLF), with comment and blank lines counted: here the bad value sits on line 6.
+#[test]
+fn refusals_name_the_physical_line_for_lf_crlf_and_cr_files() {
+    let d = dir("lines");
+    let lines: [&[u8]; 7] = [
+        b"# exported by the bench analyzer",
+        b"",
+        b"freq_hz,level_dbuv",
+        b"1e6,20",
+        b"# a comment between rows",
+        b"3e6,abc",
+        b"4e6,22",
+    ];
+    for (name, end) in [
+        ("lf.csv", &b"\n"[..]),
+        ("crlf.csv", &b"\r\n"[..]),
+        ("cr.csv", &b"\r"[..]),
+    ] {
+        let e = refused_line(&d, name, &lines, end);
+        assert!(e.contains("line 6: level_dbuv = 'abc'"), "{name}: {e}");
+    }
+    // A bad header after a comment and a blank line is named on its own line (3).
+    let bad_header: [&[u8]; 4] = [b"# c", b"", b"frequency,level", b"1e6,20"];
+    let e = refused_line(&d, "header.csv", &bad_header, b"\r\n");
+    assert!(e.contains("line 3: header is 'frequency,level'"), "{e}");
+}
+
+/// A Latin-1 byte (`°` as 0xB0) in a comment is tolerated; in a data row it is refused with
+/// its line and column.
+#[test]
+fn non_utf8_bytes_pass_in_comments_and_are_named_elsewhere() {
+    let d = dir("latin1");
+    let ok = d.join("comment.csv");
+    std::fs::write(
+        &ok,
+        b"# room 23 \xB0C\r\nfreq_hz,level_dbuv\r\n1e6,20\r\n2e6,21\r\n",
+    )
+    .unwrap();
+    let t = read_table(&ok, &["level_dbuv"]).unwrap();
+    assert_eq!(t.rows, vec![(1e6, 20.0), (2e6, 21.0)]);
+    assert_eq!(t.lines, vec![3, 4]);
+    let bad = d.join("data.csv");
+    std::fs::write(&bad, b"freq_hz,level_dbuv\n1e6,20\n2e6,2\xB01\n").unwrap();
+    let e = read_table(&bad, &["level_dbuv"]).unwrap_err().to_string();
+    assert!(
+        e.contains("line 3: byte 0xB0 at column 6 is not UTF-8"),
+        "{e}"
+    );
+}

@@ -25,6 +25,9 @@ pub struct Table {
     pub column: String,
     /// (Hz, value) rows.
     pub rows: Vec<(f64, f64)>,
+    /// Each row's line in its file (1 = the first line; LF, CRLF and CR line ends, comment
+    /// and blank lines counted), for messages.
+    pub lines: Vec<usize>,
 }
 
 /// Frequencies any table may hold: 1 Hz to 1 THz (the range the Touchstone reader accepts;
@@ -62,18 +65,117 @@ fn bad(path: &str, line: usize, why: String) -> Error {
 }
 
 /// Reads a two-column CSV table with header `freq_hz,<one of value_columns>`. Line numbers in
-/// errors count the header as line 1.
+/// errors are the file's own lines (1 = the first; LF, CRLF or CR line ends; comment and blank
+/// lines counted). Bytes that are not UTF-8 are tolerated in `#` comment lines (instrument
+/// exports write `°` or `µ` in Latin-1) and refused with their line anywhere else.
 pub fn read_table(path: &Path, value_columns: &[&str]) -> Result<Table, Error> {
     let p = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| Error::Io {
+    let bytes = std::fs::read(path).map_err(|e| Error::Io {
         path: p.clone(),
         source: e,
     })?;
+    let text = utf8_or_comment(&bytes, &p)?;
     parse_table(&text, &p, value_columns)
+}
+
+/// The file's text: as it is when it is UTF-8; otherwise with the bytes that are not replaced
+/// by U+FFFD where they sit in `#` comment lines, and refused naming the first other line.
+pub fn utf8_or_comment(bytes: &[u8], p: &str) -> Result<String, Error> {
+    if let Ok(s) = std::str::from_utf8(bytes) {
+        return Ok(s.to_string());
+    }
+    for (n, raw) in split_lines(bytes).into_iter().enumerate() {
+        if let Err(e) = std::str::from_utf8(raw) {
+            let comment = raw.iter().find(|b| !b.is_ascii_whitespace()) == Some(&b'#');
+            if !comment {
+                let at = e.valid_up_to();
+                return Err(bad(
+                    p,
+                    n + 1,
+                    format!(
+                        "byte 0x{:02X} at column {} is not UTF-8 text: save the file as UTF-8 \
+                         (non-UTF-8 bytes are accepted only in # comment lines)",
+                        raw[at],
+                        at + 1
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(String::from_utf8_lossy(bytes).into_owned())
+}
+
+/// The lines of a file, each without its line end (LF, CRLF or a lone CR).
+fn split_lines(b: &[u8]) -> Vec<&[u8]> {
+    let mut out = Vec::new();
+    let (mut start, mut i) = (0, 0);
+    while i < b.len() {
+        match b[i] {
+            b'\n' => {
+                out.push(&b[start..i]);
+                start = i + 1;
+            }
+            b'\r' => {
+                out.push(&b[start..i]);
+                if b.get(i + 1) == Some(&b'\n') {
+                    i += 1;
+                }
+                start = i + 1;
+            }
+            _ => {}
+        }
+        i += 1;
+    }
+    out.push(&b[start..]);
+    out
+}
+
+/// Where each line of an LF-only text starts, and whether it holds a record (not blank, not
+/// a `#` comment): built once per table, so that naming a row's line costs a binary search.
+struct LineIndex {
+    starts: Vec<usize>,
+    content: Vec<bool>,
+}
+
+impl LineIndex {
+    fn new(text: &str) -> LineIndex {
+        let (mut starts, mut content, mut at) = (Vec::new(), Vec::new(), 0);
+        for l in text.split('\n') {
+            starts.push(at);
+            at += l.len() + 1;
+            let s = l.trim();
+            content.push(!s.is_empty() && !s.starts_with('#'));
+        }
+        LineIndex { starts, content }
+    }
+
+    /// The line (1 = the first) of the record the CSV reader places at byte `at`: the reader's
+    /// position can sit before comment or blank lines it skipped, so those are stepped over.
+    fn line_at(&self, at: u64) -> usize {
+        let first = self.starts.partition_point(|&s| s <= at as usize).max(1) - 1;
+        let mut k = first;
+        while k + 1 < self.content.len() && !self.content[k] {
+            k += 1;
+        }
+        k + 1
+    }
 }
 
 /// [`read_table`] on text.
 pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table, Error> {
+    // One line end (LF) for the CSV reader, which skips a comment only up to an LF: a CR-only
+    // file would otherwise be one long comment. Lines keep their numbers.
+    let text = &text.replace("\r\n", "\n").replace('\r', "\n");
+    // The header's own line: comment or blank lines may come before it.
+    let header_line = split_lines(text.as_bytes())
+        .iter()
+        .position(|l| {
+            let s = String::from_utf8_lossy(l);
+            let s = s.trim();
+            !s.is_empty() && !s.starts_with('#')
+        })
+        .map_or(1, |i| i + 1);
+    let index = LineIndex::new(text);
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
@@ -82,7 +184,7 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
         .from_reader(text.as_bytes());
     let headers = rdr
         .headers()
-        .map_err(|e| bad(p, 1, format!("unreadable header: {e}")))?
+        .map_err(|e| bad(p, header_line, format!("unreadable header: {e}")))?
         .clone();
     if headers.is_empty() || (headers.len() == 1 && headers[0].is_empty()) {
         return Err(bad(
@@ -95,7 +197,7 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
     if headers.len() != 2 || &headers[0] != "freq_hz" || !value_columns.contains(&&headers[1]) {
         return Err(bad(
             p,
-            1,
+            header_line,
             format!(
                 "header is '{}', expected {want}",
                 headers.iter().collect::<Vec<_>>().join(",")
@@ -104,12 +206,13 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
     }
     let column = headers[1].to_string();
     let mut rows: Vec<(f64, f64)> = Vec::new();
+    let mut lines: Vec<usize> = Vec::new();
     for rec in rdr.records() {
         let rec = rec.map_err(|e| {
-            let line = e.position().map(|q| q.line() as usize).unwrap_or(0);
+            let line = e.position().map(|q| index.line_at(q.byte())).unwrap_or(0);
             bad(p, line, format!("{e}"))
         })?;
-        let line = rec.position().map(|q| q.line() as usize).unwrap_or(0);
+        let line = rec.position().map(|q| index.line_at(q.byte())).unwrap_or(0);
         if rec.len() != 2 {
             return Err(bad(
                 p,
@@ -170,11 +273,20 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
             }
         }
         rows.push((f, v));
+        lines.push(line);
     }
     if rows.is_empty() {
-        return Err(bad(p, 2, "no data rows after the header".into()));
+        return Err(bad(
+            p,
+            header_line + 1,
+            "no data rows after the header".into(),
+        ));
     }
-    Ok(Table { column, rows })
+    Ok(Table {
+        column,
+        rows,
+        lines,
+    })
 }
 
 impl Table {
@@ -236,7 +348,7 @@ pub fn convert(
     let mut out = Vec::with_capacity(readings.rows.len());
     let dbm = readings.column == "level_dbm";
     for (i, &(f, level)) in readings.rows.iter().enumerate() {
-        let line = i + 2;
+        let line = readings.lines.get(i).copied().unwrap_or(i + 2);
         let pf = factor.at(f, extrapolate).ok_or_else(|| {
             Error::Invalid(vec![crate::error::FieldError::new(
                 format!("--readings line {line}: freq_hz"),
