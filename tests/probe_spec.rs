@@ -154,6 +154,32 @@ fn loop_too_small_for_its_ring_is_refused() {
     );
 }
 
+/// The smallest size the refusal prints is itself accepted (it is rounded up, not to the
+/// nearest: "at least 3.216 mm" once refused 3.216).
+#[test]
+fn the_printed_smallest_size_is_accepted() {
+    let small = "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 2\n";
+    let err = match build_family(&spec(&format!("{BASE}{small}")), Path::new("."), false) {
+        Ok(_) => panic!("accepted"),
+        Err(e) => e.to_string(),
+    };
+    let tail = err.split("must be at least ").nth(1).expect(&err);
+    let limit: f64 = tail.split(' ').next().unwrap().parse().expect(&err);
+    let at_limit = format!("[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = {limit}\n");
+    if let Err(e) = build_family(&spec(&format!("{BASE}{at_limit}")), Path::new("."), false) {
+        assert!(!e.to_string().contains("too small"), "{limit} refused: {e}");
+    }
+}
+
+/// A spec's minimum-trace refusal points at the spec's own setting, not at a command flag.
+#[test]
+fn the_min_trace_refusal_names_the_spec_setting() {
+    refused(
+        "[fab]\nmin_trace_mm = 0.5\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n",
+        &["[fab] min_trace_mm"],
+    );
+}
+
 #[test]
 fn every_problem_is_reported_at_once() {
     refused(

@@ -331,6 +331,7 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
     let accuracy = a.accuracy;
     let limits = SolveLimits {
         min_trace_mm: a.min_trace,
+        min_trace_setting: "--min-trace",
         accuracy,
     };
     let tol = Tolerances {

@@ -247,6 +247,7 @@ fn solve_uncached(
     let limits = SolveLimits {
         min_trace_mm: p.fab.min_trace,
         accuracy: acc,
+        ..Default::default()
     };
     let link_err = |e: Error| {
         Error::Invalid(vec![FieldError::new(

@@ -281,7 +281,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             crate::model::probe::num(p.shape.min_dimension()),
             format!(
                 "probe '{}' is too small for its shield ring ({:.3} mm wide with these vias and \
-                 clearances{}): the loop's smallest size must be at least {:.3} mm",
+                 clearances{}): the loop's smallest size must be at least {} mm",
                 p.name,
                 2.0 * ring_half_width,
                 if p.mill_interior {
@@ -289,7 +289,8 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
                 } else {
                     ""
                 },
-                min_size
+                // Rounded up, so that the printed limit is itself accepted.
+                crate::math::trimmed((min_size * 1000.0).ceil() / 1000.0, 3)
             ),
         ));
     }

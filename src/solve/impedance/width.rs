@@ -17,6 +17,9 @@ use crate::solve::roots::brent;
 pub struct SolveLimits {
     /// The fab's minimum trace width, mm. A solution below it is refused.
     pub min_trace_mm: f64,
+    /// Where the user sets that minimum, for messages: `[fab] min_trace_mm` in a spec (the
+    /// default), `--min-trace` on the `impedance` command.
+    pub min_trace_setting: &'static str,
     /// Field-solver accuracy, for the field method.
     pub accuracy: Accuracy,
 }
@@ -27,6 +30,7 @@ impl Default for SolveLimits {
     fn default() -> Self {
         SolveLimits {
             min_trace_mm: 0.127,
+            min_trace_setting: "[fab] min_trace_mm",
             accuracy: Accuracy::default(),
         }
     }
@@ -115,7 +119,13 @@ pub fn solve_width(
 ) -> Result<(Line, Solution), Error> {
     let mut errs = Vec::new();
     check_range(&mut errs, "target", target_ohms, 1.0, 1000.0);
-    check_range(&mut errs, "min-trace", limits.min_trace_mm, 0.0, 100.0);
+    check_range(
+        &mut errs,
+        limits.min_trace_setting,
+        limits.min_trace_mm,
+        0.0,
+        100.0,
+    );
     // Validate the rest of the line; its width is what we solve for.
     let probe = template.with_width(1.0);
     errs.extend(probe.validate().into_iter().filter(|e| e.field != "width"));
@@ -239,9 +249,10 @@ fn check_min_trace(w: f64, target_ohms: f64, limits: &SolveLimits) -> Result<(),
             sig(target_ohms),
             format!(
                 "solves to a trace width of {} mm, below the fab minimum trace of {} mm; \
-                 lower the target, use a thicker dielectric or a finer process (--min-trace)",
+                 lower the target, use a thicker dielectric or a finer process ({})",
                 sig(w),
-                sig(limits.min_trace_mm)
+                sig(limits.min_trace_mm),
+                limits.min_trace_setting
             ),
         )]));
     }
