@@ -256,7 +256,11 @@ fn bad_numbers_are_refused_naming_field_value_and_range() {
     refused(&with(&["--er", "NaN"]), &["--er", "NaN", "from 1 to 200"]);
     refused(
         &with(&["--er", "4", "--t", "-0.1"]),
-        &["--t", "-0.1", "from 0 to"],
+        &[
+            "--t",
+            "-0.1",
+            "must be 0 (zero thickness) or a finite number from 1e-9 to",
+        ],
     );
     refused(
         &[
@@ -742,4 +746,24 @@ fn stdout_trouble_is_not_a_panic() {
         assert_eq!(o.status.code(), Some(2));
         assert!(String::from_utf8_lossy(&o.stderr).contains("cannot write the output"));
     }
+}
+
+/// A copper thickness must be 0 (the idealisation) or a real length: 1e-200 mm once passed and
+/// printed "Z0 runs from NaN Ω".
+#[test]
+fn a_vanishing_copper_thickness_is_refused_naming_the_flag() {
+    refused(
+        &[
+            "impedance",
+            "--structure",
+            "microstrip",
+            "--h",
+            "0.2",
+            "--er",
+            "4.3",
+            "--t",
+            "1e-200",
+        ],
+        &["--t = 1e-200", "must be 0 (zero thickness) or"],
+    );
 }

@@ -230,9 +230,7 @@ impl Line {
     pub fn validate(&self) -> Vec<FieldError> {
         let mut e = Vec::new();
         let er = |e: &mut Vec<FieldError>, name: &str, v: f64| check_range(e, name, v, 1.0, MAX_ER);
-        let t = |e: &mut Vec<FieldError>, name: &str, v: f64| {
-            check_range(e, name, v, 0.0, MAX_LENGTH_MM)
-        };
+        let t = check_thickness;
         match self {
             Line::Microstrip(m) => validate_ms(&mut e, m),
             Line::CoatedMicrostrip(c) => {
@@ -281,8 +279,29 @@ fn check_length(e: &mut Vec<FieldError>, name: &str, v: f64) {
 fn validate_ms(e: &mut Vec<FieldError>, m: &Microstrip) {
     check_length(e, "width", m.width);
     check_length(e, "h", m.h);
-    check_range(e, "t", m.t, 0.0, MAX_LENGTH_MM);
+    check_thickness(e, "t", m.t);
     check_range(e, "er", m.er, 1.0, MAX_ER);
+}
+
+/// Smallest non-zero thickness accepted, mm (1 pm: far below any copper or mask, far above
+/// where the closed forms' logarithms of t lose their meaning; the lengths' own minimum would
+/// refuse a line merely scaled down).
+pub const MIN_THICKNESS_MM: f64 = 1e-9;
+
+/// A thickness: 0 (the zero-thickness idealisation) or a length from [`MIN_THICKNESS_MM`] to
+/// [`MAX_LENGTH_MM`]. A vanishing positive thickness (1e-200 mm) is neither and reached the
+/// closed forms as NaN.
+fn check_thickness(e: &mut Vec<FieldError>, name: &str, v: f64) {
+    if v != 0.0 && !(v.is_finite() && (MIN_THICKNESS_MM..=MAX_LENGTH_MM).contains(&v)) {
+        e.push(FieldError::new(
+            name,
+            crate::math::fmt_num(v),
+            format!(
+                "must be 0 (zero thickness) or a finite number from {MIN_THICKNESS_MM:e} to \
+                 {MAX_LENGTH_MM}"
+            ),
+        ));
+    }
 }
 
 /// A closed-form method (a family of published formulas).
