@@ -220,6 +220,11 @@ fn bad_fixture_specs_are_refused_by_field_and_write_nothing() {
         ("length_mm = 80.0", "length_mm = 21.0", "fixture.length_mm"),
         ("line_layer = 1", "line_layer = 3", "fixture.line_layer"),
         (
+            "line_layer = 1",
+            "line_layer = -1",
+            "fixture.line_layer = -1",
+        ),
+        (
             "structure = \"microstrip\"",
             "structure = \"slotline\"",
             "fixture.structure",

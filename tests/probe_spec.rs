@@ -171,6 +171,22 @@ fn the_printed_smallest_size_is_accepted() {
     }
 }
 
+/// A negative layer is refused by validation with the allowed range, not by the TOML reader
+/// ("expected usize").
+#[test]
+fn a_negative_signal_layer_is_refused_with_its_range() {
+    let text = "stackup = \"common-4l-1.6\"\nsignal_layer = -1\n[[probe]]\nname = \"a\"\n\
+                shape = \"round\"\nsize_mm = 10\n";
+    let e = match build_family(&spec(text), Path::new("."), false) {
+        Ok(_) => panic!("accepted"),
+        Err(e) => e.to_string(),
+    };
+    assert!(
+        e.contains("signal_layer = -1: must be an inner layer, 2 to 3"),
+        "{e}"
+    );
+}
+
 /// A spec's minimum-trace refusal points at the spec's own setting, not at a command flag.
 #[test]
 fn the_min_trace_refusal_names_the_spec_setting() {

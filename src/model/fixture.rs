@@ -123,11 +123,13 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
         .unwrap_or_else(|| defaults::STACKUP.into());
     let stackup = stackup_from_spec("fixture.stackup", &stackup_name, base, &mut out);
     let n = stackup.as_ref().map(|s| s.copper_count()).unwrap_or(2);
-    let line_layer = f.line_layer.unwrap_or(1);
-    if line_layer != 1 && line_layer != n {
+    // Signed, so that a negative layer is refused here with its range.
+    let line_raw = f.line_layer.unwrap_or(1);
+    let line_layer = usize::try_from(line_raw).unwrap_or(1);
+    if line_raw != 1 && line_raw != n as i64 {
         out.push(FieldError::new(
             "fixture.line_layer",
-            line_layer,
+            line_raw,
             format!("must be an outer layer of the stackup: 1 or {n}"),
         ));
     }

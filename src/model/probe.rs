@@ -477,7 +477,10 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         .clone()
         .unwrap_or_else(|| "common-4l-1.6".into());
     let stackup = stackup_from_spec("stackup", &stackup_name, base, &mut out);
-    let signal_layer = spec.signal_layer.unwrap_or(2);
+    // Read as a signed number so that a negative layer is refused here with its range, not by
+    // the TOML reader as "expected usize".
+    let signal_raw = spec.signal_layer.unwrap_or(2);
+    let signal_layer = usize::try_from(signal_raw).unwrap_or(0);
     if let Some(st) = &stackup {
         let n = st.copper_count();
         if n < 3 {
@@ -486,10 +489,10 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                 &stackup_name,
                 format!("has {n} copper layers; a shielded loop needs at least 3"),
             ));
-        } else if signal_layer < 2 || signal_layer > n - 1 {
+        } else if signal_raw < 2 || signal_raw > n as i64 - 1 {
             out.push(FieldError::new(
                 "signal_layer",
-                signal_layer,
+                signal_raw,
                 format!(
                     "must be an inner layer, 2 to {} (the trace needs a shield layer on each side)",
                     n - 1

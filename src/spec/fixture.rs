@@ -27,7 +27,7 @@ pub struct FixtureSpec {
     /// Stackup: a built-in name or a path to a stackup TOML file (relative to the spec file).
     pub stackup: Option<String>,
     /// Copper layer of the test line: an outer layer, 1 (top) or the last.
-    pub line_layer: Option<usize>,
+    pub line_layer: Option<i64>,
     /// `microstrip` (default; coated when the stackup has mask on that side) or `cpwg`.
     pub structure: Option<String>,
     /// Target Z0, Ω (default 50).

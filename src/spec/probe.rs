@@ -13,7 +13,7 @@ pub struct ProbeFileSpec {
     /// Stackup: a built-in name or a path to a stackup TOML file (relative to the spec file).
     pub stackup: Option<String>,
     /// Copper layer carrying the loop trace, 1 = top; every other copper layer is shield.
-    pub signal_layer: Option<usize>,
+    pub signal_layer: Option<i64>,
     /// Target characteristic impedance of the loop trace, Ω (default 50).
     pub target_z0_ohms: Option<f64>,
     /// Clearance from the trace to the coplanar ground on its layer, mm.
