@@ -748,22 +748,37 @@ fn stdout_trouble_is_not_a_panic() {
     }
 }
 
+/// `impedance` of a microstrip (h 0.2 mm, εr 4.3) with `extra` flags.
+fn microstrip_with(extra: &[&'static str]) -> Vec<&'static str> {
+    let mut v = vec![
+        "impedance",
+        "--structure",
+        "microstrip",
+        "--h",
+        "0.2",
+        "--er",
+        "4.3",
+    ];
+    v.extend_from_slice(extra);
+    v
+}
+
 /// A copper thickness must be 0 (the idealisation) or a real length: 1e-200 mm once passed and
 /// printed "Z0 runs from NaN Ω".
 #[test]
 fn a_vanishing_copper_thickness_is_refused_naming_the_flag() {
     refused(
-        &[
-            "impedance",
-            "--structure",
-            "microstrip",
-            "--h",
-            "0.2",
-            "--er",
-            "4.3",
-            "--t",
-            "1e-200",
-        ],
+        &microstrip_with(&["--t", "1e-200"]),
         &["--t = 1e-200", "must be 0 (zero thickness) or"],
+    );
+}
+
+/// A value the user never typed (the width plus its etch tolerance, 1000.025 mm from
+/// `--width 1000`) is explained as a corner of the tolerance spread.
+#[test]
+fn a_tolerance_corner_out_of_range_is_explained() {
+    refused(
+        &microstrip_with(&["--width", "1000"]),
+        &["--width = 1000.025", "corner of the fab-tolerance spread"],
     );
 }

@@ -118,8 +118,24 @@ pub fn spread_with(
             let sign = if mask & (1 << i) != 0 { 1.0 } else { -1.0 };
             axis(&mut l, sign);
         }
+        // A corner outside the accepted range is the nominal plus its tolerance: say so, so
+        // that a value the user never typed (width 1000.025 from 1000 and 0.025) makes sense.
         let z = analyse_with(&l, method, accuracy)
-            .map_err(Error::Invalid)?
+            .map_err(|errs| {
+                Error::Invalid(
+                    errs.into_iter()
+                        .map(|mut e| {
+                            e.allowed = format!(
+                                "{} (this is a corner of the fab-tolerance spread: the nominal \
+                                 value moved by its tolerance; change the nominal or the \
+                                 tolerance)",
+                                e.allowed
+                            );
+                            e
+                        })
+                        .collect(),
+                )
+            })?
             .z0;
         zmin = zmin.min(z);
         zmax = zmax.max(z);
