@@ -74,22 +74,12 @@ fn poly(pts: &[(f64, f64)]) -> Polygon<f64> {
 }
 
 /// A point of solid ground on L2, in the handle halfway between the connector edge and the
-/// loop, 2 mm off the axis (between the feed's fence and the handle's edge).
+/// bottom of the loop's opening, 2 mm off the axis (between the feed's fence and the handle's
+/// edge).
 fn solid_l2(c: &ProbeCase) -> Point {
-    let y_loop = -(c.b.interior_radius_hint());
-    Point::new(2.0, 0.5 * (c.b.edge_y + y_loop))
-}
-
-trait Hint {
-    fn interior_radius_hint(&self) -> f64;
-}
-
-impl Hint for Board {
-    /// How far the loop's opening reaches below its centre.
-    fn interior_radius_hint(&self) -> f64 {
-        use geo::BoundingRect;
-        -self.interior.bounding_rect().unwrap().min().y
-    }
+    use geo::BoundingRect;
+    let opening_bottom = c.b.interior.bounding_rect().unwrap().min().y;
+    Point::new(2.0, 0.5 * (c.b.edge_y + opening_bottom))
 }
 
 fn layer_mut(art: &mut Artwork, n: usize) -> &mut loopwright::artwork::CopperLayer {
