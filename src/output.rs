@@ -26,6 +26,9 @@
 //! a run knows that any `.<leaf>.loopwright-new` or `-old` is a leftover of a killed run and
 //! removes it (after completing its switch); so are `.<leaf>.loopwright-tmp-PID` folders of
 //! earlier versions whose process has ended. A killed run's lock file stays until the next run.
+//! A lock held in this process's own name (another thread's run, or a child forked meanwhile
+//! that still holds a copy of an ended run's descriptor until it execs) is waited for up to two
+//! seconds before the refusal.
 
 use crate::error::{Error, FieldError};
 use sha2::{Digest, Sha256};
@@ -51,6 +54,10 @@ const NAME_MAX: usize = 255;
 
 /// How many names a refusal lists before "and N more".
 const LIST_MAX: usize = 20;
+
+/// How many times (10 ms apart) a run waits for a lock held in this process's name (see
+/// `Lock::take`): two seconds.
+const OWN_LOCK_WAITS: usize = 200;
 
 /// The points of a run at which the writer's hook is called (after the step is done).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -531,11 +538,23 @@ impl Lock {
                 ),
             )
         };
+        // A lock that names this very process is not another run: it is a run of this process
+        // that has ended while a child started by another of its threads still held a copy of
+        // the lock's descriptor between fork and exec (the copy goes at exec). Such a holder is
+        // waited for, briefly; any other holder is refused at once.
+        let ours =
+            || fs::read_to_string(path).is_ok_and(|w| w.trim() == std::process::id().to_string());
+        let mut waited = 0;
         // The lock file may be removed by the run that held it between our open and our lock;
         // then the lock we hold is on a file nobody else sees, and we try again.
-        for _ in 0..16 {
+        for _ in 0..16 + OWN_LOCK_WAITS {
             let file = match sys::open_lock(path) {
                 Ok(Some(f)) => f,
+                Ok(None) if waited < OWN_LOCK_WAITS && ours() => {
+                    waited += 1;
+                    std::thread::sleep(std::time::Duration::from_millis(10));
+                    continue;
+                }
                 Ok(None) => return Err(busy()),
                 Err(e) => return Err(unwritable(out, path.parent().unwrap_or(path), e)),
             };

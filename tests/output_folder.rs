@@ -307,8 +307,35 @@ fn legacy_leftovers_of_ended_processes_are_removed() {
     let _ = std::fs::remove_dir_all(&root);
 }
 
-// A run that holds the folder makes a second run refuse with "another run is writing here";
-// the first then completes.
+// A lock in this process's own name is waited for briefly (a child forked by another thread
+// may hold a copy of an ended run's lock descriptor until it execs): a run that ends within the
+// wait lets the next one through instead of refusing it.
+#[test]
+fn a_lock_of_this_process_that_ends_soon_is_waited_for() {
+    let root = scratch("own-lock");
+    let out = root.join("o");
+    write_output(&out, &entries("old")).unwrap();
+    let (to_main, from_first) = std::sync::mpsc::channel::<()>();
+    let out1 = out.clone();
+    let first = std::thread::spawn(move || {
+        write_output_with(&out1, &entries("first"), true, &mut |s| {
+            if s == Step::Staged {
+                to_main.send(()).unwrap();
+                std::thread::sleep(std::time::Duration::from_millis(200));
+            }
+            false
+        })
+    });
+    from_first.recv().unwrap();
+    write_output(&out, &entries("second")).unwrap();
+    first.join().unwrap().unwrap();
+    assert_eq!(tree(&out), expected(&entries("second")));
+    assert_eq!(leftovers(&root, &out), Vec::<String>::new());
+    let _ = std::fs::remove_dir_all(&root);
+}
+
+// A run that holds the folder makes a second run refuse with "another run is writing here"
+// (after the brief wait for a lock in this process's own name); the first then completes.
 #[test]
 fn a_second_run_into_the_same_folder_is_refused() {
     let root = scratch("concurrent");
