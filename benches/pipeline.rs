@@ -31,7 +31,7 @@ fn benches(c: &mut Criterion) {
     });
     g.bench_function("predict of the demo, warm", |b| {
         b.iter(|| {
-            loopwright::cli::predict::predict_spec(
+            loopwright::pipeline::predict::predict_spec(
                 black_box(&spec),
                 Path::new("."),
                 &Default::default(),

@@ -21,7 +21,7 @@ use std::path::Path;
 
 fn main() {
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, "demo").unwrap();
-    let all = loopwright::cli::predict::predict_spec(
+    let all = loopwright::pipeline::predict::predict_spec(
         &spec,
         Path::new("."),
         &loopwright::physics::PredictOptions::default(),

@@ -37,7 +37,7 @@ fn demo_probe_and_fixture() -> (
     loopwright::solve::fixture::SolvedFixture,
 ) {
     let spec = parse_toml(DEMO_SPEC, "demo").unwrap();
-    let all = loopwright::cli::predict::predict_spec(
+    let all = loopwright::pipeline::predict::predict_spec(
         &spec,
         Path::new("."),
         &loopwright::physics::PredictOptions::default(),

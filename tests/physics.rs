@@ -141,10 +141,10 @@ fn probe_factor_formula() {
     assert!((pf_db(t) - 24.40).abs() < 0.006, "{}", pf_db(t));
 }
 
-fn demo_predictions(o: &PredictOptions) -> Vec<loopwright::cli::predict::Predicted> {
+fn demo_predictions(o: &PredictOptions) -> Vec<loopwright::physics::predicted::Predicted> {
     let spec: loopwright::spec::probe::ProbeFileSpec =
         toml::from_str(loopwright::cli::DEMO_SPEC).unwrap();
-    loopwright::cli::predict::predict_spec(&spec, std::path::Path::new("."), o).unwrap()
+    loopwright::pipeline::predict::predict_spec(&spec, std::path::Path::new("."), o).unwrap()
 }
 
 // Facts of the trade (common practice): a bigger loop is more sensitive (lower probe factor)
@@ -192,7 +192,7 @@ fn bad_prediction_inputs_are_refused() {
     let spec: loopwright::spec::probe::ProbeFileSpec =
         toml::from_str(loopwright::cli::DEMO_SPEC).unwrap();
     let run = |o: PredictOptions| {
-        loopwright::cli::predict::predict_spec(&spec, std::path::Path::new("."), &o)
+        loopwright::pipeline::predict::predict_spec(&spec, std::path::Path::new("."), &o)
             .err()
             .map(|e| e.to_string())
             .unwrap_or_default()

@@ -1,6 +1,7 @@
 //! The JSON object of a predicted probe: `predict --json` prints it and the family report embeds
 //! it, so both carry the same numbers.
 
+use crate::physics::on_fixture::FixtureCoupling;
 use crate::physics::predicted::Predicted;
 use crate::physics::probe_factor_at;
 use serde_json::{Value, json};
@@ -66,5 +67,20 @@ pub fn probe_json(x: &Predicted) -> Value {
         "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
         "launch": launch,
+    })
+}
+/// The JSON object of a fixture coupling.
+pub fn coupling_json(c: &FixtureCoupling) -> Value {
+    let k = &c.coupling;
+    json!({
+        "fixture": c.fixture,
+        "height_mm": c.height_mm,
+        "mutual_ph": k.mutual * 1e12,
+        "mutual_filament_ph": k.mutual_filament * 1e12,
+        "h_avg_per_amp": k.h_avg_per_amp,
+        "h_centre_per_amp": k.h_centre_per_amp,
+        "field_reference": "area-average Hx over the loop; I = k·V_inc/50 Ω, k from the fixture's launch model",
+        "e_field_reference": format!("worst case: the line's electric field across the loop's axis, E/H = η0/√εeff = {:.1} Ω (estimate); dB re the magnetic response; centred in the usual orientation the probe ideally rejects it by symmetry", c.line_wave_ohm),
+        "s21": c.s21.iter().zip(&c.line_current_db).zip(&c.e_rejection_db).map(|(((f, db, deg), k), e)| json!({"freq_hz": f, "db": db, "deg": deg, "line_current_db": k, "e_rejection_db": e})).collect::<Vec<_>>(),
     })
 }

@@ -10,4 +10,6 @@ pub mod json;
 pub mod notes;
 pub mod plot;
 pub mod report;
+pub mod summary;
 pub mod svg;
+pub mod tables;

@@ -1,7 +1,8 @@
 //! Response plots (SVG): probe factor against frequency on a logarithmic axis.
 
 use crate::physics::Response;
-use std::fmt::Write;
+use svg::Document;
+use svg::node::element::{Line, Polyline, Rectangle, Text};
 
 fn f(v: f64) -> String {
     if v.abs() >= 1e6 {
@@ -116,44 +117,69 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
     let y1 = if y1 <= y0 { y0 + step } else { y1 };
     let px = |fr: f64| l + (fr.log10() - d0) / (d1 - d0) * (w - l - r);
     let py = |v: f64| t + (y1 - v) / (y1 - y0) * (h - t - b);
-    let mut s = String::new();
-    let _ = write!(
-        s,
-        r#"<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w} {h}" width="{w}" height="{h}" font-family="sans-serif" font-size="12" class="{class}">"#
-    );
-    let _ = write!(
-        s,
-        r##"<rect x="0" y="0" width="{w}" height="{h}" fill="#ffffff"/>"##
-    );
-    let _ = write!(
-        s,
-        r#"<text x="{}" y="22" text-anchor="middle" font-size="14">{}</text>"#,
-        w / 2.0,
-        xml(title)
-    );
+    let line = |x1: String, y1: String, x2: String, y2: String, stroke: &str, width: f64| {
+        Line::new()
+            .set("x1", x1)
+            .set("y1", y1)
+            .set("x2", x2)
+            .set("y2", y2)
+            .set("stroke", stroke)
+            .set("stroke-width", width)
+    };
+    let text = |x: String, y: String, anchor: Option<&str>, body: &str| {
+        let t = Text::new(body).set("x", x).set("y", y);
+        match anchor {
+            Some(a) => t.set("text-anchor", a),
+            None => t,
+        }
+    };
+    let mut doc = Document::new()
+        .set("viewBox", (0, 0, w, h))
+        .set("width", w)
+        .set("height", h)
+        .set("font-family", "sans-serif")
+        .set("font-size", 12)
+        .set("class", class)
+        .add(
+            Rectangle::new()
+                .set("x", 0)
+                .set("y", 0)
+                .set("width", w)
+                .set("height", h)
+                .set("fill", "#ffffff"),
+        )
+        .add(text((w / 2.0).to_string(), "22".into(), Some("middle"), title).set("font-size", 14));
     // Grid: decades and their 2–9 minor lines; every `step` on the value axis.
+    let (top, bottom) = (t.to_string(), (h - b).to_string());
     let mut d = d0;
     while d <= d1 + 1e-9 {
-        let x = px(10f64.powf(d));
-        let _ = write!(
-            s,
-            r##"<line x1="{x:.1}" y1="{t}" x2="{x:.1}" y2="{}" stroke="#999" stroke-width="0.8"/>"##,
-            h - b
-        );
-        let _ = write!(
-            s,
-            r#"<text x="{x:.1}" y="{}" text-anchor="middle">{}</text>"#,
-            h - b + 16.0,
-            hz_label(10f64.powf(d))
-        );
+        let x = format!("{:.1}", px(10f64.powf(d)));
+        doc = doc
+            .add(line(
+                x.clone(),
+                top.clone(),
+                x.clone(),
+                bottom.clone(),
+                "#999",
+                0.8,
+            ))
+            .add(text(
+                x,
+                (h - b + 16.0).to_string(),
+                Some("middle"),
+                &hz_label(10f64.powf(d)),
+            ));
         if d < d1 && dstep == 1.0 {
             for m in 2..10 {
-                let xm = px(m as f64 * 10f64.powf(d));
-                let _ = write!(
-                    s,
-                    r##"<line x1="{xm:.1}" y1="{t}" x2="{xm:.1}" y2="{}" stroke="#ddd" stroke-width="0.6"/>"##,
-                    h - b
-                );
+                let xm = format!("{:.1}", px(m as f64 * 10f64.powf(d)));
+                doc = doc.add(line(
+                    xm.clone(),
+                    top.clone(),
+                    xm,
+                    bottom.clone(),
+                    "#ddd",
+                    0.6,
+                ));
             }
         }
         d += dstep;
@@ -162,65 +188,75 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
     for k in 0..=n_lines {
         let y = y0 + k as f64 * step;
         let yy = py(y);
-        let _ = write!(
-            s,
-            r##"<line x1="{l}" y1="{yy:.1}" x2="{}" y2="{yy:.1}" stroke="#ccc" stroke-width="0.6"/>"##,
-            w - r
-        );
-        let _ = write!(
-            s,
-            r#"<text x="{}" y="{:.1}" text-anchor="end">{}</text>"#,
-            l - 6.0,
-            yy + 4.0,
-            f(y)
-        );
+        let ys = format!("{yy:.1}");
+        doc = doc
+            .add(line(
+                l.to_string(),
+                ys.clone(),
+                (w - r).to_string(),
+                ys,
+                "#ccc",
+                0.6,
+            ))
+            .add(text(
+                (l - 6.0).to_string(),
+                format!("{:.1}", yy + 4.0),
+                Some("end"),
+                &f(y),
+            ));
     }
-    let _ = write!(
-        s,
-        r#"<text x="{}" y="{}" text-anchor="middle">frequency (Hz, logarithmic)</text>"#,
-        (l + w - r) / 2.0,
-        h - 18.0
-    );
-    let _ = write!(
-        s,
-        r#"<text x="16" y="{}" text-anchor="middle" transform="rotate(-90 16 {})">{}</text>"#,
-        (t + h - b) / 2.0,
-        (t + h - b) / 2.0,
-        xml(y_label)
-    );
+    let mid = (t + h - b) / 2.0;
+    doc = doc
+        .add(text(
+            ((l + w - r) / 2.0).to_string(),
+            (h - 18.0).to_string(),
+            Some("middle"),
+            "frequency (Hz, logarithmic)",
+        ))
+        .add(
+            text("16".into(), mid.to_string(), Some("middle"), y_label)
+                .set("transform", format!("rotate(-90 16 {mid})")),
+        );
     for (i, c) in curves.iter().enumerate() {
         let pts: Vec<String> = drawn(&c.points, |fr| px(fr).round() as i64)
             .iter()
             .map(|&(fr, v)| format!("{:.1},{:.1}", px(fr), py(v)))
             .collect();
         let colour = c.colour;
-        let _ = write!(
-            s,
-            r#"<polyline fill="none" stroke="{colour}" stroke-width="2" points="{}"/>"#,
-            pts.join(" ")
+        doc = doc.add(
+            Polyline::new()
+                .set("fill", "none")
+                .set("stroke", colour)
+                .set("stroke-width", 2)
+                .set("points", pts.join(" ")),
         );
         if let Some(m) = c.marker_hz {
-            let xc = px(m.clamp(fmin, fmax));
-            let _ = write!(
-                s,
-                r#"<line x1="{xc:.1}" y1="{t}" x2="{xc:.1}" y2="{}" stroke="{colour}" stroke-dasharray="4 3" stroke-width="1"/>"#,
-                h - b
+            let xc = format!("{:.1}", px(m.clamp(fmin, fmax)));
+            doc = doc.add(
+                line(xc.clone(), top.clone(), xc, bottom.clone(), colour, 1.0)
+                    .set("stroke-dasharray", "4 3"),
             );
         }
         // Legend at the top right, sized to its text (about 6.6 px per character at 12 px).
         let ly = t + 16.0 + 16.0 * i as f64;
         let tx = (w - r - 8.0 - 6.6 * c.label.chars().count() as f64).max(l + 30.0);
-        let _ = write!(
-            s,
-            r#"<line x1="{:.1}" y1="{ly}" x2="{:.1}" y2="{ly}" stroke="{colour}" stroke-width="2"/><text x="{tx:.1}" y="{}">{}</text>"#,
-            tx - 25.0,
-            tx - 5.0,
-            ly + 4.0,
-            xml(&c.label),
-        );
+        doc = doc
+            .add(line(
+                format!("{:.1}", tx - 25.0),
+                ly.to_string(),
+                format!("{:.1}", tx - 5.0),
+                ly.to_string(),
+                colour,
+                2.0,
+            ))
+            .add(text(
+                format!("{tx:.1}"),
+                (ly + 4.0).to_string(),
+                None,
+                &c.label,
+            ));
     }
-    s.push_str("</svg>\n");
-    s
+    format!("{doc}\n")
 }
 
 /// One or more probe-factor curves on one log-frequency plot: (label, colour, response).

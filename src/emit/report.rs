@@ -8,6 +8,8 @@ use crate::emit::json::probe_json;
 use crate::model::stackup::{Layer, Stackup};
 use crate::physics::predicted::{ASSUMPTIONS, Predicted};
 use std::fmt::Write;
+use svg::Document;
+use svg::node::element::{Rectangle, Text};
 
 /// Curve colours (our own palette).
 pub const COLOURS: [&str; 8] = [
@@ -45,30 +47,41 @@ pub fn stackup_svg(st: &Stackup, signal_layer: usize) -> String {
             )),
         }
     }
-    let mut s = String::new();
-    let _ = write!(
-        s,
-        r#"<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w} {h}" width="{w}" height="{h}" font-family="sans-serif" font-size="12" class="stackup-drawing">"#
-    );
-    let _ = write!(s, r##"<rect width="{w}" height="{h}" fill="#ffffff"/>"##);
+    let mut doc = Document::new()
+        .set("viewBox", (0, 0, w, h))
+        .set("width", w)
+        .set("height", h)
+        .set("font-family", "sans-serif")
+        .set("font-size", 12)
+        .set("class", "stackup-drawing")
+        .add(
+            Rectangle::new()
+                .set("width", w)
+                .set("height", h)
+                .set("fill", "#ffffff"),
+        );
     let mut y = 20.0;
     for (t, label, colour) in rows {
         let hh = (t * scale).max(4.0);
-        let _ = write!(
-            s,
-            r##"<rect x="{x0}" y="{y:.1}" width="{bar}" height="{hh:.1}" fill="{colour}" stroke="#555" stroke-width="0.5"/>"##
-        );
-        let _ = write!(
-            s,
-            r#"<text x="{}" y="{:.1}">{}</text>"#,
-            x0 + bar + 12.0,
-            y + hh / 2.0 + 4.0,
-            xml(&label)
-        );
+        doc = doc
+            .add(
+                Rectangle::new()
+                    .set("x", x0)
+                    .set("y", format!("{y:.1}"))
+                    .set("width", bar)
+                    .set("height", format!("{hh:.1}"))
+                    .set("fill", colour)
+                    .set("stroke", "#555")
+                    .set("stroke-width", 0.5),
+            )
+            .add(
+                Text::new(label)
+                    .set("x", x0 + bar + 12.0)
+                    .set("y", format!("{:.1}", y + hh / 2.0 + 4.0)),
+            );
         y += hh;
     }
-    s.push_str("</svg>");
-    s
+    doc.to_string()
 }
 
 fn num(v: f64, d: usize) -> String {

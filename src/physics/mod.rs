@@ -17,6 +17,7 @@ mod elements;
 pub mod elliptic2;
 mod inductance;
 pub mod launch;
+pub mod on_fixture;
 pub mod predicted;
 pub mod shield;
 

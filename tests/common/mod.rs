@@ -348,11 +348,11 @@ pub fn nearest_hole(holes: &[(f64, f64, f64)], i: usize) -> f64 {
 pub fn demo_probe_and_line(
     name: &str,
 ) -> (
-    loopwright::cli::predict::Predicted,
+    loopwright::physics::predicted::Predicted,
     loopwright::physics::coupling::TestLine,
 ) {
     let spec = loopwright::spec::parse_toml(loopwright::cli::DEMO_SPEC, "demo").unwrap();
-    let all = loopwright::cli::predict::predict_spec(
+    let all = loopwright::pipeline::predict::predict_spec(
         &spec,
         std::path::Path::new("."),
         &Default::default(),

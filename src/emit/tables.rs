@@ -1,0 +1,160 @@
+//! The human-readable tables of `predict`.
+
+use crate::physics::on_fixture::FixtureCoupling;
+use crate::physics::predicted::{ASSUMPTIONS, Predicted};
+
+/// The human-readable tables.
+pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
+    let mut o = String::new();
+    for (i, x) in all.iter().enumerate() {
+        let r = &x.response;
+        o.push_str(&format!(
+            "{} — {} loop, {}\n",
+            x.probe.name,
+            x.probe.shape.kind(),
+            x.probe.shape.size_text()
+        ));
+        let line = |o: &mut String, k: &str, v: String| o.push_str(&format!("  {k:<22} {v}\n"));
+        line(&mut o, "loop area", format!("{:.2} mm²", r.area_m2 * 1e6));
+        line(
+            &mut o,
+            "effective area",
+            format!(
+                "{:.2} mm² ({:.3} of the centreline's: the shield's current crowds inwards)",
+                r.area_eff_m2 * 1e6,
+                r.area_eff_m2 / r.area_m2
+            ),
+        );
+        line(
+            &mut o,
+            "inductance",
+            format!(
+                "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH)",
+                r.l_total * 1e9,
+                r.l_outer * 1e9,
+                r.l_stub * 1e9
+            ),
+        );
+        line(
+            &mut o,
+            "low-frequency corner",
+            format!("{:.1} MHz", r.corner_hz / 1e6),
+        );
+        line(
+            &mut o,
+            "upper usable frequency",
+            format!("{:.0} MHz ({})", r.upper_hz / 1e6, r.upper_rule),
+        );
+        line(
+            &mut o,
+            "error budget (1 dB)",
+            match r.budget_hz {
+                Some(b) => format!(
+                    "reached at {:.0} MHz (electric pickup at 20° tilt + stub length ±5 %)",
+                    b / 1e6
+                ),
+                None => "not reached below the first null".to_string(),
+            },
+        );
+        for (rule, f) in &r.quoted_limits {
+            line(
+                &mut o,
+                "  quoted limit",
+                format!("{:.0} MHz: {rule}", f / 1e6),
+            );
+        }
+        line(
+            &mut o,
+            "resolution (−6 dB)",
+            format!(
+                "{:.2} mm across a trace {} mm over its plane, tip {} mm above it",
+                r.resolution_m * 1e3,
+                r.options.trace_h_mm,
+                r.options.height_mm
+            ),
+        );
+        line(
+            &mut o,
+            "mutual to the trace",
+            format!("{:.3} nH", r.mutual * 1e9),
+        );
+        if let Some(l) = &r.launch {
+            line(
+                &mut o,
+                "connector launch",
+                format!(
+                    "worst return loss {:.1} dB at {:.0} MHz up to f_max {:.0} MHz (limit {} dB); \
+                     probe factor changed by at most {:+.2} dB below the upper usable \
+                     frequency{} (not included above)",
+                    l.s11.worst_db,
+                    l.s11.worst_hz / 1e6,
+                    l.f_max_hz / 1e6,
+                    x.probe.connector.return_loss_limit_db,
+                    l.pf_below_upper.1,
+                    match l.pf_to_fmax {
+                        Some((_, d)) => format!(", {d:+.2} dB from there to f_max"),
+                        None => String::new(),
+                    }
+                ),
+            );
+        }
+        o.push_str(
+            "  probe factor (dB(S/m), uniform H, 50 Ω) and E-rejection (dB, worst case: E across \
+             the axis, E/H = η0):\n",
+        );
+        let step = (r.probe_factor.len() / 10).max(1);
+        for (i, ((f, d), (_, e))) in r.probe_factor.iter().zip(&r.e_rejection).enumerate() {
+            if i % step == 0 || i + 1 == r.probe_factor.len() {
+                o.push_str(&format!(
+                    "    {:>12.4} MHz  {:>7.2}  {e:>6.1}\n",
+                    f / 1e6,
+                    d
+                ));
+            }
+        }
+        if let Some(c) = couplings.get(i) {
+            let k = &c.coupling;
+            o.push_str(&format!(
+                "  on fixture {}, tip {} mm over the line (loop plane along it):\n",
+                c.fixture, c.height_mm
+            ));
+            line(
+                &mut o,
+                "mutual inductance",
+                format!(
+                    "{:.2} pH (strip as a sheet; {:.2} pH as a filament)",
+                    k.mutual * 1e12,
+                    k.mutual_filament * 1e12
+                ),
+            );
+            line(
+                &mut o,
+                "field per ampere",
+                format!(
+                    "{:.3} A/m area-average, {:.3} A/m at the loop's centre",
+                    k.h_avg_per_amp, k.h_centre_per_amp
+                ),
+            );
+            o.push_str(&format!(
+                "  predicted S21, line input to probe (dB, degrees), and E-rejection over the line \
+                 (dB, its field across the axis, E/H = {:.0} Ω):\n",
+                c.line_wave_ohm
+            ));
+            for (j, ((f, db, deg), e)) in c.s21.iter().zip(&c.e_rejection_db).enumerate() {
+                if j % step == 0 || j + 1 == c.s21.len() {
+                    o.push_str(&format!(
+                        "    {:>12.4} MHz  {db:>7.2}  {deg:>7.1}  {e:>6.1}\n",
+                        f / 1e6
+                    ));
+                }
+            }
+        }
+        o.push('\n');
+    }
+    o.push_str("Assumptions:\n");
+    for a in ASSUMPTIONS {
+        o.push_str(&format!("  - {a}\n"));
+    }
+    o.push_str(&format!("\n{}\n", crate::emit::cautions::CAUTIONS));
+    o
+}

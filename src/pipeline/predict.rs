@@ -1,0 +1,42 @@
+//! Predictions for a spec: every probe's response at the given options.
+
+use crate::error::Error;
+use crate::model::probe::family_from_spec;
+use crate::physics::predicted::Predicted;
+use crate::physics::{PredictOptions, predict};
+use crate::solve::probe::solve;
+use crate::spec::probe::ProbeFileSpec;
+use std::path::Path;
+
+pub use crate::physics::on_fixture::{FixtureCoupling, fixture_coupling};
+
+/// Loads a spec and predicts every probe.
+pub fn predict_spec(
+    spec: &ProbeFileSpec,
+    base: &Path,
+    o: &PredictOptions,
+) -> Result<Vec<Predicted>, Error> {
+    let errs = o.validate();
+    if !errs.is_empty() {
+        return Err(Error::Invalid(
+            errs.into_iter()
+                .map(|mut e| {
+                    e.field = format!("--{}", e.field);
+                    e
+                })
+                .collect(),
+        ));
+    }
+    let family = family_from_spec(spec, base)?;
+    let mut out = Vec::new();
+    for p in family.probes {
+        let solved = solve(&p)?;
+        let response = predict(&p, &solved, o)?;
+        out.push(Predicted {
+            probe: p,
+            solved,
+            response,
+        });
+    }
+    Ok(out)
+}
