@@ -4,6 +4,7 @@
 use super::kernel::{
     body_copper, flash_polygon, layer_copper, near_pairs, ring_ls, rings_of, seg_seg, segments,
 };
+use super::slack;
 use super::{Rule, Violation};
 use crate::artwork::{Artwork, Shape};
 use crate::geom::{TOL, stroke_round};
@@ -37,7 +38,7 @@ fn check_rings(out: &mut Vec<Violation>, layer: &str, m: &MultiPolygon<f64>) {
             continue;
         }
         let (d, t, _) = seg_seg(a.a, a.b, b.a, b.b);
-        if d < 1e-7 {
+        if d < slack::TOUCH {
             out.push(Violation {
                 rule: Rule::RegionNotSimple,
                 layer: layer.into(),
@@ -63,7 +64,7 @@ fn check_width_space(
     for (i, j) in near_pairs(&segs, dmax) {
         let (a, b) = (&segs[i], &segs[j]);
         let (d, t, u) = seg_seg(a.a, a.b, b.a, b.b);
-        if d >= dmax - 1e-6 || d < 1e-9 {
+        if d >= dmax - slack::GRID || d < slack::NOISE {
             continue;
         }
         if a.ring == b.ring {
@@ -71,7 +72,7 @@ fn check_width_space(
             let pb = b.s0 + u * (b.b - b.a).hypot();
             let along = (pa - pb).abs();
             let along = along.min(lens[a.ring] - along);
-            if along < 2.5 * dmax {
+            if along < slack::SAME_RING_SPANS * dmax {
                 continue;
             }
         }
@@ -140,7 +141,7 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
     }
     // Drills: size, annular ring, hole gap, inside the board.
     for (i, d) in art.drills.iter().enumerate() {
-        if d.d < fab.min_drill - 1e-9 {
+        if d.d < fab.min_drill - slack::NOISE {
             out.push(Violation {
                 rule: Rule::MinDrill,
                 layer: "drill".into(),
@@ -150,14 +151,18 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         }
         let mut pads = 0;
         for l in &art.copper {
-            for f in l.flashes.iter().filter(|f| (f.at - d.at).hypot() < 1e-6) {
+            for f in l
+                .flashes
+                .iter()
+                .filter(|f| (f.at - d.at).hypot() < slack::GRID)
+            {
                 pads += 1;
                 let dia = match f.shape {
                     Shape::Circle(x) => x,
                     Shape::Rect(w, h) => w.min(h),
                 };
                 let ring = (dia - d.d) / 2.0;
-                if ring < fab.min_annular_ring - 1e-9 {
+                if ring < fab.min_annular_ring - slack::NOISE {
                     out.push(Violation {
                         rule: Rule::AnnularRing,
                         layer: format!("L{}", l.n),
@@ -177,7 +182,7 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         }
         for e in &art.drills[i + 1..] {
             let gap_mm = (e.at - d.at).hypot() - (d.d + e.d) / 2.0;
-            if gap_mm < fab.min_hole_gap - 1e-9 {
+            if gap_mm < fab.min_hole_gap - slack::NOISE {
                 out.push(Violation {
                     rule: Rule::HoleToHole,
                     layer: "drill".into(),
@@ -187,7 +192,7 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
             }
         }
         let pt = geo::Point::new(d.at.x, d.at.y);
-        if !outline.contains(&pt) || edge(&pt) < d.d / 2.0 + fab.copper_to_edge - 1e-6 {
+        if !outline.contains(&pt) || edge(&pt) < d.d / 2.0 + fab.copper_to_edge - slack::GRID {
             out.push(Violation {
                 rule: Rule::HoleInsideOutline,
                 layer: "drill".into(),
@@ -204,7 +209,7 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         for (i, a) in openings.iter().enumerate() {
             for bb in &openings[i + 1..] {
                 let d = Euclidean.distance(&flash_polygon(a), &flash_polygon(bb));
-                if d < fab.mask_web - 1e-6 {
+                if d < fab.mask_web - slack::GRID {
                     out.push(Violation {
                         rule: Rule::MaskWeb,
                         layer: name.into(),
@@ -224,7 +229,7 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
             let ink = stroke_round(st, art.silk_width / 2.0);
             for o in openings.iter() {
                 let d = Euclidean.distance(&ink, &MultiPolygon(vec![flash_polygon(o)]));
-                if d < fab.silk_to_pad - 1e-6 {
+                if d < fab.silk_to_pad - slack::GRID {
                     out.push(Violation {
                         rule: Rule::SilkOnPad,
                         layer: name.into(),

@@ -3,6 +3,7 @@
 
 use super::board::check_board;
 use super::kernel::{layer_copper, nearest_neighbours};
+use super::slack;
 use super::{Rule, Violation};
 use crate::artwork::Artwork;
 use crate::geom::rect;
@@ -64,7 +65,12 @@ pub fn check_fixture(
             // Keepout along the uniform line.
             let xu = b.uniform_half_length;
             // Strictly inside the uniform part: its ends meet the tapers' own gaps.
-            let band = MultiPolygon(vec![rect(-xu + 1e-3, -f.width, xu - 1e-3, f.width)]);
+            let band = MultiPolygon(vec![rect(
+                -xu + slack::KEEPOUT,
+                -f.width,
+                xu - slack::KEEPOUT,
+                f.width,
+            )]);
             let ground = MultiPolygon(
                 copper
                     .0
@@ -78,7 +84,7 @@ pub fn check_fixture(
             .intersection(&band);
             let uniform = rect(-xu, -s.width / 2.0, xu, s.width / 2.0);
             let d = Euclidean.distance(&MultiPolygon(vec![uniform]), &ground);
-            if !ground.0.is_empty() && d < s.keepout - 1e-3 {
+            if !ground.0.is_empty() && d < s.keepout - slack::KEEPOUT {
                 out.push(Violation {
                     rule: Rule::GroundTooNearLine,
                     layer: name.clone(),

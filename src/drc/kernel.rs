@@ -1,6 +1,7 @@
 //! The geometry the design rules share: copper as polygons, boundary segments and their
 //! closest points, near pairs by a sweep, nearest neighbours.
 
+use super::slack;
 use super::{Rule, Violation};
 use crate::artwork::{Flash, PadFunction, Shape};
 use crate::geom::{circle, rect};
@@ -174,7 +175,7 @@ pub(super) fn nearest_neighbours(
             .filter(|(j, _)| *j != i)
             .map(|(_, w)| (*w - *v).hypot())
             .fold(f64::INFINITY, f64::min);
-        if nn > pitch_max + 1e-6 {
+        if nn > pitch_max + slack::GRID {
             out.push(Violation {
                 rule: Rule::ViaPitchAboveLimit,
                 layer: "drill".into(),

@@ -3,6 +3,7 @@
 
 use super::board::check_board;
 use super::kernel::{body_copper, layer_copper, nearest_neighbours};
+use super::slack;
 use super::{Rule, Violation};
 use crate::artwork::Artwork;
 use crate::geom::{Board, rect};
@@ -26,7 +27,7 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
         let body = body_copper(l);
         // No copper inside the loop.
         let inside = body.intersection(&interior).unsigned_area();
-        if inside > 1e-4 {
+        if inside > slack::AREA {
             out.push(Violation {
                 rule: Rule::CopperInsideLoop,
                 layer: name.clone(),
@@ -52,7 +53,7 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
                     len += (c - a).hypot() * inside / (hi - lo);
                 }
             }
-            let allowed = b.trace_width * len * 1.01 + 1e-4;
+            let allowed = b.trace_width * len * (1.0 + slack::GAP_AREA_SHARE) + slack::AREA;
             if in_gap > allowed || in_gap < 0.5 * allowed {
                 out.push(Violation {
                     rule: Rule::GapHoldsOnlyTrace,
@@ -64,7 +65,7 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
                     ),
                 });
             }
-        } else if in_gap > 1e-6 {
+        } else if in_gap > slack::GAP_AREA {
             out.push(Violation {
                 rule: Rule::GapFreeOfCopper,
                 layer: name.clone(),
@@ -77,7 +78,7 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
         if d.via {
             let dx = (d.at.x.abs() - gx1).max(0.0);
             let dy = (gy0 - d.at.y).max(d.at.y - gy1).max(0.0);
-            if dx.hypot(dy) < p.vias.pad / 2.0 + 1e-6 {
+            if dx.hypot(dy) < p.vias.pad / 2.0 + slack::GRID {
                 out.push(Violation {
                     rule: Rule::ViaInGap,
                     layer: "drill".into(),
@@ -91,7 +92,7 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
     let vias: Vec<Point> = art.drills.iter().filter(|d| d.via).map(|d| d.at).collect();
     for (v, nn) in nearest_neighbours(&vias, s.pitch_max, &mut out) {
         // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
-        if nn < s.pitch_min - 1e-5 {
+        if nn < s.pitch_min - slack::PITCH {
             out.push(Violation {
                 rule: Rule::ViaPitchBelowFab,
                 layer: "drill".into(),
@@ -158,7 +159,11 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
             s.launch.antipad_d.max(s.launch.barrel_antipad_d) / 2.0 + p.vias.pad + s.pitch_max;
         // Left and right as seen from the connector looking towards the loop (−x and +x).
         for (side, sign) in [("right", -1.0), ("left", 1.0)] {
-            let path = crate::geom::offset_round(feed, sign * s.fence_offset, 0.05);
+            let path = crate::geom::offset_round(
+                feed,
+                sign * s.fence_offset,
+                crate::geom::offsets::OFFSET_FLATNESS,
+            );
             let to = *arclengths(&path).last().unwrap();
             // Where the feed joins the loop, the outer row's exemption zone continues.
             let join = *feed.last().unwrap();
@@ -186,7 +191,9 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
                         best = (dd, sl[k] + n.t * (w[1] - w[0]).hypot());
                     }
                 }
-                (best.0 < 0.01 && best.1 >= row.from - 1e-9 && best.1 <= row.to + 1e-9)
+                (best.0 < slack::ON_ROW
+                    && best.1 >= row.from - slack::NOISE
+                    && best.1 <= row.to + slack::NOISE)
                     .then_some(best.1)
             })
             .collect();
@@ -195,7 +202,7 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
             let q = point_at(&row.path, &sl, x).0;
             row.exempt.iter().any(|(c, r)| (q - *c).hypot() < *r)
         };
-        let h = 0.02;
+        let h = slack::ROW_STEP;
         let n = ((row.to - row.from) / h).ceil().max(1.0) as usize;
         let mut stretches: Vec<(f64, f64)> = Vec::new();
         let mut open: Option<f64> = None;
@@ -222,7 +229,7 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
                 let (p0, _) = point_at(&row.path, &sl, w[0]);
                 let (q, _) = point_at(&row.path, &sl, w[1]);
                 let step = (q - p0).hypot();
-                if step > s.pitch_max + 1e-6 {
+                if step > s.pitch_max + slack::GRID {
                     out.push(Violation {
                         rule: Rule::StitchingRowPitch,
                         layer: "drill".into(),

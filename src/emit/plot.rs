@@ -77,6 +77,26 @@ fn drawn(points: &[(f64, f64)], column: impl Fn(f64) -> i64) -> Vec<(f64, f64)> 
     out
 }
 
+/// An empty drawing of `w` × `h` px on a white ground, 12 px sans-serif text, with its class
+/// attribute (the report counts its drawings by it).
+pub fn drawing(w: f64, h: f64, class: &str) -> Document {
+    Document::new()
+        .set("viewBox", (0, 0, w, h))
+        .set("width", w)
+        .set("height", h)
+        .set("font-family", "sans-serif")
+        .set("font-size", 12)
+        .set("class", class)
+        .add(
+            Rectangle::new()
+                .set("x", 0)
+                .set("y", 0)
+                .set("width", w)
+                .set("height", h)
+                .set("fill", "#ffffff"),
+        )
+}
+
 /// Curves on one log-frequency plot with a linear value axis (`y_label`, with its unit).
 /// `class` is the SVG's class attribute (the report counts its plots by it). Its size is
 /// bounded whatever the data: at most about a dozen grid lines on each axis and
@@ -133,21 +153,7 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
             None => t,
         }
     };
-    let mut doc = Document::new()
-        .set("viewBox", (0, 0, w, h))
-        .set("width", w)
-        .set("height", h)
-        .set("font-family", "sans-serif")
-        .set("font-size", 12)
-        .set("class", class)
-        .add(
-            Rectangle::new()
-                .set("x", 0)
-                .set("y", 0)
-                .set("width", w)
-                .set("height", h)
-                .set("fill", "#ffffff"),
-        )
+    let mut doc = drawing(w, h, class)
         .add(text((w / 2.0).to_string(), "22".into(), Some("middle"), title).set("font-size", 14));
     // Grid: decades and their 2–9 minor lines; every `step` on the value axis.
     let (top, bottom) = (t.to_string(), (h - b).to_string());

@@ -8,7 +8,6 @@ use crate::emit::json::probe_json;
 use crate::model::stackup::{Layer, Stackup};
 use crate::physics::predicted::{ASSUMPTIONS, Predicted};
 use std::fmt::Write;
-use svg::Document;
 use svg::node::element::{Rectangle, Text};
 
 /// Curve colours (our own palette).
@@ -47,19 +46,7 @@ pub fn stackup_svg(st: &Stackup, signal_layer: usize) -> String {
             )),
         }
     }
-    let mut doc = Document::new()
-        .set("viewBox", (0, 0, w, h))
-        .set("width", w)
-        .set("height", h)
-        .set("font-family", "sans-serif")
-        .set("font-size", 12)
-        .set("class", "stackup-drawing")
-        .add(
-            Rectangle::new()
-                .set("width", w)
-                .set("height", h)
-                .set("fill", "#ffffff"),
-        );
+    let mut doc = super::plot::drawing(w, h, "stackup-drawing");
     let mut y = 20.0;
     for (t, label, colour) in rows {
         let hh = (t * scale).max(4.0);

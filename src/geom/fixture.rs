@@ -8,7 +8,7 @@
 //! y across. The board is symmetric about both axes.
 
 use super::font;
-use super::{Pad, Via, ViaRole, circle, polygon, rect};
+use super::{Pad, Via, ViaRole, circle, offsets, polygon, rect};
 use crate::model::fixture::Fixture;
 use crate::solve::fixture::{SolvedFixture, port_zone_length};
 use crate::solve::probe::VIA_WEB;
@@ -130,7 +130,7 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
     // of the pour. A via is kept where its pad (plus the web) lies inside the pour, clear of the
     // connector pads and at least the fab's pitch from every other via.
     let r_keep = f.vias.pad / 2.0 + VIA_WEB;
-    let step = (0.5 * s.pitch_max).max(s.pitch_min + 1e-4);
+    let step = (0.5 * s.pitch_max).max(s.pitch_min + offsets::PITCH_MARGIN);
     let mut vias: Vec<Via> = Vec::new();
     let ok = |q: Point, vias: &[Via]| {
         pour.contains(&circle(q, r_keep))
@@ -171,12 +171,12 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
                 }
                 last = Some(q);
             }
-            t += 0.01;
+            t += offsets::SEARCH_STEP;
         }
     };
     // The ground edge beside the launch, offset by a via's keep, from the board's end to a
     // millimetre past the taper.
-    let off = r_keep + 0.01;
+    let off = r_keep + offsets::KEEP_MARGIN;
     let edge: Vec<Point> = profile
         .iter()
         .rev()
@@ -184,7 +184,7 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
         .map(|&(x, _, c)| Point::new(x.min(l2 - cte), c + off))
         .collect();
     let mut edge_path = edge.clone();
-    edge_path.dedup_by(|a, b| (*a - *b).hypot() < 1e-9);
+    edge_path.dedup_by(|a, b| (*a - *b).hypot() < offsets::SAME_POINT);
     if edge_path.len() >= 2 {
         walk(&edge_path, ViaRole::Fence, &mut vias);
     }
@@ -194,7 +194,7 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
         .find(|pd| !pd.centre && pd.at.x > 0.0 && pd.at.y > 0.0)
         .copied()
         .expect("ground pads");
-    let grow = f.vias.pad / 2.0 + f.fab.min_space + f.fab.mask_expansion + 0.01;
+    let grow = f.vias.pad / 2.0 + f.fab.min_space + f.fab.mask_expansion + offsets::KEEP_MARGIN;
     let (hx, hy) = (gp.w / 2.0 + grow, gp.h / 2.0 + grow);
     let around = [
         Point::new(gp.at.x + hx, gp.at.y - hy),
@@ -206,9 +206,9 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
 
     // Stitching: a grid at the largest allowed pitch over the pour, aligned so that one row
     // runs along the pour's edge by the uniform line.
-    let p = s.pitch_max.min(5.0) * 0.98;
+    let p = s.pitch_max.min(offsets::GRID_PITCH_MAX) * offsets::GRID_PITCH_SHARE;
     // (1 µm beyond the exact tangent, which the containment test may refuse by rounding.)
-    let y0 = s.width / 2.0 + s.keepout + f.vias.pad / 2.0 + VIA_WEB + 1e-3;
+    let y0 = s.width / 2.0 + s.keepout + f.vias.pad / 2.0 + VIA_WEB + offsets::PAST_TANGENT;
     let nx = ((l2 - cte) / p).floor() as i64;
     let ny = ((w2 - y0) / p).floor() as i64 + 1;
     let mut stitch = Vec::new();

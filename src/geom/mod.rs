@@ -138,3 +138,40 @@ pub struct Board {
 
 /// Geometric tolerance of the construction rules, mm: twice the arc flattening tolerance.
 pub const TOL: f64 = 2.0 * shape::ARC_TOLERANCE;
+
+/// Construction offsets, mm, each with its reason. The artwork snaps every coordinate to a
+/// 1 nm grid (1e-6 mm), so a feature placed exactly at a limit could measure past it.
+pub mod offsets {
+    /// Margin above the fab's least via pitch when vias are placed: a pair at exactly the
+    /// minimum could measure under it after snapping.
+    pub const PITCH_MARGIN: f64 = 1e-4;
+    /// A candidate via is taken as far enough from the others at this much less than
+    /// [`PITCH_MARGIN`] above the least pitch (walks accumulate float noise).
+    pub const PITCH_CHECK_SLACK: f64 = 1e-5;
+    /// Share of the stitching limit a via row aims at: 5 % in hand for snapping and for the
+    /// chords of flattened arcs being shorter than the arcs.
+    pub const PITCH_MAX_SHARE: f64 = 0.95;
+    /// Share of the stitching limit of the fixture's pour grid (2 % in hand, as above; a grid
+    /// has no arcs).
+    pub const GRID_PITCH_SHARE: f64 = 0.98;
+    /// The fixture's pour grid is never coarser than this, whatever the stitching limit: a
+    /// test line's return current is kept near the line (common practice, no source).
+    pub const GRID_PITCH_MAX: f64 = 5.0;
+    /// Step of a search along a path for a free via site: 10 µm, finer than any fab places.
+    pub const SEARCH_STEP: f64 = 0.01;
+    /// A via's keep is grown by this much beyond the rule it keeps, so that rounding never
+    /// puts its pad on the rule's edge (10 µm).
+    pub const KEEP_MARGIN: f64 = 0.01;
+    /// A position just past an exact tangent, which a containment test may refuse by rounding
+    /// (1 µm).
+    pub const PAST_TANGENT: f64 = 1e-3;
+    /// Chord tolerance of round offsets of the feed (via fences, checks), mm.
+    pub const OFFSET_FLATNESS: f64 = 0.05;
+    /// Extra clearance kept round the loop's closing region beyond the fab's least space.
+    pub const CLOSE_MARGIN: f64 = 0.05;
+    /// Flattened-curve points nearer than this to the loop's entry are skipped: the segments
+    /// they make are too short to have a direction.
+    pub const MIN_SEGMENT: f64 = 1e-3;
+    /// Two points this close are one (float noise).
+    pub const SAME_POINT: f64 = 1e-9;
+}

@@ -1,5 +1,6 @@
 //! The probe board builder: from a probe and its solved values to the `Board`.
 
+use super::offsets;
 use super::region::*;
 use super::shape::{closed, left_half, mirror};
 use super::silk::*;
@@ -34,7 +35,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let e_in = Point::new(-e, a.y + t * (b.y - a.y));
     // Flattened-curve points very close to the entry or exit would make segments too short to
     // have a direction (the offset of such a segment is noise): skip them.
-    let far = |q: &Point| (*q - e_in).hypot() > 1e-3;
+    let far = |q: &Point| (*q - e_in).hypot() > offsets::MIN_SEGMENT;
     let mut loop_part: Vec<Point> = vec![e_in];
     loop_part.extend(left[..=k].iter().rev().copied().filter(far));
     loop_part.extend(left[1..=k].iter().filter(|q| far(q)).map(|q| mirror(*q)));
@@ -71,7 +72,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     // space) fills every notch narrower than that, and the loop interior is then taken out again.
     let hw = p.handle.width / 2.0;
     let interior = polygon(&closed(shape, -hr));
-    let r_close = p.fab.min_space.max(p.clearance) + 0.05;
+    let r_close = p.fab.min_space.max(p.clearance) + offsets::CLOSE_MARGIN;
     let extent = MultiPolygon(vec![polygon(&closed(shape, hr))]).union(&MultiPolygon(vec![rect(
         -hw,
         edge_y + cte,
@@ -157,7 +158,10 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     });
     // Short vias on the stub, in solid ground below the channel.
     let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
-    for q in [short1, Point::new(e, short1.y - s.pitch_min - 1e-4)] {
+    for q in [
+        short1,
+        Point::new(e, short1.y - s.pitch_min - offsets::PITCH_MARGIN),
+    ] {
         placer.vias.push(Via {
             at: q,
             drill: p.vias.drill,

@@ -85,7 +85,7 @@ impl ViaPlacer<'_> {
         // Fab via pitch.
         self.vias
             .iter()
-            .all(|v| (v.at - q).hypot() >= self.s.pitch_min + 1e-5)
+            .all(|v| (v.at - q).hypot() >= self.s.pitch_min + offsets::PITCH_CHECK_SLACK)
     }
 
     pub(super) fn try_add(&mut self, q: Point, role: ViaRole) -> bool {
@@ -108,7 +108,7 @@ impl ViaPlacer<'_> {
     /// one, so the ring is as dense as the fab allows where the two lines leave it free (the
     /// top link's channel below, the feed's channel above).
     pub(super) fn signal_ring(&mut self, rg: f64) {
-        let spacing = self.s.pitch_min + 1e-4;
+        let spacing = self.s.pitch_min + offsets::PITCH_MARGIN;
         let steps = 720;
         let mut last: Option<Point> = None;
         for i in 0..=steps {
@@ -142,7 +142,7 @@ impl ViaPlacer<'_> {
     /// edge) or in a line's channel are refused by [`Self::ok`]. Top and bottom pads share
     /// their place, so one walk serves both.
     pub(super) fn pad_vias(&mut self) {
-        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + offsets::PITCH_MARGIN);
         let grow = self.p.vias.pad / 2.0 + 0.1 + 1e-3;
         let mut seen: Vec<Point> = Vec::new();
         // The right-hand pads; each via is placed with its mirror image (the board is
@@ -154,7 +154,10 @@ impl ViaPlacer<'_> {
             .copied()
             .collect();
         for pd in pads {
-            if seen.iter().any(|q| (*q - pd.at).hypot() < 1e-9) {
+            if seen
+                .iter()
+                .any(|q| (*q - pd.at).hypot() < offsets::SAME_POINT)
+            {
                 continue;
             }
             seen.push(pd.at);
@@ -187,7 +190,7 @@ impl ViaPlacer<'_> {
                         self.vias.pop();
                     }
                 }
-                t += 0.01;
+                t += offsets::SEARCH_STEP;
             }
         }
         // A via left alone by a blocked stretch (farther than the stitching limit from every
@@ -198,13 +201,14 @@ impl ViaPlacer<'_> {
                     && self
                         .vias
                         .iter()
-                        .filter(|o| (o.at - v.at).hypot() > 1e-9)
+                        .filter(|o| (o.at - v.at).hypot() > offsets::SAME_POINT)
                         .all(|o| (o.at - v.at).hypot() > self.s.pitch_max)
             });
             let Some(i) = lonely else { break };
             let q = self.vias.remove(i).at;
-            self.vias
-                .retain(|v| !(v.role == ViaRole::PadGround && (v.at - mirror(q)).hypot() < 1e-9));
+            self.vias.retain(|v| {
+                !(v.role == ViaRole::PadGround && (v.at - mirror(q)).hypot() < offsets::SAME_POINT)
+            });
         }
     }
 
@@ -221,7 +225,7 @@ impl ViaPlacer<'_> {
         // one more (shortened) step ends on the axis. No ceiling on the count; should a
         // strange path need more, the next counts are tried, and the design-rule check's row
         // coverage refuses a row left with gaps.
-        let d_max = 0.95 * self.s.pitch_max;
+        let d_max = offsets::PITCH_MAX_SHARE * self.s.pitch_max;
         let fit = walk(&half, &s, s0, d_max, usize::MAX).len() - 1;
         let positions = (fit.max(1)..=2 * fit + 8)
             .find_map(|n| {
@@ -254,12 +258,12 @@ impl ViaPlacer<'_> {
     pub(super) fn fences(&mut self, feed: &[Point]) {
         let f = self.s.fence_offset;
         // Half the pitch limit: a tight fence beside the feed, where the line leaves the loop.
-        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + 1e-4);
+        let step = (0.5 * self.s.pitch_max).max(self.s.pitch_min + offsets::PITCH_MARGIN);
         // The walk's resolution: a via lands at most `dt` beyond `step` from the last one,
         // which keeps it within the limit even when the fab's pitch is close to it.
         let dt = (0.5 * (self.s.pitch_max - step)).clamp(0.002, 0.02);
         for side in [-1.0, 1.0] {
-            let path = offset_round(feed, side * f, 0.05);
+            let path = offset_round(feed, side * f, offsets::OFFSET_FLATNESS);
             let s = arclengths(&path);
             let total = *s.last().unwrap();
             let mut last: Option<Point> = None;
