@@ -106,7 +106,7 @@ pub fn utf8_or_comment(bytes: &[u8], p: &str) -> Result<String, Error> {
 }
 
 /// The lines of a file, each without its line end (LF, CRLF or a lone CR).
-fn split_lines(b: &[u8]) -> Vec<&[u8]> {
+pub(crate) fn split_lines(b: &[u8]) -> Vec<&[u8]> {
     let mut out = Vec::new();
     let (mut start, mut i) = (0, 0);
     while i < b.len() {
@@ -397,6 +397,30 @@ pub fn to_csv(points: &[FieldPoint]) -> String {
             "{},{:.4},{:.6e},{:.4},{:.4}\n",
             p.freq_hz, p.h_dbua_per_m, p.h_a_per_m, p.b_dbpt, p.v_probe_dbuv
         ));
+    }
+    s
+}
+
+/// The output CSV of several traces read at the same frequencies: `freq_hz`, then the four
+/// columns of [`to_csv`] for each trace with the suffix `_t1`, `_t2`...
+pub fn to_csv_traces(traces: &[Vec<FieldPoint>]) -> String {
+    let mut s = String::from("freq_hz");
+    for k in 1..=traces.len() {
+        s.push_str(&format!(
+            ",h_dbua_per_m_t{k},h_a_per_m_t{k},b_dbpt_t{k},v_probe_dbuv_t{k}"
+        ));
+    }
+    s.push('\n');
+    for (i, p0) in traces[0].iter().enumerate() {
+        s.push_str(&format!("{}", p0.freq_hz));
+        for t in traces {
+            let p = &t[i];
+            s.push_str(&format!(
+                ",{:.4},{:.6e},{:.4},{:.4}",
+                p.h_dbua_per_m, p.h_a_per_m, p.b_dbpt, p.v_probe_dbuv
+            ));
+        }
+        s.push('\n');
     }
     s
 }

@@ -5,5 +5,6 @@
 pub mod band;
 pub mod calibrate;
 pub mod convert;
+pub mod export;
 pub mod gate;
 pub mod touchstone;

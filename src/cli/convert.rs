@@ -1,6 +1,7 @@
 //! `loopwright convert`: spectrum-analyzer readings to field strength.
 
 use crate::calib::convert::{Gain, convert, read_table, to_csv};
+use crate::calib::export::Readings;
 use crate::error::{Error, FieldError, check_range};
 use std::path::{Path, PathBuf};
 
@@ -8,7 +9,9 @@ use std::path::{Path, PathBuf};
 #[derive(Debug, clap::Args)]
 #[command(allow_negative_numbers = true, after_help = super::CAUTIONS)]
 pub struct ConvertArgs {
-    /// Analyzer trace: CSV with header `freq_hz,level_dbm` or `freq_hz,level_dbuv`.
+    /// Analyzer readings: CSV with header `freq_hz,level_dbm` or `freq_hz,level_dbuv`, or an
+    /// analyzer export (metadata lines before a header such as `Frequency [Hz];Level [dBm]`,
+    /// `;`, tab or `,` separators, decimal commas, several level columns; docs/file-formats.md).
     #[arg(long, value_name = "FILE.csv")]
     pub readings: PathBuf,
     /// Probe factor: CSV with header `freq_hz,pf_db_s_per_m` (predicted or calibrated).
@@ -26,7 +29,8 @@ pub struct ConvertArgs {
     /// Cable loss, dB (added back).
     #[arg(long = "cable-db", value_name = "C", default_value_t = 0.0)]
     pub cable_db: f64,
-    /// Output CSV (`freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv`).
+    /// Output CSV (`freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv`; with several level
+    /// columns, those four per trace with the suffix `_t1`, `_t2`...).
     #[arg(long, value_name = "FILE.csv")]
     pub out: PathBuf,
     /// Also draw the field strength against frequency as an SVG plot.
@@ -95,7 +99,8 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }
-    let readings = read_table(&a.readings, &["level_dbm", "level_dbuv"])?;
+    let export = crate::calib::export::read_readings(&a.readings)?;
+    let readings = &export.traces[0];
     let factor = read_table(&a.factor, &["pf_db_s_per_m"])?;
     // The usable band the factor's comment lines state (calibrate writes it).
     let band = std::fs::read_to_string(&a.factor)
@@ -130,14 +135,12 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
         (None, Some(g)) => Gain::Fixed(g),
         (None, None) => unreachable!("checked above"),
     };
-    let points = convert(
-        &readings,
-        &factor,
-        &gain,
-        a.atten_db,
-        a.cable_db,
-        a.extrapolate,
-    )?;
+    let traces: Vec<Vec<crate::calib::convert::FieldPoint>> = export
+        .traces
+        .iter()
+        .map(|t| convert(t, &factor, &gain, a.atten_db, a.cable_db, a.extrapolate))
+        .collect::<Result<_, _>>()?;
+    let points = &traces[0];
     // Written beside the targets and renamed into place: a refused run writes nothing.
     let io = |path: &PathBuf| {
         let path = path.display().to_string();
@@ -151,41 +154,52 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
             .collect(),
         None => Vec::new(),
     };
-    let csv = match band {
-        Some((_, hi)) => band_column(&to_csv(&points), hi),
-        None => to_csv(&points),
+    let table = if traces.len() == 1 {
+        to_csv(points)
+    } else {
+        crate::calib::convert::to_csv_traces(&traces)
     };
+    let table = match band {
+        Some((_, hi)) => band_column(&table, hi),
+        None => table,
+    };
+    let csv = format!("{}{table}", provenance(a, &export));
     let mut outputs = vec![(a.out.clone(), csv)];
     if let Some(plot) = &a.plot {
-        let series = crate::emit::plot::Series {
-            label: format!(
-                "{} with {}",
-                a.readings
-                    .file_name()
-                    .map(|n| n.to_string_lossy().to_string())
-                    .unwrap_or_default(),
-                a.factor
-                    .file_name()
-                    .map(|n| n.to_string_lossy().to_string())
-                    .unwrap_or_default()
-            ),
-            colour: "#1f5fa8",
-            points: points.iter().map(|p| (p.freq_hz, p.h_dbua_per_m)).collect(),
-            marker_hz: None,
+        let name = |p: &Path| {
+            p.file_name()
+                .map(|n| n.to_string_lossy().to_string())
+                .unwrap_or_default()
         };
+        let series: Vec<crate::emit::plot::Series> = traces
+            .iter()
+            .zip(&export.labels)
+            .enumerate()
+            .map(|(k, (pts, label))| crate::emit::plot::Series {
+                label: if traces.len() == 1 {
+                    format!("{} with {}", name(&a.readings), name(&a.factor))
+                } else {
+                    format!("{label} (t{})", k + 1)
+                },
+                colour: crate::emit::report::COLOURS[k % crate::emit::report::COLOURS.len()],
+                points: pts.iter().map(|p| (p.freq_hz, p.h_dbua_per_m)).collect(),
+                marker_hz: None,
+            })
+            .collect();
         outputs.push((
             plot.clone(),
             crate::emit::plot::log_plot(
                 "Field strength from the analyzer readings",
                 "H dBµA/m",
                 "field-plot",
-                &[series],
+                &series,
             ),
         ));
     }
     write_files(&outputs).map_err(|(path, e)| io(&path)(e))?;
-    let max = points
+    let max = traces
         .iter()
+        .flatten()
         .map(|p| p.h_dbua_per_m)
         .fold(f64::NEG_INFINITY, f64::max);
     if let (Some((_, hi)), Some(lo), Some(top)) = (band, above.first(), above.last()) {
@@ -196,6 +210,9 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
             above.len(),
             a.out.display()
         );
+    }
+    if !export.provenance.is_empty() || traces.len() > 1 {
+        outln!("read {}: {}", a.readings.display(), export.form);
     }
     outln!(
         "{} points written to {}; highest field {:.2} dBµA/m. Near-field readings locate and rank \
@@ -282,6 +299,24 @@ fn band_column(csv: &str, hi: f64) -> String {
                 .and_then(|v| v.parse().ok())
                 .unwrap_or(0.0);
             o.push_str(if f > hi { ",true\n" } else { ",false\n" });
+        }
+    }
+    o
+}
+
+/// The output's `#` comment lines: where the readings came from, when the file said more than
+/// its two columns (metadata lines, several traces, left-out columns); none otherwise.
+fn provenance(a: &ConvertArgs, r: &Readings) -> String {
+    if r.provenance.is_empty() && r.traces.len() == 1 {
+        return String::new();
+    }
+    let mut o = format!("# readings: {} ({})\n", a.readings.display(), r.form);
+    for l in &r.provenance {
+        o.push_str(&format!("# metadata: {l}\n"));
+    }
+    if r.traces.len() > 1 {
+        for (k, (label, t)) in r.labels.iter().zip(&r.traces).enumerate() {
+            o.push_str(&format!("# t{}: {label} ({})\n", k + 1, t.column));
         }
     }
     o
