@@ -84,6 +84,26 @@ pub fn write_output(out: &Path, entries: &[(PathBuf, Vec<u8>)]) -> Result<(), Er
     write_output_with(out, entries, true, &mut |_| false)
 }
 
+/// What a run does with files of the earlier output that loopwright wrote and the user has
+/// edited since (their hash no longer matches the manifest).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Edited {
+    /// Refuse the run, naming them (the default).
+    Refuse,
+    /// Replace those the run writes again, keep the others as edited (the user asked for it,
+    /// e.g. `demo --force`). Files loopwright did not write are refused all the same.
+    Replace,
+}
+
+/// [`write_output`] with a policy for edited files.
+pub fn write_output_edited(
+    out: &Path,
+    entries: &[(PathBuf, Vec<u8>)],
+    edited: Edited,
+) -> Result<(), Error> {
+    write_run(out, entries, true, edited, &mut |_| false)
+}
+
 /// [`write_output`] with its test hooks: `exchange = false` uses the two-rename switch even
 /// where an atomic exchange exists; `hook` is called after each [`Step`] and returning `true`
 /// stops the run there as if the process had been killed (nothing is cleaned up, the lock file
@@ -93,6 +113,16 @@ pub fn write_output_with(
     out: &Path,
     entries: &[(PathBuf, Vec<u8>)],
     exchange: bool,
+    hook: &mut dyn FnMut(Step) -> bool,
+) -> Result<(), Error> {
+    write_run(out, entries, exchange, Edited::Refuse, hook)
+}
+
+fn write_run(
+    out: &Path,
+    entries: &[(PathBuf, Vec<u8>)],
+    exchange: bool,
+    edited: Edited,
     hook: &mut dyn FnMut(Step) -> bool,
 ) -> Result<(), Error> {
     let out = resolve(out)?;
@@ -106,6 +136,7 @@ pub fn write_output_with(
         out: &out,
         names: &names,
         exchange,
+        edited,
         hook,
     };
     match run.go(&new_entries) {
@@ -140,9 +171,14 @@ pub fn write_output_with(
 /// Checks, before a long build, what writing `out` would meet: a folder in the way that is not
 /// an unchanged loopwright output, or a place that cannot be written. Creates nothing.
 pub fn preflight(out: &Path) -> Result<(), Error> {
+    preflight_edited(out, Edited::Refuse)
+}
+
+/// [`preflight`] with a policy for edited files.
+pub fn preflight_edited(out: &Path, edited: Edited) -> Result<(), Error> {
     let out = resolve(out)?;
     let (parent, leaf) = split(&out)?;
-    check_folder(&out)?;
+    check_folder_edited(&out, edited)?;
     // The nearest thing that exists on the way to `out`'s parent must be a folder that takes a
     // new file.
     let mut dir = parent.as_path();
@@ -224,6 +260,12 @@ pub enum Contents {
 /// Checks a folder against its manifest; refuses (naming the files) when anything in it is not
 /// a file loopwright wrote there, unchanged.
 pub fn check_folder(dir: &Path) -> Result<Contents, Error> {
+    check_folder_edited(dir, Edited::Refuse)
+}
+
+/// [`check_folder`] with a policy for edited files: with [`Edited::Replace`] a folder whose
+/// only fault is edited files of its own is taken as loopwright's.
+pub fn check_folder_edited(dir: &Path, edited: Edited) -> Result<Contents, Error> {
     let meta = match fs::symlink_metadata(dir) {
         Ok(m) => m,
         Err(e)
@@ -319,7 +361,7 @@ pub fn check_folder(dir: &Path) -> Result<Contents, Error> {
             foreign.push(prefix);
         }
     }
-    if foreign.is_empty() && changed.is_empty() {
+    if foreign.is_empty() && (changed.is_empty() || edited == Edited::Replace) {
         return Ok(Contents::Owned(manifest));
     }
     let mut why = Vec::new();
@@ -391,6 +433,7 @@ struct Run<'a> {
     out: &'a Path,
     names: &'a TempNames,
     exchange: bool,
+    edited: Edited,
     hook: &'a mut dyn FnMut(Step) -> bool,
 }
 
@@ -407,7 +450,7 @@ impl Run<'_> {
         self.step(Step::Locked)?;
         self.recover()?;
         self.step(Step::Recovered)?;
-        let before = check_folder(self.out)?;
+        let before = check_folder_edited(self.out, self.edited)?;
         // Entries of the earlier output under a top-level name this run does not write are
         // carried over; the others are replaced as a whole.
         let tops: BTreeSet<String> = entries.iter().map(|(p, _)| top_key(p)).collect();
@@ -469,7 +512,15 @@ impl Run<'_> {
         for (rel, h) in carried {
             let from = self.out.join(rel);
             let bytes = fs::read(&from).map_err(io(&from))?;
-            if sha256_hex(&bytes) != *h {
+            let now = sha256_hex(&bytes);
+            if now != *h && self.edited == Edited::Replace {
+                // An edited file this run does not write again is kept as edited.
+                write_file(root, rel, &bytes)?;
+                manifest.insert(rel.clone(), now);
+                self.step(Step::FileStaged)?;
+                continue;
+            }
+            if now != *h {
                 return Err(Stop::Failed(refuse(
                     self.out,
                     format!("{rel} changed while this run was writing (nothing was written)"),

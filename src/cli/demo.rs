@@ -10,7 +10,8 @@
 
 use super::build::{print_fixture, print_summary};
 use crate::error::Error;
-use crate::pipeline::{build_fixture, build_to_dir, fixture_entries};
+use crate::output::Edited;
+use crate::pipeline::{build_fixture, family_files, fixture_entries};
 use crate::spec::fixture::FixtureFileSpec;
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
@@ -42,11 +43,21 @@ pub struct DemoArgs {
     /// Output folder (its spec file is written there too).
     #[arg(long, value_name = "DIR", default_value = "loopwright-demo")]
     pub out: PathBuf,
+    /// Replace the demo's own files in DIR even where they were edited since (an edited spec
+    /// is otherwise refused, so that a user's changes are never lost unasked). Files the demo
+    /// did not write are refused all the same.
+    #[arg(long)]
+    pub force: bool,
 }
 
 pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     // A folder in the way or a place that cannot be written is refused before the build.
-    crate::output::preflight(&a.out)?;
+    let edited = if a.force {
+        Edited::Replace
+    } else {
+        Edited::Refuse
+    };
+    crate::output::preflight_edited(&a.out, edited).map_err(hint_force)?;
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, DEMO_SPEC_NAME)?;
     let fx_spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, DEMO_FIXTURE_NAME)?;
     let fixture = build_fixture(&fx_spec, Path::new("."), false)?;
@@ -63,7 +74,8 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
             .map(|(n, t)| (PathBuf::from(n), t.as_bytes().to_vec())),
     );
     extra.extend(fixture_entries(&fixture));
-    let (_, built) = build_to_dir(&spec, Path::new("."), &a.out, false, extra)?;
+    let (_, built, entries) = family_files(&spec, Path::new("."), false, extra)?;
+    crate::output::write_output_edited(&a.out, &entries, edited).map_err(hint_force)?;
     outln!(
         "loopwright demo: Fenwick Marsh Instruments' probe family (an invented scenario)\n\
          spec written to {}\n",
@@ -82,4 +94,23 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     );
     outln!("\n{}\n\n{}", super::CAL_CAUTIONS, super::CAUTIONS);
     Ok(())
+}
+
+/// A refusal for edited files gains the way out that `demo` offers: `--force`.
+fn hint_force(e: Error) -> Error {
+    match e {
+        Error::Invalid(mut errs) => {
+            for f in &mut errs {
+                if f.allowed.contains("changed since loopwright wrote") {
+                    f.allowed.push_str(
+                        "; or run `loopwright demo --force` to replace the demo's files with \
+                         fresh ones (your edits to them are lost; copy an edited spec elsewhere \
+                         first)",
+                    );
+                }
+            }
+            Error::Invalid(errs)
+        }
+        e => e,
+    }
 }

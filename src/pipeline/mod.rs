@@ -13,6 +13,6 @@ pub mod probe;
 pub use fixture::{BuiltFixture, build_fixture, fixture_entries, load_fixture};
 pub use output::{FileEntry, artwork_files, write_atomically};
 pub use probe::{
-    BuiltProbe, FamilyBuild, build_family, build_probe, build_to_dir, family_summary,
+    BuiltProbe, FamilyBuild, build_family, build_probe, build_to_dir, family_files, family_summary,
     launch_over_limit, predicted, probe_spec_copy,
 };

@@ -195,6 +195,20 @@ pub fn build_to_dir(
     force: bool,
     extra: Vec<(PathBuf, Vec<u8>)>,
 ) -> Result<(Family, Vec<BuiltProbe>), Error> {
+    let (family, built, entries) = family_files(spec, base, force, extra)?;
+    write_atomically(out, &entries)?;
+    Ok((family, built))
+}
+
+/// The files of a family's output folder in memory (each probe's folder, the summary, the
+/// report, and `extra`); nothing is written.
+#[allow(clippy::type_complexity)]
+pub fn family_files(
+    spec: &ProbeFileSpec,
+    base: &Path,
+    force: bool,
+    extra: Vec<(PathBuf, Vec<u8>)>,
+) -> Result<(Family, Vec<BuiltProbe>, Vec<(PathBuf, Vec<u8>)>), Error> {
     let FamilyBuild {
         family,
         probes: built,
@@ -228,8 +242,7 @@ pub fn build_to_dir(
         PathBuf::from(format!("{fam}-report.html")),
         crate::emit::report::html(&family.name, &predicted(&built), &previews).into_bytes(),
     ));
-    write_atomically(out, &entries)?;
-    Ok((family, built))
+    Ok((family, built, entries))
 }
 
 /// The family summary of built probes.
