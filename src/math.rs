@@ -103,24 +103,27 @@ pub fn trimmed(v: f64, d: usize) -> String {
     }
 }
 
-/// A frequency with its unit (Hz, kHz, MHz, GHz), two decimals at most.
+/// A frequency with its unit (Hz, kHz, MHz, GHz) to four significant figures, trailing zeros
+/// trimmed (166.7 MHz, 461 MHz, 1.5 GHz): the one way loopwright writes a frequency for
+/// reading (tables, plots, notes; files keep full precision).
 pub fn hz_label(hz: f64) -> String {
-    let f = |v: f64| {
-        if v.abs() >= 1e6 {
-            format!("{v:.3e}")
-        } else {
-            trimmed(v, 2)
-        }
-    };
-    if hz >= 1e9 {
-        format!("{} GHz", f(hz / 1e9))
-    } else if hz >= 1e6 {
-        format!("{} MHz", f(hz / 1e6))
-    } else if hz >= 1e3 {
-        format!("{} kHz", f(hz / 1e3))
+    // The unit is chosen after rounding, so that 999.96 kHz reads "1 MHz".
+    let v = if hz.is_finite() && hz > 0.0 {
+        let q = 10f64.powi(hz.log10().floor() as i32 - 3);
+        (hz / q).round() * q
     } else {
-        format!("{} Hz", f(hz))
-    }
+        hz
+    };
+    let (k, unit) = if v >= 1e9 {
+        (1e9, "GHz")
+    } else if v >= 1e6 {
+        (1e6, "MHz")
+    } else if v >= 1e3 {
+        (1e3, "kHz")
+    } else {
+        (1.0, "Hz")
+    };
+    format!("{} {unit}", sig_fig(v / k, 4))
 }
 
 #[cfg(test)]
@@ -136,6 +139,10 @@ mod tests {
         assert_eq!(trimmed(2.5, 3), "2.5");
         assert_eq!(hz_label(2.5e9), "2.5 GHz");
         assert_eq!(hz_label(150e3), "150 kHz");
+        assert_eq!(hz_label(166.7132e6), "166.7 MHz");
+        assert_eq!(hz_label(461e6), "461 MHz");
+        assert_eq!(hz_label(999.96e3), "1 MHz");
+        assert_eq!(hz_label(1e12), "1000 GHz");
         assert!((ETA0 - 376.730_313_412).abs() < 1e-6);
     }
 }

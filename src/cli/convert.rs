@@ -183,7 +183,8 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
                 },
                 colour: crate::emit::report::COLOURS[k % crate::emit::report::COLOURS.len()],
                 points: pts.iter().map(|p| (p.freq_hz, p.h_dbua_per_m)).collect(),
-                marker_hz: None,
+                corner_hz: None,
+                above_hz: band.map(|(_, hi)| hi),
             })
             .collect();
         outputs.push((

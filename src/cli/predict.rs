@@ -23,11 +23,14 @@ pub struct PredictArgs {
     /// Height of the scanned trace above its ground plane, mm.
     #[arg(long = "trace-h", value_name = "MM", default_value_t = PredictOptions::default().trace_h_mm)]
     pub trace_h: f64,
-    /// Lowest frequency of the probe-factor table, Hz (default: a decade below the corner).
-    #[arg(long = "f-min", value_name = "HZ")]
+    /// Lowest frequency of the probe-factor table, Hz (default: 150 kHz, where emission scans
+    /// begin, or a decade below the corner if that is lower).
+    #[arg(long = "f-min", visible_alias = "from", value_name = "HZ")]
     pub f_min: Option<f64>,
-    /// Highest frequency, Hz (default: the upper usable frequency).
-    #[arg(long = "f-max", value_name = "HZ")]
+    /// Highest frequency, Hz (default: the upper usable frequency). Rows above it are marked
+    /// (`above_band: true` in the JSON, dotted in plots): the prediction is not stood behind
+    /// there.
+    #[arg(long = "f-max", visible_alias = "to", value_name = "HZ")]
     pub f_max: Option<f64>,
     /// A test-line fixture spec: add each probe's predicted coupling to its line at --height
     /// (mutual inductance, field per ampere, S21 from the line's input to the probe).

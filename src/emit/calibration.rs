@@ -70,13 +70,15 @@ pub fn plots(name: &str, c: &Calibration, r: &Response) -> (String, String) {
                 label: "measured (from S21)".into(),
                 colour: "#1f5fa8",
                 points: c.points.iter().map(|p| (p.f, p.pf_db)).collect(),
-                marker_hz: None,
+                corner_hz: None,
+                above_hz: Some(r.upper_hz),
             },
             Series {
                 label: format!("predicted (corner {})", hz_label(r.corner_hz)),
                 colour: "#c0392b",
                 points: c.points.iter().map(|p| (p.f, p.pf_pred_db)).collect(),
-                marker_hz: Some(r.corner_hz),
+                corner_hz: Some(r.corner_hz),
+                above_hz: Some(r.upper_hz),
             },
         ],
     );
@@ -85,10 +87,11 @@ pub fn plots(name: &str, c: &Calibration, r: &Response) -> (String, String) {
         "difference dB",
         "calibration-plot",
         &[Series {
-            label: "measured − predicted (dashed: upper usable frequency)".into(),
+            label: "measured − predicted".into(),
             colour: "#1f5fa8",
             points: c.points.iter().map(|p| (p.f, p.diff_db())).collect(),
-            marker_hz: Some(r.upper_hz),
+            corner_hz: None,
+            above_hz: Some(r.upper_hz),
         }],
     );
     (pf, diff)

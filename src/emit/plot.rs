@@ -22,8 +22,12 @@ pub struct Series<'a> {
     pub colour: &'a str,
     /// Points (Hz, value).
     pub points: Vec<(f64, f64)>,
-    /// A vertical dashed marker at this frequency (a probe's corner), if any.
-    pub marker_hz: Option<f64>,
+    /// The probe's low-frequency corner, drawn as a vertical dashed line in the curve's
+    /// colour (the only meaning of a dashed line in loopwright's plots).
+    pub corner_hz: Option<f64>,
+    /// The upper usable frequency: points above it are drawn dotted (the only meaning of a
+    /// dotted line).
+    pub above_hz: Option<f64>,
 }
 
 /// A grid step for a value span: 1, 2 or 5 times a power of ten, giving 4 to 10 lines.
@@ -102,8 +106,12 @@ pub fn drawing(w: f64, h: f64, class: &str) -> Document {
 /// bounded whatever the data: at most about a dozen grid lines on each axis and
 /// [`MAX_DRAWN`] points per curve; points that are not finite are left out.
 pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> String {
-    let (w, h) = (640.0, 400.0);
-    let (l, r, t, b) = (70.0, 20.0, 40.0, 60.0);
+    // The legend sits below the plot area, a row per curve and one for the line styles in
+    // use, so that it never covers the data.
+    let styles = style_note(curves);
+    let rows = curves.len() + usize::from(!styles.is_empty());
+    let (w, h) = (640.0, 400.0 + LEGEND_ROW * rows as f64);
+    let (l, r, t, b) = (70.0, 20.0, 40.0, 60.0 + LEGEND_ROW * rows as f64);
     let mut fmin = f64::INFINITY;
     let mut fmax = 0.0f64;
     let mut ymin = f64::INFINITY;
@@ -215,54 +223,91 @@ pub fn log_plot(title: &str, y_label: &str, class: &str, curves: &[Series]) -> S
     doc = doc
         .add(text(
             ((l + w - r) / 2.0).to_string(),
-            (h - 18.0).to_string(),
+            (h - b + 36.0).to_string(),
             Some("middle"),
-            "frequency (Hz, logarithmic)",
+            "frequency (logarithmic)",
         ))
         .add(
             text("16".into(), mid.to_string(), Some("middle"), y_label)
                 .set("transform", format!("rotate(-90 16 {mid})")),
         );
-    for (i, c) in curves.iter().enumerate() {
-        let pts: Vec<String> = drawn(&c.points, |fr| px(fr).round() as i64)
+    let polyline = |pts: &[(f64, f64)], colour: &str| {
+        let pts: Vec<String> = pts
             .iter()
             .map(|&(fr, v)| format!("{:.1},{:.1}", px(fr), py(v)))
             .collect();
+        Polyline::new()
+            .set("fill", "none")
+            .set("stroke", colour)
+            .set("stroke-width", 2)
+            .set("points", pts.join(" "))
+    };
+    let legend_y = |row: usize| h - b + 58.0 + LEGEND_ROW * row as f64;
+    for (i, c) in curves.iter().enumerate() {
+        let pts = drawn(&c.points, |fr| px(fr).round() as i64);
         let colour = c.colour;
-        doc = doc.add(
-            Polyline::new()
-                .set("fill", "none")
-                .set("stroke", colour)
-                .set("stroke-width", 2)
-                .set("points", pts.join(" ")),
-        );
-        if let Some(m) = c.marker_hz {
+        // Solid up to the upper usable frequency, dotted from the last point at or below it.
+        let split = c
+            .above_hz
+            .map_or(pts.len(), |a| pts.partition_point(|p| p.0 <= a));
+        doc = doc.add(polyline(&pts[..split], colour));
+        if split < pts.len() {
+            doc = doc.add(
+                polyline(&pts[split.saturating_sub(1)..], colour).set("stroke-dasharray", "1 3"),
+            );
+        }
+        if let Some(m) = c.corner_hz {
             let xc = format!("{:.1}", px(m.clamp(fmin, fmax)));
             doc = doc.add(
                 line(xc.clone(), top.clone(), xc, bottom.clone(), colour, 1.0)
-                    .set("stroke-dasharray", "4 3"),
+                    .set("stroke-dasharray", "6 4"),
             );
         }
-        // Legend at the top right, sized to its text (about 6.6 px per character at 12 px).
-        let ly = t + 16.0 + 16.0 * i as f64;
-        let tx = (w - r - 8.0 - 6.6 * c.label.chars().count() as f64).max(l + 30.0);
+        let ly = legend_y(i);
         doc = doc
             .add(line(
-                format!("{:.1}", tx - 25.0),
+                format!("{:.1}", l),
                 ly.to_string(),
-                format!("{:.1}", tx - 5.0),
+                format!("{:.1}", l + 20.0),
                 ly.to_string(),
                 colour,
                 2.0,
             ))
             .add(text(
-                format!("{tx:.1}"),
+                format!("{:.1}", l + 26.0),
                 (ly + 4.0).to_string(),
                 None,
                 &c.label,
             ));
     }
+    if !styles.is_empty() {
+        doc = doc.add(text(
+            format!("{l:.1}"),
+            (legend_y(curves.len()) + 4.0).to_string(),
+            None,
+            &styles,
+        ));
+    }
     format!("{doc}\n")
+}
+
+/// Height of one legend row, px.
+const LEGEND_ROW: f64 = 18.0;
+
+/// What the line styles in use mean, in one line (empty when only solid curves are drawn).
+fn style_note(curves: &[Series]) -> String {
+    let mut parts = Vec::new();
+    if curves.iter().any(|c| c.corner_hz.is_some()) {
+        parts.push("dashed vertical: low-frequency corner");
+    }
+    let above = curves.iter().any(|c| {
+        c.above_hz
+            .is_some_and(|a| c.points.iter().any(|p| p.0 > a && p.1.is_finite()))
+    });
+    if above {
+        parts.push("dotted: above the upper usable frequency");
+    }
+    parts.join("; ")
 }
 
 /// One or more probe-factor curves on one log-frequency plot: (label, colour, response).
@@ -277,7 +322,8 @@ pub fn probe_factor_plot(title: &str, curves: &[(&str, &str, &Response)]) -> Str
             ),
             colour,
             points: resp.probe_factor.clone(),
-            marker_hz: Some(resp.corner_hz),
+            corner_hz: Some(resp.corner_hz),
+            above_hz: Some(resp.upper_hz),
         })
         .collect();
     log_plot(title, "probe factor dB(S/m)", "response-plot", &series)
@@ -300,7 +346,8 @@ mod tests {
             label: "x".into(),
             colour: "#000",
             points,
-            marker_hz: None,
+            corner_hz: None,
+            above_hz: None,
         }
     }
 

@@ -1,5 +1,6 @@
 //! The human-readable tables of `predict`.
 
+use crate::math::hz_label;
 use crate::physics::on_fixture::FixtureCoupling;
 use crate::physics::predicted::{ASSUMPTIONS, Predicted};
 
@@ -35,23 +36,19 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
                 r.l_stub * 1e9
             ),
         );
-        line(
-            &mut o,
-            "low-frequency corner",
-            format!("{:.1} MHz", r.corner_hz / 1e6),
-        );
+        line(&mut o, "low-frequency corner", hz_label(r.corner_hz));
         line(
             &mut o,
             "upper usable frequency",
-            format!("{:.0} MHz ({})", r.upper_hz / 1e6, r.upper_rule),
+            format!("{} ({})", hz_label(r.upper_hz), r.upper_rule),
         );
         line(
             &mut o,
             "error budget (1 dB)",
             match r.budget_hz {
                 Some(b) => format!(
-                    "reached at {:.0} MHz (electric pickup at 20° tilt + stub length ±5 %)",
-                    b / 1e6
+                    "reached at {} (electric pickup at 20° tilt + stub length ±5 %)",
+                    hz_label(b)
                 ),
                 None => "not reached below the first null".to_string(),
             },
@@ -60,7 +57,7 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
             line(
                 &mut o,
                 "  quoted limit",
-                format!("{:.0} MHz: {rule}", f / 1e6),
+                format!("{}: {rule}", hz_label(*f)),
             );
         }
         line(
@@ -83,12 +80,12 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
                 &mut o,
                 "connector launch",
                 format!(
-                    "worst return loss {:.1} dB at {:.0} MHz up to f_max {:.0} MHz (limit {} dB); \
+                    "worst return loss {:.1} dB at {} up to f_max {} (limit {} dB); \
                      probe factor changed by at most {:+.2} dB below the upper usable \
                      frequency{} (not included above)",
                     l.s11.worst_db,
-                    l.s11.worst_hz / 1e6,
-                    l.f_max_hz / 1e6,
+                    hz_label(l.s11.worst_hz),
+                    hz_label(l.f_max_hz),
                     x.probe.connector.return_loss_limit_db,
                     l.pf_below_upper.1,
                     match l.pf_to_fmax {
@@ -106,9 +103,14 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
         for (i, ((f, d), (_, e))) in r.probe_factor.iter().zip(&r.e_rejection).enumerate() {
             if i % step == 0 || i + 1 == r.probe_factor.len() {
                 o.push_str(&format!(
-                    "    {:>12.4} MHz  {:>7.2}  {e:>6.1}\n",
-                    f / 1e6,
-                    d
+                    "    {:>12} {:>7.2}  {e:>6.1}{}\n",
+                    crate::math::hz_label(*f),
+                    d,
+                    if *f > r.upper_hz {
+                        "  above the usable band"
+                    } else {
+                        ""
+                    }
                 ));
             }
         }
@@ -143,8 +145,8 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
             for (j, ((f, db, deg), e)) in c.s21.iter().zip(&c.e_rejection_db).enumerate() {
                 if j % step == 0 || j + 1 == c.s21.len() {
                     o.push_str(&format!(
-                        "    {:>12.4} MHz  {db:>7.2}  {deg:>7.1}  {e:>6.1}\n",
-                        f / 1e6
+                        "    {:>12} {db:>7.2}  {deg:>7.1}  {e:>6.1}\n",
+                        hz_label(*f)
                     ));
                 }
             }

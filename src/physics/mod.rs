@@ -33,6 +33,11 @@ pub const R_LOAD: f64 = 50.0;
 pub use elements::*;
 pub use inductance::*;
 
+/// Where the default probe-factor table starts: 150 kHz, the lower edge of the emission-scan
+/// band B (150 kHz to 30 MHz) of CISPR 16-1-1 (from memory), where conducted and near-field
+/// scans of boards usually begin.
+pub const SCAN_FROM_HZ: f64 = 150e3;
+
 /// Options of a prediction.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PredictOptions {
@@ -40,9 +45,10 @@ pub struct PredictOptions {
     pub height_mm: f64,
     /// Height of the scanned trace above its ground plane, mm.
     pub trace_h_mm: f64,
-    /// Lowest frequency of the probe-factor table, Hz (None: a decade below the corner).
+    /// Lowest frequency of the probe-factor table, Hz (None: [`SCAN_FROM_HZ`], or a decade
+    /// below the corner if that is lower).
     pub f_min_hz: Option<f64>,
-    /// Highest frequency (None: the upper usable frequency).
+    /// Highest frequency (None: the upper usable frequency; above it rows are marked).
     pub f_max_hz: Option<f64>,
     /// Points per decade.
     pub per_decade: usize,
@@ -335,7 +341,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         _ => (f_small, "small loop: circumference ≤ λ0/10"),
     };
     let upper = r.upper_hz;
-    let f_lo = o.f_min_hz.unwrap_or(corner / 10.0);
+    let f_lo = o.f_min_hz.unwrap_or(SCAN_FROM_HZ.min(corner / 10.0));
     let f_hi = o.f_max_hz.unwrap_or(upper);
     if f_hi <= f_lo {
         return Err(Error::Invalid(vec![FieldError::new(
@@ -346,8 +352,13 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     }
     let decades = (f_hi / f_lo).log10();
     let n = ((decades * o.per_decade as f64).ceil() as usize).max(1);
+    // The ends exactly as asked (the last row at the upper frequency is within the band).
     let freqs: Vec<f64> = (0..=n)
-        .map(|i| f_lo * 10f64.powf(decades * i as f64 / n as f64))
+        .map(|i| match i {
+            0 => f_lo,
+            i if i == n => f_hi,
+            i => f_lo * 10f64.powf(decades * i as f64 / n as f64),
+        })
         .collect();
 
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.

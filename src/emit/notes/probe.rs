@@ -5,6 +5,7 @@ use crate::artwork::Artwork;
 use crate::drc::Violation;
 use crate::emit::cautions::CAUTIONS;
 use crate::geom::Board;
+use crate::math::hz_label;
 use crate::model::probe::Probe;
 use crate::solve::probe::SolvedProbe;
 use std::fmt::Write;
@@ -228,22 +229,28 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     );
     let _ = writeln!(
         o,
-        "- Low-frequency corner {:.1} MHz; upper usable frequency {:.0} MHz ({}). Error budget: \
+        "- Low-frequency corner {}; upper usable frequency {} ({}). Error budget: \
          electric pickup (probe tilted 20° in its plane, E/H = η0) plus a ±5 % error in the stub's \
-         electrical length reach {} dB {}. Quoted beside it: {}.",
-        r.corner_hz / 1e6,
-        r.upper_hz / 1e6,
+         electrical length reach {} dB {}. Quoted beside it: {}.\n- The usable band and f_max are \
+         different things: f_max ({}) is the highest frequency the board's construction is \
+         designed for (via pitch, launch); the probe factor is stood behind only up to the upper \
+         usable frequency. `predict` tabulates from 150 kHz (where emission scans begin) to the \
+         upper usable frequency by default; rows asked for above it (`--to`) are marked \
+         (`above_band: true`, dotted in plots).",
+        hz_label(r.corner_hz),
+        hz_label(r.upper_hz),
         r.upper_rule,
         crate::physics::electric::BUDGET_DB,
         match r.budget_hz {
-            Some(b) => format!("at {:.0} MHz", b / 1e6),
+            Some(b) => format!("at {}", hz_label(b)),
             None => "nowhere below the first null".to_string(),
         },
         r.quoted_limits
             .iter()
-            .map(|(k, f)| format!("{:.0} MHz ({k})", f / 1e6))
+            .map(|(k, f)| format!("{} ({k})", hz_label(*f)))
             .collect::<Vec<_>>()
-            .join("; ")
+            .join("; "),
+        hz_label(p.vias.f_max_hz)
     );
     let erej = |f: f64| r.e_rejection_db(f, crate::physics::electric::ETA0);
     let _ = writeln!(
