@@ -15,6 +15,8 @@ pub struct FieldError {
     pub value: String,
     /// What would have been accepted.
     pub allowed: String,
+    /// The line of the spec file the field is written on, where it is known.
+    pub line: Option<usize>,
 }
 
 impl FieldError {
@@ -26,8 +28,9 @@ impl FieldError {
     ) -> Self {
         FieldError {
             field: field.into(),
-            value: value.to_string(),
+            value: echo(&value.to_string()),
             allowed: allowed.into(),
+            line: None,
         }
     }
 
@@ -38,8 +41,39 @@ impl FieldError {
     }
 }
 
+/// The longest value a message echoes whole, in characters; a longer one is cut to
+/// [`ECHO_KEEP`] characters and its length.
+pub const ECHO_MAX: usize = 80;
+/// How much of a longer value is echoed.
+pub const ECHO_KEEP: usize = 60;
+
+/// A value as a message echoes it: control characters escaped, and cut to a readable length.
+pub fn echo(v: &str) -> String {
+    let n = v.chars().count();
+    let shown: String = if n > ECHO_MAX {
+        v.chars().take(ECHO_KEEP).collect()
+    } else {
+        v.to_string()
+    };
+    let mut o = String::with_capacity(shown.len());
+    for c in shown.chars() {
+        if c.is_control() {
+            o.extend(c.escape_default());
+        } else {
+            o.push(c);
+        }
+    }
+    if n > ECHO_MAX {
+        o.push_str(&format!("… ({n} characters in all)"));
+    }
+    o
+}
+
 impl fmt::Display for FieldError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if let Some(l) = self.line {
+            write!(f, "line {l}: ")?;
+        }
         write!(f, "{} = {}: {}", self.field, self.value, self.allowed)
     }
 }

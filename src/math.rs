@@ -126,6 +126,19 @@ pub fn hz_label(hz: f64) -> String {
     format!("{} {unit}", sig_fig(v / k, 4))
 }
 
+/// `v × unit` for a decimal reading and a power-of-ten unit (a Touchstone file's MHz column
+/// to Hz), rounded to 15 significant digits so that no binary noise of the multiplication
+/// shows (33.017942 MHz is 33017942 Hz, not 33017941.999999996): a double holds 15 decimal
+/// digits exactly, and the product is off from the decimal one by at most one unit in the
+/// last place.
+pub fn scaled(v: f64, unit: f64) -> f64 {
+    let p = v * unit;
+    if !p.is_finite() || p == 0.0 {
+        return p;
+    }
+    format!("{p:.14e}").parse().unwrap_or(p)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -143,6 +156,10 @@ mod tests {
         assert_eq!(hz_label(461e6), "461 MHz");
         assert_eq!(hz_label(999.96e3), "1 MHz");
         assert_eq!(hz_label(1e12), "1000 GHz");
+        // The bench's MHz Touchstone case: no binary noise in the Hz value.
+        assert_eq!(33.017942 * 1e6, 33017941.999999996);
+        assert_eq!(scaled(33.017942, 1e6), 33017942.0);
+        assert_eq!(scaled(0.1, 3.0), 0.3);
         assert!((ETA0 - 376.730_313_412).abs() < 1e-6);
     }
 }

@@ -782,3 +782,51 @@ fn a_tolerance_corner_out_of_range_is_explained() {
         &["--width = 1000.025", "corner of the fab-tolerance spread"],
     );
 }
+
+// Outside a closed form's stated validity (Wheeler's stripline formula: W′/(b−t) < 10, from
+// Wheeler, IEEE Trans. MTT 1978) the default answer comes from the field solver, with the
+// closed form shown beside it; a method the user names is kept.
+#[test]
+fn the_field_solver_answers_where_the_default_closed_form_is_out_of_range() {
+    let args = [
+        "impedance",
+        "--structure",
+        "stripline",
+        "--h1",
+        "0.1",
+        "--h2",
+        "0.1",
+        "--er",
+        "4.3",
+        "--width",
+        "3",
+        "--json",
+    ];
+    let v = json(&args);
+    assert_eq!(v["method"], "field", "{v}");
+    let w = v["warnings"].to_string();
+    assert!(
+        w.contains("wheeler is out of its depth here") && w.contains("W′/(b−t)"),
+        "{w}"
+    );
+    let mut named = args.to_vec();
+    named.extend(["--method", "wheeler"]);
+    let v = json(&named);
+    assert_eq!(v["method"], "wheeler");
+    // Inside the range the closed form stays the default.
+    let v = json(&[
+        "impedance",
+        "--structure",
+        "stripline",
+        "--h1",
+        "0.2",
+        "--h2",
+        "0.2",
+        "--er",
+        "4.3",
+        "--width",
+        "0.2",
+        "--json",
+    ]);
+    assert_eq!(v["method"], "wheeler");
+}

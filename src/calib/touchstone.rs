@@ -161,7 +161,7 @@ pub fn parse(text: &str, path: &str, ports: usize) -> Result<Network, Error> {
     let mut s = Vec::new();
     let mut lines = Vec::new();
     for chunk in nums.chunks(per_point) {
-        let (f, line) = (chunk[0].0 * unit, chunk[0].1);
+        let (f, line) = (crate::math::scaled(chunk[0].0, unit), chunk[0].1);
         if !f.is_finite() {
             return Err(err(
                 path,

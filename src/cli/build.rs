@@ -5,8 +5,8 @@ use crate::pipeline::{
     BuiltFixture, BuiltProbe, build_fixture, build_to_dir, fixture_entries, write_atomically,
 };
 use crate::spec::fixture::FixtureFileSpec;
-use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
+use crate::spec::{parse_toml, with_lines};
 use std::path::{Path, PathBuf};
 
 /// Arguments of `loopwright build`.
@@ -103,14 +103,15 @@ pub(super) fn run(a: &BuildArgs) -> Result<(), Error> {
     let probe_or_fixture: toml::Value = parse_toml(&text, &path)?;
     if probe_or_fixture.get("fixture").is_some() {
         let spec: FixtureFileSpec = parse_toml(&text, &path)?;
-        let built = build_fixture(&spec, base, a.force)?;
+        let built = build_fixture(&spec, base, a.force).map_err(|e| with_lines(&text, e))?;
         write_atomically(&a.out, &fixture_entries(&built))?;
         print_fixture(&a.out, &built);
         outln!("\n{}", super::CAL_CAUTIONS);
         return Ok(());
     }
     let spec: ProbeFileSpec = parse_toml(&text, &path)?;
-    let (_, built) = build_to_dir(&spec, base, &a.out, a.force, Vec::new())?;
+    let (_, built) =
+        build_to_dir(&spec, base, &a.out, a.force, Vec::new()).map_err(|e| with_lines(&text, e))?;
     print_summary(&a.out, &built);
     Ok(())
 }

@@ -4,8 +4,8 @@ use crate::error::{Error, FieldError};
 use crate::model::stackup::{Stackup, load};
 use crate::solve::impedance::{
     Accuracy, CoatedMicrostrip, Cpwg, Line, Method, Microstrip, Solution, SolveLimits, Spread,
-    Stripline, Structure, Tolerances, accuracy_name, analyse, analyse_with, default_method,
-    solve_width, spread_with,
+    Stripline, Structure, Tolerances, WarningKind, accuracy_name, analyse, analyse_with,
+    default_method, solve_width, spread_with,
 };
 use serde_json::{Value, json};
 
@@ -339,19 +339,60 @@ pub fn evaluate(a: &ImpedanceArgs) -> Result<ImpedanceReport, Error> {
         er_abs: a.er_tol,
         h_rel: a.h_tol_pct / 100.0,
     };
-    let (line, solution, target) = match a.width {
-        Some(_) => {
-            let sol = analyse_with(&line, method, accuracy).map_err(as_flags)?;
-            (line, sol, None)
-        }
-        None => {
-            let target = a.target.unwrap_or(50.0);
-            let (l, s) = solve_width(&line, method, target, &limits).map_err(|e| match e {
-                Error::Invalid(v) => as_flags(v),
-                other => other,
-            })?;
-            (l, s, Some(target))
-        }
+    let solve = |method: Option<Method>| -> Result<_, Error> {
+        Ok(match a.width {
+            Some(_) => {
+                let sol = analyse_with(&line, method, accuracy).map_err(as_flags)?;
+                (line, sol, None)
+            }
+            None => {
+                let target = a.target.unwrap_or(50.0);
+                let (l, s) = solve_width(&line, method, target, &limits).map_err(|e| match e {
+                    Error::Invalid(v) => as_flags(v),
+                    other => other,
+                })?;
+                (l, s, Some(target))
+            }
+        })
+    };
+    // Where the default closed form is outside its validity (or, solving a width, finds none
+    // inside it), the field solver answers and the closed form is shown beside it; a method
+    // the user names is kept.
+    let first = solve(method);
+    let why: Option<String> = match &first {
+        _ if method.is_some() => None,
+        Ok((_, sol, _)) if sol.outside_validity() => Some(
+            sol.warnings
+                .iter()
+                .filter(|w| w.kind == WarningKind::OutsideValidity)
+                .map(|w| w.text.clone())
+                .collect::<Vec<_>>()
+                .join("; "),
+        ),
+        Err(Error::Invalid(v)) if a.width.is_none() => Some(
+            v.iter()
+                .map(|f| f.to_string())
+                .collect::<Vec<_>>()
+                .join("; "),
+        ),
+        _ => None,
+    };
+    let (line, solution, target) = match (why, first) {
+        (Some(why), first) => match solve(Some(Method::Field)) {
+            Ok((l, mut s, t)) => {
+                let closed = default_method(&line);
+                s.warnings
+                    .push(crate::solve::impedance::Warning::note(format!(
+                        "the 2-D field solver answers because {} is out of its depth here ({why}); \
+                     give --method {} to use the closed form anyway",
+                        closed.name(),
+                        closed.name()
+                    )));
+                (l, s, t)
+            }
+            Err(_) => first?,
+        },
+        (None, first) => first?,
     };
     // The closed form beside the field solution, for comparison.
     let closed_form = if solution.method == Method::Field {

@@ -54,7 +54,8 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
         f_max_hz: a.f_max,
         ..PredictOptions::default()
     };
-    let all = predict_spec(&spec, a.spec.parent().unwrap_or(Path::new(".")), &o)?;
+    let all = predict_spec(&spec, a.spec.parent().unwrap_or(Path::new(".")), &o)
+        .map_err(|e| crate::spec::with_lines(&text, e))?;
     let couplings: Vec<FixtureCoupling> = match &a.fixture {
         Some(path) => {
             let (fx, fs) = crate::pipeline::load_fixture(path)?;

@@ -92,6 +92,17 @@ pub fn text_strokes(text: &str, h: f64, place: Affine) -> Vec<Vec<Point>> {
 mod tests {
     use super::*;
 
+    // Validation accepts exactly what the font draws: every sign it lets through has strokes
+    // of its own (or is the space), not the fallback's.
+    #[test]
+    fn the_signs_validation_accepts_are_drawn() {
+        let fallback = glyph('\u{20AC}');
+        for c in crate::model::probe::SILK_SIGNS.chars().chain('a'..='z') {
+            assert!(c == ' ' || glyph(c) != fallback, "{c:?}");
+        }
+        assert_eq!(glyph(' '), "");
+    }
+
     #[test]
     fn every_glyph_is_well_formed() {
         for c in ('A'..='Z').chain('0'..='9').chain("-./_:+=,?".chars()) {

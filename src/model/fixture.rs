@@ -117,6 +117,7 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
         }
     };
     crate::model::probe::check_name_length(&mut out, "fixture.name", &name, &folder);
+    crate::model::probe::check_text(&mut out, "fixture.name", &name, true);
     let stackup_name = f
         .stackup
         .clone()

@@ -279,6 +279,43 @@ pub fn check_name_length(out: &mut Vec<FieldError>, field: &str, name: &str, fol
     }
 }
 
+/// Signs the silkscreen font draws besides the letters A–Z (either case) and the digits
+/// (`geom::font` holds their strokes; its tests check that each has one).
+pub const SILK_SIGNS: &str = " -.,/_:+=";
+
+/// The longest extra silkscreen text of a probe, in characters: it runs up the handle beside
+/// the name, and 32 characters at the 1 mm default text height fill about 30 mm of it.
+pub const SILK_TEXT_MAX: usize = 32;
+
+/// Checks a text that is printed on the board or names files: no control characters, and
+/// (when `silk`) only characters the silkscreen font draws. The first offending character is
+/// named with its position.
+pub fn check_text(out: &mut Vec<FieldError>, field: &str, text: &str, silk: bool) {
+    let bad = text.chars().enumerate().find(|(_, c)| {
+        c.is_control() || (silk && !(c.is_ascii_alphanumeric() || SILK_SIGNS.contains(*c)))
+    });
+    if let Some((i, c)) = bad {
+        out.push(FieldError::new(
+            field,
+            format!("{text:?}"),
+            if c.is_control() {
+                format!(
+                    "must not hold control characters (U+{:04X} at character {})",
+                    c as u32,
+                    i + 1
+                )
+            } else {
+                format!(
+                    "'{c}' (U+{:04X}, character {}) is not in the silkscreen font: use letters \
+                     A–Z, digits, space and - . , / _ : + =",
+                    c as u32,
+                    i + 1
+                )
+            },
+        ));
+    }
+}
+
 /// Makes a name safe as a folder name: letters, digits, `-`, `_` and `.` are kept, anything
 /// else becomes `-`; leading dots are removed. Returns `None` when nothing usable is left.
 pub fn sanitise(name: &str) -> Option<String> {
@@ -300,7 +337,38 @@ pub fn sanitise(name: &str) -> Option<String> {
     }
 }
 
+/// The loop shape of a `[[probe]]`; fields that do not apply to its shape are refused, and a
+/// check that depends on a size the user gave wrongly is left out (its message would blame a
+/// field that is not at fault).
 fn shape_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> LoopShape {
+    let given = [
+        ("size_mm", l.size_mm),
+        ("width_mm", l.width_mm),
+        ("height_mm", l.height_mm),
+        ("corner_radius_mm", l.corner_radius_mm),
+    ];
+    let takes: &[&str] = match l.shape.as_deref() {
+        Some("round") => &["size_mm"],
+        Some("square") => &["size_mm", "corner_radius_mm"],
+        Some("rectangle") => &["width_mm", "height_mm", "corner_radius_mm"],
+        _ => &["size_mm", "width_mm", "height_mm", "corner_radius_mm"],
+    };
+    for (field, set) in given {
+        if let Some(v) = set
+            && !takes.contains(&field)
+        {
+            out.push(FieldError::new(
+                format!("{p}.{field}"),
+                crate::math::fmt_num(v),
+                format!(
+                    "does not apply to a {} loop, which takes {}; remove it",
+                    l.shape.as_deref().unwrap_or_default(),
+                    takes.join(" and ")
+                ),
+            ));
+        }
+    }
+    let before = out.len();
     let mut get = |field: &str, v: Option<f64>| -> f64 {
         match v {
             Some(v) => {
@@ -329,13 +397,16 @@ fn shape_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> LoopShape {
                 (get("width_mm", l.width_mm), get("height_mm", l.height_mm))
             };
             let r = l.corner_radius_mm.unwrap_or(0.2 * w.min(h));
-            check_range(
-                out,
-                &format!("{p}.corner_radius_mm"),
-                r,
-                0.0,
-                0.5 * w.min(h),
-            );
+            // The radius's range follows from the sizes: checked only when they are sound.
+            if out.len() == before {
+                check_range(
+                    out,
+                    &format!("{p}.corner_radius_mm"),
+                    r,
+                    0.0,
+                    0.5 * w.min(h),
+                );
+            }
             LoopShape::Rect {
                 width: w,
                 height: h,
@@ -564,6 +635,17 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
             }
         };
         check_name_length(&mut out, &format!("{p}.name"), &name, &folder);
+        check_text(&mut out, &format!("{p}.name"), &name, true);
+        if let Some(t) = &l.silk_text {
+            check_text(&mut out, &format!("{p}.silk_text"), t, true);
+            if t.chars().count() > SILK_TEXT_MAX {
+                out.push(FieldError::new(
+                    format!("{p}.silk_text"),
+                    format!("{t:?}"),
+                    format!("at most {SILK_TEXT_MAX} characters (it must fit the handle)"),
+                ));
+            }
+        }
         // Folders that differ only in case are one folder on Windows and macOS.
         if let Some(other) = folders
             .iter()
@@ -583,8 +665,10 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
             ));
         }
         folders.push(folder.clone());
+        let before = out.len();
         let shape = shape_from(&mut out, &p, l);
-        if gap >= 0.5 * shape.min_dimension() {
+        // The gap's limit follows from the loop's size: checked only when the size is sound.
+        if out.len() == before && gap >= 0.5 * shape.min_dimension() {
             out.push(FieldError::new(
                 "gap_mm",
                 gap,
@@ -631,6 +715,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
     // The family's own files sit beside the probe folders: a probe may not take their names.
     let fam = sanitise(&family).unwrap_or_else(|| "family".into());
     check_name_length(&mut out, "family", &family, &fam);
+    check_text(&mut out, "family", &family, false);
     let own = [
         format!("{fam}-summary.md"),
         format!("{fam}-report.html"),

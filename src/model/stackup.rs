@@ -136,12 +136,19 @@ pub fn load(name_or_path: &str) -> Result<Stackup, Error> {
         source: e,
     })?;
     let spec: StackupSpec = parse_toml(&text, name_or_path)?;
+    // Lines from the stackup's own file, before its name goes in front of each field.
     Stackup::from_spec(&spec).map_err(|errs| {
-        Error::Invalid(
-            errs.into_iter()
-                .map(|e| e.prefixed(&format!("{name_or_path}: ")))
-                .collect(),
-        )
+        match crate::spec::with_lines(&text, Error::Invalid(errs)) {
+            Error::Invalid(errs) => Error::Invalid(
+                errs.into_iter()
+                    .map(|mut e| match e.line.take() {
+                        Some(l) => e.prefixed(&format!("{name_or_path}: line {l}: ")),
+                        None => e.prefixed(&format!("{name_or_path}: ")),
+                    })
+                    .collect(),
+            ),
+            other => other,
+        }
     })
 }
 
@@ -327,24 +334,40 @@ impl Stackup {
                     "a stackup needs at least 2 copper layers",
                 ));
             }
-            for (k, (i, l)) in layers.iter().enumerate() {
-                let want_copper = k % 2 == 0;
+            // The first break of the alternation is the fault; the layers after it are only
+            // out of step because of it, and are not blamed.
+            let first_break = layers
+                .iter()
+                .enumerate()
+                .find(|(k, (_, l))| (k % 2 == 0) != matches!(l, Layer::Copper(_)));
+            if let Some((k, (i, l))) = first_break {
                 let is_copper = matches!(l, Layer::Copper(_));
-                if want_copper != is_copper {
-                    out.push(FieldError::new(
-                        format!("layer[{i}].type"),
-                        if is_copper {
-                            "\"copper\""
-                        } else {
-                            "\"dielectric\""
-                        },
-                        "layers must alternate copper, dielectric, copper... from the top",
-                    ));
-                }
-            }
-            if layers.len() % 2 == 0 && !layers.is_empty() {
                 out.push(FieldError::new(
-                    format!("layer[{}].type", layers.len()),
+                    format!("layer[{i}].type"),
+                    if is_copper {
+                        "\"copper\""
+                    } else {
+                        "\"dielectric\""
+                    },
+                    if k == 0 {
+                        "the top layer must be copper (layers alternate copper, dielectric, \
+                         copper... from the top)"
+                            .to_string()
+                    } else {
+                        format!(
+                            "layers must alternate copper, dielectric, copper... from the top; \
+                             this one follows {} layer",
+                            if is_copper {
+                                "a copper"
+                            } else {
+                                "a dielectric"
+                            }
+                        )
+                    },
+                ));
+            } else if let Some((i, Layer::Dielectric(_))) = layers.last() {
+                out.push(FieldError::new(
+                    format!("layer[{i}].type"),
                     "\"dielectric\"",
                     "the last layer must be copper",
                 ));

@@ -73,8 +73,39 @@ fn ports_of(path: &Path) -> Result<usize, Error> {
     }
 }
 
-/// Calibrates a probe from a measured Touchstone file; nothing is written.
+/// The command line's flags that a calibration's field errors name.
+const FLAGS: [&str; 9] = [
+    "touchstone",
+    "line-port",
+    "probe-port",
+    "probes",
+    "probe",
+    "fixture",
+    "height",
+    "uniform-line",
+    "accept-deviation",
+];
+
+/// Calibrates a probe from a measured Touchstone file; nothing is written. Errors about the
+/// request name its flags as the user types them (`--height`).
 pub fn run(a: &Request) -> Result<Calibrated, Error> {
+    run_request(a).map_err(|e| match e {
+        Error::Invalid(v) => Error::Invalid(
+            v.into_iter()
+                .map(|f| {
+                    if FLAGS.contains(&f.field.as_str()) {
+                        f.prefixed("--")
+                    } else {
+                        f
+                    }
+                })
+                .collect(),
+        ),
+        other => other,
+    })
+}
+
+fn run_request(a: &Request) -> Result<Calibrated, Error> {
     let ports = ports_of(&a.touchstone)?;
     let (line_port, probe_port) = match (a.line_port, a.probe_port, ports) {
         (l, p, 2) => (l.unwrap_or(1), p.unwrap_or(2)),
@@ -103,7 +134,8 @@ pub fn run(a: &Request) -> Result<Calibrated, Error> {
     let probes_text = read(&a.probes)?;
     let spec: ProbeFileSpec = parse_toml(&probes_text, &a.probes.display().to_string())?;
     let base = a.probes.parent().unwrap_or(Path::new("."));
-    let family = crate::model::probe::family_from_spec(&spec, base)?;
+    let family = crate::model::probe::family_from_spec(&spec, base)
+        .map_err(|e| crate::spec::with_lines(&probes_text, e))?;
     let names: Vec<String> = family.probes.iter().map(|p| p.name.clone()).collect();
     let chosen = match &a.probe {
         Some(n) => family.probes.iter().find(|p| &p.name == n),

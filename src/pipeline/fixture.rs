@@ -128,7 +128,8 @@ pub fn load_fixture(
     let spec: crate::spec::fixture::FixtureFileSpec =
         crate::spec::parse_toml(&text, &path.display().to_string())?;
     let base = path.parent().unwrap_or(Path::new("."));
-    let f = crate::model::fixture::fixture_from_spec(&spec, base)?;
+    let f = crate::model::fixture::fixture_from_spec(&spec, base)
+        .map_err(|e| crate::spec::with_lines(&text, e))?;
     let s = crate::solve::fixture::solve(&f)?;
     Ok((f, s))
 }

@@ -43,7 +43,21 @@ impl Tolerances {
     /// Checks the tolerances against the nominal line.
     pub fn validate(&self, line: &Line) -> Vec<FieldError> {
         let mut e = Vec::new();
-        check_range(&mut e, "etch-tol", self.etch_mm, 0.0, 0.999 * line.width());
+        let most = 0.999 * line.width();
+        if !(self.etch_mm.is_finite() && (0.0..=most).contains(&self.etch_mm)) {
+            e.push(FieldError::new(
+                "etch-tol",
+                crate::math::fmt_num(self.etch_mm),
+                format!(
+                    "must be from 0 to {} mm, below the trace width {} mm: the spread's narrow \
+                     corner (width − tolerance) must keep copper ({} mm is the tolerance when the \
+                     flag is not given; give a smaller one, or 0 for no etch spread)",
+                    crate::math::sig_fig(most, 3),
+                    crate::math::sig_fig(line.width(), 4),
+                    crate::math::fmt_num(Tolerances::default().etch_mm)
+                ),
+            ));
+        }
         check_range(&mut e, "er-tol", self.er_abs, 0.0, 5.0);
         check_range(&mut e, "h-tol-pct", self.h_rel * 100.0, 0.0, 50.0);
         e
