@@ -60,7 +60,6 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     crate::output::preflight_edited(&a.out, edited).map_err(hint_force)?;
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, DEMO_SPEC_NAME)?;
     let fx_spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, DEMO_FIXTURE_NAME)?;
-    let fixture = build_fixture(&fx_spec, Path::new("."), false)?;
     let mut extra = vec![
         (PathBuf::from(DEMO_SPEC_NAME), DEMO_SPEC.as_bytes().to_vec()),
         (
@@ -73,8 +72,14 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
             .iter()
             .map(|(n, t)| (PathBuf::from(n), t.as_bytes().to_vec())),
     );
-    extra.extend(fixture_entries(&fixture));
-    let (_, built, entries) = family_files(&spec, Path::new("."), false, extra)?;
+    // The fixture and the family are built at once (on separate cores where there are).
+    let (fixture, family) = rayon::join(
+        || build_fixture(&fx_spec, Path::new("."), false),
+        || family_files(&spec, Path::new("."), false, extra),
+    );
+    let fixture = fixture?;
+    let (_, built, mut entries) = family?;
+    entries.extend(fixture_entries(&fixture));
     crate::output::write_output_edited(&a.out, &entries, edited).map_err(hint_force)?;
     outln!(
         "loopwright demo: Fenwick Marsh Instruments' probe family (an invented scenario)\n\

@@ -175,21 +175,36 @@ pub fn solve(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
     const KEEP: usize = 4096;
     // Debug writes every f64 as its shortest round-trip text: equal keys, equal bits.
     let key = format!("{cs:?}|{acc:?}");
-    let kept = kept();
-    if let Some(s) = kept.lock().ok().and_then(|m| m.get(&key).cloned()) {
-        return Ok(s);
-    }
-    let s = solve_uncached(cs, acc)?;
-    if let Ok(mut m) = kept.lock() {
+    // One cell per cross-section: threads building probes at once that need the same one wait
+    // for the first to solve it instead of solving it again.
+    let cell = {
+        let Ok(mut m) = kept().lock() else {
+            return solve_uncached(cs, acc);
+        };
         if m.len() >= KEEP {
             m.clear();
         }
-        m.insert(key, s.clone());
+        m.entry(key).or_default().clone()
+    };
+    let mut failed = None;
+    let kept = cell.get_or_init(|| match solve_uncached(cs, acc) {
+        Ok(s) => Some(s),
+        Err(e) => {
+            failed = Some(e);
+            None
+        }
+    });
+    match (kept, failed) {
+        (_, Some(e)) => Err(e),
+        (Some(s), None) => Ok(s.clone()),
+        // Another thread's solve of it failed: this one reports its own error.
+        (None, None) => solve_uncached(cs, acc),
     }
-    Ok(s)
 }
 
-type Kept = std::sync::Mutex<std::collections::HashMap<String, FieldSolution>>;
+/// A kept solution: filled once (`None` when its solve failed).
+type Cell = std::sync::Arc<std::sync::OnceLock<Option<FieldSolution>>>;
+type Kept = std::sync::Mutex<std::collections::HashMap<String, Cell>>;
 
 fn kept() -> &'static Kept {
     static KEPT: std::sync::OnceLock<Kept> = std::sync::OnceLock::new();

@@ -28,15 +28,20 @@ pub fn predict_spec(
         ));
     }
     let family = family_from_spec(spec, base)?;
-    let mut out = Vec::new();
-    for p in family.probes {
-        let solved = solve(&p)?;
-        let response = predict(&p, &solved, o)?;
-        out.push(Predicted {
-            probe: p,
-            solved,
-            response,
-        });
-    }
-    Ok(out)
+    // On all cores, in the spec's order (see `build_family`).
+    use rayon::prelude::*;
+    let results: Vec<Result<Predicted, Error>> = family
+        .probes
+        .into_par_iter()
+        .map(|p| {
+            let solved = solve(&p)?;
+            let response = predict(&p, &solved, o)?;
+            Ok(Predicted {
+                probe: p,
+                solved,
+                response,
+            })
+        })
+        .collect();
+    results.into_iter().collect()
 }

@@ -163,11 +163,20 @@ pub fn build_family(spec: &ProbeFileSpec, base: &Path, force: bool) -> Result<Fa
         }
         _ => None,
     };
-    let mut built = Vec::new();
-    for (i, p) in family.probes.iter().enumerate() {
-        let copy = probe_spec_copy(spec, i, stackup_file.as_ref().map(|(n, _)| n.as_str()));
-        built.push(build_probe(p, &copy, force)?);
-    }
+    // The probes are built on all cores; each build depends only on its probe (shared field
+    // solutions are solved once, whoever asks first), so the files are those of a serial run.
+    // The first refusal in the spec's order is reported, as a serial run would.
+    use rayon::prelude::*;
+    let results: Vec<Result<BuiltProbe, Error>> = family
+        .probes
+        .par_iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let copy = probe_spec_copy(spec, i, stackup_file.as_ref().map(|(n, _)| n.as_str()));
+            build_probe(p, &copy, force)
+        })
+        .collect();
+    let built = results.into_iter().collect::<Result<Vec<_>, _>>()?;
     Ok(FamilyBuild {
         family,
         probes: built,
