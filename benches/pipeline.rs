@@ -2,7 +2,8 @@
 //! field solution kept from an earlier run in the process, as a fresh `loopwright demo`) and
 //! warm (every cross-section already solved, the cost of everything but the field solver;
 //! the launch design keeps its own results per process, so "cold" re-solves field only);
-//! `predict` of the demo after its build; and the refusal of a spec with a 10 MB name. Run with `cargo bench --bench pipeline`; results
+//! `predict` of the demo after its build; a 100 mm loop and a 64-probe family; and the refusal
+//! of a spec with a 10 MB name. Run with `cargo bench --bench pipeline`; results
 //! in docs/architecture.md ("Performance").
 
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -12,6 +13,28 @@ use std::path::Path;
 
 fn demo_spec() -> ProbeFileSpec {
     loopwright::spec::parse_toml(loopwright::cli::DEMO_SPEC, "demo").unwrap()
+}
+
+/// The demo's settings with other probes: (name, shape, size in mm; a rectangle is size ×
+/// size/2).
+fn spec_with_probes(probes: &[(&str, &str, f64)]) -> ProbeFileSpec {
+    let head = loopwright::cli::DEMO_SPEC
+        .split("[[probe]]")
+        .next()
+        .unwrap()
+        .to_string();
+    let mut text = head;
+    for (name, shape, size) in probes {
+        text.push_str(&format!(
+            "[[probe]]\nname = \"{name}\"\nshape = \"{shape}\"\n"
+        ));
+        if *shape == "rectangle" {
+            text.push_str(&format!("width_mm = {size}\nheight_mm = {}\n", size / 2.0));
+        } else {
+            text.push_str(&format!("size_mm = {size}\n"));
+        }
+    }
+    loopwright::spec::parse_toml(&text, "bench").unwrap()
 }
 
 fn benches(c: &mut Criterion) {
@@ -37,6 +60,25 @@ fn benches(c: &mut Criterion) {
                 &Default::default(),
             )
             .unwrap()
+        })
+    });
+    // Scaling: one 100 mm round loop (via rows, copper union and spacing checks grow with
+    // the loop), and a 64-probe family of round, square and rectangular loops from 5 to 68 mm.
+    let big = spec_with_probes(&[("BIG-R100", "round", 100.0)]);
+    g.bench_function("100 mm loop build, warm", |b| {
+        b.iter(|| {
+            loopwright::pipeline::build_family(black_box(&big), Path::new("."), false).unwrap()
+        })
+    });
+    let shapes = ["round", "square", "rectangle"];
+    let many: Vec<(String, &str, f64)> = (0..64)
+        .map(|i| (format!("P{i:02}"), shapes[i % 3], 5.0 + i as f64))
+        .collect();
+    let many: Vec<(&str, &str, f64)> = many.iter().map(|(n, s, d)| (n.as_str(), *s, *d)).collect();
+    let family64 = spec_with_probes(&many);
+    g.bench_function("64-probe family build, warm", |b| {
+        b.iter(|| {
+            loopwright::pipeline::build_family(black_box(&family64), Path::new("."), false).unwrap()
         })
     });
     // A spec whose probe name is 10 MB long: read, validated and refused (goal: under

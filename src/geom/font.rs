@@ -97,7 +97,7 @@ mod tests {
     #[test]
     fn the_signs_validation_accepts_are_drawn() {
         let fallback = glyph('\u{20AC}');
-        for c in crate::model::probe::SILK_SIGNS.chars().chain('a'..='z') {
+        for c in crate::model::text::SILK_SIGNS.chars().chain('a'..='z') {
             assert!(c == ' ' || glyph(c) != fallback, "{c:?}");
         }
         assert_eq!(glyph(' '), "");

@@ -9,4 +9,5 @@ pub mod fixture;
 pub mod line;
 pub mod probe;
 pub mod stackup;
+pub mod text;
 pub mod units;
