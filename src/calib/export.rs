@@ -256,7 +256,7 @@ pub fn parse_readings(bytes: &[u8], p: &str) -> Result<Readings, Error> {
             }
             Ok(v)
         };
-        let f = num(0, &freq_label)? * scale;
+        let f = crate::math::scaled(num(0, &freq_label)?, scale);
         let (fmin, fmax) = FREQ_RANGE_HZ;
         if !(fmin..=fmax).contains(&f) {
             return Err(bad(
@@ -342,6 +342,14 @@ pub fn parse_readings(bytes: &[u8], p: &str) -> Result<Readings, Error> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // A MHz column converts to Hz with no binary noise (33.017942 × 1e6 is
+    // 33017941.999999996 in floating point).
+    #[test]
+    fn megahertz_readings_convert_exactly() {
+        let r = parse_readings(b"Freq (MHz),Level [dBm]\n33.017942,-40\n", "t").unwrap();
+        assert_eq!(r.traces[0].rows, vec![(33017942.0, -40.0)]);
+    }
 
     #[test]
     fn header_cells() {
