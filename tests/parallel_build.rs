@@ -33,6 +33,8 @@ fn four_threads_write_what_one_thread_writes() {
             .args(["demo", "--out"])
             .arg(&out)
             .env("RAYON_NUM_THREADS", threads)
+            // The job files' creation date, fixed so that only the threads differ.
+            .env("SOURCE_DATE_EPOCH", "1767225600")
             .output()
             .unwrap();
         assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));

@@ -36,7 +36,26 @@ pub fn parse_band(text: &str) -> Option<(f64, f64)> {
 /// the reproducible-builds convention) when that is set, so that outputs can be regenerated
 /// byte for byte.
 pub fn date_utc() -> String {
-    let secs = std::env::var("SOURCE_DATE_EPOCH")
+    let (y, m, d) = civil_from_days(epoch_secs().div_euclid(86_400));
+    format!("{y:04}-{m:02}-{d:02}")
+}
+
+/// The same instant as [`date_utc`] with its time, ISO 8601 in UTC (`2026-01-01T00:00:00Z`).
+pub fn datetime_utc() -> String {
+    let secs = epoch_secs();
+    let (y, m, d) = civil_from_days(secs.div_euclid(86_400));
+    let t = secs.rem_euclid(86_400);
+    format!(
+        "{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}Z",
+        t / 3600,
+        t % 3600 / 60,
+        t % 60
+    )
+}
+
+/// Seconds since 1970: `SOURCE_DATE_EPOCH` when set, the clock otherwise.
+fn epoch_secs() -> i64 {
+    std::env::var("SOURCE_DATE_EPOCH")
         .ok()
         .and_then(|v| v.trim().parse::<i64>().ok())
         .unwrap_or_else(|| {
@@ -44,9 +63,7 @@ pub fn date_utc() -> String {
                 .duration_since(std::time::UNIX_EPOCH)
                 .map(|d| d.as_secs() as i64)
                 .unwrap_or(0)
-        });
-    let (y, m, d) = civil_from_days(secs.div_euclid(86_400));
-    format!("{y:04}-{m:02}-{d:02}")
+        })
 }
 
 /// The proleptic Gregorian date of a day count from 1970-01-01 (H. Hinnant's `civil_from_days`

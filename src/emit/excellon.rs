@@ -49,3 +49,12 @@ pub fn drill_file(drills: &[Drill], plated: bool, copper_layers: usize) -> Strin
     s.push_str("M30\n");
     s
 }
+
+/// The `TF.FileFunction` value an Excellon file carries in its `; #@! ` comment
+/// (`Plated,1,4,PTH`).
+pub fn file_function_text(text: &str) -> String {
+    text.lines()
+        .find_map(|l| l.strip_prefix("; #@! TF.FileFunction,"))
+        .map(|s| s.trim().to_string())
+        .unwrap_or_default()
+}

@@ -28,6 +28,92 @@ pub struct FabProfile {
     pub silk_text_height: f64,
     /// Silkscreen to pad-opening clearance.
     pub silk_to_pad: f64,
+    /// What the order states beside the limits: finish, colours, class, Tg.
+    pub order: Order,
+}
+
+/// What a fab order states beside the geometric limits; written to the notes and the Gerber
+/// job file.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Order {
+    /// Surface finish (spec name, job-file name).
+    pub finish: (&'static str, &'static str),
+    /// Solder-mask colour (spec name, job-file name).
+    pub mask_colour: (&'static str, &'static str),
+    /// Silkscreen colour (spec name, job-file name).
+    pub silk_colour: (&'static str, &'static str),
+    /// IPC-6012 performance class (1, 2 or 3).
+    pub ipc_class: u8,
+    /// Least glass-transition temperature, °C.
+    pub tg_c: f64,
+}
+
+/// Surface finishes: (spec name, the job file's name). ENIG is the default: flat pads for the
+/// edge-launch connector and a surface that does not tarnish on a bench tool (common practice,
+/// no source). The job-file names follow the Gerber job format's examples (from memory).
+pub const FINISHES: [(&str, &str); 6] = [
+    ("enig", "ENIG"),
+    ("enepig", "ENEPIG"),
+    ("hasl-lead-free", "HAL PbFree"),
+    ("immersion-silver", "Immersion Ag"),
+    ("immersion-tin", "Immersion Sn"),
+    ("osp", "OSP"),
+];
+
+/// Solder-mask colours (spec name, job-file name).
+pub const MASK_COLOURS: [(&str, &str); 7] = [
+    ("green", "Green"),
+    ("black", "Black"),
+    ("blue", "Blue"),
+    ("red", "Red"),
+    ("white", "White"),
+    ("yellow", "Yellow"),
+    ("purple", "Purple"),
+];
+
+/// Silkscreen colours (spec name, job-file name).
+pub const SILK_COLOURS: [(&str, &str); 3] =
+    [("white", "White"), ("black", "Black"), ("yellow", "Yellow")];
+
+impl Order {
+    /// ENIG, green mask, white silkscreen, IPC-6012 class 2 (dedicated service, the usual class
+    /// for test equipment; from memory), Tg ≥ 150 °C (a mid-Tg FR-4 that stands lead-free
+    /// reflow; common practice, no source).
+    pub const STANDARD: Order = Order {
+        finish: FINISHES[0],
+        mask_colour: MASK_COLOURS[0],
+        silk_colour: SILK_COLOURS[0],
+        ipc_class: 2,
+        tg_c: 150.0,
+    };
+}
+
+/// The entry of `table` named `v`, or an error listing the names.
+fn pick(
+    out: &mut Vec<FieldError>,
+    field: &str,
+    v: Option<&String>,
+    table: &[(&'static str, &'static str)],
+    default: (&'static str, &'static str),
+) -> (&'static str, &'static str) {
+    let Some(v) = v else { return default };
+    match table
+        .iter()
+        .find(|(n, _)| *n == v.trim().to_ascii_lowercase())
+    {
+        Some(e) => *e,
+        None => {
+            out.push(FieldError::new(
+                field,
+                format!("{v:?}"),
+                format!(
+                    "one of {}",
+                    table.iter().map(|(n, _)| *n).collect::<Vec<_>>().join(", ")
+                ),
+            ));
+            default
+        }
+    }
 }
 
 impl FabProfile {
@@ -48,6 +134,7 @@ impl FabProfile {
         silk_width: 0.15,
         silk_text_height: 1.0,
         silk_to_pad: 0.15,
+        order: Order::STANDARD,
     };
 
     /// The standard profile with the spec's overrides, checked.
@@ -113,6 +200,37 @@ impl FabProfile {
             0.0,
             2.0,
         );
+        let o = &mut p.order;
+        o.finish = pick(out, "fab.finish", s.finish.as_ref(), &FINISHES, o.finish);
+        o.mask_colour = pick(
+            out,
+            "fab.mask_colour",
+            s.mask_colour.as_ref(),
+            &MASK_COLOURS,
+            o.mask_colour,
+        );
+        o.silk_colour = pick(
+            out,
+            "fab.silk_colour",
+            s.silk_colour.as_ref(),
+            &SILK_COLOURS,
+            o.silk_colour,
+        );
+        if let Some(c) = s.ipc_class {
+            if [1.0, 2.0, 3.0].contains(&c) {
+                o.ipc_class = c as u8;
+            } else {
+                out.push(FieldError::new(
+                    "fab.ipc_class",
+                    crate::math::fmt_num(c),
+                    "1, 2 or 3 (IPC-6012 performance class)",
+                ));
+            }
+        }
+        if let Some(t) = s.tg_c {
+            check_range(out, "fab.tg_c", t, 100.0, 300.0);
+            o.tg_c = t;
+        }
         p
     }
 }

@@ -30,6 +30,8 @@ pub struct Dielectric {
     pub er: f64,
     /// Loss tangent.
     pub loss_tangent: f64,
+    /// Material as the fab reads it (`FR-4` unless the stackup names another).
+    pub material: String,
 }
 
 /// A solder-mask coat.
@@ -192,6 +194,13 @@ fn layer_from(out: &mut Vec<FieldError>, i: usize, l: &LayerSpec) -> Option<Laye
                     ));
                 }
             }
+            if let Some(m) = &l.material {
+                out.push(FieldError::new(
+                    format!("{p}.material"),
+                    format!("{m:?}"),
+                    "not allowed on a copper layer (only on dielectrics)",
+                ));
+            }
             let t = match (l.thickness_mm, l.thickness_oz) {
                 (Some(mm), None) => {
                     check_range(
@@ -276,11 +285,21 @@ fn layer_from(out: &mut Vec<FieldError>, i: usize, l: &LayerSpec) -> Option<Laye
                 limits::LOSS_TANGENT.0,
                 limits::LOSS_TANGENT.1,
             );
+            let material = l.material.clone().unwrap_or_else(|| "FR-4".into());
+            crate::model::text::check_text(out, &format!("{p}.material"), &material, false);
+            if material.trim().is_empty() || material.chars().count() > 40 {
+                out.push(FieldError::new(
+                    format!("{p}.material"),
+                    format!("{material:?}"),
+                    "a material name of 1 to 40 characters (e.g. \"FR-4\")",
+                ));
+            }
             Some(Layer::Dielectric(Dielectric {
                 name,
                 thickness_mm: t,
                 er,
                 loss_tangent: tand,
+                material,
             }))
         }
         Some(other) => {

@@ -28,21 +28,26 @@ pub fn artwork_files(
         .iter()
         .map(|(name, text)| (name.clone(), text.clone().into_bytes()))
         .collect();
-    files.push((
+    let mut drills = vec![(
         format!("{base}-PTH.drl"),
-        emit::excellon::drill_file(&artwork.drills, true, n).into_bytes(),
-    ));
+        emit::excellon::drill_file(&artwork.drills, true, n),
+    )];
     // A non-plated drill file only when there are non-plated holes (an empty drill file is
     // not a file readers accept).
     if artwork.drills.iter().any(|d| !d.plated) {
-        files.push((
+        drills.push((
             format!("{base}-NPTH.drl"),
-            emit::excellon::drill_file(&artwork.drills, false, n).into_bytes(),
+            emit::excellon::drill_file(&artwork.drills, false, n),
         ));
     }
+    files.extend(
+        drills
+            .iter()
+            .map(|(name, text)| (name.clone(), text.clone().into_bytes())),
+    );
     files.push((
         format!("{base}.gbrjob"),
-        emit::job::job(base, stackup, fab, size, &gerbers).into_bytes(),
+        emit::job::job(base, stackup, fab, size, &gerbers, &drills).into_bytes(),
     ));
     files.push((
         format!("{base}.svg"),

@@ -131,4 +131,16 @@ pub struct FabSpec {
     pub silk_text_height_mm: Option<f64>,
     /// Silkscreen to pad-opening clearance.
     pub silk_to_pad_mm: Option<f64>,
+    /// Surface finish: `enig` (default), `enepig`, `hasl-lead-free`, `immersion-silver`,
+    /// `immersion-tin`, `osp`.
+    pub finish: Option<String>,
+    /// Solder-mask colour: `green` (default), `black`, `blue`, `red`, `white`, `yellow`,
+    /// `purple`.
+    pub mask_colour: Option<String>,
+    /// Silkscreen colour: `white` (default), `black`, `yellow`.
+    pub silk_colour: Option<String>,
+    /// IPC-6012 performance class: 1, 2 (default) or 3.
+    pub ipc_class: Option<f64>,
+    /// Least glass-transition temperature of the laminate, °C (default 150).
+    pub tg_c: Option<f64>,
 }

@@ -47,4 +47,7 @@ pub struct LayerSpec {
     pub er: Option<f64>,
     /// Dielectric loss tangent.
     pub loss_tangent: Option<f64>,
+    /// Dielectric material as the fab should read it (`FR-4`, a laminate's trade name);
+    /// written to the Gerber job file. Default `FR-4`.
+    pub material: Option<String>,
 }

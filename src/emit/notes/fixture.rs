@@ -48,6 +48,7 @@ pub fn fixture_notes(
         "- Solder mask both sides, covering everything but the connector pads (vias tented); \
          silkscreen on the line's side"
     );
+    o.push_str(&super::order_lines(&f.fab));
     let _ = writeln!(
         o,
         "- **Two nets.** `LINE` (the line and both connectors' centre pads) must be continuous \

@@ -109,3 +109,21 @@ pub(super) fn forced_banner(violations: &[Violation]) -> String {
     }
     o
 }
+
+/// The order's finish, colours, class and Tg, and the connector pads' exemption from pullback,
+/// as note lines.
+pub fn order_lines(fab: &crate::model::fab::FabProfile) -> String {
+    let o = &fab.order;
+    format!(
+        "- Finish {}; solder mask {}, silkscreen {}; IPC-6012 class {}; laminate Tg at least \
+         {} °C (also in the job file)\n- **Connector pads reach the board edge on purpose** (an \
+         edge-launch connector straddles it): exempt them from copper pullback; everywhere else \
+         copper stays {} mm from the edge\n",
+        o.finish.1,
+        o.mask_colour.0,
+        o.silk_colour.0,
+        o.ipc_class,
+        crate::math::fmt_num(o.tg_c),
+        crate::math::fmt_num(fab.copper_to_edge)
+    )
+}

@@ -55,6 +55,7 @@ pub fn notes(
         "- Solder mask both sides, covering everything but the connector pads (vias tented); \
          silkscreen top"
     );
+    o.push_str(&super::order_lines(&p.fab));
     let _ = writeln!(
         o,
         "- Loop interior: {}",
