@@ -169,9 +169,15 @@ fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
     let crossing = common::copper(&l2, |_| true).intersection(&common::rect(-0.1, 0.0, 0.1, top));
     let b = crossing.bounding_rect().expect("the trace crosses the gap");
     let apex_y = 0.5 * (b.min().y + b.max().y);
+    // The outline stands beyond the copper-to-edge rule by `EDGE_MARGIN` (2 µm), grown again
+    // by the measured shortfall where arc flattening leaves one, so that the rule holds
+    // exactly; the model's tip (and the recorded geometry) is the rule's. The files' tip lies
+    // up to two margins further out.
+    let margin = loopwright::geom::offsets::EDGE_MARGIN;
     let tip_to_apex = top - apex_y;
+    let over = tip_to_apex - f(e, "tip_to_apex_mm");
     assert!(
-        (tip_to_apex - f(e, "tip_to_apex_mm")).abs() < 1e-3,
+        (-1e-3..=2.0 * margin + 1e-3).contains(&over),
         "{tip_to_apex} mm on the files vs {}",
         f(e, "tip_to_apex_mm")
     );

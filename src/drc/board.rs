@@ -120,19 +120,57 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         check_rings(&mut out, &name, &l.regions);
         let copper = layer_copper(&l.regions, &l.flashes);
         check_width_space(&mut out, &name, &copper, fab.min_trace, fab.min_space);
-        // Copper to edge: regions and non-connector pads.
-        let body = body_copper(l);
+        // Copper to edge: regions and non-connector pads, measured exactly (the nearest
+        // approach of two polylines is at a vertex of one of them: every copper vertex to the
+        // outline, and every outline vertex to the copper), with only the artwork grid's
+        // snapping as slack.
+        // Copper inside a connector pad (a trace that starts under it) is the pad's: exempt.
+        let pads: Vec<crate::artwork::Flash> = l
+            .flashes
+            .iter()
+            .filter(|f| f.function == crate::artwork::PadFunction::Connector)
+            .copied()
+            .collect();
+        let body = if pads.is_empty() {
+            body_copper(l)
+        } else {
+            use geo::BooleanOps;
+            body_copper(l).difference(&layer_copper(&MultiPolygon(vec![]), &pads))
+        };
+        let mut reported = false;
         for poly in &body.0 {
             for c in poly.exterior().coords() {
                 let pt = geo::Point::new(c.x, c.y);
                 let inside = outline.contains(&pt);
                 let d = edge(&pt);
-                if !inside || d < fab.copper_to_edge - TOL {
+                if !inside || d < fab.copper_to_edge - slack::GRID {
                     out.push(Violation {
                         rule: Rule::CopperToEdge,
                         layer: name.clone(),
                         at: Point::new(c.x, c.y),
                         detail: format!("{d:.4} mm < {:.4} mm", fab.copper_to_edge),
+                    });
+                    reported = true;
+                    break;
+                }
+            }
+        }
+        if !reported {
+            let ring_vertices = std::iter::once(outline.exterior())
+                .chain(outline.interiors())
+                .flat_map(|r| r.coords());
+            for c in ring_vertices {
+                let pt = geo::Point::new(c.x, c.y);
+                let d = Euclidean.distance(&pt, &body);
+                if d < fab.copper_to_edge - slack::GRID {
+                    out.push(Violation {
+                        rule: Rule::CopperToEdge,
+                        layer: name.clone(),
+                        at: Point::new(c.x, c.y),
+                        detail: format!(
+                            "{d:.4} mm < {:.4} mm (outline corner)",
+                            fab.copper_to_edge
+                        ),
                     });
                     break;
                 }

@@ -174,4 +174,8 @@ pub mod offsets {
     pub const MIN_SEGMENT: f64 = 1e-3;
     /// Two points this close are one (float noise).
     pub const SAME_POINT: f64 = 1e-9;
+    /// The board outline stands this much beyond the copper-to-edge rule where it follows
+    /// flattened arcs: twice the arc tolerance (the copper ring and the outline are each
+    /// flattened; a chord cuts inside its arc by up to it) and two grid steps of snapping.
+    pub const EDGE_MARGIN: f64 = 2.0 * super::shape::ARC_TOLERANCE + 2e-6;
 }

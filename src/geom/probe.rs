@@ -83,6 +83,17 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         &round_buffer(&extent, r_close),
         -r_close,
     )));
+    // The closing's flattened arcs can move the straight pullback at the connector edge by a
+    // fraction of a micrometre, and snapping by a nanometre: cut it back to `cte` from that
+    // edge and the margin beyond.
+    let extent = largest(
+        &MultiPolygon(vec![extent]).intersection(&MultiPolygon(vec![rect(
+            -1e4,
+            edge_y + cte + offsets::EDGE_MARGIN,
+            1e4,
+            1e4,
+        )])),
+    );
     let shield =
         MultiPolygon(vec![extent.clone()]).difference(&MultiPolygon(vec![interior.clone()]));
 
@@ -92,10 +103,32 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
 
     // --- Outline: the copper extent grown by the copper-to-edge rule (round joins), which puts
     // the connector edge at `edge_y`.
-    let grown = largest(&symmetrise(&round_buffer(&MultiPolygon(vec![extent]), cte)));
+    // Round joins are flattened to chords that cut inside the true arcs by up to the arc
+    // tolerance, and the artwork snaps to its grid: the outline is grown by that much more, so
+    // that every point of it stays at least `cte` from the copper, and cut back to the
+    // connector edge.
+    // The flattening of the buffer's round joins is measured rather than trusted: should the
+    // outline still come nearer than `cte`, it is grown again by the shortfall.
+    let outline_at = |d: f64| {
+        let g = largest(&symmetrise(&round_buffer(
+            &MultiPolygon(vec![extent.clone()]),
+            d,
+        )));
+        largest(
+            &MultiPolygon(vec![g]).intersection(&MultiPolygon(vec![rect(-1e4, edge_y, 1e4, 1e4)])),
+        )
+    };
+    let mut grown = outline_at(cte + offsets::EDGE_MARGIN);
+    let nearest = {
+        use geo::{Distance, Euclidean};
+        Euclidean.distance(grown.exterior(), extent.exterior())
+    };
+    if nearest < cte + offsets::EDGE_MARGIN / 2.0 {
+        grown = outline_at(cte + 1.5 * offsets::EDGE_MARGIN + (cte - nearest).max(0.0));
+    }
     let mut outline = Polygon::new(grown.exterior().clone(), vec![]);
     if p.mill_interior {
-        let cut = closed(shape, -hr - cte);
+        let cut = closed(shape, -hr - cte - offsets::EDGE_MARGIN);
         outline.interiors_push(LineString::from(
             cut.iter()
                 .map(|q| Coord { x: q.x, y: q.y })

@@ -521,6 +521,43 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                 2.0 * connector.ground_pad_offset + connector.ground_pad_width
             ),
         ));
+    } else {
+        // The copper is pulled back from the handle's long edges by the fab's rule; what is
+        // left must still hold the ground pads (the coplanar ground beside the centre pad).
+        let most =
+            handle.width / 2.0 - connector.ground_pad_offset - connector.ground_pad_width / 2.0;
+        // Along the connector edge the pour is pulled back too, and must still reach under
+        // the ground pads to join them.
+        let along = connector.ground_pad_length - fab.min_trace;
+        if fab.copper_to_edge > along + 1e-9 {
+            out.push(FieldError::new(
+                "fab.copper_to_edge_mm",
+                crate::math::fmt_num(fab.copper_to_edge),
+                format!(
+                    "less than the connector's ground pads are long ({} mm, less the fab's \
+                     least trace {} mm: at most {} mm), so that the pour pulled back from the \
+                     connector edge still joins them",
+                    crate::math::fmt_num(connector.ground_pad_length),
+                    crate::math::fmt_num(fab.min_trace),
+                    crate::math::sig_fig(along.max(0.0), 3)
+                ),
+            ));
+        }
+        if fab.copper_to_edge > most + 1e-9 {
+            out.push(FieldError::new(
+                "fab.copper_to_edge_mm",
+                crate::math::fmt_num(fab.copper_to_edge),
+                format!(
+                    "at most {} mm on a {} mm handle: the copper left between the pullbacks \
+                     must hold the connector's ground pads ({} mm apart, {} mm wide); widen \
+                     handle.width_mm or lower the rule",
+                    crate::math::sig_fig(most.max(0.0), 3),
+                    crate::math::fmt_num(handle.width),
+                    crate::math::fmt_num(2.0 * connector.ground_pad_offset),
+                    crate::math::fmt_num(connector.ground_pad_width)
+                ),
+            ));
+        }
     }
     let mill_interior = spec.mill_interior.unwrap_or(false);
     let width_from = match spec.width_from.as_deref() {
