@@ -257,3 +257,35 @@ fn bad_fixture_specs_are_refused_by_field_and_write_nothing() {
         assert!(!out.exists(), "{to}: output written");
     }
 }
+
+// Bottom legend is written as seen from the top, as every Gerber layer is: a fixture with its
+// line on the bottom gets its texts mirrored, so that seen from below (the layer flipped about
+// the board's axis) the centred text reads exactly as the top-side fixture's does.
+#[test]
+fn bottom_legend_reads_right_from_below() {
+    let build = |layer: usize| {
+        let text = DEMO_FIXTURE.replace("line_layer = 1", &format!("line_layer = {layer}"));
+        let spec = loopwright::spec::parse_toml(&text, "fixture").unwrap();
+        loopwright::pipeline::build_fixture(&spec, std::path::Path::new("."), false).unwrap()
+    };
+    let (top, bottom) = (build(1), build(2));
+    assert!(bottom.artwork.silk_top.is_empty() && !bottom.artwork.silk_bottom.is_empty());
+    // The strokes of the text above the line (clear of the marks, ticks and port names).
+    let y_min = top.solved.width / 2.0 + 0.5 + 3.5;
+    let key = |p: &kurbo::Point| ((p.x * 1e4).round() as i64, (p.y * 1e4).round() as i64);
+    let band =
+        |strokes: &[Vec<kurbo::Point>], flip: bool| -> std::collections::BTreeSet<(i64, i64)> {
+            strokes
+                .iter()
+                .flatten()
+                .filter(|p| p.y > y_min)
+                .map(|p| key(&kurbo::Point::new(if flip { -p.x } else { p.x }, p.y)))
+                .collect()
+        };
+    let seen_on_top = band(&top.artwork.silk_top, false);
+    let seen_from_below = band(&bottom.artwork.silk_bottom, true);
+    assert!(seen_on_top.len() > 20, "{}", seen_on_top.len());
+    assert_eq!(seen_on_top, seen_from_below);
+    // Unflipped, the bottom text is the mirror image (it would print reversed otherwise).
+    assert_ne!(seen_on_top, band(&bottom.artwork.silk_bottom, false));
+}

@@ -281,9 +281,18 @@ fn silk(f: &Fixture, s: &SolvedFixture, x_uniform: f64) -> Vec<Vec<Point>> {
             ]);
         }
     }
+    // Text centred at `at`. On the bottom side (a line on the bottom layer) each text is
+    // mirrored about its own centre: seen from the top, as Gerber layers are, bottom legend
+    // reads reversed, so that it reads right on the board's underside.
+    let bottom = !f.on_top();
     let text = |t: &str, at: Point| -> Vec<Vec<Point>> {
         let tw = font::text_width(t, h);
-        font::text_strokes(t, h, Affine::translate(Vec2::new(at.x - tw / 2.0, at.y)))
+        let place = if bottom {
+            Affine::translate(Vec2::new(at.x + tw / 2.0, at.y)) * Affine::FLIP_X
+        } else {
+            Affine::translate(Vec2::new(at.x - tw / 2.0, at.y))
+        };
+        font::text_strokes(t, h, place)
     };
     // Above the line: how to hold the probe; below: what the line is. Each text is shortened
     // to fit between the connectors' tabs.
