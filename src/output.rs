@@ -5,7 +5,9 @@
 //! `<SHA-256 in hex>  <path inside the folder>` (the format `sha256sum -c` reads). An existing
 //! folder is replaced only when every file in it is listed there with the same hash; anything
 //! else (a file not listed, a listed file changed since, a link, a folder that holds none of
-//! our files) stops the run before anything is written, and the message names it. A non-empty
+//! our files) stops the run before anything is written, and the message names it. A caller
+//! may ask for listed files the user edited to be replaced instead ([`Edited::Replace`], what
+//! `demo --force` does); files not listed are refused all the same. A non-empty
 //! folder without a manifest (not loopwright's, or written by a version before manifests) is
 //! refused: the user removes it or chooses another `--out`. Entries of the earlier output that
 //! this run does not write (another probe's folder, another calibration's files) are carried
