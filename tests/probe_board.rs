@@ -387,9 +387,12 @@ fn copper_is_inside_the_outline_with_the_edge_clearance() {
 fn files_carry_their_x2_attributes() {
     for probe in PROBES {
         for (suffix, function) in [
-            ("L1.gbr", "FileFunction,Copper,L1,Top,Plane"),
+            // L1 holds the centre pad and the top link inside its ground, L3 the loop trace
+            // inside the shield: both Mixed (the Gerber format's copper types Plane, Signal,
+            // Mixed; a layer labelled Plane is taken for ground only).
+            ("L1.gbr", "FileFunction,Copper,L1,Top,Mixed"),
             ("L2.gbr", "FileFunction,Copper,L2,Inr,Plane"),
-            ("L3.gbr", "FileFunction,Copper,L3,Inr,Signal"),
+            ("L3.gbr", "FileFunction,Copper,L3,Inr,Mixed"),
             ("L4.gbr", "FileFunction,Copper,L4,Bot,Plane"),
             ("mask-top.gbr", "FileFunction,Soldermask,Top"),
             ("legend-top.gbr", "FileFunction,Legend,Top"),

@@ -46,6 +46,7 @@ pub fn compose(f: &Fixture, b: &FixtureBoard) -> Artwork {
             n,
             side,
             signal: is_line,
+            mixed: is_line,
             regions,
             flashes,
         });

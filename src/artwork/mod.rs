@@ -110,6 +110,9 @@ pub struct CopperLayer {
     pub side: Side,
     /// True for the loop's signal layer.
     pub signal: bool,
+    /// The layer holds signal copper (the loop trace, the top link and centre pad, the test
+    /// line) beside ground: its file is a `Mixed` copper layer; ground alone is `Plane`.
+    pub mixed: bool,
     /// Copper regions (nm-snapped; holes are interiors).
     pub regions: MultiPolygon<f64>,
     /// Flashed pads.
@@ -372,6 +375,8 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
             n,
             side,
             signal,
+            // L1 carries the centre pad and the link to the signal via.
+            mixed: signal || n == 1,
             regions: snap_regions(&regions),
             flashes,
         });

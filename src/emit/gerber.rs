@@ -237,8 +237,10 @@ pub fn copper(layer: &CopperLayer, nets: &Nets, same_coords: &str) -> String {
         Side::Inner => ExtendedPosition::Inner,
         Side::Bottom => ExtendedPosition::Bottom,
     };
-    let kind = if layer.signal {
-        CopperType::Signal
+    // Gerber's copper types: Plane (mainly ground), Signal (mainly signal), Mixed (both): a
+    // layer that holds signal copper inside its ground pour is Mixed.
+    let kind = if layer.mixed {
+        CopperType::Mixed
     } else {
         CopperType::Plane
     };
