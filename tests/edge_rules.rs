@@ -1,4 +1,4 @@
-//! The copper-to-edge rule holds exactly after arc flattening, for rules from 0.2 to 3 mm: the
+//! The copper-to-edge rule holds exactly after arc flattening, for rules from 0.2 to 2.8 mm: the
 //! nearest approach of the copper (connector pads excepted: they reach the edge on purpose)
 //! to the board's profile, measured here on the artwork with geo (the nearest approach of two
 //! polylines is at a vertex of one of them), is never below the rule by more than the 1 nm

@@ -5,32 +5,18 @@
 
 use std::process::Command;
 
+/// The demo's settings with one 4 mm round loop.
 fn spec(d: &std::path::Path) -> std::path::PathBuf {
-    let text = r#"
-family = "band-check"
-stackup = "common-4l-1.6"
-signal_layer = 3
-target_z0_ohms = 50.0
-clearance_mm = 0.2
-gap_mm = 0.4
-
-[via]
-drill_mm = 0.3
-pad_mm = 0.6
-pitch_n = 20
-f_max_hz = 3e9
-
-[handle]
-length_mm = 40.0
-width_mm = 8.0
-
-[[probe]]
-name = "R4"
-shape = "round"
-size_mm = 4.0
-"#;
+    let head = loopwright::cli::DEMO_SPEC
+        .split("[[probe]]")
+        .next()
+        .unwrap();
     let p = d.join("r4.toml");
-    std::fs::write(&p, text).unwrap();
+    std::fs::write(
+        &p,
+        format!("{head}[[probe]]\nname = \"R4\"\nshape = \"round\"\nsize_mm = 4.0\n"),
+    )
+    .unwrap();
     p
 }
 

@@ -57,6 +57,17 @@ pub fn column_range(column: &str) -> Option<(f64, f64, &'static str)> {
     }
 }
 
+/// Why `v` cannot be a value of `column` (printed as `label`), or `None` when it is inside
+/// the column's physical range ([`column_range`]).
+pub(crate) fn out_of_range(label: &str, column: &str, v: f64) -> Option<String> {
+    let (lo, hi, unit) = column_range(column).filter(|(lo, hi, _)| !(*lo..=*hi).contains(&v))?;
+    Some(format!(
+        "{label} = {} is outside {lo} to {hi} {unit} (see docs; a frequency or another column \
+         pasted here?)",
+        crate::error::fmt_num(v)
+    ))
+}
+
 fn bad(path: &str, line: usize, why: String) -> Error {
     Error::Parse {
         path: path.to_string(),
@@ -242,17 +253,8 @@ pub fn parse_table(text: &str, p: &str, value_columns: &[&str]) -> Result<Table,
                 ),
             ));
         }
-        let range = column_range(&column).filter(|(lo, hi, _)| !(*lo..=*hi).contains(&v));
-        if let Some((lo, hi, unit)) = range {
-            return Err(bad(
-                p,
-                line,
-                format!(
-                    "{column} = {} is outside {lo} to {hi} {unit} (see docs; a frequency or \
-                     another column pasted here?)",
-                    crate::error::fmt_num(v)
-                ),
-            ));
+        if let Some(why) = out_of_range(&column, &column, v) {
+            return Err(bad(p, line, why));
         }
         if let Some(&(prev, _)) = rows.last() {
             if f == prev {

@@ -22,7 +22,7 @@
 //! lines counted). A file with no header is refused at its first line that is not a comment,
 //! with the forms that are read.
 
-use super::convert::{FREQ_RANGE_HZ, Table, column_range};
+use super::convert::{FREQ_RANGE_HZ, Table};
 use crate::error::Error;
 use std::path::Path;
 
@@ -289,18 +289,8 @@ pub fn parse_readings(bytes: &[u8], p: &str) -> Result<Readings, Error> {
         }
         for (t, (i, col, label)) in traces.iter_mut().zip(&levels) {
             let v = num(*i, label)?;
-            if let Some((lo, hi, unit)) =
-                column_range(col).filter(|(lo, hi, _)| !(*lo..=*hi).contains(&v))
-            {
-                return Err(bad(
-                    p,
-                    line,
-                    format!(
-                        "{label} = {} is outside {lo} to {hi} {unit} (see docs; a frequency or \
-                         another column pasted here?)",
-                        crate::error::fmt_num(v)
-                    ),
-                ));
+            if let Some(why) = super::convert::out_of_range(label, col, v) {
+                return Err(bad(p, line, why));
             }
             t.rows.push((f, v));
             t.lines.push(line);

@@ -57,7 +57,7 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     } else {
         Edited::Refuse
     };
-    crate::output::preflight_edited(&a.out, edited).map_err(hint_force)?;
+    crate::output::preflight_edited(&a.out, edited).map_err(hint_force(&a.out))?;
     let spec: ProbeFileSpec = parse_toml(DEMO_SPEC, DEMO_SPEC_NAME)?;
     let fx_spec: FixtureFileSpec = parse_toml(DEMO_FIXTURE, DEMO_FIXTURE_NAME)?;
     let mut extra = vec![
@@ -80,7 +80,7 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     let fixture = fixture?;
     let (_, built, mut entries) = family?;
     entries.extend(fixture_entries(&fixture));
-    crate::output::write_output_edited(&a.out, &entries, edited).map_err(hint_force)?;
+    crate::output::write_output_edited(&a.out, &entries, edited).map_err(hint_force(&a.out))?;
     outln!(
         "loopwright demo: Fenwick Marsh Instruments' probe family (an invented scenario)\n\
          spec written to {}\n",
@@ -101,18 +101,20 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     Ok(())
 }
 
-/// A refusal for edited files gains the way out that `demo` offers: `--force`.
-fn hint_force(e: Error) -> Error {
-    match e {
-        Error::Invalid(mut errs) => {
-            for f in &mut errs {
-                if f.allowed.contains("changed since loopwright wrote") {
-                    f.allowed.push_str(
-                        "; or run `loopwright demo --force` to replace the demo's files with \
-                         fresh ones (your edits to them are lost; copy an edited spec elsewhere \
-                         first)",
-                    );
-                }
+/// A refusal that `--force` would lift (the folder fails the usual check but passes the one
+/// that replaces edited files: its only fault is demo files the user edited) gains that way
+/// out.
+fn hint_force(out: &Path) -> impl Fn(Error) -> Error + '_ {
+    move |e| match e {
+        Error::Invalid(mut errs)
+            if crate::output::check_folder(out).is_err()
+                && crate::output::check_folder_edited(out, Edited::Replace).is_ok() =>
+        {
+            for f in errs.iter_mut().filter(|f| f.field == "--out") {
+                f.allowed.push_str(
+                    "; or run `loopwright demo --force` to replace the demo's files with fresh \
+                     ones (your edits to them are lost; copy an edited spec elsewhere first)",
+                );
             }
             Error::Invalid(errs)
         }
