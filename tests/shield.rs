@@ -111,7 +111,7 @@ fn ribbon_gmd_closed_form() {
 /// the model's corner and upper usable frequency.
 fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
     use loopwright::model::probe::LoopShape;
-    use loopwright::physics::{flux_filaments, hx_line};
+    use loopwright::physics::{flux_filaments, flux_gap, hx_line, shield_gap};
     let r = f(c, "R_mm");
     let mut pl = Vec::new();
     for p in c["plates"].as_array().unwrap() {
@@ -134,15 +134,24 @@ fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
     }
     let sc = solve_round(r * 1e-3, &pl, RIBBONS_PER_PLATE).unwrap();
     let fil = loopwright::physics::filaments(&sc, 8);
+    // The gap's correction with NEC's feed: the bus gathers every plate's current at r = R;
+    // the window is the slot, as in the model.
+    let wf = 2.0 * f(top, "slot_half_width_mm") * 1e-3;
+    let gap = shield_gap::solve(r * 1e-3, &pl, &sc, wf, shield_gap::GAP_MESH)
+        .unwrap_or_else(|| panic!("gap solve failed: R {r} mm, plates {pl:?}"));
     let h = f(c, "h_line_mm") * 1e-3;
     let z0 = (f(c, "z_apex_mm") - f(c, "h_line_mm")) * 1e-3;
     let shape = LoopShape::Round { diameter: 2.0 * r };
-    let m = MU0 * flux_filaments(&shape, &fil, |x, z| hx_line(x, z, h), 0.0, z0);
+    let field = |x: f64, z: f64| hx_line(x, z, h);
+    let m = MU0
+        * (flux_filaments(&shape, &fil, field, 0.0, z0)
+            + flux_gap(&shape, &gap.points, r * 1e-3, field, 0.0, z0));
+    let l_outer = sc.l_outer + gap.dl_outer;
     let eps = f(top, "eps_eff");
     let l2 = std::f64::consts::PI * r * 1e-3;
     let c0 = 299_792_458.0;
     let l_stub = 50.0 * eps.sqrt() * l2 / c0;
-    let corner = 50.0 / (2.0 * std::f64::consts::PI * (sc.l_outer + l_stub));
+    let corner = 50.0 / (2.0 * std::f64::consts::PI * (l_outer + l_stub));
     let upper = c0 / (10.0 * 2.0 * std::f64::consts::PI * r * 1e-3);
     let zt = c["freq_hz"]
         .as_array()
@@ -151,7 +160,7 @@ fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
         .map(|fr| {
             let fr = fr.as_float().or(fr.as_integer().map(|i| i as f64)).unwrap();
             let w = 2.0 * std::f64::consts::PI * fr;
-            let x = w * sc.l_outer + 50.0 * (w * eps.sqrt() / c0 * l2).tan();
+            let x = w * l_outer + 50.0 * (w * eps.sqrt() / c0 * l2).tan();
             (
                 fr,
                 20.0 * (50.0 * w * m / (50.0f64.powi(2) + x * x).sqrt()).log10(),
@@ -161,38 +170,85 @@ fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
     (zt, corner, upper)
 }
 
+/// NEC's Z_t of a case in dBΩ; for a loop with a ring-count study (cases `<name>_rings<N>`),
+/// the value extrapolated to an infinitely fine grid. A uniform grid of rings stands for each
+/// plate's sheet, whose current is singular at the edges; the edge rings sit half a spacing
+/// inside, so the grid's error falls as 1/N (N rings per plate; our quasi-static emulation of
+/// the same grids shows 1/N to a few per cent from N = 12 to 96). With N = 12 and 24:
+/// Z∞ = 2·Z24 − Z12; the 16-ring run checks the order (its value predicted from the other two
+/// within 0.1 dB).
+fn nec_zt(top: &toml::Value, c: &toml::Value) -> Vec<f64> {
+    let vals = |c: &toml::Value| -> Vec<f64> {
+        c["zt_db_ohm"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_float().unwrap())
+            .collect()
+    };
+    let name = c["name"].as_str().unwrap();
+    let find = |n: usize| {
+        top["case"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|x| x["name"].as_str() == Some(&format!("{name}_rings{n}")))
+    };
+    let (Some(c16), Some(c24)) = (find(16), find(24)) else {
+        return vals(c);
+    };
+    assert_eq!(c["freq_hz"], c24["freq_hz"]);
+    let (z12, z16, z24) = (vals(c), vals(c16), vals(c24));
+    let inf: Vec<f64> = z12.iter().zip(&z24).map(|(a, b)| 2.0 * b - a).collect();
+    for ((a, b), i) in z12.iter().zip(&z16).zip(&inf) {
+        let predicted = i + (a - i) * 12.0 / 16.0;
+        assert!(
+            (predicted - b).abs() < 0.1,
+            "{name}: the 16-ring grid reads {b:.3} dBΩ, 1/N from 12 and 24 predicts {predicted:.3}"
+        );
+    }
+    inf
+}
+
 /// Against NEC-2 (`tests/data/nec2_refs.toml`, from `tests/reference/nec2_refs.py` with
 /// PyNEC 2.3.4; its header lists the cards): the transimpedance V_out/I_line of the demo's
 /// cross-section on round loops of 5–30 mm over a thin-wire line, with the same lossless gap
 /// load (50 Ω + jZ0·tan βl2), from a decade below the model's corner to its upper usable
-/// frequency. Holds 0.5 dB for 10, 20 and 30 mm (the model reads 0.15–0.34 dB low, NEC's gap
-/// bus adding about 0.6 nH per its author). The 5 mm loop differs by 0.7–1.1 dB: not yet
-/// explained (NEC's uniform ring grid against our edge-clustered ribbons, or its bus); held at
-/// 1.2 dB so that any drift shows, and reported as open in docs/response.md.
+/// frequency. The model includes the gap's correction of the shield current
+/// (`physics::shield_gap`), with NEC's feed (every plate's current gathered at the
+/// centreline). Holds 0.5 dB for every loop, the 5 mm loop against NEC's ring-count
+/// extrapolation ([`nec_zt`]).
 #[test]
 fn transimpedance_matches_nec2_grid_model() {
     let top = refs("nec2_refs.toml");
     let mut seen = 0;
+    let mut worst = 0.0f64;
     for c in top["case"].as_array().unwrap() {
-        if c["variant"].as_str() != Some("plates") {
+        if c["variant"].as_str() != Some("plates") || c["name"].as_str().unwrap().contains("_rings")
+        {
             continue;
         }
         let (zt, corner, upper) = model_zt(c, &top);
-        let nec = c["zt_db_ohm"].as_array().unwrap();
-        let tol = if f(c, "R_mm") < 3.0 { 1.2 } else { 0.5 };
-        for ((fr, z), n) in zt.iter().zip(nec) {
+        let nec = nec_zt(&top, c);
+        for ((fr, z), n) in zt.iter().zip(&nec) {
             if *fr < corner / 10.0 || *fr > upper {
                 continue;
             }
-            let d = z - n.as_float().unwrap();
+            let d = z - n;
+            eprintln!(
+                "{} {fr:.4e} Hz: model {z:.3} NEC {n:.3} diff {d:+.3} dB",
+                c["name"]
+            );
+            worst = worst.max(d.abs());
             assert!(
-                d.abs() < tol,
-                "{} at {fr:.3e} Hz: model {z:.3} dBΩ, NEC {n}",
+                d.abs() < 0.5,
+                "{} at {fr:.3e} Hz: model {z:.3} dBΩ, NEC {n:.3}",
                 c["name"]
             );
             seen += 1;
         }
     }
+    eprintln!("worst {worst:.3} dB over {seen} points");
     assert!(seen > 30, "{seen} points compared");
 }
 
@@ -267,4 +323,99 @@ fn error_budget_frequency_is_where_the_budget_is_spent() {
         assert!((-20.0 * ka2.log10() - r.e_rejection_db(b, ETA0)).abs() < 1e-9);
         assert!(e_share > 0.0 && e_share < BUDGET_DB, "{name}: {e_share}");
     }
+}
+
+/// The demo's 5 mm cross-section as NEC-2's plates (the heights and radii of
+/// `tests/data/shield_refs.toml`'s demo-D5 case).
+fn demo_plates() -> Vec<Plate> {
+    let (hw, slot) = (1.108e-3, 0.308e-3);
+    let z = [0.7775e-3, 0.54125e-3, -0.54125e-3, -0.7775e-3];
+    vec![
+        Plate {
+            z: z[0],
+            d0: -hw,
+            d1: hw,
+        },
+        Plate {
+            z: z[1],
+            d0: -hw,
+            d1: -slot,
+        },
+        Plate {
+            z: z[1],
+            d0: slot,
+            d1: hw,
+        },
+        Plate {
+            z: z[2],
+            d0: -hw,
+            d1: hw,
+        },
+        Plate {
+            z: z[3],
+            d0: -hw,
+            d1: hw,
+        },
+    ]
+}
+
+/// The gap's correction (`physics::shield_gap`) against its own refinement: the angular
+/// truncation error falls as 1/M and the shipped solution extrapolates from M = 40 and 80.
+/// Against the extrapolation from 30 and 60 modes with finer radial elements, ΔA of the 5 mm
+/// loop moves by less than 12 % of itself (0.2 % of A_eff, 0.02 dB). Self-consistency only;
+/// the outside checks are NEC-2's transimpedance above and FDTD (`tests/fullwave.rs`).
+#[test]
+fn gap_correction_is_converged_to_a_few_hundredths_of_a_db() {
+    use loopwright::physics::shield_gap::{GAP_MESH, GapMesh, solve};
+    let r = 2.5e-3;
+    let pl = demo_plates();
+    let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+    let wf = 0.616e-3;
+    let a = solve(r, &pl, &sc, wf, GAP_MESH).unwrap();
+    let b = solve(
+        r,
+        &pl,
+        &sc,
+        wf,
+        GapMesh {
+            elements: 28,
+            modes: 30,
+            ..GAP_MESH
+        },
+    )
+    .unwrap();
+    assert!(a.d_area > 0.0 && a.dl_outer > 0.0, "{a:?}");
+    assert!(
+        rel(a.d_area, b.d_area) < 0.12,
+        "{} vs {}",
+        a.d_area,
+        b.d_area
+    );
+    assert!(
+        rel(a.dl_outer, b.dl_outer) < 0.12,
+        "{} vs {}",
+        a.dl_outer,
+        b.dl_outer
+    );
+    assert!(((a.d_area - b.d_area) / sc.area_eff).abs() < 2e-3);
+    // The samples carry the same moment as the m = 0 part.
+    let w: f64 = a.points.iter().map(|p| p.w).sum();
+    assert!(rel(w, a.d_area) < 2e-3, "{w} vs {}", a.d_area);
+}
+
+/// As the ring gets thin the gap's correction vanishes, so the model tends to the centreline
+/// forms (the limit): ΔA/A below 1e-4 and ΔL/L below 1e-3 on a 0.01 mm strip.
+#[test]
+fn gap_correction_vanishes_on_a_thin_ring() {
+    use loopwright::physics::shield_gap::{GAP_MESH, solve};
+    let r = 5e-3;
+    let pl = [Plate {
+        z: 0.0,
+        d0: -5e-6,
+        d1: 5e-6,
+    }];
+    let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+    let g = solve(r, &pl, &sc, 2e-6, GAP_MESH).unwrap();
+    assert!((g.d_area / sc.area_eff).abs() < 1e-4, "{g:?}");
+    assert!((g.dl_outer / sc.l_outer).abs() < 1e-3, "{g:?}");
 }

@@ -140,8 +140,9 @@ fn ribbon_mutual(r: f64, a: &Plate, b: &Plate) -> f64 {
     maxwell_coaxial(ra, rb, dz) + MU0 * (ra * rb).sqrt() * (0.5 * rho2.ln() - lg)
 }
 
-/// Solves a symmetric positive-definite system by Cholesky factorisation (in place).
-fn cholesky_solve(a: &mut [f64], n: usize, b: &mut [f64]) -> bool {
+/// Cholesky factorisation of a symmetric positive-definite matrix (row-major, n × n) in place:
+/// the lower triangle becomes L with A = L·Lᵀ. False when the matrix is not positive definite.
+pub(crate) fn cholesky_factor(a: &mut [f64], n: usize) -> bool {
     for j in 0..n {
         let mut d = a[j * n + j];
         for k in 0..j {
@@ -160,20 +161,33 @@ fn cholesky_solve(a: &mut [f64], n: usize, b: &mut [f64]) -> bool {
             a[i * n + j] = s / d;
         }
     }
+    true
+}
+
+/// Solves L·Lᵀ·x = b in place with the factor of [`cholesky_factor`].
+pub(crate) fn cholesky_substitute(l: &[f64], n: usize, b: &mut [f64]) {
     for i in 0..n {
         let mut s = b[i];
         for k in 0..i {
-            s -= a[i * n + k] * b[k];
+            s -= l[i * n + k] * b[k];
         }
-        b[i] = s / a[i * n + i];
+        b[i] = s / l[i * n + i];
     }
     for i in (0..n).rev() {
         let mut s = b[i];
         for k in i + 1..n {
-            s -= a[k * n + i] * b[k];
+            s -= l[k * n + i] * b[k];
         }
-        b[i] = s / a[i * n + i];
+        b[i] = s / l[i * n + i];
     }
+}
+
+/// Solves a symmetric positive-definite system by Cholesky factorisation (in place).
+fn cholesky_solve(a: &mut [f64], n: usize, b: &mut [f64]) -> bool {
+    if !cholesky_factor(a, n) {
+        return false;
+    }
+    cholesky_substitute(a, n, b);
     true
 }
 
