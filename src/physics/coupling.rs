@@ -127,7 +127,9 @@ pub fn probe_coupling(
 ) -> Coupling {
     let apex = height_mm * 1e-3 + super::tip_to_apex_m(p, s) + line.top;
     let shape = &p.shape;
-    let flux_with = |l: &TestLine| r.flux_through(shape, |x, z| line_field(x, z, l).0, 0.0, apex);
+    let flux_with = |l: &TestLine| {
+        super::flux_filaments(shape, &r.filaments, |x, z| line_field(x, z, l).0, 0.0, apex)
+    };
     let flux = flux_with(line);
     let filament = TestLine {
         width: 0.0,

@@ -46,7 +46,7 @@ def load_current(c, f, wave):
         zl = N.Z0_OUT + 0j
     else:
         _, _, (ltag, lseg) = N.build(ctx, c)
-        zl = N.z_load(f, c["R"])
+        zl = N.z_load(f, c["l2"])
     if c["ek"]:
         ctx.set_extended_thin_wire_kernel(True)
     ctx.ld_card(4, ltag, lseg, lseg, zl.real, zl.imag, 0)

@@ -13,6 +13,9 @@
 #     nice -n 19 python3 tests/reference/nec2_refs.py --only 5 --rings 16 | sed -n '/^\[\[case/,$p'
 #     nice -n 19 python3 tests/reference/nec2_refs.py --only 5 --rings 24 | sed -n '/^\[\[case/,$p'
 # (a uniform ring grid resolves the sheet's edge currents only as 1/rings: the test extrapolates).
+# `--rect` runs the demo's 12 x 6 mm rectangle (corner radius 1.5 mm) instead: rings are the
+# centreline's offset curves, the gap a straight cut through the flat tip (case rect_12x6; not
+# yet recorded).
 # Needs PyNEC and numpy (pip install PyNEC numpy); PyNEC wraps nec2++, a C++ port of NEC-2.
 #
 # Set-up (lengths in mm; every number is also written to the TOML):
@@ -155,6 +158,63 @@ def spine_nodes(ys, gap):
     return out
 
 
+def rect_path(W, H, RC):
+    """The rounded rectangle's centreline (W x H, corner radius RC, mm), apex (the middle of the
+    side facing the line, where the gap is) at x = 0, z = z_apex(), the loop above it. Returns
+    the perimeter, the breakpoints of its pieces on [0, P/2] (arc length from the apex, +x side)
+    and f(s) -> (x, z, nx, nz), the point and the outward normal (mirrored for s < 0)."""
+    a = W / 2 - RC                     # half the flat tip
+    q = np.pi * RC / 2                 # a corner
+    side = H - 2 * RC
+    P = 4 * a + 2 * side + 4 * q
+    za = z_apex()
+
+    def f(s):
+        sg, t = (1.0 if s >= 0 else -1.0), abs(s)
+        if t <= a:
+            x, z, nx, nz = t, za, 0.0, -1.0
+        elif t <= a + q:
+            ph = -np.pi / 2 + (t - a) / RC
+            x, z, nx, nz = a + RC * np.cos(ph), za + RC + RC * np.sin(ph), np.cos(ph), np.sin(ph)
+        elif t <= a + q + side:
+            x, z, nx, nz = W / 2, za + RC + (t - a - q), 1.0, 0.0
+        elif t <= a + 2 * q + side:
+            ph = (t - a - q - side) / RC
+            x, z, nx, nz = a + RC * np.cos(ph), za + H - RC + RC * np.sin(ph), np.cos(ph), np.sin(ph)
+        else:
+            x, z, nx, nz = a - (t - a - 2 * q - side), za + H, 0.0, 1.0
+        return sg * x, z, sg * nx, nz
+
+    return P, [0.0, a, a + q, a + q + side, a + 2 * q + side, P / 2], f
+
+
+def rect_s_grid(c, grow=1.25, corner_max=0.2):
+    """Vertex arc lengths of every ring, from +gap/2 round to -gap/2 (through the top): graded
+    from the gap (first segment gap/3, as the load segment's neighbours want) to seg_max, at most
+    corner_max on the corners, with vertices on the pieces' ends."""
+    P, brk, _ = rect_path(c["W"], c["H"], c["RC"])
+    g = c["gap"]
+    half = [g / 2]
+    d = g / 3
+    for k in range(len(brk) - 1):
+        lo, hi = max(brk[k], g / 2), brk[k + 1]
+        if hi <= lo:
+            continue
+        corner = k in (1, 3)
+        cap = min(c["seg_max"], corner_max) if corner else c["seg_max"]
+        t = lo
+        while hi - t > 1e-9:
+            d = min(d * grow, cap) if k == 0 else cap
+            n = int(np.ceil((hi - t) / d - 1e-9))
+            if k != 0 or d >= cap:
+                half += list(t + (hi - t) * np.arange(1, n + 1) / n)
+                break
+            t = min(t + d, hi)
+            half.append(t)
+    half = np.array(half)
+    return np.concatenate([half, P - half[::-1][1:]]), P
+
+
 def build(ctx, c):
     """Geometry for case c; returns (Z0 of the wire line, index of the line segment at x = 0)."""
     g = ctx.get_geometry()
@@ -169,6 +229,19 @@ def build(ctx, c):
         g.arc(TAG_RING0, n, req * MM, -90 - h_, 270 - h_, GMD * MM)
         g.move(0, 0, 0, 0, 0, zc * MM, TAG_RING0, 0, 0)
         load = (TAG_RING0, 1)
+    elif c["variant"] == "rect_plates":
+        rings, a = plate_rings(R, c["n_plate"])
+        sg, P = rect_s_grid(c)
+        _, _, fp = rect_path(c["W"], c["H"], c["RC"])
+        pts = [fp(v if v <= P / 2 else v - P) for v in sg]
+        for i, (p, y, r) in enumerate(rings):
+            d = r - R
+            xs_ = [x + d * nx for x, z, nx, nz in pts]
+            zs_ = [z + d * nz for x, z, nx, nz in pts]
+            for k in range(len(pts) - 1):
+                g.wire(TAG_RING0 + i, 1, xs_[k] * MM, y * MM, zs_[k] * MM, xs_[k + 1] * MM, y * MM,
+                       zs_[k + 1] * MM, a * MM, 1, 1)
+        load = (TAG_LOAD, 2)
     else:
         rings, a = plate_rings(R, c["n_plate"])
         th, kfac = ring_angles(R, c["gap"], c["seg_max"])
@@ -183,14 +256,35 @@ def build(ctx, c):
     Z0l = 60 * np.arccosh(H_LINE / A_LINE)
     mid = None
     if not c.get("probe_only"):
-        xs = line_segments(c["line_half"], c["R"] + 10.0)
+        xs = line_segments(c["line_half"], c.get("W", 2 * c["R"]) / 2 + 10.0)
         g.wire(TAG_SRC, 1, xs[0] * MM, 0, 0, xs[0] * MM, 0, H_LINE * MM, A_LINE * MM, 1, 1)
         for xa, xb in zip(xs[:-1], xs[1:]):
             g.wire(TAG_LINE, 1, xa * MM, 0, H_LINE * MM, xb * MM, 0, H_LINE * MM, A_LINE * MM,
                    1, 1)
         g.wire(TAG_END, 1, xs[-1] * MM, 0, H_LINE * MM, xs[-1] * MM, 0, 0, A_LINE * MM, 1, 1)
         mid = int(np.argmin(np.abs((np.array(xs[:-1]) + np.array(xs[1:])) / 2)))
-    if c["variant"] != "gmd_ring":
+    if c["variant"] == "rect_plates":
+        # bus in each gap face (a straight cut through the flat tip): per plate a wire along the
+        # face's normal through its ring ends and the centreline, a spine across the plates
+        tag = TAG_BUS0
+        by_plate = {}
+        for p, y, r in rings:
+            by_plate.setdefault(p, (y, []))[1].append(r - R)
+        za = z_apex()
+        for xf in (c["gap"] / 2, -c["gap"] / 2):
+            pt = lambda d, y: (xf * MM, y * MM, (za - d) * MM)
+            for p, (y, ds) in by_plate.items():
+                dd = sorted(set(ds + [0.0]))
+                for da, db in zip(dd[:-1], dd[1:]):
+                    g.wire(tag, 1, *pt(da, y), *pt(db, y), a * MM, 1, 1)
+                tag += 1
+            ys = spine_nodes(sorted(set([v[0] for v in by_plate.values()] + [0.0])), c["gap"] / 3)
+            for ya, yb in zip(ys[:-1], ys[1:]):
+                g.wire(tag, 1, *pt(0.0, ya), *pt(0.0, yb), a * MM, 1, 1)
+            tag += 1
+        g.wire(TAG_LOAD, 3, -c["gap"] / 2 * MM, 0, za * MM, c["gap"] / 2 * MM, 0, za * MM,
+               a * MM, 1, 1)
+    elif c["variant"] != "gmd_ring":
         # bus in each gap face; ring ends sit at angle a0 (x > 0) and a1 (x < 0)
         tag = TAG_BUS0
         by_plate = {}
@@ -218,9 +312,11 @@ def build(ctx, c):
     return Z0l, mid, load
 
 
-def z_load(f, R):
+def z_load(f, l2):
+    """The inner line seen from the gap: the matched output in series with the shorted stub of
+    length l2 (mm, half the centreline)."""
     beta = 2 * np.pi * f * np.sqrt(EPS_EFF) / C0
-    return Z0_OUT + 1j * Z0_OUT * np.tan(beta * np.pi * R * MM)
+    return Z0_OUT + 1j * Z0_OUT * np.tan(beta * l2 * MM)
 
 
 def solve(c, f):
@@ -231,7 +327,7 @@ def solve(c, f):
     ctx.gn_card(1, 0, 0, 0, 0, 0, 0, 0)
     ctx.ld_card(4, TAG_SRC, 1, 1, Z0l, 0, 0)
     ctx.ld_card(4, TAG_END, 1, 1, Z0l, 0, 0)
-    zl = z_load(f, c["R"])
+    zl = z_load(f, c["l2"])
     ctx.ld_card(4, ltag, lseg, lseg, zl.real, zl.imag, 0)
     ctx.ex_card(0, TAG_SRC, 1, 0, 1.0, 0, 0, 0, 0, 0)
     ctx.fr_card(0, 1, f / 1e6, 0)
@@ -250,9 +346,9 @@ def solve(c, f):
     return zt, M, L, len(cur)
 
 
-def qs_continuation(f, R, M, L):
+def qs_continuation(f, l2, M, L):
     w = 2 * np.pi * f
-    return Z0_OUT * 1j * w * M / (z_load(f, R) + 1j * w * L)
+    return Z0_OUT * 1j * w * M / (z_load(f, l2) + 1j * w * L)
 
 
 FREQS = [float(f"{10 ** (7 + k / 10):.4g}") for k in range(21)] + [1.259e9, 1.585e9, 1.995e9,
@@ -271,7 +367,20 @@ def case(name, D, variant="plates", n_plate=None, n_ang=None, gap=GAP, ek=False,
     if line_half is None:                 # the line's ends far enough that they do not matter
         line_half = max(200.0, 10 * D)
     return dict(name=name, D=D, R=R, variant=variant, n_plate=n_plate, n_ang=n_ang, gap=gap,
-                ek=ek, line_half=line_half, seg_max=seg_max)
+                ek=ek, line_half=line_half, seg_max=seg_max, l2=np.pi * R)
+
+
+# The demo's rectangle with a flat tip, FM-T12x6: centreline 12 x 6 mm, corner radius 1.5 mm.
+RECT = (12.0, 6.0, 1.5)
+
+
+def case_rect(name, n_plate=N_PLATE, W=RECT[0], H=RECT[1], RC=RECT[2]):
+    """A rounded rectangle: its rings are the centreline's offset curves (offset d, corner
+    radius RC + d), the gap a straight cut through the middle of the flat tip. R is a nominal
+    radius only (rings at r = R + d)."""
+    P = 2 * (W + H) - (8 - 2 * np.pi) * RC
+    return dict(name=name, D=W, R=100.0, W=W, H=H, RC=RC, variant="rect_plates", n_plate=n_plate,
+                n_ang=0, gap=GAP, ek=False, line_half=200.0, seg_max=0.9, l2=P / 2)
 
 
 F_NEC_MIN = 100e6        # below this the recorded value is the quasi-static continuation
@@ -293,6 +402,20 @@ def geometry_toml(c):
            f"R_mm = {R}", f"hw_mm = {HW}", f"h_line_mm = {H_LINE}", f"a_line_mm = {A_LINE}",
            f"z_apex_mm = {z_apex():.4f}", f"eps_eff = {EPS_EFF}",
            f"line_half_length_mm = {c['line_half']}", f"ek = {str(bool(c['ek'])).lower()}"]
+    if c["variant"] == "rect_plates":
+        rings, a = plate_rings(R, c["n_plate"])
+        sg, P = rect_s_grid(c)
+        out += [f"width_mm = {c['W']}", f"height_mm = {c['H']}", f"corner_radius_mm = {c['RC']}",
+                f"perimeter_mm = {P:.6f}", 'plates = ' + "[" + ", ".join(
+                    f'{{ layer = "{p}", y_mm = {PLATES_Y[p]}, d_min_mm = {-HW:.4f}, '
+                    f'd_max_mm = {HW:.4f}'
+                    + (f', slot_mm = [{-SLOT:.4f}, {SLOT:.4f}]' if p == "L2" else "")
+                    + " }" for p in PLATES_Y) + "]",
+                f"rings_per_plate = {c['n_plate']}", f"rings_total = {len(rings)}",
+                f"wire_radius_mm = {a:.5f}", f"segments_per_ring = {len(sg) - 1}",
+                f"seg_max_mm = {c['seg_max']:.4f}", "corner_seg_max_mm = 0.2",
+                f"gap_mm = {c['gap']}"]
+        return out
     if c["variant"] == "gmd_ring":
         out += [f"wire_radius_mm = {GMD:.5f}", f"n_seg = {c['n_ang']}",
                 'plates = "none: one closed ring of wire radius GMD, load on the apex segment"']
@@ -331,7 +454,7 @@ def run_case(c):
     ref, src = [], []
     for f in FREQS:
         if f < F_NEC_MIN:
-            ref.append(qs_continuation(f, c["R"], M0, L0)); src.append("qs-from-nec2")
+            ref.append(qs_continuation(f, c["l2"], M0, L0)); src.append("qs-from-nec2")
         else:
             ref.append(zts[nf.index(f)]); src.append("nec2")
     ref = np.array(ref)
@@ -411,12 +534,19 @@ def main():
     ap.add_argument("--only", type=float, nargs="*", help="diameters (mm) to run")
     ap.add_argument("--no-refine", action="store_true")
     ap.add_argument("--header-only", action="store_true")
+    ap.add_argument("--rect", action="store_true", help="the demo's 12 x 6 mm rectangle instead")
     ap.add_argument("--rings", type=int, help="rings per full plate (default 12, 10 above 10 mm); "
                     "the case is then named round_<D>mm_rings<N>, for the ring-count study")
     args = ap.parse_args()
     diams = args.only or [10.0, 5.0, 20.0, 30.0]
     header(args)
     if args.header_only:
+        return
+    if args.rect:
+        n = args.rings or N_PLATE
+        c = case_rect("rect_12x6" + (f"_rings{n}" if args.rings else ""), n_plate=n)
+        log(f"case {c['name']}")
+        run_case(c)
         return
     for D in diams:
         if args.rings:
