@@ -14,8 +14,9 @@
 #     nice -n 19 python3 tests/reference/nec2_refs.py --only 5 --rings 24 | sed -n '/^\[\[case/,$p'
 # (a uniform ring grid resolves the sheet's edge currents only as 1/rings: the test extrapolates).
 # `--rect` runs the demo's 12 x 6 mm rectangle (corner radius 1.5 mm) instead: rings are the
-# centreline's offset curves, the gap a straight cut through the flat tip (case rect_12x6; not
-# yet recorded).
+# centreline's offset curves, the gap a straight cut through the flat tip (case rect_12x6,
+# appended with `nice -n 19 python3 tests/reference/nec2_refs.py --rect | sed -n '/^\[\[case/,$p'`;
+# no test compares it yet).
 # Needs PyNEC and numpy (pip install PyNEC numpy); PyNEC wraps nec2++, a C++ port of NEC-2.
 #
 # Set-up (lengths in mm; every number is also written to the TOML):
