@@ -417,3 +417,92 @@ fn gap_correction_vanishes_on_a_thin_ring() {
     assert!(da.abs() < 1e-4, "ΔA/A {da}");
     assert!(dl > 0.0 && dl < 1e-2, "ΔL/L {dl}");
 }
+
+/// The demo's 12 × 6 mm rectangle (corner radius 1.5 mm) against NEC-2's offset-curve ring
+/// grid (`tests/data/nec2_refs.toml`, case rect_12x6, `nec2_refs.py --rect`, 12 rings per
+/// plate, the gap a straight cut through the flat tip): the model's non-round shield current
+/// (the round loop of R_eq = 2A/P's shares on the shape's offset curves, `shield::solve_shape`)
+/// and its coupling over the shape's own filaments, from a decade below the corner to the upper
+/// usable frequency. The model reads 0.43–0.52 dB low (NEC's 12-ring grid itself reads high
+/// by its edge-ring offset, 0.07 dB on the round 10 mm loop's grid study); held at 0.6 dB, the
+/// first outside check of the non-round shield model.
+#[test]
+fn rectangle_transimpedance_against_nec2() {
+    use loopwright::model::probe::LoopShape;
+    use loopwright::physics::shield::solve_shape;
+    use loopwright::physics::{filaments, flux_filaments, hx_line};
+    let top = refs("nec2_refs.toml");
+    let c = top["case"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"].as_str() == Some("rect_12x6"))
+        .expect("the rectangle's case");
+    let (w, h, rc) = (
+        f(c, "width_mm"),
+        f(c, "height_mm"),
+        f(c, "corner_radius_mm"),
+    );
+    let shape = LoopShape::Rect {
+        width: w,
+        height: h,
+        corner_radius: rc,
+        square: false,
+    };
+    let mut pl = Vec::new();
+    for p in c["plates"].as_array().unwrap() {
+        let z = f(p, "y_mm") * 1e-3;
+        let (a, b) = (f(p, "d_min_mm") * 1e-3, f(p, "d_max_mm") * 1e-3);
+        match p.get("slot_mm").and_then(|s| s.as_array()) {
+            Some(s) => {
+                let (s0, s1) = (
+                    s[0].as_float().unwrap() * 1e-3,
+                    s[1].as_float().unwrap() * 1e-3,
+                );
+                pl.push(Plate { z, d0: a, d1: s0 });
+                pl.push(Plate { z, d0: s1, d1: b });
+            }
+            None => pl.push(Plate { z, d0: a, d1: b }),
+        }
+    }
+    let pts: Vec<(f64, f64)> = loopwright::model::centreline::closed(&shape, 0.0)
+        .iter()
+        .map(|q| (q.x * 1e-3, q.y * 1e-3))
+        .collect();
+    let area = shape.centreline_area() * 1e-6;
+    let per = shape.circumference() * 1e-3;
+    assert!(rel(per, f(c, "perimeter_mm") * 1e-3) < 1e-6, "{per}");
+    let sc = solve_shape(area, per, &pts, &pl, RIBBONS_PER_PLATE).unwrap();
+    let fil = filaments(&sc, 8);
+    let hl = f(c, "h_line_mm") * 1e-3;
+    let z0 = (f(c, "z_apex_mm") - f(c, "h_line_mm")) * 1e-3;
+    let m = MU0 * flux_filaments(&shape, &fil, |x, z| hx_line(x, z, hl), 0.0, z0);
+    let eps = f(&top, "eps_eff");
+    let c0 = 299_792_458.0;
+    let l2 = per / 2.0;
+    let l_stub = 50.0 * eps.sqrt() * l2 / c0;
+    let corner = 50.0 / (2.0 * std::f64::consts::PI * (sc.l_outer + l_stub));
+    let upper = c0 / (10.0 * per);
+    let nec = c["zt_db_ohm"].as_array().unwrap();
+    let (mut seen, mut lo, mut hi) = (0, f64::INFINITY, f64::NEG_INFINITY);
+    for (fr, n) in c["freq_hz"].as_array().unwrap().iter().zip(nec) {
+        let fr = fr.as_float().or(fr.as_integer().map(|i| i as f64)).unwrap();
+        if fr < corner / 10.0 || fr > upper {
+            continue;
+        }
+        let wv = 2.0 * std::f64::consts::PI * fr;
+        let x = wv * sc.l_outer + 50.0 * (wv * eps.sqrt() / c0 * l2).tan();
+        let z = 20.0 * (50.0 * wv * m / (50.0f64.powi(2) + x * x).sqrt()).log10();
+        let d = z - n.as_float().unwrap();
+        eprintln!("rect {fr:.4e} Hz: model {z:.3} NEC {n} diff {d:+.3} dB");
+        lo = lo.min(d);
+        hi = hi.max(d);
+        seen += 1;
+    }
+    eprintln!("rect: {seen} points, model − NEC from {lo:+.3} to {hi:+.3} dB");
+    assert!(seen > 10, "{seen}");
+    assert!(
+        lo > -0.6 && hi < 0.6,
+        "model − NEC from {lo:+.3} to {hi:+.3} dB"
+    );
+}
