@@ -44,7 +44,6 @@ fn benches(c: &mut Criterion) {
     g.bench_function("demo family build, cold", |b| {
         b.iter(|| {
             loopwright::field::forget_kept();
-            loopwright::physics::shield_gap::forget_kept();
             loopwright::pipeline::build_family(black_box(&spec), Path::new("."), false).unwrap()
         })
     });

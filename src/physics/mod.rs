@@ -21,6 +21,7 @@ pub mod on_fixture;
 pub mod predicted;
 pub mod shield;
 pub mod shield_gap;
+pub mod toroidal;
 
 use crate::error::{Error, FieldError, check_range};
 use crate::model::probe::{LoopShape, Probe};

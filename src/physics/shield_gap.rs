@@ -25,11 +25,9 @@
 //!
 //! δψ is expanded in cos(mθ) about the gap (m = 0…M) and, across each plate, in piecewise-linear
 //! hat functions on elements graded towards the edges. Around the axis the geometry is
-//! rotationally symmetric, so the energy separates by m: with q_n(r, r′, Δz) = ∫₀^{2π}
-//! cos(nα)/√(r² + r′² − 2rr′·cos α + Δz²) dα (the toroidal functions, 2/√(rr′)·Q_{n−½}(χ),
-//! χ = (r² + r′² + Δz²)/(2rr′), from the three-term recurrence of Legendre functions with the
-//! minimal solution taken by Miller's backward recurrence, NIST DLMF §14.10 and §3.6, from
-//! memory; checked against quadrature in the tests), the mode-m energy of ψ = a(r)·cos mθ on
+//! rotationally symmetric, so the energy separates by m: with the toroidal functions
+//! q_n(r, r′, Δz) = ∫₀^{2π} cos(nα)/√(r² + r′² − 2rr′·cos α + Δz²) dα ([`super::toroidal`]),
+//! the mode-m energy of ψ = a(r)·cos mθ on
 //! one plate against b(r′)·cos mθ′ on another is (μ0/8π)·π ∫∫ [(rr′a′b′ + m²ab)·C_m +
 //! m(r·a′b + r′·ab′)·S_m] dr dr′ with C_m = (q_{m−1} + q_{m+1})/2, S_m = (q_{m−1} − q_{m+1})/2
 //! (m = 0: 2π·rr′a′b′·q_1). The logarithmic singularity of every q_n at r = r′ on one plate is
@@ -51,15 +49,12 @@
 //! docs/response.md has the numbers.
 
 use super::MU0;
-use super::elliptic2;
 use super::shield::{Plate, ShieldCurrent, cholesky_factor, cholesky_substitute, ln_gmd};
+use super::toroidal::{toroidal, toroidal_self};
 use std::f64::consts::PI;
 
 /// The fewest modes the coarser solution may have (below, the loop is refused).
 const MIN_MODES: usize = 8;
-
-/// Euler–Mascheroni constant.
-const EULER_GAMMA: f64 = 0.577_215_664_901_532_9;
 
 /// How finely the gap correction is solved.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -106,65 +101,6 @@ pub struct GapCurrent {
     pub d_area: f64,
     /// The correction's stream function sampled over the plates.
     pub points: Vec<GapPoint>,
-}
-
-/// ψ(n + ½) for n ≥ 0: −γ − 2·ln 2 + Σ_{k=1}^{n} 2/(2k − 1).
-fn digamma_half(n: usize) -> f64 {
-    let mut s = -EULER_GAMMA - 2.0 * std::f64::consts::LN_2;
-    for k in 1..=n {
-        s += 2.0 / (2 * k - 1) as f64;
-    }
-    s
-}
-
-/// q_n(r, r′, Δz) for n = 0..=nmax (module docs), r ≠ r′ or Δz ≠ 0.
-pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
-    out.clear();
-    let s2 = (r + rp).powi(2) + dz * dz;
-    let kp = (((r - rp).powi(2) + dz * dz) / s2).sqrt();
-    let k = (4.0 * r * rp / s2).sqrt();
-    let (kk, ee) = elliptic2::k_and_e(kp);
-    let pre = 2.0 / (r * rp).sqrt();
-    let q0 = pre * k * kk;
-    let chi = (r * r + rp * rp + dz * dz) / (2.0 * r * rp);
-    let eta = chi.acosh();
-    if 2.0 * eta * (nmax as f64 + 1.0) < 8.0 {
-        // Forward: the error grows as e^(2ηn), at most e^8 here.
-        let q1 = pre * ((2.0 / k - k) * kk - 2.0 / k * ee);
-        out.push(q0);
-        if nmax >= 1 {
-            out.push(q1);
-        }
-        for n in 1..nmax {
-            let nf = n as f64;
-            let next = (2.0 * nf * chi * out[n] - (nf - 0.5) * out[n - 1]) / (nf + 0.5);
-            out.push(next);
-        }
-        return;
-    }
-    // Miller's backward recurrence for the minimal solution, normalised by q_0.
-    let start = nmax + 6 + (18.0 / eta).ceil() as usize;
-    let mut t = vec![0.0; start + 2];
-    t[start] = 1e-30;
-    for n in (1..=start).rev() {
-        let nf = n as f64;
-        t[n - 1] = (2.0 * nf * chi * t[n] - (nf + 0.5) * t[n + 1]) / (nf - 0.5);
-        if t[n - 1].abs() > 1e200 {
-            for v in t[n - 1..].iter_mut() {
-                *v *= 1e-200;
-            }
-        }
-    }
-    let scale = q0 / t[0];
-    out.extend(t[..=nmax].iter().map(|v| v * scale));
-}
-
-/// The regular part of q_n on one plate as r′ → r: q_n + ln((r − r′)²)/r → (2/r)·(ln 2r − γ −
-/// ψ(n + ½)) (the logarithmic expansion of Q_ν near 1, DLMF 14.8, from memory; checked in the
-/// tests).
-fn toroidal_self(r: f64, nmax: usize, out: &mut Vec<f64>) {
-    out.clear();
-    out.extend((0..=nmax).map(|n| 2.0 / r * ((2.0 * r).ln() - EULER_GAMMA - digamma_half(n))));
 }
 
 /// One integration cell of a plate.
@@ -295,68 +231,11 @@ fn least_energy(
     Some((dl, coef))
 }
 
-/// A kept solution, filled once (`None` when its solve failed).
-type Slot = std::sync::Arc<std::sync::OnceLock<Option<GapCurrent>>>;
-type Kept = std::sync::Mutex<std::collections::HashMap<Vec<u64>, Slot>>;
-
-fn kept() -> &'static Kept {
-    static KEPT: std::sync::OnceLock<Kept> = std::sync::OnceLock::new();
-    KEPT.get_or_init(Default::default)
-}
-
-/// Forgets every kept solution (benchmarks of a cold run use it).
-pub fn forget_kept() {
-    if let Ok(mut m) = kept().lock() {
-        m.clear();
-    }
-}
-
 /// The gap correction of a round loop of centreline radius `r` (m) whose shield plates are
 /// `plates` carrying the axisymmetric current `sc` (solved on the same plates, in the same
-/// order), with the feed window `wf` (m) wide about the centreline. `None` for degenerate
-/// input or a singular system. Each distinct input is solved once per process (the probes of
-/// a family share their cross-section; `build`, `predict` and `calibrate` ask again).
+/// order), with the feed window `wf` (m) wide about the centreline and the gap `gap` (m) wide.
+/// `None` for degenerate input or a singular system.
 pub fn solve(
-    r: f64,
-    plates: &[Plate],
-    sc: &ShieldCurrent,
-    wf: f64,
-    gap: f64,
-    mesh: GapMesh,
-) -> Option<GapCurrent> {
-    let mut key = vec![
-        r.to_bits(),
-        wf.to_bits(),
-        gap.to_bits(),
-        mesh.elements as u64,
-        mesh.cells as u64,
-        mesh.modes as u64,
-        mesh.angles as u64,
-        sc.per_plate as u64,
-    ];
-    key.extend(
-        plates
-            .iter()
-            .flat_map(|p| [p.z, p.d0, p.d1])
-            .map(f64::to_bits),
-    );
-    key.extend(sc.share.iter().map(|s| s.to_bits()));
-    key.extend(
-        sc.ribbons
-            .iter()
-            .flat_map(|p| [p.z, p.d0, p.d1])
-            .map(f64::to_bits),
-    );
-    let cell = match kept().lock() {
-        Ok(mut m) => m.entry(key).or_default().clone(),
-        Err(_) => return solve_uncached(r, plates, sc, wf, gap, mesh),
-    };
-    cell.get_or_init(|| solve_uncached(r, plates, sc, wf, gap, mesh))
-        .clone()
-}
-
-/// [`solve`] without the kept solutions.
-pub fn solve_uncached(
     r: f64,
     plates: &[Plate],
     sc: &ShieldCurrent,
@@ -536,61 +415,4 @@ pub fn solve_uncached(
         d_area: da,
         points,
     })
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// q_n by brute-force quadrature (composite midpoint on a fine grid, fine enough for
-    /// the checked pairs).
-    fn brute(r: f64, rp: f64, dz: f64, n: usize) -> f64 {
-        let steps = 400_000;
-        let h = 2.0 * PI / steps as f64;
-        (0..steps)
-            .map(|i| {
-                let a = (i as f64 + 0.5) * h;
-                (n as f64 * a).cos() / (r * r + rp * rp - 2.0 * r * rp * a.cos() + dz * dz).sqrt()
-            })
-            .sum::<f64>()
-            * h
-    }
-
-    #[test]
-    fn toroidal_functions_match_quadrature() {
-        let mut q = Vec::new();
-        for &(r, rp, dz) in &[
-            (2.0e-3, 2.05e-3, 0.0),
-            (2.0e-3, 2.0e-3, 0.3e-3),
-            (1.4e-3, 3.6e-3, 1.5e-3),
-            (5.0e-3, 5.4e-3, 0.0),
-            (1.0, 3.0, 2.0),
-        ] {
-            toroidal(r, rp, dz, 41, &mut q);
-            for n in [0, 1, 2, 5, 17, 41] {
-                let b = brute(r, rp, dz, n);
-                assert!(
-                    (q[n] - b).abs() <= 1e-7 * q[0].abs(),
-                    "r {r} r' {rp} dz {dz} n {n}: {} vs {b}",
-                    q[n]
-                );
-            }
-        }
-    }
-
-    #[test]
-    fn self_limit_is_the_log_expansion() {
-        let (r, mut a, mut b) = (2.0e-3, Vec::new(), Vec::new());
-        toroidal_self(r, 30, &mut b);
-        let e = 1e-9;
-        toroidal(r, r + e, 0.0, 30, &mut a);
-        for n in [0, 1, 7, 30] {
-            let reg = a[n] + (e * e).ln() / (r * (r + e)).sqrt();
-            assert!(
-                (reg - b[n]).abs() < 1e-4 * b[0].abs(),
-                "n {n}: {reg} vs {}",
-                b[n]
-            );
-        }
-    }
 }

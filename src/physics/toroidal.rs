@@ -1,0 +1,131 @@
+//! Toroidal functions: the Fourier coefficients of the inverse distance between two coaxial
+//! circles, q_n(r, r′, Δz) = ∫₀^{2π} cos(nα)/√(r² + r′² − 2rr′·cos α + Δz²) dα
+//! = (2/√(rr′))·Q_{n−½}(χ), χ = (r² + r′² + Δz²)/(2rr′) (Legendre functions of the second kind
+//! of half-integer degree). q_0 and q_1 come from the complete elliptic integrals (q_1 is
+//! Maxwell's coaxial-circle formula), the rest from the three-term recurrence
+//! (n + ½)·q_{n+1} = 2nχ·q_n − (n − ½)·q_{n−1} (NIST DLMF §14.10, from memory): forward while
+//! its error growth e^(2ηn), η = arccosh χ, stays below e^8, else Miller's backward recurrence
+//! for the minimal solution normalised by q_0 (DLMF §3.6). Both are checked against quadrature
+//! below. Used by [`super::shield_gap`].
+
+use super::elliptic2;
+
+/// Euler–Mascheroni constant.
+const EULER_GAMMA: f64 = 0.577_215_664_901_532_9;
+
+/// ψ(n + ½) for n ≥ 0: −γ − 2·ln 2 + Σ_{k=1}^{n} 2/(2k − 1).
+pub fn digamma_half(n: usize) -> f64 {
+    let mut s = -EULER_GAMMA - 2.0 * std::f64::consts::LN_2;
+    for k in 1..=n {
+        s += 2.0 / (2 * k - 1) as f64;
+    }
+    s
+}
+
+/// q_n(r, r′, Δz) for n = 0..=nmax (module docs), r ≠ r′ or Δz ≠ 0.
+pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
+    out.clear();
+    let s2 = (r + rp).powi(2) + dz * dz;
+    let kp = (((r - rp).powi(2) + dz * dz) / s2).sqrt();
+    let k = (4.0 * r * rp / s2).sqrt();
+    let (kk, ee) = elliptic2::k_and_e(kp);
+    let pre = 2.0 / (r * rp).sqrt();
+    let q0 = pre * k * kk;
+    let chi = (r * r + rp * rp + dz * dz) / (2.0 * r * rp);
+    let eta = chi.acosh();
+    if 2.0 * eta * (nmax as f64 + 1.0) < 8.0 {
+        // Forward: the error grows as e^(2ηn), at most e^8 here.
+        let q1 = pre * ((2.0 / k - k) * kk - 2.0 / k * ee);
+        out.push(q0);
+        if nmax >= 1 {
+            out.push(q1);
+        }
+        for n in 1..nmax {
+            let nf = n as f64;
+            let next = (2.0 * nf * chi * out[n] - (nf - 0.5) * out[n - 1]) / (nf + 0.5);
+            out.push(next);
+        }
+        return;
+    }
+    // Miller's backward recurrence for the minimal solution, normalised by q_0.
+    let start = nmax + 6 + (18.0 / eta).ceil() as usize;
+    let mut t = vec![0.0; start + 2];
+    t[start] = 1e-30;
+    for n in (1..=start).rev() {
+        let nf = n as f64;
+        t[n - 1] = (2.0 * nf * chi * t[n] - (nf + 0.5) * t[n + 1]) / (nf - 0.5);
+        if t[n - 1].abs() > 1e200 {
+            for v in t[n - 1..].iter_mut() {
+                *v *= 1e-200;
+            }
+        }
+    }
+    let scale = q0 / t[0];
+    out.extend(t[..=nmax].iter().map(|v| v * scale));
+}
+
+/// The regular part of q_n on one plate as r′ → r: q_n + ln((r − r′)²)/r → (2/r)·(ln 2r − γ −
+/// ψ(n + ½)) (the logarithmic expansion of Q_ν near 1, DLMF 14.8, from memory; checked in the
+/// tests).
+pub fn toroidal_self(r: f64, nmax: usize, out: &mut Vec<f64>) {
+    out.clear();
+    out.extend((0..=nmax).map(|n| 2.0 / r * ((2.0 * r).ln() - EULER_GAMMA - digamma_half(n))));
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::f64::consts::PI;
+
+    /// q_n by brute-force quadrature (composite midpoint on a fine grid, fine enough for
+    /// the checked pairs).
+    fn brute(r: f64, rp: f64, dz: f64, n: usize) -> f64 {
+        let steps = 400_000;
+        let h = 2.0 * PI / steps as f64;
+        (0..steps)
+            .map(|i| {
+                let a = (i as f64 + 0.5) * h;
+                (n as f64 * a).cos() / (r * r + rp * rp - 2.0 * r * rp * a.cos() + dz * dz).sqrt()
+            })
+            .sum::<f64>()
+            * h
+    }
+
+    #[test]
+    fn toroidal_functions_match_quadrature() {
+        let mut q = Vec::new();
+        for &(r, rp, dz) in &[
+            (2.0e-3, 2.05e-3, 0.0),
+            (2.0e-3, 2.0e-3, 0.3e-3),
+            (1.4e-3, 3.6e-3, 1.5e-3),
+            (5.0e-3, 5.4e-3, 0.0),
+            (1.0, 3.0, 2.0),
+        ] {
+            toroidal(r, rp, dz, 41, &mut q);
+            for n in [0, 1, 2, 5, 17, 41] {
+                let b = brute(r, rp, dz, n);
+                assert!(
+                    (q[n] - b).abs() <= 1e-7 * q[0].abs(),
+                    "r {r} r' {rp} dz {dz} n {n}: {} vs {b}",
+                    q[n]
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn self_limit_is_the_log_expansion() {
+        let (r, mut a, mut b) = (2.0e-3, Vec::new(), Vec::new());
+        toroidal_self(r, 30, &mut b);
+        let e = 1e-9;
+        toroidal(r, r + e, 0.0, 30, &mut a);
+        for n in [0, 1, 7, 30] {
+            let reg = a[n] + (e * e).ln() / (r * (r + e)).sqrt();
+            assert!(
+                (reg - b[n]).abs() < 1e-4 * b[0].abs(),
+                "n {n}: {reg} vs {}",
+                b[n]
+            );
+        }
+    }
+}
