@@ -108,43 +108,74 @@ fn ribbon_gmd_closed_form() {
 }
 
 /// Our model's transimpedance for one NEC-2 case: (freq, dBΩ) over the case's frequencies, and
-/// the model's corner and upper usable frequency.
+/// the model's corner and upper usable frequency. Round cases (`plates`: radii about R) use the
+/// round shield solution; the rectangle (`rect_plates`: offsets from the centreline) the
+/// non-round one (`shield::solve_shape`).
 fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
     use loopwright::model::probe::LoopShape;
+    use loopwright::physics::shield::solve_shape;
     use loopwright::physics::{flux_filaments, hx_line};
+    let rect = c["variant"].as_str() == Some("rect_plates");
     let r = f(c, "R_mm");
+    // Plate extents as offsets from the centreline, mm.
+    let (lo, hi, base) = if rect {
+        ("d_min_mm", "d_max_mm", 0.0)
+    } else {
+        ("r_min_mm", "r_max_mm", r)
+    };
     let mut pl = Vec::new();
     for p in c["plates"].as_array().unwrap() {
         let z = f(p, "y_mm") * 1e-3;
-        let (a, b) = (f(p, "r_min_mm"), f(p, "r_max_mm"));
+        let (a, b) = (f(p, lo) - base, f(p, hi) - base);
         let cuts: Vec<(f64, f64)> = match p.get("slot_mm").and_then(|s| s.as_array()) {
             Some(s) => {
                 let (s0, s1) = (s[0].as_float().unwrap(), s[1].as_float().unwrap());
-                vec![(a, s0), (s1, b)]
+                vec![(a, s0 - base), (s1 - base, b)]
             }
             None => vec![(a, b)],
         };
-        for (x0, x1) in cuts {
+        for (d0, d1) in cuts {
             pl.push(Plate {
                 z,
-                d0: (x0 - r) * 1e-3,
-                d1: (x1 - r) * 1e-3,
+                d0: d0 * 1e-3,
+                d1: d1 * 1e-3,
             });
         }
     }
-    let sc = solve_round(r * 1e-3, &pl, RIBBONS_PER_PLATE).unwrap();
+    let (shape, sc) = if rect {
+        let shape = LoopShape::Rect {
+            width: f(c, "width_mm"),
+            height: f(c, "height_mm"),
+            corner_radius: f(c, "corner_radius_mm"),
+            square: false,
+        };
+        let pts: Vec<(f64, f64)> = loopwright::model::centreline::closed(&shape, 0.0)
+            .iter()
+            .map(|q| (q.x * 1e-3, q.y * 1e-3))
+            .collect();
+        let (a, p) = (shape.centreline_area() * 1e-6, shape.circumference() * 1e-3);
+        assert!(rel(p, f(c, "perimeter_mm") * 1e-3) < 1e-6, "{p}");
+        let sc = solve_shape(a, p, &pts, &pl, RIBBONS_PER_PLATE).unwrap();
+        (shape, sc)
+    } else {
+        let shape = LoopShape::Round { diameter: 2.0 * r };
+        (
+            shape,
+            solve_round(r * 1e-3, &pl, RIBBONS_PER_PLATE).unwrap(),
+        )
+    };
     let fil = loopwright::physics::filaments(&sc, 8);
     let h = f(c, "h_line_mm") * 1e-3;
     let z0 = (f(c, "z_apex_mm") - f(c, "h_line_mm")) * 1e-3;
-    let shape = LoopShape::Round { diameter: 2.0 * r };
     let m = MU0 * flux_filaments(&shape, &fil, |x, z| hx_line(x, z, h), 0.0, z0);
     let l_outer = sc.l_outer;
     let eps = f(top, "eps_eff");
-    let l2 = std::f64::consts::PI * r * 1e-3;
+    let per = shape.circumference() * 1e-3;
+    let l2 = per / 2.0;
     let c0 = 299_792_458.0;
     let l_stub = 50.0 * eps.sqrt() * l2 / c0;
     let corner = 50.0 / (2.0 * std::f64::consts::PI * (l_outer + l_stub));
-    let upper = c0 / (10.0 * 2.0 * std::f64::consts::PI * r * 1e-3);
+    let upper = c0 / (10.0 * per);
     let zt = c["freq_hz"]
         .as_array()
         .unwrap()
@@ -428,9 +459,6 @@ fn gap_correction_vanishes_on_a_thin_ring() {
 /// first outside check of the non-round shield model.
 #[test]
 fn rectangle_transimpedance_against_nec2() {
-    use loopwright::model::probe::LoopShape;
-    use loopwright::physics::shield::solve_shape;
-    use loopwright::physics::{filaments, flux_filaments, hx_line};
     let top = refs("nec2_refs.toml");
     let c = top["case"]
         .as_array()
@@ -438,68 +466,18 @@ fn rectangle_transimpedance_against_nec2() {
         .iter()
         .find(|c| c["name"].as_str() == Some("rect_12x6"))
         .expect("the rectangle's case");
-    let (w, h, rc) = (
-        f(c, "width_mm"),
-        f(c, "height_mm"),
-        f(c, "corner_radius_mm"),
-    );
-    let shape = LoopShape::Rect {
-        width: w,
-        height: h,
-        corner_radius: rc,
-        square: false,
-    };
-    let mut pl = Vec::new();
-    for p in c["plates"].as_array().unwrap() {
-        let z = f(p, "y_mm") * 1e-3;
-        let (a, b) = (f(p, "d_min_mm") * 1e-3, f(p, "d_max_mm") * 1e-3);
-        match p.get("slot_mm").and_then(|s| s.as_array()) {
-            Some(s) => {
-                let (s0, s1) = (
-                    s[0].as_float().unwrap() * 1e-3,
-                    s[1].as_float().unwrap() * 1e-3,
-                );
-                pl.push(Plate { z, d0: a, d1: s0 });
-                pl.push(Plate { z, d0: s1, d1: b });
-            }
-            None => pl.push(Plate { z, d0: a, d1: b }),
-        }
-    }
-    let pts: Vec<(f64, f64)> = loopwright::model::centreline::closed(&shape, 0.0)
-        .iter()
-        .map(|q| (q.x * 1e-3, q.y * 1e-3))
-        .collect();
-    let area = shape.centreline_area() * 1e-6;
-    let per = shape.circumference() * 1e-3;
-    assert!(rel(per, f(c, "perimeter_mm") * 1e-3) < 1e-6, "{per}");
-    let sc = solve_shape(area, per, &pts, &pl, RIBBONS_PER_PLATE).unwrap();
-    let fil = filaments(&sc, 8);
-    let hl = f(c, "h_line_mm") * 1e-3;
-    let z0 = (f(c, "z_apex_mm") - f(c, "h_line_mm")) * 1e-3;
-    let m = MU0 * flux_filaments(&shape, &fil, |x, z| hx_line(x, z, hl), 0.0, z0);
-    let eps = f(&top, "eps_eff");
-    let c0 = 299_792_458.0;
-    let l2 = per / 2.0;
-    let l_stub = 50.0 * eps.sqrt() * l2 / c0;
-    let corner = 50.0 / (2.0 * std::f64::consts::PI * (sc.l_outer + l_stub));
-    let upper = c0 / (10.0 * per);
+    let (zt, corner, upper) = model_zt(c, &top);
     let nec = c["zt_db_ohm"].as_array().unwrap();
     let (mut seen, mut lo, mut hi) = (0, f64::INFINITY, f64::NEG_INFINITY);
-    for (fr, n) in c["freq_hz"].as_array().unwrap().iter().zip(nec) {
-        let fr = fr.as_float().or(fr.as_integer().map(|i| i as f64)).unwrap();
-        if fr < corner / 10.0 || fr > upper {
+    for ((fr, z), n) in zt.iter().zip(nec) {
+        if *fr < corner / 10.0 || *fr > upper {
             continue;
         }
-        let wv = 2.0 * std::f64::consts::PI * fr;
-        let x = wv * sc.l_outer + 50.0 * (wv * eps.sqrt() / c0 * l2).tan();
-        let z = 20.0 * (50.0 * wv * m / (50.0f64.powi(2) + x * x).sqrt()).log10();
         let d = z - n.as_float().unwrap();
-        eprintln!("rect {fr:.4e} Hz: model {z:.3} NEC {n} diff {d:+.3} dB");
         lo = lo.min(d);
         hi = hi.max(d);
         seen += 1;
     }
-    eprintln!("rect: {seen} points, model − NEC from {lo:+.3} to {hi:+.3} dB");
     assert!(seen > 10, "{seen}");
     assert!(
         lo > -0.6 && hi < 0.6,

@@ -397,6 +397,16 @@ def fmt(xs, nd):
     return "[" + ", ".join(f"{x:.{nd}f}" for x in xs) + "]"
 
 
+def plates_toml(key, at):
+    """The plates as a TOML array: extents `<key>_min_mm`/`<key>_max_mm` about `at` (the radius
+    R for rings, 0 for offsets from the centreline), L2's slot likewise."""
+    return 'plates = ' + "[" + ", ".join(
+        f'{{ layer = "{p}", y_mm = {PLATES_Y[p]}, {key}_min_mm = {at - HW:.4f}, '
+        f'{key}_max_mm = {at + HW:.4f}'
+        + (f', slot_mm = [{at - SLOT:.4f}, {at + SLOT:.4f}]' if p == "L2" else "")
+        + " }" for p in PLATES_Y) + "]"
+
+
 def geometry_toml(c):
     R = c["R"]
     out = [f'name = "{c["name"]}"', f'variant = "{c["variant"]}"', f"diameter_mm = {c['D']}",
@@ -407,11 +417,7 @@ def geometry_toml(c):
         rings, a = plate_rings(R, c["n_plate"])
         sg, P = rect_s_grid(c)
         out += [f"width_mm = {c['W']}", f"height_mm = {c['H']}", f"corner_radius_mm = {c['RC']}",
-                f"perimeter_mm = {P:.6f}", 'plates = ' + "[" + ", ".join(
-                    f'{{ layer = "{p}", y_mm = {PLATES_Y[p]}, d_min_mm = {-HW:.4f}, '
-                    f'd_max_mm = {HW:.4f}'
-                    + (f', slot_mm = [{-SLOT:.4f}, {SLOT:.4f}]' if p == "L2" else "")
-                    + " }" for p in PLATES_Y) + "]",
+                f"perimeter_mm = {P:.6f}", plates_toml("d", 0.0),
                 f"rings_per_plate = {c['n_plate']}", f"rings_total = {len(rings)}",
                 f"wire_radius_mm = {a:.5f}", f"segments_per_ring = {len(sg) - 1}",
                 f"seg_max_mm = {c['seg_max']:.4f}", "corner_seg_max_mm = 0.2",
@@ -423,11 +429,7 @@ def geometry_toml(c):
     else:
         rings, a = plate_rings(R, c["n_plate"])
         th, kfac = ring_angles(R, c["gap"], c["seg_max"])
-        out += ['plates = ' + "[" + ", ".join(
-                    f'{{ layer = "{p}", y_mm = {PLATES_Y[p]}, r_min_mm = {R - HW:.4f}, '
-                    f'r_max_mm = {R + HW:.4f}'
-                    + (f', slot_mm = [{R - SLOT:.4f}, {R + SLOT:.4f}]' if p == "L2" else "")
-                    + " }" for p in PLATES_Y) + "]",
+        out += [plates_toml("r", R),
                 f"rings_per_plate = {c['n_plate']}", f"rings_total = {len(rings)}",
                 f"wire_radius_mm = {a:.5f}", f"segments_per_ring = {len(th) - 1}",
                 f"seg_max_mm = {c['seg_max']:.4f}", f"area_radius_factor = {kfac:.6f}",
