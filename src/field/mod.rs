@@ -220,6 +220,18 @@ pub fn forget_kept() {
 
 /// [`solve`] without the kept solutions.
 pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
+    solve_mesh(cs, acc, true)
+}
+
+/// The capacitance per metre alone, F/m: [`solve_uncached`]'s `c_per_m` to the last bit, without
+/// the solves with every dielectric replaced by vacuum (half the work on a layered section).
+/// Not kept. For cross-sections that are not lines (the shield gap's capacitance).
+pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error> {
+    solve_mesh(cs, acc, false).map(|s| s.c_per_m)
+}
+
+/// [`solve_uncached`]; without `vacuum` only C is solved (C0, Z0 and εeff are then NaN).
+fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSolution, Error> {
     let (params, m) = acc.mesh();
     if m == 0 || m > MAX_REFINEMENT {
         return Err(Error::Invalid(vec![FieldError::new(
@@ -254,13 +266,13 @@ pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution,
         let sys = System::new(g, &g.eps);
         let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), CG_TOL);
         let c = factor * sys.energy(&phi);
-        if homogeneous {
-            let e = g.eps[0];
+        if homogeneous || !vacuum {
+            let c0 = if vacuum { c / g.eps[0] } else { f64::NAN };
             return check(ok1).map(|_| Run {
                 c,
-                c0: c / e,
+                c0,
                 iterations: it1,
-                phi0: phi.clone(),
+                phi0: if vacuum { phi.clone() } else { Vec::new() },
                 phi,
             });
         }
@@ -278,7 +290,11 @@ pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution,
     };
     let rc = run(&coarse, None)?;
     let pf = solver::prolong(&rc.phi, coarse.nx(), coarse.ny());
-    let pf0 = solver::prolong(&rc.phi0, coarse.nx(), coarse.ny());
+    let pf0 = if vacuum {
+        solver::prolong(&rc.phi0, coarse.nx(), coarse.ny())
+    } else {
+        Vec::new()
+    };
     let rf = run(&fine, Some((&pf, &pf0)))?;
     let (cc, cc0, itc) = (rc.c, rc.c0, rc.iterations);
     let (cf, cf0, itf) = (rf.c, rf.c0, rf.iterations);

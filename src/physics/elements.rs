@@ -207,13 +207,13 @@ pub fn gap_capacitance(p: &Probe, s: &SolvedProbe) -> Result<f64, Error> {
         fences: Vec::new(),
         boundary: Boundary::Open,
     };
-    let sol = crate::field::solve(&cs, crate::field::Accuracy::Draft).map_err(|e| {
+    let c_per_m = crate::field::capacitance_per_m(&cs, crate::field::Accuracy::Draft).map_err(|e| {
         Error::Unsolvable(format!(
             "{}: the gap capacitance (2-D field solution across the {} mm shield gap) failed: {e}",
             p.name, p.gap
         ))
     })?;
-    Ok(sol.c_per_m * 2.0 * s.ring_half_width * 1e-3)
+    Ok(c_per_m * 2.0 * s.ring_half_width * 1e-3)
 }
 
 /// Conductor loss of the inner line at 1 GHz, Np/m, by Wheeler's incremental-inductance rule
