@@ -119,3 +119,120 @@ fn predicted_s21_follows_the_fdtd_reference_in_the_usable_band() {
         assert!(n > 20 && nx > 5, "{case}: {n} {nx}");
     }
 }
+
+/// One run of `tests/data/fdtd_probe_port.toml` (`tests/reference/fdtd_probe_port.py`): the
+/// probe driven at its own output, S33 and S13 as complex numbers.
+fn port_run(top: &toml::Value, case: &str, mesh: &str, variant: &str) -> Vec<(f64, Cx, Cx)> {
+    let r = top["run"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| {
+            r["case"].as_str() == Some(case)
+                && r["mesh"].as_str() == Some(mesh)
+                && r["variant"].as_str() == Some(variant)
+        })
+        .unwrap_or_else(|| panic!("no {case} {mesh} {variant} run"));
+    let v = |k: &str| floats(&r[k]);
+    let (f, a, b, c, d) = (
+        v("freq_hz"),
+        v("s33_re"),
+        v("s33_im"),
+        v("s13_re"),
+        v("s13_im"),
+    );
+    (0..f.len())
+        .map(|i| (f[i], Cx::new(a[i], b[i]), Cx::new(c[i], d[i])))
+        .collect()
+}
+
+use loopwright::physics::Cx;
+
+/// The probe seen from its output (FM-R5, fine mesh; the probe driven at its port, the line's
+/// ports terminated): an outside check of the shield's inductance as the gap sees it.
+///
+/// - **Reciprocity** of the two FDTD set-ups: S13 (probe driven) and `fdtd_refs.toml`'s S31
+///   (line driven, same mesh) agree within 0.1 dB from 500 MHz to 3 GHz (0.03 dB below 2 GHz), so the two runs and
+///   their post-processing are consistent there; lower down they part by up to 0.15 dB (300–500
+///   MHz), 0.4 dB (100–300 MHz) and 1 dB (below 100 MHz), a measure of the FDTD's own
+///   uncertainty where its pulse carries little energy.
+/// - **Inductance at the gap.** With the shield joined across its cut (`bridged`) the gap sees
+///   the stub alone; as built (`open`) the shield's loop in series. At 10–50 MHz the lines are
+///   electrically short, so the difference of the port reactances over ω is the shield loop's
+///   inductance at the gap, free of any line model: 2.93 nH. The shipped model's L_out (the
+///   axisymmetric current, `physics::shield`) is 2.42 nH, 17 % lower; with the current gathered
+///   at the gap (`physics::shield_gap`, not shipped) 2.61 nH, 11 % lower. NEC-2's grid reads
+///   3.15 nH with its gap bus. Held at those margins (±3 %) as an open finding of the
+///   issue on the probe factor: docs/response.md.
+#[test]
+fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
+    use loopwright::physics::shield::{RIBBONS_PER_PLATE, solve_round};
+    use loopwright::physics::{shield_gap, shield_plates};
+    let top = refs("fdtd_probe_port.toml");
+    let open = port_run(&top, "R5", "fine", "open");
+    let bridged = port_run(&top, "R5", "fine", "bridged");
+    // Reciprocity against the line-driven run.
+    let line = refs("fdtd_refs.toml");
+    let s31 = line["sparam"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["case"].as_str() == Some("R5") && s["mesh"].as_str() == Some("fine"))
+        .unwrap();
+    let (f31, m31) = (floats(&s31["freq_hz"]), floats(&s31["s21_probe_db"]));
+    let mut n = 0;
+    for ((&f, &m), &(fo, _, s13)) in f31.iter().zip(&m31).zip(&open) {
+        assert!((f / fo - 1.0).abs() < 1e-9);
+        if (5e8..=3e9).contains(&f) {
+            let d = 20.0 * s13.abs().log10() - m;
+            assert!(d.abs() < 0.1, "{f:.3e} Hz: S13 − S31 = {d:.3} dB");
+            n += 1;
+        }
+    }
+    assert!(n > 100, "{n}");
+    // Below 500 MHz the two set-ups part (0.15 dB at 300–500 MHz, 0.4 dB at 100–300 MHz, 1 dB
+    // below): the pulse carries little energy there, so that is the FDTD's own uncertainty.
+    // The shield's inductance at the gap, from the low-frequency reactances.
+    let x_over_w = |run: &[(f64, Cx, Cx)], i: usize| {
+        let (f, s, _) = run[i];
+        let one = Cx::new(1.0, 0.0);
+        let z = (one + s) / (one + s * Cx::new(-1.0, 0.0)) * Cx::new(50.0, 0.0);
+        z.im / (2.0 * std::f64::consts::PI * f)
+    };
+    let low: Vec<f64> = (0..open.len())
+        .filter(|&i| open[i].0 <= 5.1e7)
+        .map(|i| x_over_w(&open, i) - x_over_w(&bridged, i))
+        .collect();
+    assert!(low.len() >= 5);
+    let spread = low.iter().cloned().fold(f64::NEG_INFINITY, f64::max)
+        - low.iter().cloned().fold(f64::INFINITY, f64::min);
+    let l_fdtd = low.iter().sum::<f64>() / low.len() as f64;
+    assert!(
+        spread < 0.01 * l_fdtd,
+        "the low-frequency values move: {low:?}"
+    );
+    let (x, _) = common::demo_probe_and_line("FM-R5");
+    let pl = shield_plates(&x.probe, &x.solved);
+    let r = x.probe.shape.circumference() * 1e-3 / (2.0 * std::f64::consts::PI);
+    let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+    let wf = (x.solved.trace_width + 2.0 * x.probe.clearance) * 1e-3;
+    let g = shield_gap::solve(r, &pl, &sc, wf, x.probe.gap * 1e-3, shield_gap::GAP_MESH).unwrap();
+    let shipped = x.response.l_outer / l_fdtd - 1.0;
+    let gathered = (x.response.l_outer + g.dl_outer) / l_fdtd - 1.0;
+    eprintln!(
+        "FDTD {:.3} nH; shipped {:.3} nH ({:+.1} %), with the gap's correction {:.3} nH ({:+.1} %)",
+        l_fdtd * 1e9,
+        x.response.l_outer * 1e9,
+        shipped * 100.0,
+        (x.response.l_outer + g.dl_outer) * 1e9,
+        gathered * 100.0
+    );
+    assert!(
+        (shipped + 0.17).abs() < 0.03,
+        "shipped L_out {shipped:+.3} re FDTD"
+    );
+    assert!(
+        (gathered + 0.11).abs() < 0.03,
+        "corrected L_out {gathered:+.3} re FDTD"
+    );
+}

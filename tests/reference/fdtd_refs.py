@@ -135,7 +135,10 @@ def rect_xz(x0, x1, z0, z1):
     return [[z0, z0, z1, z1], [x0, x1, x1, x0]]
 
 
-def build(case, mesh_name):
+def build(case, mesh_name, drive_probe=False, bridged=False):
+    """The FDTD model of one case on one mesh; `drive_probe` excites the probe's port instead
+    of the line's input (fdtd_probe_port.py), `bridged` joins the shield across its gap on
+    L1, L3 and L4 (PEC sheets over the cut, the trace untouched)."""
     m = MESHES[mesh_name]
     d = m["d"]
     z_cu = LINE_H + LINE_T  # line's copper top (the strip itself is modelled as a sheet at LINE_H)
@@ -155,7 +158,7 @@ def build(case, mesh_name):
     strip = csx.AddMetal("line")
     strip.AddBox([-xl, -LINE_W / 2, LINE_H], [xl, LINE_W / 2, LINE_H], priority=10)
     p1 = fdtd.AddLumpedPort(1, 50.0, [-xl, -LINE_W / 2, 0.0], [-xl, LINE_W / 2, LINE_H], "z",
-                            excite=1.0, priority=5)
+                            excite=0.0 if drive_probe else 1.0, priority=5)
     p2 = fdtd.AddLumpedPort(2, 50.0, [xl, -LINE_W / 2, 0.0], [xl, LINE_W / 2, LINE_H], "z",
                             priority=5)
     ports = [p1, p2]
@@ -237,7 +240,11 @@ def build(case, mesh_name):
         # output port: 50 ohm between the end cap (start) and the trace end (stop), so its
         # voltage is trace minus shield
         p3 = fdtd.AddLumpedPort(3, 50.0, [FEED_X - TRACE_W / 2, Y_L2, z_p1],
-                                [FEED_X + TRACE_W / 2, Y_L2, z_p0], "z", priority=5)
+                                [FEED_X + TRACE_W / 2, Y_L2, z_p0], "z",
+                                excite=1.0 if drive_probe else 0.0, priority=5)
+        if bridged:
+            for y in (Y_L1, Y_L3, Y_L4):
+                pec.AddBox([-GAP / 2 - d, y, zc - ro], [GAP / 2 + d, y, zc - ri], priority=10)
         ports.append(p3)
         fx += [0.0, -GAP / 2, GAP / 2, FEED_X - TRACE_W / 2, FEED_X + TRACE_W / 2]
         fy += [Y_L1, Y_L2, Y_L3, Y_L4]
@@ -289,15 +296,23 @@ def _ring_with_gap(zc, rho_in, rho_out, half=GAP / 2):
 def run(case, mesh_name):
     work = os.environ.get("FDTD_WORK", "/tmp/loopwright-fdtd")
     sim = os.path.join(work, f"{case}-{mesh_name}")
+    if run_engine(build(case, mesh_name), sim, os.path.join(work, f"{case}-{mesh_name}")):
+        post(case, mesh_name)
+
+
+def run_engine(built, sim, stem, extra=None):
+    """Runs one built model (`build`'s result) in folder `sim`, its engine log in `stem`.log
+    and its run facts in `stem`.info.json; False on a dry run (FDTD_DRY: geometry only)."""
+    fdtd, csx, _, info = built
+    info.update(extra or {})
     os.makedirs(sim, exist_ok=True)
-    fdtd, csx, ports, info = build(case, mesh_name)
     print(json.dumps(info), flush=True)
     csx.Write2XML(os.path.join(sim, "geometry.xml"))
     if os.environ.get("FDTD_DRY"):
-        return
+        return False
     t0 = time.time()
     # the engine prints its timestep and iteration count on fd 1: keep them in a log
-    log = os.path.join(work, f"{case}-{mesh_name}.log")
+    log = stem + ".log"
     sys.stdout.flush()
     saved = os.dup(1)
     with open(log, "w") as lf:
@@ -314,9 +329,9 @@ def run(case, mesh_name):
     info["timesteps"] = int(its[-1][0]) if its else None
     info["dt_s"] = float(dts[0]) if dts else None
     info["end_energy_db"] = _last_energy_db(text)
-    with open(os.path.join(work, f"{case}-{mesh_name}.info.json"), "w") as f:
+    with open(stem + ".info.json", "w") as f:
         json.dump(info, f)
-    post(case, mesh_name)
+    return True
 
 
 def _last_energy_db(text):
