@@ -309,6 +309,26 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
             top,
         )])
     };
+    // Where the signal via's antipad on an inner or bottom layer comes within a sliver of the
+    // copper's pullback from the connector edge (a large copper-to-edge rule), the antipad runs
+    // on to the edge as wide as itself: no copper neck narrower than a trace between them.
+    let edge_web = |n: usize| -> MultiPolygon<f64> {
+        let r_n = if n > p.signal_layer {
+            antipad_r.max(b.stub_antipad_d / 2.0)
+        } else {
+            antipad_r.max(b.barrel_antipad_d / 2.0)
+        };
+        let web = sv.at.y - r_n - (b.edge_y + p.fab.copper_to_edge);
+        if n == 1 || n == p.signal_layer || web >= 2.0 * p.fab.min_trace.max(p.fab.min_space) {
+            return MultiPolygon(vec![]);
+        }
+        MultiPolygon(vec![rect(
+            sv.at.x - r_n,
+            b.edge_y - 1.0,
+            sv.at.x + r_n,
+            sv.at.y,
+        )])
+    };
     let mut copper = Vec::new();
     for n in 1..=n_layers {
         let side = Side::of(n, n_layers);
@@ -340,11 +360,15 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
                 .union(&link)
                 .union(&sv_pad)
         } else if n > p.signal_layer {
-            shield_cut.difference(&stub_antipad).difference(&relief(n))
+            shield_cut
+                .difference(&stub_antipad)
+                .difference(&relief(n))
+                .difference(&edge_web(n))
         } else {
             shield_cut
                 .difference(&barrel_antipad)
                 .difference(&relief(n))
+                .difference(&edge_web(n))
         };
         let mut flashes = Vec::new();
         for v in &b.vias {
