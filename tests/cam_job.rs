@@ -167,3 +167,55 @@ fn an_order_the_fab_cannot_read_is_refused() {
     assert!(err.contains("fab.ipc_class = 4: 1, 2 or 3"), "{err}");
     assert!(!out.exists());
 }
+
+/// The annular-ring rule's basis is stated and checked (issue on fabrication output): by
+/// default the ring is measured from the finished hole (the spec's and drill files' sizes),
+/// and the notes give the least ring on both bases with the plating allowance (the demo's
+/// 0.6 mm pads on 0.3 mm holes: 0.15 mm finished, 0.1 mm drilled with 0.1 mm over size). On the
+/// drilled basis the same vias break a 0.125 mm rule and the spec is refused naming the pad
+/// and its least size; 0.65 mm pads build, and the notes say which basis was checked. A
+/// basis that is neither is refused naming the field.
+#[test]
+fn the_ring_rule_states_and_checks_its_basis_with_the_drill_allowance() {
+    let d = scratch("ring");
+    let out = d.join("o");
+    let o = build(&spec(&d, "common-4l-1.6", ""), &out);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let notes = std::fs::read_to_string(out.join("J10/J10-fab-notes.md")).unwrap();
+    assert!(
+        notes.contains(
+            "The annular-ring rule (0.125 mm) is measured from the finished hole: the least ring \
+             on a plated hole here is 0.15 mm from the finished hole, 0.1 mm from the drilled hole."
+        ),
+        "{notes}"
+    );
+    // Drilled basis, the demo's vias: refused before anything is built.
+    let drilled = "annular_ring_basis = \"drilled\"\ndrill_allowance_mm = 0.1";
+    let o = build(&spec(&d, "common-4l-1.6", drilled), &d.join("o2"));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(!o.status.success());
+    assert!(err.contains("via.pad_mm") && err.contains("0.65"), "{err}");
+    assert!(!d.join("o2").exists());
+    // Larger pads on the drilled basis build and say so.
+    let p = spec(&d, "common-4l-1.6", drilled);
+    let text = std::fs::read_to_string(&p)
+        .unwrap()
+        .replace("pad_mm = 0.6", "pad_mm = 0.65");
+    std::fs::write(&p, text).unwrap();
+    let o = build(&p, &d.join("o3"));
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let notes = std::fs::read_to_string(d.join("o3/J10/J10-fab-notes.md")).unwrap();
+    assert!(
+        notes.contains("is measured from the drilled hole: the least ring on a plated hole here is 0.175 mm from the finished hole, 0.125 mm from the drilled hole"),
+        "{notes}"
+    );
+    let o = build(
+        &spec(&d, "common-4l-1.6", "annular_ring_basis = \"tool\""),
+        &d.join("o4"),
+    );
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("fab.annular_ring_basis") && err.contains("finished or drilled"),
+        "{err}"
+    );
+}

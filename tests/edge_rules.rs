@@ -9,7 +9,7 @@ use geo::{BooleanOps, Coord, Distance, Euclidean, LineString, MultiPolygon};
 use loopwright::artwork::PadFunction;
 use std::path::Path;
 
-/// The demo's settings with a 20 mm round loop and a 24 × 10 mm rectangle, interior milled,
+/// The demo's settings with a 20 mm round loop and a 24 × 12 mm rectangle, interior milled,
 /// on a handle wide enough for the rule (the ground pads' outer edges at 3.25 mm plus the rule).
 fn spec(cte: f64, pad_length: Option<f64>) -> loopwright::spec::probe::ProbeFileSpec {
     let head = loopwright::cli::DEMO_SPEC
@@ -21,12 +21,12 @@ fn spec(cte: f64, pad_length: Option<f64>) -> loopwright::spec::probe::ProbeFile
         .replace("width_mm = 8.0", &format!("width_mm = {width}"))
         .replace("stackup = ", "mill_interior = true\nstackup = ");
     let connector = pad_length
-        .map(|l| format!("[connector]\nground_pad_length_mm = {l}\n\n"))
+        .map(|l| format!("[connector]\nground_pad_length_mm = {l}\ncentre_pad_length_mm = {l}\n\n"))
         .unwrap_or_default();
     let text = format!(
         "{head}{connector}[fab]\ncopper_to_edge_mm = {cte}\n\n[[probe]]\nname = \"E\"\nshape = \
          \"round\"\nsize_mm = 20.0\n\n[[probe]]\nname = \"T\"\nshape = \"rectangle\"\nwidth_mm = \
-         24.0\nheight_mm = 10.0\n"
+         24.0\nheight_mm = 12.0\n"
     );
     loopwright::spec::parse_toml(&text, "edge.toml").unwrap()
 }
@@ -100,4 +100,66 @@ fn a_rule_that_leaves_the_ground_pads_no_copper_is_refused() {
         ) && e.contains("at most 2.87 mm"),
         "{e}"
     );
+}
+
+/// Region grown (d > 0) or shrunk by `d` with round joins (geo's buffer).
+fn buffered(m: &MultiPolygon<f64>, d: f64) -> MultiPolygon<f64> {
+    use geo::algorithm::buffer::{Buffer, BufferStyle, LineCap, LineJoin};
+    m.buffer_with_style(
+        BufferStyle::new(d)
+            .line_cap(LineCap::Round(0.02))
+            .line_join(LineJoin::Round(0.02)),
+    )
+}
+
+/// Internal corners of the profile are filleted to the router bit's radius (a bit cannot cut
+/// a sharper one): a disc of 0.95 × that radius rolled round the outside of the board leaves
+/// less than 0.01 mm² uncut (the closing of the outline adds no area but for the arcs'
+/// flattening; one sharp corner would leave 0.1–0.5 mm²), and one rolled round the
+/// inside of a milled cut-out reaches all of it to the same 0.01 mm². The same check with twice
+/// the radius (four on the rectangle's cut-out) does find the fillets, so it can fail. Measured
+/// on the emitted profile for a round loop and a rectangle, bits of 1, 2 and 3.2 mm.
+#[test]
+fn internal_outline_corners_are_filleted_to_the_router_radius() {
+    use geo::{Area, BooleanOps, Polygon};
+    for bit in [1.0, 2.0, 3.2] {
+        let mut s = spec(0.3, None);
+        s.fab.as_mut().unwrap().router_diameter_mm = Some(bit);
+        let built = loopwright::pipeline::build_family(&s, Path::new("."), false)
+            .unwrap_or_else(|e| panic!("{bit} mm bit: {e}"));
+        for b in &built.probes {
+            let prof = &b.artwork.profile;
+            let board = MultiPolygon(vec![Polygon::new(ring(&prof[0]), vec![])]);
+            let r = bit / 2.0;
+            let uncut = |k: f64| {
+                buffered(&buffered(&board, k * r), -k * r)
+                    .difference(&board)
+                    .unsigned_area()
+            };
+            assert!(
+                uncut(0.95) < 1e-2,
+                "{bit} mm bit, {}: {} mm² a bit cannot reach",
+                b.probe.name,
+                uncut(0.95)
+            );
+            assert!(uncut(2.0) > 5.0 * uncut(0.95).max(1e-3), "{}", b.probe.name);
+            assert_eq!(prof.len(), 2, "{}: a milled cut-out", b.probe.name);
+            let hole = MultiPolygon(vec![Polygon::new(ring(&prof[1]), vec![])]);
+            let left = |k: f64| {
+                hole.difference(&buffered(&buffered(&hole, -k * r), k * r))
+                    .unsigned_area()
+            };
+            assert!(
+                left(0.95) < 1e-2,
+                "{bit} mm bit, {}: cut-out {} mm²",
+                b.probe.name,
+                left(0.95)
+            );
+            // The rectangle's cut-out has corners (a circle has none to find; its own are
+            // already about 1 mm in radius, so a disc of four bit radii finds them).
+            if b.probe.name == "T" {
+                assert!(left(4.0) > 5.0 * left(0.95).max(1e-2), "{}", b.probe.name);
+            }
+        }
+    }
 }

@@ -199,13 +199,17 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
                     Shape::Circle(x) => x,
                     Shape::Rect(w, h) => w.min(h),
                 };
-                let ring = (dia - d.d) / 2.0;
+                let ring = (dia - fab.ring_hole(d.d, d.plated)) / 2.0;
                 if ring < fab.min_annular_ring - slack::NOISE {
                     out.push(Violation {
                         rule: Rule::AnnularRing,
                         layer: format!("L{}", l.n),
                         at: d.at,
-                        detail: format!("{ring:.4} mm < {:.4} mm", fab.min_annular_ring),
+                        detail: format!(
+                            "{ring:.4} mm < {:.4} mm (from the {} hole)",
+                            fab.min_annular_ring,
+                            fab.ring_basis.name()
+                        ),
                     });
                 }
             }

@@ -8,7 +8,7 @@ use super::vias::*;
 use super::*;
 use crate::model::probe::Probe;
 use crate::solve::probe::{SolvedProbe, VIA_WEB};
-use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
+use geo::{BooleanOps, MultiPolygon, Polygon};
 use kurbo::Point;
 
 /// Builds the board of a probe.
@@ -126,14 +126,22 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     if nearest < cte + offsets::EDGE_MARGIN / 2.0 {
         grown = outline_at(cte + 1.5 * offsets::EDGE_MARGIN + (cte - nearest).max(0.0));
     }
-    let mut outline = Polygon::new(grown.exterior().clone(), vec![]);
+    // A router cannot cut a sharp internal corner (where the handle meets the ring): fillet
+    // them to the bit's radius, which only adds board beyond the copper. The connector edge is
+    // cut straight again.
+    let r_bit = p.fab.router_diameter / 2.0;
+    let filleted = fillet_internal(&grown, r_bit);
+    let filleted = largest(
+        &MultiPolygon(vec![filleted])
+            .intersection(&MultiPolygon(vec![rect(-1e4, edge_y, 1e4, 1e4)])),
+    );
+    let mut outline = Polygon::new(filleted.exterior().clone(), vec![]);
     if p.mill_interior {
-        let cut = closed(shape, -hr - cte - offsets::EDGE_MARGIN);
-        outline.interiors_push(LineString::from(
-            cut.iter()
-                .map(|q| Coord { x: q.x, y: q.y })
-                .collect::<Vec<_>>(),
-        ));
+        let cut = polygon(&closed(shape, -hr - cte - offsets::EDGE_MARGIN));
+        // The solve refuses a loop whose cut is narrower than the bit.
+        if let Some(cut) = router_cut(&cut, r_bit) {
+            outline.interiors_push(cut.exterior().clone());
+        }
     }
 
     // --- Connector pads and holes.
@@ -166,8 +174,9 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
                     edge_y + con.ground_pad_length / 2.0,
                 ),
                 drill: con.ground_hole_drill,
-                pad: (con.ground_hole_drill + 2.0 * p.fab.min_annular_ring.max(0.15))
-                    .min(con.ground_pad_width),
+                pad: (p.fab.ring_hole(con.ground_hole_drill, true)
+                    + 2.0 * p.fab.min_annular_ring.max(0.15))
+                .min(con.ground_pad_width),
             });
         }
     }

@@ -111,6 +111,27 @@ pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
     left.union(&right)
 }
 
+/// The outline `exterior` with every internal corner filleted to at least the router bit's
+/// radius `r` (a closing: grown, then shrunk, by `r`), never inside the original and mirror
+/// symmetric; convex corners and straight edges are kept.
+pub fn fillet_internal(exterior: &Polygon<f64>, r: f64) -> Polygon<f64> {
+    let m = MultiPolygon(vec![Polygon::new(exterior.exterior().clone(), vec![])]);
+    let closed = round_buffer(&round_buffer(&m, r), -r);
+    largest(&symmetrise(&closed.union(&m)))
+}
+
+/// A cut-out `hole` with every corner rounded to at least the router bit's radius `r` (an
+/// opening: shrunk, then grown, by `r`), never outside the original; `None` when the bit does
+/// not fit in it.
+pub fn router_cut(hole: &Polygon<f64>, r: f64) -> Option<Polygon<f64>> {
+    let m = MultiPolygon(vec![hole.clone()]);
+    let opened = round_buffer(&round_buffer(&m, -r), r).intersection(&m);
+    if opened.0.is_empty() {
+        return None;
+    }
+    Some(largest(&symmetrise(&opened)))
+}
+
 /// The largest polygon of a set.
 pub(super) fn largest(m: &MultiPolygon<f64>) -> Polygon<f64> {
     use geo::Area;

@@ -12,12 +12,19 @@ pub struct FabProfile {
     pub min_space: f64,
     /// Minimum finished drill.
     pub min_drill: f64,
-    /// Minimum annular ring ((pad − drill)/2).
+    /// Minimum annular ring ((pad − hole)/2, the hole on [`FabProfile::ring_basis`]).
     pub min_annular_ring: f64,
+    /// How much larger than its finished size a plated hole is drilled (plating allowance).
+    pub drill_allowance: f64,
+    /// Which hole the ring rule is measured from.
+    pub ring_basis: RingBasis,
     /// Minimum hole-edge to hole-edge distance.
     pub min_hole_gap: f64,
     /// Minimum copper to board edge (routed).
     pub copper_to_edge: f64,
+    /// Router bit diameter: internal corners of the outline are filleted to its radius, and a
+    /// milled cut-out is at least this wide.
+    pub router_diameter: f64,
     /// Solder-mask opening expansion per side.
     pub mask_expansion: f64,
     /// Minimum solder-mask web between openings.
@@ -30,6 +37,27 @@ pub struct FabProfile {
     pub silk_to_pad: f64,
     /// What the order states beside the limits: finish, colours, class, Tg.
     pub order: Order,
+}
+
+/// The hole an annular-ring rule is measured from. Hole sizes in the spec and the drill files
+/// are finished sizes; a fab drills plated holes larger by its plating allowance, and states
+/// its ring minimum on one basis or the other.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum RingBasis {
+    /// The finished (plated) hole: the spec's and drill files' sizes.
+    Finished,
+    /// The drilled hole: finished size plus the drill allowance (plated holes only).
+    Drilled,
+}
+
+impl RingBasis {
+    /// The spec's name of the basis.
+    pub fn name(self) -> &'static str {
+        match self {
+            RingBasis::Finished => "finished",
+            RingBasis::Drilled => "drilled",
+        }
+    }
 }
 
 /// What a fab order states beside the geometric limits; written to the notes and the Gerber
@@ -117,18 +145,53 @@ fn pick(
 }
 
 impl FabProfile {
+    /// The hole a ring round a `finished` hole is measured from under this profile's basis.
+    pub fn ring_hole(&self, finished: f64, plated: bool) -> f64 {
+        match self.ring_basis {
+            RingBasis::Drilled if plated => finished + self.drill_allowance,
+            _ => finished,
+        }
+    }
+
+    /// The smallest pad round a plated `finished` hole that keeps the ring rule.
+    pub fn min_pad(&self, finished: f64) -> f64 {
+        self.ring_hole(finished, true) + 2.0 * self.min_annular_ring
+    }
+
+    /// One sentence stating the ring rule's basis and, for the least ring `ring_finished`
+    /// measured from a finished plated hole, its value on both bases.
+    pub fn ring_statement(&self, ring_finished: f64) -> String {
+        let basis = match self.ring_basis {
+            RingBasis::Finished => "the finished hole",
+            RingBasis::Drilled => "the drilled hole",
+        };
+        format!(
+            "Hole sizes are finished sizes; plated holes are drilled about {} mm larger. The \
+             annular-ring rule ({} mm) is measured from {basis}: the least ring on a plated \
+             hole here is {} mm from the finished hole, {} mm from the drilled hole.",
+            crate::math::fmt_num(self.drill_allowance),
+            crate::math::fmt_num(self.min_annular_ring),
+            crate::math::trimmed(ring_finished, 3),
+            crate::math::trimmed(ring_finished - self.drill_allowance / 2.0, 3)
+        )
+    }
+
     /// A generic "standard" 4-layer prototype process: typical published limits of standard
     /// processes (ranges compiled from several capability tables, no vendor): 0.127 mm trace and
-    /// space, 0.3 mm drill, 0.125 mm annular ring, 0.25 mm hole gap, 0.3 mm copper to routed
-    /// edge, 0.05 mm mask expansion, 0.1 mm mask web, 0.15 mm silk line, 1.0 mm text,
-    /// 0.15 mm silk to pad. Common practice, not a standard.
+    /// space, 0.3 mm drill, 0.125 mm annular ring from the finished hole with plated holes
+    /// drilled 0.1 mm over size, 0.25 mm hole gap, 0.3 mm copper to routed
+    /// edge, 2.0 mm router bit, 0.05 mm mask expansion, 0.1 mm mask web, 0.15 mm silk line,
+    /// 1.0 mm text, 0.15 mm silk to pad. Common practice, not a standard.
     pub const STANDARD: FabProfile = FabProfile {
         min_trace: 0.127,
         min_space: 0.127,
         min_drill: 0.3,
         min_annular_ring: 0.125,
+        drill_allowance: 0.1,
+        ring_basis: RingBasis::Finished,
         min_hole_gap: 0.25,
         copper_to_edge: 0.3,
+        router_diameter: 2.0,
         mask_expansion: 0.05,
         mask_web: 0.1,
         silk_width: 0.15,
@@ -172,6 +235,13 @@ impl FabProfile {
             5.0,
         );
         set(
+            "router_diameter_mm",
+            s.router_diameter_mm,
+            &mut p.router_diameter,
+            0.5,
+            3.2,
+        );
+        set(
             "mask_expansion_mm",
             s.mask_expansion_mm,
             &mut p.mask_expansion,
@@ -200,6 +270,24 @@ impl FabProfile {
             0.0,
             2.0,
         );
+        set(
+            "drill_allowance_mm",
+            s.drill_allowance_mm,
+            &mut p.drill_allowance,
+            0.0,
+            0.3,
+        );
+        if let Some(b) = &s.annular_ring_basis {
+            match b.trim().to_ascii_lowercase().as_str() {
+                "finished" => p.ring_basis = RingBasis::Finished,
+                "drilled" => p.ring_basis = RingBasis::Drilled,
+                _ => out.push(FieldError::new(
+                    "fab.annular_ring_basis",
+                    format!("{b:?}"),
+                    "finished or drilled (the hole the ring rule is measured from)",
+                )),
+            }
+        }
         let o = &mut p.order;
         o.finish = pick(out, "fab.finish", s.finish.as_ref(), &FINISHES, o.finish);
         o.mask_colour = pick(

@@ -398,7 +398,7 @@ pub fn vias_from_spec(
         f_max_hz: v.f_max_hz.unwrap_or(defaults::F_MAX_HZ),
     };
     check_range(out, "via.drill_mm", vias.drill, fab.min_drill, 3.0);
-    let min_pad = vias.drill + 2.0 * fab.min_annular_ring;
+    let min_pad = fab.min_pad(vias.drill);
     check_range(out, "via.pad_mm", vias.pad, min_pad, 5.0);
     check_range(out, "via.pitch_n", vias.pitch_n, 4.0, 100.0);
     check_range(out, "via.f_max_hz", vias.f_max_hz, 1e6, 1e11);
@@ -540,6 +540,20 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                     crate::math::fmt_num(connector.ground_pad_length),
                     crate::math::fmt_num(fab.min_trace),
                     crate::math::sig_fig(along.max(0.0), 3)
+                ),
+            ));
+        }
+        // The link on L1 leaves the centre pad at its inner end, the pad's length from the
+        // edge: the rule must end before it (1 µm in hand for the artwork's rounding).
+        let link_from = connector.centre_pad_length - 1e-3;
+        if fab.copper_to_edge > link_from + 1e-9 {
+            out.push(FieldError::new(
+                "fab.copper_to_edge_mm",
+                crate::math::fmt_num(fab.copper_to_edge),
+                format!(
+                    "less than the connector's centre pad is long ({} mm: at most {} mm), so                      that the link leaving its inner end keeps the rule from the edge",
+                    crate::math::fmt_num(connector.centre_pad_length),
+                    crate::math::trimmed(link_from.max(0.0), 3)
                 ),
             ));
         }

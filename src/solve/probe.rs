@@ -269,9 +269,9 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     let ring_half_width = fence_offset + p.vias.pad / 2.0 + RING_RIM;
     let feed_offset = fence_offset / 2.0;
     // The ring must leave an opening inside the loop; a milled interior must leave a cut at
-    // least 1 mm across inside the copper-to-edge pull-back (our rule: a common small router).
+    // least the router bit across inside the copper-to-edge pull-back.
     let min_size = if p.mill_interior {
-        2.0 * (ring_half_width + p.fab.copper_to_edge) + 1.0
+        2.0 * (ring_half_width + p.fab.copper_to_edge) + p.fab.router_diameter
     } else {
         2.0 * ring_half_width + 1.0
     };
@@ -285,7 +285,8 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
                 p.name,
                 2.0 * ring_half_width,
                 if p.mill_interior {
-                    ", and a milled interior inside the copper-to-edge pull-back"
+                    ", and a milled interior as wide as the router bit (fab.router_diameter_mm) \
+                     inside the copper-to-edge pull-back"
                 } else {
                     ""
                 },

@@ -117,10 +117,16 @@ pub struct FabSpec {
     pub min_drill_mm: Option<f64>,
     /// Minimum annular ring.
     pub min_annular_ring_mm: Option<f64>,
+    /// Plating allowance: how much larger than finished a plated hole is drilled.
+    pub drill_allowance_mm: Option<f64>,
+    /// The hole the ring rule is measured from: `finished` (default) or `drilled`.
+    pub annular_ring_basis: Option<String>,
     /// Minimum hole-edge to hole-edge distance.
     pub min_hole_gap_mm: Option<f64>,
     /// Minimum copper to board edge.
     pub copper_to_edge_mm: Option<f64>,
+    /// Router bit diameter (internal outline corners are filleted to its radius).
+    pub router_diameter_mm: Option<f64>,
     /// Solder-mask expansion per side.
     pub mask_expansion_mm: Option<f64>,
     /// Minimum solder-mask web between openings.

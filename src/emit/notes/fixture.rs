@@ -144,7 +144,7 @@ pub fn fixture_notes(
         s.line_length,
         s.delay_s * 1e9
     );
-    o.push_str(&drill_table(art));
+    o.push_str(&drill_table(art, &f.fab));
     let _ = writeln!(
         o,
         "\nStitching pitch: at most {:.2} mm (λ/{} at {} GHz), at least {:.2} mm (fab). No \

@@ -55,8 +55,8 @@ pub fn stackup_table(
     o
 }
 
-/// The drill table (Markdown) of an artwork.
-pub fn drill_table(art: &Artwork) -> String {
+/// The drill table (Markdown) of an artwork, with the ring rule's basis under `fab`.
+pub fn drill_table(art: &Artwork, fab: &crate::model::fab::FabProfile) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "## Drill table\n");
     let _ = writeln!(o, "| finished Ø (mm) | plated | use | count |");
@@ -84,6 +84,29 @@ pub fn drill_table(art: &Artwork) -> String {
                 "connector ground leg"
             }
         );
+    }
+    // The least ring round a plated hole, from the finished size, over every pad on it.
+    let least = art
+        .drills
+        .iter()
+        .filter(|d| d.plated)
+        .flat_map(|d| {
+            art.copper.iter().flat_map(move |l| {
+                l.flashes
+                    .iter()
+                    .filter(move |f| (f.at - d.at).hypot() < 1e-6)
+                    .map(move |f| {
+                        let dia = match f.shape {
+                            crate::artwork::Shape::Circle(x) => x,
+                            crate::artwork::Shape::Rect(w, h) => w.min(h),
+                        };
+                        (dia - d.d) / 2.0
+                    })
+            })
+        })
+        .fold(f64::INFINITY, f64::min);
+    if least.is_finite() {
+        let _ = writeln!(o, "\n{}", fab.ring_statement(least));
     }
     o
 }
@@ -118,12 +141,14 @@ pub fn order_lines(fab: &crate::model::fab::FabProfile) -> String {
         "- Finish {}; solder mask {}, silkscreen {}; IPC-6012 class {}; laminate Tg at least \
          {} °C (also in the job file)\n- **Connector pads reach the board edge on purpose** (an \
          edge-launch connector straddles it): exempt them from copper pullback; everywhere else \
-         copper stays {} mm from the edge\n",
+         copper stays {} mm from the edge\n- Outline drawn for a {} mm router bit: internal \
+         corners are filleted to its radius\n",
         o.finish.1,
         o.mask_colour.0,
         o.silk_colour.0,
         o.ipc_class,
         crate::math::fmt_num(o.tg_c),
-        crate::math::fmt_num(fab.copper_to_edge)
+        crate::math::fmt_num(fab.copper_to_edge),
+        crate::math::fmt_num(fab.router_diameter)
     )
 }

@@ -164,7 +164,7 @@ pub fn notes(
         l.stub_antipad_d,
         p.signal_layer
     );
-    o.push_str(&drill_table(art));
+    o.push_str(&drill_table(art, &p.fab));
     let _ = writeln!(
         o,
         "\nVia pitch: at most {:.2} mm (λ/{} at {} GHz in εr {:.2}), at least {:.2} mm (fab). \
