@@ -100,6 +100,12 @@ fn a_rule_that_leaves_the_ground_pads_no_copper_is_refused() {
         ) && e.contains("at most 2.87 mm"),
         "{e}"
     );
+    // The link on L1 leaves the 3 mm centre pad at its inner end: a 3 mm rule would put it on
+    // the rule's line.
+    assert!(
+        e.contains("less than the connector's centre pad is long (3 mm: at most 2.999 mm)"),
+        "{e}"
+    );
 }
 
 /// Region grown (d > 0) or shrunk by `d` with round joins (geo's buffer).
