@@ -171,10 +171,11 @@ fn an_order_the_fab_cannot_read_is_refused() {
 /// The annular-ring rule's basis is stated and checked (issue on fabrication output): by
 /// default the ring is measured from the finished hole (the spec's and drill files' sizes),
 /// and the notes give the least ring on both bases with the plating allowance (the demo's
-/// 0.6 mm pads on 0.3 mm holes: 0.15 mm finished, 0.1 mm drilled with 0.1 mm over size). On the
+/// 0.6 mm pads on 0.3 mm holes: 0.15 mm finished, 0.1 mm drilled with 0.1 mm over size, the
+/// default allowance: common practice, no source). On the
 /// drilled basis the same vias break a 0.125 mm rule and the spec is refused naming the pad
 /// and its least size; 0.65 mm pads build, and the notes say which basis was checked. A
-/// basis that is neither is refused naming the field.
+/// basis that is neither, and a router bit out of range, are refused naming the field.
 #[test]
 fn the_ring_rule_states_and_checks_its_basis_with_the_drill_allowance() {
     let d = scratch("ring");
@@ -210,12 +211,21 @@ fn the_ring_rule_states_and_checks_its_basis_with_the_drill_allowance() {
         "{notes}"
     );
     let o = build(
-        &spec(&d, "common-4l-1.6", "annular_ring_basis = \"tool\""),
+        &spec(
+            &d,
+            "common-4l-1.6",
+            "annular_ring_basis = \"tool\"\nrouter_diameter_mm = 5",
+        ),
         &d.join("o4"),
     );
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(
         err.contains("fab.annular_ring_basis") && err.contains("finished or drilled"),
+        "{err}"
+    );
+    // A router bit out of its range is named with the range.
+    assert!(
+        err.contains("fab.router_diameter_mm") && err.contains("0.5") && err.contains("3.2"),
         "{err}"
     );
 }

@@ -11,7 +11,7 @@ use std::path::Path;
 
 /// The demo's settings with a 20 mm round loop and a 24 × 12 mm rectangle, interior milled,
 /// on a handle wide enough for the rule (the ground pads' outer edges at 3.25 mm plus the rule).
-fn spec(cte: f64, pad_length: Option<f64>) -> loopwright::spec::probe::ProbeFileSpec {
+fn spec(cte: f64, pads: Option<(f64, f64)>) -> loopwright::spec::probe::ProbeFileSpec {
     let head = loopwright::cli::DEMO_SPEC
         .split("[[probe]]")
         .next()
@@ -20,8 +20,10 @@ fn spec(cte: f64, pad_length: Option<f64>) -> loopwright::spec::probe::ProbeFile
     let head = head
         .replace("width_mm = 8.0", &format!("width_mm = {width}"))
         .replace("stackup = ", "mill_interior = true\nstackup = ");
-    let connector = pad_length
-        .map(|l| format!("[connector]\nground_pad_length_mm = {l}\ncentre_pad_length_mm = {l}\n\n"))
+    let connector = pads
+        .map(|(g, c)| {
+            format!("[connector]\nground_pad_length_mm = {g}\ncentre_pad_length_mm = {c}\n\n")
+        })
         .unwrap_or_default();
     let text = format!(
         "{head}{connector}[fab]\ncopper_to_edge_mm = {cte}\n\n[[probe]]\nname = \"E\"\nshape = \
@@ -41,22 +43,38 @@ fn ring(pts: &[kurbo::Point]) -> LineString<f64> {
 
 #[test]
 fn copper_keeps_the_rule_from_the_edge_exactly() {
-    for (cte, pad_length) in [
+    for (cte, pads) in [
         (0.2, None),
         (0.3, None),
         (1.0, None),
         (2.0, None),
         (2.8, None),
-        // 3 mm needs longer ground pads (below); with them the signal via's antipad on the
-        // bottom layer comes within a sliver of the pullback, and the antipad runs on to the
-        // edge (the design-rule check of the build refuses any neck narrower than a trace).
-        (3.0, Some(4.0)),
+        // 3 mm needs longer ground pads and a centre pad longer than the rule (below); with a
+        // 3.2 mm centre pad the signal via's antipads below L1 come within a sliver of the
+        // pullback, and they run on to the edge (asserted below; the build's design-rule check
+        // refuses any neck narrower than a trace).
+        (3.0, Some((4.0, 3.2))),
     ] {
-        let built =
-            loopwright::pipeline::build_family(&spec(cte, pad_length), Path::new("."), false)
-                .unwrap_or_else(|e| panic!("{cte} mm: {e}"));
+        let built = loopwright::pipeline::build_family(&spec(cte, pads), Path::new("."), false)
+            .unwrap_or_else(|e| panic!("{cte} mm: {e}"));
         for b in &built.probes {
             let art = &b.artwork;
+            if pads.is_some() {
+                // The antipad's run to the edge: no copper on the axis just above the pullback
+                // on L2 and L4 (the via's barrel and stub layers); the link on L1 and the
+                // ground on L3 (the loop's layer, where the via has no antipad run) stay.
+                let at = geo::Point::new(0.0, b.board.edge_y + cte + 0.05);
+                for l in &art.copper {
+                    let has = geo::Contains::contains(&l.regions, &at);
+                    assert_eq!(
+                        has,
+                        l.n == 1 || l.n == 3,
+                        "{} L{}: copper at {at:?}: {has}",
+                        b.probe.name,
+                        l.n
+                    );
+                }
+            }
             let profile: Vec<LineString<f64>> = art.profile.iter().map(|r| ring(r)).collect();
             for l in &art.copper {
                 let (pads, others): (Vec<_>, Vec<_>) = l
@@ -167,5 +185,43 @@ fn internal_outline_corners_are_filleted_to_the_router_radius() {
                 assert!(left(4.0) > 5.0 * left(0.95).max(1e-2), "{}", b.probe.name);
             }
         }
+    }
+}
+
+/// A milled interior at the smallest loop the solve accepts still gets its cut (the bit fits
+/// the flattened cut drawn inside the pull-back): the size printed by the refusal of a smaller
+/// loop builds with a cut-out, for bits of 1, 2 and 3.2 mm.
+#[test]
+fn a_milled_interior_at_the_printed_limit_is_cut() {
+    for bit in [1.0, 2.0, 3.2] {
+        let mut s = spec(0.3, None);
+        s.fab.as_mut().unwrap().router_diameter_mm = Some(bit);
+        s.probe.truncate(1);
+        s.probe[0].size_mm = Some(3.0);
+        let e = loopwright::pipeline::build_family(&s, Path::new("."), false)
+            .expect_err("a 3 mm loop is too small")
+            .to_string();
+        let limit: f64 = e
+            .split("must be at least ")
+            .nth(1)
+            .and_then(|t| t.split(" mm").next())
+            .and_then(|t| t.parse().ok())
+            .unwrap_or_else(|| panic!("{e}"));
+        s.probe[0].size_mm = Some(limit);
+        let built = loopwright::pipeline::build_family(&s, Path::new("."), false)
+            .unwrap_or_else(|e| panic!("{bit} mm bit at {limit} mm: {e}"));
+        let prof = &built.probes[0].artwork.profile;
+        assert_eq!(prof.len(), 2, "{bit} mm bit at {limit} mm: no cut-out");
+        // The bit fits: the round cut-out is at least as wide as the bit across both axes.
+        let span = |f: fn(&kurbo::Point) -> f64| {
+            let v: Vec<f64> = prof[1].iter().map(f).collect();
+            v.iter().cloned().fold(f64::NEG_INFINITY, f64::max)
+                - v.iter().cloned().fold(f64::INFINITY, f64::min)
+        };
+        let (wx, wy) = (span(|q| q.x), span(|q| q.y));
+        assert!(
+            wx >= bit - 1e-6 && wy >= bit - 1e-6,
+            "{bit} mm bit at {limit} mm: cut-out {wx} × {wy} mm"
+        );
     }
 }

@@ -774,3 +774,18 @@ fn kept_solutions_are_exact_and_keyed_to_the_last_bit() {
         field::solve_uncached(&nudged, Accuracy::Draft).unwrap()
     );
 }
+
+// The capacitance alone (`field::capacitance_per_m`, used for the shield gap) is the full
+// solution's C to the last bit: the same meshes and iterations without the vacuum solves.
+#[test]
+fn capacitance_alone_is_the_full_solutions_c_to_the_bit() {
+    let cs = one_sided_coplanar();
+    let full = field::solve_uncached(&cs, Accuracy::Draft).unwrap();
+    let c = field::capacitance_per_m(&cs, Accuracy::Draft).unwrap();
+    assert_eq!(
+        c.to_bits(),
+        full.c_per_m.to_bits(),
+        "{c} vs {}",
+        full.c_per_m
+    );
+}

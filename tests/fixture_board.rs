@@ -289,3 +289,24 @@ fn bottom_legend_reads_right_from_below() {
     // Unflipped, the bottom text is the mirror image (it would print reversed otherwise).
     assert_ne!(seen_on_top, band(&bottom.artwork.silk_bottom, false));
 }
+
+/// The copper-to-edge rule against the fixture's connectors, as on a probe's handle: a rule
+/// longer than the ground pads (the pulled-back pour would not join them) or reaching the
+/// centre pad's inner end (the line leaves there) is refused naming the field and its limit.
+#[test]
+fn an_edge_rule_the_connectors_cannot_keep_is_refused() {
+    for (cte, limit) in [
+        ("3.5", "at most 2.87 mm"),
+        ("3.5", "less than the connector's centre pad is long"),
+    ] {
+        let text = format!("{DEMO_FIXTURE}\n[fab]\ncopper_to_edge_mm = {cte}\n");
+        let spec: FixtureFileSpec = toml::from_str(&text).unwrap();
+        let e = loopwright::pipeline::build_fixture(&spec, Path::new("."), false)
+            .expect_err("refused")
+            .to_string();
+        assert!(
+            e.contains("fab.copper_to_edge_mm") && e.contains(limit),
+            "{e}"
+        );
+    }
+}

@@ -171,15 +171,22 @@ const CG_TOL: f64 = 1e-7;
 /// the fixture and `predict` after `build` solve the same few cross-sections many times, and the
 /// solver is deterministic, so a kept solution is the one a new solve would give.
 pub fn solve(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
+    // Debug writes every f64 as its shortest round-trip text: equal keys, equal bits.
+    kept_or(format!("{cs:?}|{acc:?}"), || solve_uncached(cs, acc))
+}
+
+/// The kept solution under `key`, or `run`'s, kept.
+fn kept_or(
+    key: String,
+    run: impl FnOnce() -> Result<FieldSolution, Error>,
+) -> Result<FieldSolution, Error> {
     /// Kept solutions; cleared when it reaches this many (a long fuzzing or census run).
     const KEEP: usize = 4096;
-    // Debug writes every f64 as its shortest round-trip text: equal keys, equal bits.
-    let key = format!("{cs:?}|{acc:?}");
     // One cell per cross-section: threads building probes at once that need the same one wait
     // for the first to solve it instead of solving it again.
     let cell = {
         let Ok(mut m) = kept().lock() else {
-            return solve_uncached(cs, acc);
+            return run();
         };
         if m.len() >= KEEP {
             m.clear();
@@ -187,7 +194,8 @@ pub fn solve(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
         m.entry(key).or_default().clone()
     };
     let mut failed = None;
-    let kept = cell.get_or_init(|| match solve_uncached(cs, acc) {
+    let mut run = Some(run);
+    let kept = cell.get_or_init(|| match (run.take().expect("run once"))() {
         Ok(s) => Some(s),
         Err(e) => {
             failed = Some(e);
@@ -198,7 +206,10 @@ pub fn solve(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
         (_, Some(e)) => Err(e),
         (Some(s), None) => Ok(s.clone()),
         // Another thread's solve of it failed: this one reports its own error.
-        (None, None) => solve_uncached(cs, acc),
+        (None, None) => match run.take() {
+            Some(r) => r(),
+            None => Err(Error::Unsolvable("a kept field solution failed".into())),
+        },
     }
 }
 
@@ -225,9 +236,9 @@ pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution,
 
 /// The capacitance per metre alone, F/m: [`solve_uncached`]'s `c_per_m` to the last bit, without
 /// the solves with every dielectric replaced by vacuum (half the work on a layered section).
-/// Not kept. For cross-sections that are not lines (the shield gap's capacitance).
+/// Kept as [`solve`]'s are. For cross-sections that are not lines (the shield gap's capacitance).
 pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error> {
-    solve_mesh(cs, acc, false).map(|s| s.c_per_m)
+    kept_or(format!("C|{cs:?}|{acc:?}"), || solve_mesh(cs, acc, false)).map(|s| s.c_per_m)
 }
 
 /// [`solve_uncached`]; without `vacuum` only C is solved (C0, Z0 and εeff are then NaN).

@@ -138,10 +138,10 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let mut outline = Polygon::new(filleted.exterior().clone(), vec![]);
     if p.mill_interior {
         let cut = polygon(&closed(shape, -hr - cte - offsets::EDGE_MARGIN));
-        // The solve refuses a loop whose cut is narrower than the bit.
-        if let Some(cut) = router_cut(&cut, r_bit) {
-            outline.interiors_push(cut.exterior().clone());
-        }
+        // The solve refuses a loop whose cut is narrower than the bit (with the flattening in
+        // hand), so the opened cut is never empty; were it, the cut is kept as drawn.
+        let cut = router_cut(&cut, r_bit).unwrap_or(cut);
+        outline.interiors_push(cut.exterior().clone());
     }
 
     // --- Connector pads and holes.

@@ -186,6 +186,7 @@ pub fn fixture_from_spec(spec: &FixtureFileSpec, base: &Path) -> Result<Fixture,
     check_range(&mut out, "fixture.width_mm", width, 10.0, 300.0);
     let vias = vias_from_spec(spec.via.as_ref(), &fab, &mut out);
     let connector = connector_from_spec(spec.connector.as_ref(), &fab, &mut out);
+    crate::model::probe::edge_rule_fits_connector(&connector, &fab, &mut out);
     if connector.ground_hole_drill > 0.0 {
         out.push(FieldError::new(
             "connector.ground_hole_drill_mm",

@@ -384,6 +384,46 @@ pub fn stackup_from_spec(
     }
 }
 
+/// The copper-to-edge rule against the edge-launch connector, on a probe's handle or a
+/// fixture's port: along the connector edge the pour is pulled back too and must still reach
+/// under the ground pads to join them, and the line leaving the centre pad at its inner end
+/// (the pad's length from the edge) must keep the rule (1 µm in hand for the artwork's
+/// rounding).
+pub fn edge_rule_fits_connector(
+    connector: &Connector,
+    fab: &FabProfile,
+    out: &mut Vec<FieldError>,
+) {
+    let along = connector.ground_pad_length - fab.min_trace;
+    if fab.copper_to_edge > along + 1e-9 {
+        out.push(FieldError::new(
+            "fab.copper_to_edge_mm",
+            crate::math::fmt_num(fab.copper_to_edge),
+            format!(
+                "less than the connector's ground pads are long ({} mm, less the fab's least \
+                 trace {} mm: at most {} mm), so that the pour pulled back from the connector \
+                 edge still joins them",
+                crate::math::fmt_num(connector.ground_pad_length),
+                crate::math::fmt_num(fab.min_trace),
+                crate::math::sig_fig(along.max(0.0), 3)
+            ),
+        ));
+    }
+    let line_from = connector.centre_pad_length - 1e-3;
+    if fab.copper_to_edge > line_from + 1e-9 {
+        out.push(FieldError::new(
+            "fab.copper_to_edge_mm",
+            crate::math::fmt_num(fab.copper_to_edge),
+            format!(
+                "less than the connector's centre pad is long ({} mm: at most {} mm), so that \
+                 the line leaving its inner end keeps the rule from the edge",
+                crate::math::fmt_num(connector.centre_pad_length),
+                crate::math::trimmed(line_from.max(0.0), 3)
+            ),
+        ));
+    }
+}
+
 /// Validates a via spec (defaults: the probe defaults) against the fab profile.
 pub fn vias_from_spec(
     spec: Option<&crate::spec::probe::ViaSpec>,
@@ -440,12 +480,18 @@ pub fn connector_from_spec(
         -60.0,
         -3.0,
     );
+    // A ground-leg hole's pad is at most the ground pad's width: the ring rule (on its basis)
+    // bounds the hole.
+    let hole_max = (connector.ground_pad_width
+        - 2.0 * fab.min_annular_ring
+        - (fab.ring_hole(1.0, true) - 1.0))
+        .clamp(0.0, 3.0);
     check_range(
         out,
         "connector.ground_hole_drill_mm",
         connector.ground_hole_drill,
         0.0,
-        3.0,
+        hole_max,
     );
     let pad_gap = connector.ground_pad_offset
         - 0.5 * (connector.ground_pad_width + connector.centre_pad_width);
@@ -526,37 +572,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         // left must still hold the ground pads (the coplanar ground beside the centre pad).
         let most =
             handle.width / 2.0 - connector.ground_pad_offset - connector.ground_pad_width / 2.0;
-        // Along the connector edge the pour is pulled back too, and must still reach under
-        // the ground pads to join them.
-        let along = connector.ground_pad_length - fab.min_trace;
-        if fab.copper_to_edge > along + 1e-9 {
-            out.push(FieldError::new(
-                "fab.copper_to_edge_mm",
-                crate::math::fmt_num(fab.copper_to_edge),
-                format!(
-                    "less than the connector's ground pads are long ({} mm, less the fab's \
-                     least trace {} mm: at most {} mm), so that the pour pulled back from the \
-                     connector edge still joins them",
-                    crate::math::fmt_num(connector.ground_pad_length),
-                    crate::math::fmt_num(fab.min_trace),
-                    crate::math::sig_fig(along.max(0.0), 3)
-                ),
-            ));
-        }
-        // The link on L1 leaves the centre pad at its inner end, the pad's length from the
-        // edge: the rule must end before it (1 µm in hand for the artwork's rounding).
-        let link_from = connector.centre_pad_length - 1e-3;
-        if fab.copper_to_edge > link_from + 1e-9 {
-            out.push(FieldError::new(
-                "fab.copper_to_edge_mm",
-                crate::math::fmt_num(fab.copper_to_edge),
-                format!(
-                    "less than the connector's centre pad is long ({} mm: at most {} mm), so                      that the link leaving its inner end keeps the rule from the edge",
-                    crate::math::fmt_num(connector.centre_pad_length),
-                    crate::math::trimmed(link_from.max(0.0), 3)
-                ),
-            ));
-        }
+        edge_rule_fits_connector(&connector, &fab, &mut out);
         if fab.copper_to_edge > most + 1e-9 {
             out.push(FieldError::new(
                 "fab.copper_to_edge_mm",

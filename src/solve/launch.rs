@@ -217,16 +217,23 @@ fn solve_uncached(
             // the gap in three to five field solutions (the ends are kept solutions) where
             // bisection took ten. The gap is wanted to 0.1 %, well below the µm it is rounded to.
             let mut failed = None;
+            // The bracket's ends map back to the very gaps solved above (kept solutions).
+            let (x_lo, x_hi) = (g_lo.ln(), g_hi.ln());
+            let gap_at = |x: f64| match x {
+                _ if x == x_lo => g_lo,
+                _ if x == x_hi => g_hi,
+                _ => x.exp(),
+            };
             let root = crate::solve::roots::brent(
-                |x| match z(x.exp(), depth) {
+                |x| match z(gap_at(x), depth) {
                     Ok((zz, _)) => zz - target,
                     Err(e) => {
                         failed.get_or_insert(e);
                         f64::NAN
                     }
                 },
-                g_lo.ln(),
-                g_hi.ln(),
+                x_lo,
+                x_hi,
                 1e-3,
             );
             if let Some(e) = failed {
@@ -238,7 +245,7 @@ fn solve_uncached(
                     Error::Unsolvable(format!("the pad gap search failed: {e:?}")),
                 )
             })?;
-            chosen = Some((depth, x.exp()));
+            chosen = Some((depth, gap_at(x)));
             break;
         }
     }

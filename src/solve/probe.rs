@@ -271,7 +271,14 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     // The ring must leave an opening inside the loop; a milled interior must leave a cut at
     // least the router bit across inside the copper-to-edge pull-back.
     let min_size = if p.mill_interior {
-        2.0 * (ring_half_width + p.fab.copper_to_edge) + p.fab.router_diameter
+        // The geometry draws the cut a few arc tolerances inside the pull-back (its edge
+        // margin) and flattens its arcs: the bit must still fit in the flattened cut, so
+        // four arc tolerances and 1 µm are kept in hand on each side.
+        2.0 * (ring_half_width
+            + p.fab.copper_to_edge
+            + 4.0 * crate::model::centreline::ARC_TOLERANCE
+            + 1e-3)
+            + p.fab.router_diameter
     } else {
         2.0 * ring_half_width + 1.0
     };
