@@ -167,6 +167,42 @@ fn internal_outline_corners_are_filleted_to_the_router_radius() {
                 uncut(0.95)
             );
             assert!(uncut(2.0) > 5.0 * uncut(0.95).max(1e-3), "{}", b.probe.name);
+            // Independently of any buffer (elementary geometry): at every internal (concave)
+            // vertex of the profile the circle through it and its two neighbours is at least
+            // 0.95 × the bit's radius (on a flattened fillet arc it is the arc's radius; at a
+            // sharp corner it is tiny).
+            let pts = &prof[0];
+            let n = pts.len() - 1; // closed ring: last = first
+            let area2: f64 = (0..n)
+                .map(|i| pts[i].x * pts[i + 1].y - pts[i + 1].x * pts[i].y)
+                .sum();
+            let mut concave = 0;
+            for i in 0..n {
+                let (a, p0, c) = (pts[(i + n - 1) % n], pts[i], pts[(i + 1) % n]);
+                let (u, v) = (p0 - a, c - p0);
+                let turn = u.x * v.y - u.y * v.x;
+                let (la, lb, lc) = (u.hypot(), v.hypot(), (c - a).hypot());
+                // Concave, and deeper than 0.1 µm (the boolean operations leave notches of a few
+                // nm where two flattenings of one arc cross; no fab resolves them).
+                if turn * area2.signum() >= 0.0 || turn.abs() / lc < 1e-4 {
+                    continue;
+                }
+                concave += 1;
+                let circ = la * lb * lc / (2.0 * turn.abs());
+                assert!(
+                    circ >= 0.95 * r,
+                    "{bit} mm bit, {}: a concave vertex at ({:.3}, {:.3}) turns on a {circ:.4} mm \
+                     radius",
+                    b.probe.name,
+                    p0.x,
+                    p0.y
+                );
+            }
+            assert!(
+                concave > 0,
+                "{}: the handle meets the ring somewhere",
+                b.probe.name
+            );
             assert_eq!(prof.len(), 2, "{}: a milled cut-out", b.probe.name);
             let hole = MultiPolygon(vec![Polygon::new(ring(&prof[1]), vec![])]);
             let left = |k: f64| {

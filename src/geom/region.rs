@@ -115,9 +115,20 @@ pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
 /// radius `r` (a closing: grown, then shrunk, by `r`), never inside the original and mirror
 /// symmetric; convex corners and straight edges are kept.
 pub fn fillet_internal(exterior: &Polygon<f64>, r: f64) -> Polygon<f64> {
+    use geo::Area;
     let m = MultiPolygon(vec![Polygon::new(exterior.exterior().clone(), vec![])]);
     let closed = round_buffer(&round_buffer(&m, r), -r);
-    largest(&symmetrise(&closed.union(&m)))
+    // Only the fillets are added: where the closing merely re-flattens the original's own
+    // arcs it leaves slivers of a few nm², whose union would notch the outline.
+    let fillets = MultiPolygon(
+        closed
+            .difference(&m)
+            .0
+            .into_iter()
+            .filter(|p| p.unsigned_area() > 1e-4 * r * r)
+            .collect(),
+    );
+    largest(&symmetrise(&m.union(&fillets)))
 }
 
 /// A cut-out `hole` with every corner rounded to at least the router bit's radius `r` (an
