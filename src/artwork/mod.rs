@@ -66,6 +66,31 @@ pub enum Shape {
     Rect(f64, f64),
 }
 
+impl Shape {
+    /// The pad's narrowest width (a circle's diameter, a rectangle's shorter side): what an
+    /// annular ring is measured across.
+    pub fn least_width(self) -> f64 {
+        match self {
+            Shape::Circle(x) => x,
+            Shape::Rect(w, h) => w.min(h),
+        }
+    }
+}
+
+impl Artwork {
+    /// The pads flashed round `d` on every copper layer, with their layer number: centred on
+    /// it within one step of the 1 nm grid every coordinate is snapped to ([`snap`]).
+    pub fn pads_round(&self, d: &Drill) -> impl Iterator<Item = (usize, &Flash)> {
+        let at = d.at;
+        self.copper.iter().flat_map(move |l| {
+            l.flashes
+                .iter()
+                .filter(move |f| (f.at - at).hypot() < 1e-6)
+                .map(move |f| (l.n, f))
+        })
+    }
+}
+
 /// A flashed pad.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Flash {
@@ -282,6 +307,19 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     let barrel_antipad = MultiPolygon(vec![circle(sv.at, antipad_r.max(b.barrel_antipad_d / 2.0))]);
     let sv_pad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0)]);
     let shield_cut = b.shield.difference(&gap);
+    // The signal via's antipad radius on layer n: the link's on L1, the barrel's down to the
+    // loop's layer, the stub's below it.
+    let antipad_r_on = |n: usize| {
+        if n > p.signal_layer {
+            antipad_r.max(b.stub_antipad_d / 2.0)
+        } else if n > 1 {
+            antipad_r.max(b.barrel_antipad_d / 2.0)
+        } else {
+            antipad_r
+        }
+    };
+    // Copper narrower than this between two clearances is a sliver: the clearances are joined.
+    let sliver = 2.0 * p.fab.min_trace.max(p.fab.min_space);
     // The relief under the connector's centre pad, on the layers the launch solve chose: the
     // pad grown by its gap across, from beyond the board edge to the pad's inner end.
     let relief = |n: usize| -> MultiPolygon<f64> {
@@ -291,16 +329,8 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         }
         // Where the signal via's antipad on this layer comes within a sliver of the relief's
         // end, the relief runs on into the antipad (no copper sliver between them).
-        let r_n = if n > p.signal_layer {
-            antipad_r.max(b.stub_antipad_d / 2.0)
-        } else if n > 1 {
-            antipad_r.max(b.barrel_antipad_d / 2.0)
-        } else {
-            antipad_r
-        };
         let pad_end = centre.at.y + centre.h / 2.0;
-        let web = sv.at.y - r_n - pad_end;
-        let sliver = 2.0 * p.fab.min_trace.max(p.fab.min_space);
+        let web = sv.at.y - antipad_r_on(n) - pad_end;
         let top = if web < sliver { sv.at.y } else { pad_end };
         MultiPolygon(vec![rect(
             centre.at.x - centre.w / 2.0 - b.pad_gap,
@@ -313,13 +343,9 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     // copper's pullback from the connector edge (a large copper-to-edge rule), the antipad runs
     // on to the edge as wide as itself: no copper neck narrower than a trace between them.
     let edge_web = |n: usize| -> MultiPolygon<f64> {
-        let r_n = if n > p.signal_layer {
-            antipad_r.max(b.stub_antipad_d / 2.0)
-        } else {
-            antipad_r.max(b.barrel_antipad_d / 2.0)
-        };
+        let r_n = antipad_r_on(n);
         let web = sv.at.y - r_n - (b.edge_y + p.fab.copper_to_edge);
-        if n == 1 || n == p.signal_layer || web >= 2.0 * p.fab.min_trace.max(p.fab.min_space) {
+        if n == 1 || n == p.signal_layer || web >= sliver {
             return MultiPolygon(vec![]);
         }
         MultiPolygon(vec![rect(

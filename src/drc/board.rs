@@ -6,7 +6,7 @@ use super::kernel::{
 };
 use super::slack;
 use super::{Rule, Violation};
-use crate::artwork::{Artwork, Shape};
+use crate::artwork::Artwork;
 use crate::geom::{TOL, stroke_round};
 use crate::model::fab::FabProfile;
 use geo::{Contains, Distance, Euclidean, MultiPolygon};
@@ -188,30 +188,20 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
             });
         }
         let mut pads = 0;
-        for l in &art.copper {
-            for f in l
-                .flashes
-                .iter()
-                .filter(|f| (f.at - d.at).hypot() < slack::GRID)
-            {
-                pads += 1;
-                let dia = match f.shape {
-                    Shape::Circle(x) => x,
-                    Shape::Rect(w, h) => w.min(h),
-                };
-                let ring = (dia - fab.ring_hole(d.d, d.plated)) / 2.0;
-                if ring < fab.min_annular_ring - slack::NOISE {
-                    out.push(Violation {
-                        rule: Rule::AnnularRing,
-                        layer: format!("L{}", l.n),
-                        at: d.at,
-                        detail: format!(
-                            "{ring:.4} mm < {:.4} mm (from the {} hole)",
-                            fab.min_annular_ring,
-                            fab.ring_basis.name()
-                        ),
-                    });
-                }
+        for (n, f) in art.pads_round(d) {
+            pads += 1;
+            let ring = (f.shape.least_width() - fab.ring_hole(d.d, d.plated)) / 2.0;
+            if ring < fab.min_annular_ring - slack::NOISE {
+                out.push(Violation {
+                    rule: Rule::AnnularRing,
+                    layer: format!("L{n}"),
+                    at: d.at,
+                    detail: format!(
+                        "{ring:.4} mm < {:.4} mm (from the {} hole)",
+                        fab.min_annular_ring,
+                        fab.ring_basis.name()
+                    ),
+                });
             }
         }
         if d.plated && pads < 2 {

@@ -161,16 +161,13 @@ impl FabProfile {
     /// One sentence stating the ring rule's basis and, for the least ring `ring_finished`
     /// measured from a finished plated hole, its value on both bases.
     pub fn ring_statement(&self, ring_finished: f64) -> String {
-        let basis = match self.ring_basis {
-            RingBasis::Finished => "the finished hole",
-            RingBasis::Drilled => "the drilled hole",
-        };
         format!(
             "Hole sizes are finished sizes; plated holes are drilled about {} mm larger. The \
-             annular-ring rule ({} mm) is measured from {basis}: the least ring on a plated \
+             annular-ring rule ({} mm) is measured from the {} hole: the least ring on a plated \
              hole here is {} mm from the finished hole, {} mm from the drilled hole.",
             crate::math::fmt_num(self.drill_allowance),
             crate::math::fmt_num(self.min_annular_ring),
+            self.ring_basis.name(),
             crate::math::trimmed(ring_finished, 3),
             crate::math::trimmed(ring_finished - self.drill_allowance / 2.0, 3)
         )

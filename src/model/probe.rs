@@ -482,10 +482,7 @@ pub fn connector_from_spec(
     );
     // A ground-leg hole's pad is at most the ground pad's width: the ring rule (on its basis)
     // bounds the hole.
-    let hole_max = (connector.ground_pad_width
-        - 2.0 * fab.min_annular_ring
-        - (fab.ring_hole(1.0, true) - 1.0))
-        .clamp(0.0, 3.0);
+    let hole_max = (connector.ground_pad_width - fab.min_pad(0.0)).clamp(0.0, 3.0);
     check_range(
         out,
         "connector.ground_hole_drill_mm",

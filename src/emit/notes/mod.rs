@@ -91,18 +91,8 @@ pub fn drill_table(art: &Artwork, fab: &crate::model::fab::FabProfile) -> String
         .iter()
         .filter(|d| d.plated)
         .flat_map(|d| {
-            art.copper.iter().flat_map(move |l| {
-                l.flashes
-                    .iter()
-                    .filter(move |f| (f.at - d.at).hypot() < 1e-6)
-                    .map(move |f| {
-                        let dia = match f.shape {
-                            crate::artwork::Shape::Circle(x) => x,
-                            crate::artwork::Shape::Rect(w, h) => w.min(h),
-                        };
-                        (dia - d.d) / 2.0
-                    })
-            })
+            art.pads_round(d)
+                .map(|(_, f)| (f.shape.least_width() - d.d) / 2.0)
         })
         .fold(f64::INFINITY, f64::min);
     if least.is_finite() {
