@@ -39,32 +39,12 @@ def run(case, mesh, variant):
         post(case, mesh, variant)
 
 
-def _waves(ports, sim, keep=None):
-    """Per port (incident, reflected) spectra with each signal's matrix-pencil tail."""
-    from openEMS import utilities
-    out = []
-    for p in ports:
-        u = np.loadtxt(os.path.join(sim, p.U_filenames[0]), comments="%")
-        i = np.loadtxt(os.path.join(sim, p.I_filenames[0]), comments="%")
-        if keep is not None:
-            u, i = u[:keep], i[:keep]
-        uf = utilities.DFT_time2freq(u[:, 0], u[:, 1], R.FREQS)
-        jf = utilities.DFT_time2freq(i[:, 0], i[:, 1], R.FREQS)
-        tu, _, ru, _ = R._pencil_tail(u[:, 0], u[:, 1], R.FREQS)
-        ti, _, ri, _ = R._pencil_tail(i[:, 0], i[:, 1], R.FREQS)
-        if max(ru, ri) <= R.MAX_FIT_RESID:
-            uf, jf = uf + tu, jf + ti
-        inc = 0.5 * (uf + 50.0 * jf)
-        out.append((inc, uf - inc, len(u)))
-    return out
-
-
 def post(case, mesh, variant):
     work, sim = _sim(case, mesh, variant)
     _, _, ports, _ = _build(case, mesh, variant)
     res = json.load(open(sim + ".info.json"))
-    w = _waves(ports, sim)
-    cut = _waves(ports, sim, keep=int(0.8 * w[0][2]))
+    w, _ = R.port_waves(ports, sim, extrapolate=True)
+    cut, _ = R.port_waves(ports, sim, keep=int(0.8 * w[0][2]), extrapolate=True)
     a3 = w[2][0]
     s33, s13 = w[2][1] / a3, w[0][1] / a3
     s33c = cut[2][1] / cut[2][0]

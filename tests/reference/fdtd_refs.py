@@ -379,6 +379,19 @@ def _s_params(ports, sim, keep=None, extrapolate=False):
     """S11, S21 (thru) and S21 (probe) from the ports' time signals, all referred to the
     wave incident on port 1; `keep` truncates every signal to its first `keep` samples;
     `extrapolate` adds each signal's matrix-pencil tail beyond the record."""
+    waves, diag = port_waves(ports, sim, keep, extrapolate)
+    inc1 = waves[0][0]
+    out = dict(s11=waves[0][1] / inc1, s21_thru=waves[1][1] / inc1)
+    if len(waves) > 2:
+        out["s21_probe"] = waves[2][1] / inc1
+    if extrapolate:
+        out["diag"] = diag
+    return out, waves[0][2], waves[0][3]
+
+
+def port_waves(ports, sim, keep=None, extrapolate=False):
+    """Per port, the 50-ohm (incident, reflected) spectra, the record's length and end time,
+    and the tails' diagnostics (see `_s_params`)."""
     from openEMS import utilities
     waves, diag = [], []
     for p in ports:
@@ -398,13 +411,7 @@ def _s_params(ports, sim, keep=None, extrapolate=False):
                              tail_used=used))
         inc = 0.5 * (uf + 50.0 * jf)
         waves.append((inc, uf - inc, len(u), float(u[-1, 0])))
-    inc1 = waves[0][0]
-    out = dict(s11=waves[0][1] / inc1, s21_thru=waves[1][1] / inc1)
-    if len(waves) > 2:
-        out["s21_probe"] = waves[2][1] / inc1
-    if extrapolate:
-        out["diag"] = diag
-    return out, waves[0][2], waves[0][3]
+    return waves, diag
 
 
 def post(case, mesh_name):
