@@ -3,7 +3,7 @@
 //! the `.N` net; no creation date is written, so the output is the same run to run.
 
 use crate::artwork::{Artwork, CopperLayer, Flash, Nets, PadFunction, Shape, Side};
-use geo::{Area, MultiPolygon};
+use geo::{Area, Contains, MultiPolygon};
 use gerber_types::*;
 use kurbo::Point;
 
@@ -142,12 +142,15 @@ impl Writer {
         })));
     }
 
-    /// One closed contour as a region (G36/G37).
-    fn region(&mut self, ring: &[Point], function: &ApertureFunction) {
+    /// One closed contour as a region (G36/G37); `dark` ones (copper) carry their net, clear
+    /// ones (clearances) none: they are not conductors.
+    fn region(&mut self, ring: &[Point], function: &ApertureFunction, dark: bool) {
         self.cmds.push(ext(ExtendedCode::ApertureAttribute(
             ApertureAttribute::ApertureFunction(function.clone()),
         )));
-        self.net(ring[0]);
+        if dark {
+            self.net(ring[0]);
+        }
         self.cmds.push(func(GCode::RegionMode(true)));
         self.cmds
             .push(func(DCode::Operation(Operation::Move(Some(xy(ring[0]))))));
@@ -161,7 +164,10 @@ impl Writer {
         self.clear_attrs();
     }
 
-    fn regions(&mut self, m: &MultiPolygon<f64>, function: ApertureFunction) {
+    /// The copper `m` as regions: each polygon dark, then its holes clear. A hole around one of
+    /// the layer's `pads` is that pad's clearance in the pour and is tagged `AntiPad`, as the
+    /// Gerber format provides for clearances; any other hole keeps the pour's `function`.
+    fn regions(&mut self, m: &MultiPolygon<f64>, function: ApertureFunction, pads: &[Point]) {
         // Containers before what they contain: by decreasing exterior area.
         let mut polys: Vec<_> = m.0.iter().collect();
         polys.sort_by(|a, b| {
@@ -176,11 +182,20 @@ impl Writer {
                 ls.coords().map(|c| Point::new(c.x, c.y)).collect()
             };
             self.polarity(true);
-            self.region(&pts(poly.exterior()), &function);
+            self.region(&pts(poly.exterior()), &function, true);
             if !poly.interiors().is_empty() {
                 self.polarity(false);
                 for hole in poly.interiors() {
-                    self.region(&pts(hole), &function);
+                    let area = geo::Polygon::new(hole.clone(), vec![]);
+                    let around_pad = pads
+                        .iter()
+                        .any(|p| area.contains(&geo::Point::new(p.x, p.y)));
+                    let f = if around_pad {
+                        ApertureFunction::AntiPad
+                    } else {
+                        function.clone()
+                    };
+                    self.region(&pts(hole), &f, false);
                 }
             }
         }
@@ -260,7 +275,8 @@ pub fn copper(layer: &CopperLayer, nets: &Nets, same_coords: &str) -> String {
     }
     w.cmds
         .push(func(GCode::InterpolationMode(InterpolationMode::Linear)));
-    w.regions(&layer.regions, ApertureFunction::Conductor);
+    let pads: Vec<Point> = layer.flashes.iter().map(|f| f.at).collect();
+    w.regions(&layer.regions, ApertureFunction::Conductor, &pads);
     for f in &layer.flashes {
         w.flash(f, pad_function(f.function));
     }
