@@ -165,6 +165,14 @@ use loopwright::physics::Cx;
 ///   (`physics::shield_gap`, not shipped) 2.61 nH, 10 % lower. NEC-2's grid reads 3.15 nH with
 ///   its gap bus. Held at those margins (±3 %) as an open finding of the issue on the probe
 ///   factor: docs/response.md.
+/// - **Where the fence stops** (`-walls0`, `-walls1`: the ring's via walls reaching the cut or
+///   stopping 1 mm short of it, against 0.3 mm as built; fine mesh). The open probe's port
+///   inductance moves by 0.015 nH when the walls reach the cut (+0.18 nH at 1 mm); the bridged
+///   reference by +0.26 nH, and the bridged runs' tail self-check (0.44–0.49° at 10 MHz) is four
+///   to twenty times the open runs'. So the open − bridged value is uncertain by about the
+///   bridge's realisation (0.25 nH, 9 %): against the walls-to-the-cut pair (2.68 nH, the
+///   closest to a shield without a gap) the model with the gap's correction reads 2.9 % low
+///   and the shipped one 9.8 % low (held at 4 % and 10 ± 2 %).
 #[test]
 fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     use loopwright::physics::shield::{RIBBONS_PER_PLATE, solve_round};
@@ -245,4 +253,48 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
         (gathered + 0.10).abs() < 0.03,
         "corrected L_out {gathered:+.3} re FDTD"
     );
+    // Where the fence walls stop (fine mesh): the open probe's low-frequency port inductance
+    // hardly moves when they reach the cut, but the bridged reference does, and its tail's
+    // self-check is four to twenty times the open runs'. So the open − bridged inductance
+    // carries the bridge's own uncertainty, of the size of the model's shortfall above.
+    let low_l = |run: &[(f64, Cx, Cx)]| {
+        let v: Vec<f64> = (0..run.len())
+            .filter(|&i| run[i].0 <= 5.1e7)
+            .map(|i| x_over_w(run, i))
+            .collect();
+        v.iter().sum::<f64>() / v.len() as f64
+    };
+    let l = |variant: &str| low_l(&port_run(&top, "R5", "fine", variant));
+    let (open_0, open_3, open_10) = (l("open-walls0"), l("open"), l("open-walls1"));
+    let (bridged_0, bridged_3, bridged_10) =
+        (l("bridged-walls0"), l("bridged"), l("bridged-walls1"));
+    eprintln!(
+        "open {:.3}/{:.3}/{:.3} nH, bridged {:.3}/{:.3}/{:.3} nH (walls 0/0.3/1 mm from the cut)",
+        open_0 * 1e9,
+        open_3 * 1e9,
+        open_10 * 1e9,
+        bridged_0 * 1e9,
+        bridged_3 * 1e9,
+        bridged_10 * 1e9
+    );
+    assert!((open_0 - open_3).abs() < 0.03e-9, "{open_0:e} {open_3:e}");
+    assert!(open_10 > open_3 + 0.1e-9 && open_10 < open_3 + 0.3e-9);
+    assert!((bridged_10 - bridged_3).abs() < 0.03e-9);
+    assert!(bridged_0 > bridged_3 + 0.2e-9 && bridged_0 < bridged_3 + 0.35e-9);
+    // Against the bridged reference with the walls reaching the cut (the closest to a shield
+    // without a gap), the model with the gap's correction is within 3 % and the shipped one
+    // 10 % low.
+    let l_walls = open_0 - bridged_0;
+    let (shipped_w, gathered_w) = (
+        x.response.l_outer / l_walls - 1.0,
+        (x.response.l_outer + g.dl_outer) / l_walls - 1.0,
+    );
+    eprintln!(
+        "walls to the cut: FDTD {:.3} nH; shipped {:+.1} %, with the correction {:+.1} %",
+        l_walls * 1e9,
+        shipped_w * 100.0,
+        gathered_w * 100.0
+    );
+    assert!((shipped_w + 0.10).abs() < 0.02, "{shipped_w}");
+    assert!(gathered_w.abs() < 0.04, "{gathered_w}");
 }

@@ -12,6 +12,10 @@
 # Needs Debian's openEMS (see fdtd_refs.py). From the repo root:
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine open
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine bridged
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine open-walls0
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine bridged-walls0
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine open-walls1
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine bridged-walls1
 #     /usr/bin/python3 tests/reference/fdtd_probe_port.py toml > tests/data/fdtd_probe_port.toml
 import json
 import os
@@ -22,6 +26,9 @@ import fdtd_refs as R  # noqa: E402
 import numpy as np  # noqa: E402
 
 VARIANTS = ("open", "bridged")
+# Where the current gathers at the gap: the same pair with the fence walls reaching the cut
+# (`-walls0`) or stopping 1 mm short of it (`-walls1`), against 0.3 mm as built.
+WALL_BACK = {"": 0.3, "-walls0": 0.0, "-walls1": 1.0}
 
 
 def _sim(case, mesh, variant):
@@ -30,10 +37,15 @@ def _sim(case, mesh, variant):
 
 
 def _build(case, mesh, variant):
-    return R.build(case, mesh, drive_probe=True, bridged=(variant == "bridged"))
+    base, _, tag = variant.partition("-")
+    return R.build(case, mesh, drive_probe=True, bridged=(base == "bridged"),
+                   wall_back=WALL_BACK["-" + tag if tag else ""])
 
 
 def run(case, mesh, variant):
+    base, _, tag = variant.partition("-")
+    if base not in VARIANTS or ("-" + tag if tag else "") not in WALL_BACK:
+        sys.exit(f"unknown variant {variant}")
     _, sim = _sim(case, mesh, variant)
     if R.run_engine(_build(case, mesh, variant), sim, sim, {"variant": variant}):
         post(case, mesh, variant)
@@ -70,12 +82,14 @@ def toml_out():
     w("# and excite=0 on the line's; S33 = b3/a3, S13 = b1/a3 (50-ohm waves, matrix-pencil tails).")
     w("# variant 'bridged': PEC sheets over the shield's cut on L1, L3, L4 (x within gap/2 + one")
     w("# cell of the axis, between the ring's inner and outer radius), the trace untouched.")
+    w("# variants '-walls0' and '-walls1': the same with the ring's fence walls reaching the cut")
+    w("# (0 mm) or stopping 1 mm short of it, against 0.3 mm as built.")
     w("# s33_cut_change_deg: the phase change of S33 when only the first 80 % of the record is")
     w("# used (with its own tail): the tail's self-check.")
     w("")
     for case in ("R10", "R5"):
         for mesh in ("coarse", "fine", "finer"):
-            for v in VARIANTS:
+            for v in [b + t for t in WALL_BACK for b in VARIANTS]:
                 p = os.path.join(work, f"{case}-{mesh}-port3-{v}.json")
                 if not os.path.exists(p):
                     continue

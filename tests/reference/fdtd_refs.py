@@ -135,10 +135,11 @@ def rect_xz(x0, x1, z0, z1):
     return [[z0, z0, z1, z1], [x0, x1, x1, x0]]
 
 
-def build(case, mesh_name, drive_probe=False, bridged=False):
+def build(case, mesh_name, drive_probe=False, bridged=False, wall_back=0.3):
     """The FDTD model of one case on one mesh; `drive_probe` excites the probe's port instead
     of the line's input (fdtd_probe_port.py), `bridged` joins the shield across its gap on
-    L1, L3 and L4 (PEC sheets over the cut, the trace untouched)."""
+    L1, L3 and L4 (PEC sheets over the cut, the trace untouched); `wall_back` (mm) is how far
+    the ring's fence walls stop short of the cut (0.3 as built)."""
     m = MESHES[mesh_name]
     d = m["d"]
     z_cu = LINE_H + LINE_T  # line's copper top (the strip itself is modelled as a sheet at LINE_H)
@@ -218,7 +219,7 @@ def build(case, mesh_name, drive_probe=False, bridged=False):
         pec.AddBox([xs_ - 0.15, Y_L4, zs_ - 0.15], [xs_ + 0.15, Y_L1, zs_ + 0.15], priority=10)
         # fences as walls L1..L4: inner and outer ring rows (cut at the gap; the outer row
         # opens where the feed leaves), and the feed's two rows up the handle
-        gcut = GAP / 2 + 0.3
+        gcut = GAP / 2 + wall_back
         rw_i, rw_o = r - FENCE, r + FENCE
         pec.AddLinPoly(_ring_with_gap(zc, rw_i - WALL_T / 2, rw_i + WALL_T / 2, gcut), "y",
                        Y_L4, Y_L1 - Y_L4, priority=10)
