@@ -117,31 +117,7 @@ fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
     use loopwright::physics::{flux_filaments, hx_line};
     let rect = c["variant"].as_str() == Some("rect_plates");
     let r = f(c, "R_mm");
-    // Plate extents as offsets from the centreline, mm.
-    let (lo, hi, base) = if rect {
-        ("d_min_mm", "d_max_mm", 0.0)
-    } else {
-        ("r_min_mm", "r_max_mm", r)
-    };
-    let mut pl = Vec::new();
-    for p in c["plates"].as_array().unwrap() {
-        let z = f(p, "y_mm") * 1e-3;
-        let (a, b) = (f(p, lo) - base, f(p, hi) - base);
-        let cuts: Vec<(f64, f64)> = match p.get("slot_mm").and_then(|s| s.as_array()) {
-            Some(s) => {
-                let (s0, s1) = (s[0].as_float().unwrap(), s[1].as_float().unwrap());
-                vec![(a, s0 - base), (s1 - base, b)]
-            }
-            None => vec![(a, b)],
-        };
-        for (d0, d1) in cuts {
-            pl.push(Plate {
-                z,
-                d0: d0 * 1e-3,
-                d1: d1 * 1e-3,
-            });
-        }
-    }
+    let pl = nec_plates(c);
     let (shape, sc) = if rect {
         let shape = LoopShape::Rect {
             width: f(c, "width_mm"),
@@ -483,4 +459,236 @@ fn rectangle_transimpedance_against_nec2() {
         lo > -0.6 && hi < 0.6,
         "model − NEC from {lo:+.3} to {hi:+.3} dB"
     );
+}
+
+/// The plates of a NEC-2 case as offsets from the centreline, m: `r_min_mm`/`r_max_mm` about
+/// `R_mm` for a round case, `d_min_mm`/`d_max_mm` for the rectangle's offset curves; `slot_mm`
+/// cut out.
+fn nec_plates(c: &toml::Value) -> Vec<Plate> {
+    let (lo, hi, base) = if c["variant"].as_str() == Some("rect_plates") {
+        ("d_min_mm", "d_max_mm", 0.0)
+    } else {
+        ("r_min_mm", "r_max_mm", f(c, "R_mm"))
+    };
+    let mut pl = Vec::new();
+    for p in c["plates"].as_array().unwrap() {
+        let z = f(p, "y_mm") * 1e-3;
+        let (a, b) = (f(p, lo) - base, f(p, hi) - base);
+        let cuts = match p.get("slot_mm").and_then(|s| s.as_array()) {
+            Some(s) => {
+                let (s0, s1) = (s[0].as_float().unwrap(), s[1].as_float().unwrap());
+                vec![(a, s0 - base), (s1 - base, b)]
+            }
+            None => vec![(a, b)],
+        };
+        for (d0, d1) in cuts {
+            pl.push(Plate {
+                z,
+                d0: d0 * 1e-3,
+                d1: d1 * 1e-3,
+            });
+        }
+    }
+    pl
+}
+
+/// NEC-2's (M, L, C) from its complex Z_t = 50·jωM/(Z_L + jωL − ω²L·C·Z_L), Z_L = 50 +
+/// j50·tan βl2: 50jω/Z_t = Z_L·(1/M) + jω·(L/M) − ω²Z_L·(L·C/M) is linear in the three real
+/// unknowns, solved by least squares over NEC's own frequencies up to `f_top`; with
+/// `with_c = false` the third is left out. Returns (M, L, C, rms relative misfit of Z_t).
+fn nec_mlc(top: &toml::Value, c: &toml::Value, f_top: f64, with_c: bool) -> (f64, f64, f64, f64) {
+    use loopwright::physics::Cx;
+    let fl = |k: &str| -> Vec<f64> {
+        c[k].as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_float().or(v.as_integer().map(|i| i as f64)).unwrap())
+            .collect()
+    };
+    let (fr, db, deg) = (fl("nec2_freq_hz"), fl("nec2_zt_db_ohm"), fl("nec2_zt_deg"));
+    let eps = f(top, "eps_eff");
+    let l2 = std::f64::consts::PI * f(c, "R_mm") * 1e-3;
+    let c0 = 299_792_458.0;
+    let rows: Vec<(Cx, [Cx; 3])> = (0..fr.len())
+        .filter(|&i| fr[i] <= f_top)
+        .map(|i| {
+            let w = 2.0 * std::f64::consts::PI * fr[i];
+            let (mag, ph) = (10f64.powf(db[i] / 20.0), deg[i].to_radians());
+            let zt = Cx::new(mag * ph.cos(), mag * ph.sin());
+            let zl = Cx::new(50.0, 50.0 * (w * eps.sqrt() / c0 * l2).tan());
+            let y = Cx::new(0.0, 50.0 * w) / zt;
+            (y, [zl, Cx::new(0.0, w), zl * Cx::new(-w * w, 0.0)])
+        })
+        .collect();
+    let n = if with_c { 3 } else { 2 };
+    // Normal equations of the stacked real and imaginary parts, each row scaled by |y|.
+    let (mut a, mut b) = ([[0.0; 3]; 3], [0.0; 3]);
+    for (y, x) in &rows {
+        let s = 1.0 / y.abs();
+        for part in [|z: Cx| z.re, |z: Cx| z.im] {
+            for i in 0..n {
+                b[i] += part(x[i]) * part(*y) * s * s;
+                for j in 0..n {
+                    a[i][j] += part(x[i]) * part(x[j]) * s * s;
+                }
+            }
+        }
+    }
+    // Gaussian elimination (n ≤ 3, well conditioned after scaling).
+    let mut u = [0.0; 3];
+    for i in 0..n {
+        for k in i + 1..n {
+            let r = a[k][i] / a[i][i];
+            let pivot = a[i];
+            for (akj, aij) in a[k][i..n].iter_mut().zip(&pivot[i..n]) {
+                *akj -= r * aij;
+            }
+            b[k] -= r * b[i];
+        }
+    }
+    for i in (0..n).rev() {
+        u[i] = (b[i] - (i + 1..n).map(|j| a[i][j] * u[j]).sum::<f64>()) / a[i][i];
+    }
+    let (m, l, cg) = (
+        1.0 / u[0],
+        u[1] / u[0],
+        if with_c { u[2] / u[1] } else { 0.0 },
+    );
+    let rms = (rows
+        .iter()
+        .map(|(y, x)| {
+            let fit =
+                x[0] * Cx::new(u[0], 0.0) + x[1] * Cx::new(u[1], 0.0) + x[2] * Cx::new(u[2], 0.0);
+            ((fit + *y * Cx::new(-1.0, 0.0)) / *y).abs().powi(2)
+        })
+        .sum::<f64>()
+        / rows.len() as f64)
+        .sqrt();
+    (m, l, cg, rms)
+}
+
+/// The gap's circuit taken apart against NEC-2 (5 mm loop, grids of 12, 16 and 24 rings per
+/// plate; `nec_mlc` fits NEC's complex Z_t from 63 MHz to the loop's upper usable frequency):
+/// - NEC's grid has a capacitance across its gap: fitting one cuts the misfit of Z_t by more
+///   than three times, to 0.2 %, and gives 0.105, 0.103 and 0.092 pF. The model's gap
+///   capacitance (`physics::elements::gap_capacitance`: the 2-D solution of the cut, a quarter
+///   turn of every copper layer each side, times the ring's width) with the demo stackup's
+///   copper in air (NEC has no dielectric) is 0.105 pF: within 15 % of all three, so the 2-D
+///   estimate has an outside check (in the board it is 0.27 pF, the same solution with the
+///   stackup's dielectrics).
+/// - The mutual inductance: NEC's fitted M, extrapolated in 1/N from 12 and 24 rings, against
+///   the model's with the gap's correction (`physics::shield_gap`, solved with NEC's crossing:
+///   every plate gathered to one wire of 0.06 mm on the centreline) agrees within 2.5 %; the
+///   shipped model (no correction) reads 5–8 % low, which is the 5 mm loop's low-frequency
+///   shortfall in [`transimpedance_matches_nec2_grid_model`].
+/// - NEC's fitted L (3.15–3.20 nH) is above the model's (2.42 nH, 2.63 with the correction):
+///   NEC's bus of thin wires across the plates and the gap adds inductance the board does not
+///   have; not compared.
+#[test]
+fn nec2_gap_capacitance_and_mutual_against_the_model() {
+    use loopwright::field::{
+        Accuracy, Boundary, Conductor, CrossSection, Dielectric, Role, Shape, capacitance_per_m,
+    };
+    use loopwright::physics::{filaments, flux_filaments, hx_line, shield_gap};
+    let top = refs("nec2_refs.toml");
+    let case = |name: &str| {
+        top["case"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["name"].as_str() == Some(name))
+            .unwrap()
+            .clone()
+    };
+    let c12 = case("round_5mm");
+    let r_mm = f(&c12, "R_mm");
+    let upper = 299_792_458.0 / (10.0 * 2.0 * std::f64::consts::PI * r_mm * 1e-3);
+    // The model's gap capacitance in air: the demo stackup's copper (bottom up), air between.
+    let g = f(&c12, "gap_mm");
+    let len = std::f64::consts::PI * 2.0 * r_mm / 4.0;
+    let stack = [
+        (0.035, true),
+        (0.21, false),
+        (0.0175, true),
+        (1.065, false),
+        (0.0175, true),
+        (0.21, false),
+        (0.035, true),
+    ];
+    let (mut layers, mut conductors, mut y) = (Vec::new(), Vec::new(), 0.0);
+    for (t, cu) in stack {
+        layers.push(Dielectric::new(t, 1.0));
+        if cu {
+            conductors.push(Conductor::ground(-g / 2.0 - len, -g / 2.0, y, y + t));
+            conductors.push(Conductor {
+                role: Role::Signal,
+                shape: Shape::Rect {
+                    x0: g / 2.0,
+                    x1: g / 2.0 + len,
+                    y0: y,
+                    y1: y + t,
+                },
+            });
+        }
+        y += t;
+    }
+    let cs = CrossSection {
+        layers,
+        board: Some([-g / 2.0 - len, g / 2.0 + len]),
+        conductors,
+        coat: None,
+        fences: Vec::new(),
+        boundary: Boundary::Open,
+    };
+    let c_model = capacitance_per_m(&cs, Accuracy::Draft).unwrap() * 2.0 * f(&c12, "hw_mm") * 1e-3;
+    let mut ms = Vec::new();
+    for name in ["round_5mm", "round_5mm_rings16", "round_5mm_rings24"] {
+        let c = case(name);
+        let (m, l, cg, rms) = nec_mlc(&top, &c, upper * 1.05, true);
+        let (_, _, _, rms0) = nec_mlc(&top, &c, upper * 1.05, false);
+        eprintln!(
+            "{name}: M {:.2} pH, L {:.3} nH, C {:.3} pF (model in air {:.3} pF); misfit {rms:.4} \
+             ({rms0:.4} without C)",
+            m * 1e12,
+            l * 1e9,
+            cg * 1e12,
+            c_model * 1e12
+        );
+        assert!(rms < 0.003 && rms0 > 3.0 * rms, "{name}: {rms} {rms0}");
+        assert!((c_model / cg - 1.0).abs() < 0.15, "{name}: C {cg:e}");
+        assert!(l > 3.1e-9 && l < 3.25e-9, "{name}: L {l:e}");
+        ms.push(m);
+    }
+    let m_nec = 2.0 * ms[2] - ms[0];
+    // The model's mutual, with and without the gap's correction (NEC's crossing window).
+    let (r, pl) = (r_mm * 1e-3, nec_plates(&c12));
+    let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
+    let shape = loopwright::model::probe::LoopShape::Round {
+        diameter: 2.0 * r_mm,
+    };
+    let h = f(&c12, "h_line_mm") * 1e-3;
+    let z0 = (f(&c12, "z_apex_mm") - f(&c12, "h_line_mm")) * 1e-3;
+    let m0 = MU0 * flux_filaments(&shape, &filaments(&sc, 8), |x, z| hx_line(x, z, h), 0.0, z0);
+    let wire = 2.0 * f(&c12, "wire_radius_mm") * 1e-3;
+    let gc = shield_gap::solve(r, &pl, &sc, wire, g * 1e-3, shield_gap::GAP_MESH).unwrap();
+    let dm: f64 = gc
+        .points
+        .iter()
+        .map(|q| {
+            let depth = r * (1.0 - q.theta.cos());
+            q.w * hx_line(q.z, z0 + depth - q.d * q.theta.cos(), h)
+        })
+        .sum::<f64>()
+        * MU0;
+    let (shipped, corrected) = (m0 / m_nec - 1.0, (m0 + dm) / m_nec - 1.0);
+    eprintln!(
+        "M: NEC {:.2} pH (1/N), model {:.2} pH ({:+.1} %), with the correction {:.2} pH ({:+.1} %)",
+        m_nec * 1e12,
+        m0 * 1e12,
+        shipped * 100.0,
+        (m0 + dm) * 1e12,
+        corrected * 100.0
+    );
+    assert!(corrected.abs() < 0.025, "{corrected}");
+    assert!(shipped < -0.05 && shipped > -0.08, "{shipped}");
 }
