@@ -11,6 +11,7 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 fine
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finer  # third mesh, 12 min
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R10 finer # 3.7 M cells, 37 min
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finest # 3.4 M cells, ~80 min
 # The FM-R10 runs ring for tens of ns (see the TOML header); they were stopped at 6.5 ns by
 # creating a file ABORT in their run folder, and `... post CASE MESH` redoes the S-parameters
 # of a finished or stopped run.
@@ -79,6 +80,8 @@ MESHES = {
     "fine": dict(d=0.11, ny_pre=3, ny_core=5, dmax=1.5, end=1e-4),
     # a third mesh: how the staircase error falls with d (Richardson, observed order)
     "finer": dict(d=0.08, ny_pre=4, ny_core=6, dmax=1.5, end=1e-4),
+    # a fourth (FM-R5 only, about 80 min on two cores): whether the top of the band settles
+    "finest": dict(d=0.06, ny_pre=5, ny_core=8, dmax=1.5, end=1e-4),
 }
 PROBES = {"R10": 10.0, "R5": 5.0}
 
