@@ -5,12 +5,13 @@ Run by .ci/run in a throw-away virtual environment with pinned versions:
     `gerbonara.ExcellonFile.open(path)` for every drill file; any exception or any warning the
     reader raises fails the run, and every file must hold at least one object.
   - PyGerber 3.0.0a4 (PyPI): `pygerber.gerber.api._gerber_job_file.GerberJobFile.from_file(path)`
-    for every Gerber job file: the library's typed model of the Gerber Job Format (Ucamco,
-    revision 2020.08 and later), which requires `Header.CreationDate`,
+    for every Gerber job file (a private module of the library, hence the exact pin): the
+    library's typed model of the Gerber job file, which requires `Header.CreationDate`,
     `Header.GenerationSoftware`, `GeneralSpecs.{ProjectId (Name, GUID, Revision), Size,
     LayerNumber, BoardThickness}`, `FilesAttributes[].{Path, FileFunction, FilePolarity}` and
-    `MaterialStackup[].{Name, Type}`. Beyond the model: the job file's list of files must equal
-    the image and drill files of its folder.
+    `MaterialStackup[].{Name, Type}` with their types (mostly strings: it checks that the
+    fields are there, not their values). Beyond the model: the job file's list of files must
+    equal the image and drill files of its folder.
   - A control that shows the job check can fail: the first job file with its CreationDate
     removed must be refused by the same call.
 

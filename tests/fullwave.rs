@@ -166,13 +166,14 @@ use loopwright::physics::Cx;
 ///   its gap bus. Held at those margins (±3 %) as an open finding of the issue on the probe
 ///   factor: docs/response.md.
 /// - **Where the fence stops** (`-walls0`, `-walls1`: the ring's via walls reaching the cut or
-///   stopping 1 mm short of it, against 0.3 mm as built; fine mesh). The open probe's port
-///   inductance moves by 0.015 nH when the walls reach the cut (+0.18 nH at 1 mm); the bridged
-///   reference by +0.26 nH, and the bridged runs' tail self-check (0.44–0.49° at 10 MHz) is four
-///   to twenty times the open runs'. So the open − bridged value is uncertain by about the
-///   bridge's realisation (0.25 nH, 9 %): against the walls-to-the-cut pair (2.68 nH, the
-///   closest to a shield without a gap) the model with the gap's correction reads 2.9 % low
-///   and the shipped one 9.8 % low (held at 4 % and 10 ± 2 %).
+///   stopping 1 mm short of it, against 0.3 mm as built; fine mesh). Full-record values: the
+///   open probe's port inductance moves by 0.015 nH when the walls reach the cut (+0.18 nH at
+///   1 mm), the bridged reference by +0.26 nH (open − bridged 2.68 nH, where the model with the
+///   gap's correction reads 2.9 % low and the shipped one 9.8 % low).
+/// - **None of these inductances is resolved**: each run's tail self-check (S33 from the first
+///   80 % of the record with its own tail) moves the bridged runs' low-frequency inductance by
+///   3–4 nH and the open runs' by 0.2–1 nH (asserted below). Every margin here is a regression
+///   guard on the recorded data, not a verdict on the model (docs/response.md).
 #[test]
 fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     use loopwright::physics::shield::{RIBBONS_PER_PLATE, solve_round};
@@ -281,9 +282,7 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     assert!(open_10 > open_3 + 0.1e-9 && open_10 < open_3 + 0.3e-9);
     assert!((bridged_10 - bridged_3).abs() < 0.03e-9);
     assert!(bridged_0 > bridged_3 + 0.2e-9 && bridged_0 < bridged_3 + 0.35e-9);
-    // Against the bridged reference with the walls reaching the cut (the closest to a shield
-    // without a gap), the model with the gap's correction is within 3 % and the shipped one
-    // 10 % low.
+    // Against the bridged reference with the walls reaching the cut: recorded margins.
     let l_walls = open_0 - bridged_0;
     let (shipped_w, gathered_w) = (
         x.response.l_outer / l_walls - 1.0,
@@ -297,4 +296,37 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     );
     assert!((shipped_w + 0.10).abs() < 0.02, "{shipped_w}");
     assert!(gathered_w.abs() < 0.04, "{gathered_w}");
+    // The tail self-check: S33 with the recorded phase change of the 80 % record moves the
+    // low-frequency inductance by far more than the differences above.
+    let cut_l = |variant: &str| {
+        let r = top["run"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|r| {
+                r["case"].as_str() == Some("R5")
+                    && r["mesh"].as_str() == Some("fine")
+                    && r["variant"].as_str() == Some(variant)
+            })
+            .unwrap();
+        let change = floats(&r["s33_cut_change_deg"]);
+        let run = port_run(&top, "R5", "fine", variant);
+        let moved: Vec<(f64, Cx, Cx)> = run
+            .iter()
+            .zip(&change)
+            .map(|(&(f, s, t), &d)| {
+                let (c, si) = (d.to_radians().cos(), d.to_radians().sin());
+                (f, s * Cx::new(c, si), t)
+            })
+            .collect();
+        low_l(&moved) - low_l(&run)
+    };
+    for v in ["bridged", "bridged-walls0", "bridged-walls1"] {
+        let d = cut_l(v);
+        assert!(d.abs() > 2.5e-9, "{v}: the tail moves L by {d:e}");
+    }
+    for v in ["open", "open-walls0", "open-walls1"] {
+        let d = cut_l(v);
+        assert!(d.abs() > 0.1e-9 && d.abs() < 1.2e-9, "{v}: {d:e}");
+    }
 }

@@ -152,12 +152,9 @@ fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
     let l_stub = 50.0 * eps.sqrt() * l2 / c0;
     let corner = 50.0 / (2.0 * std::f64::consts::PI * (l_outer + l_stub));
     let upper = c0 / (10.0 * per);
-    let zt = c["freq_hz"]
-        .as_array()
-        .unwrap()
-        .iter()
+    let zt = case_freqs(c)
+        .into_iter()
         .map(|fr| {
-            let fr = fr.as_float().or(fr.as_integer().map(|i| i as f64)).unwrap();
             let w = 2.0 * std::f64::consts::PI * fr;
             let x = w * l_outer + 50.0 * (w * eps.sqrt() / c0 * l2).tan();
             (
@@ -167,6 +164,26 @@ fn model_zt(c: &toml::Value, top: &toml::Value) -> (Vec<(f64, f64)>, f64, f64) {
         })
         .collect();
     (zt, corner, upper)
+}
+
+/// The NEC-2 case of that name.
+fn nec_case(top: &toml::Value, name: &str) -> Option<toml::Value> {
+    top["case"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["name"].as_str() == Some(name))
+        .cloned()
+}
+
+/// A NEC-2 case's frequencies, Hz (written as integers or floats).
+fn case_freqs(c: &toml::Value) -> Vec<f64> {
+    c["freq_hz"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_float().or(v.as_integer().map(|i| i as f64)).unwrap())
+        .collect()
 }
 
 /// NEC's Z_t of a case in dBΩ; for a loop with a ring-count study (cases `<name>_rings<N>`),
@@ -534,7 +551,7 @@ fn nec_mlc(top: &toml::Value, c: &toml::Value, f_top: f64, with_c: bool) -> (f64
             }
         }
     }
-    // Gaussian elimination (n ≤ 3, well conditioned after scaling).
+    // Gaussian elimination without pivoting (n ≤ 3; the normal matrix is positive definite).
     let mut u = [0.0; 3];
     for i in 0..n {
         for k in i + 1..n {
@@ -698,50 +715,46 @@ fn nec_bus_inductance(plates: &[(f64, f64)], gap: f64, a: f64, la: f64) -> f64 {
         at: (0.0, 0.0),
         i: plates.iter().map(|p| p.1).sum(),
     });
-    let r = a * (-0.25f64).exp();
-    filament_energy(&nec, r) - filament_energy(&model, r)
+    // NEC's thin-wire current flows on the wire's surface: a tube's own GMD is its radius.
+    filament_energy(&nec, a) - filament_energy(&model, a)
 }
 
 /// The gap's circuit taken apart against NEC-2 (5 mm loop, grids of 12, 16 and 24 rings per
 /// plate; `nec_mlc` fits NEC's complex Z_t from 63 MHz to the loop's upper usable frequency):
-/// - NEC's grid has a capacitance across its gap: fitting one cuts the misfit of Z_t by more
-///   than three times, to 0.2 %, and gives 0.105, 0.103 and 0.092 pF. The model's gap
-///   capacitance (`physics::elements::gap_capacitance`: the 2-D solution of the cut, a quarter
-///   turn of every copper layer each side, times the ring's width) with the demo stackup's
-///   copper in air (NEC has no dielectric) is 0.105 pF: within 15 % of all three, so the 2-D
-///   estimate has an outside check (in the board it is 0.27 pF, the same solution with the
-///   stackup's dielectrics).
+/// - NEC's grid has a capacitance across its gap: fitting one cuts the misfit of Z_t by 2.4 to
+///   4.8 times, and gives 0.100, 0.100 and 0.084 pF (12, 16, 24 rings; its wires thin as 1/N),
+///   0.068 pF at the 1/N extrapolation. The model's gap capacitance
+///   (`physics::elements::gap_capacitance`: the 2-D solution of the cut, a quarter turn of
+///   every copper layer each side, times the ring's width) with the demo stackup's copper in
+///   air (NEC has no dielectric) is 0.105 pF: 5–25 % above each grid and 54 % above the
+///   extrapolation. So NEC confirms a capacitance of that size and suggests the 2-D estimate
+///   is high, by up to half; NEC's fitted C also holds its bus's own capacitance, so it is not
+///   a finer check than that (in the board the model's value is 0.27 pF, the same solution
+///   with the stackup's dielectrics).
 /// - The mutual inductance: NEC's fitted M, extrapolated in 1/N from 12 and 24 rings, against
 ///   the model's with the gap's correction (`physics::shield_gap`, solved with NEC's crossing:
-///   every plate gathered to one wire of 0.06 mm on the centreline) agrees within 2.5 %; the
-///   shipped model (no correction) reads 5–8 % low, which is the 5 mm loop's low-frequency
-///   shortfall in [`transimpedance_matches_nec2_grid_model`].
-/// - NEC's fitted L (3.15–3.20 nH) is above the model's (2.42 nH, 2.63 with the correction):
+///   every plate gathered to one wire of the grid's radius on the centreline, put through the
+///   same 1/N combination) agrees within 2.5 %; the shipped model (no correction) reads 5–8 %
+///   low, which is the 5 mm loop's low-frequency shortfall in
+///   [`transimpedance_matches_nec2_grid_model`].
+/// - NEC's fitted L (3.1–3.25 nH) is above the model's (2.42 nH, 2.63 with the correction):
 ///   NEC's bus of thin wires across the plates and the gap adds inductance the board does not
-///   have; not compared.
+///   have ([`nec_bus_inductance`]).
 #[test]
 fn nec2_gap_capacitance_and_mutual_against_the_model() {
     use loopwright::physics::{filaments, flux_filaments, hx_line, shield_gap};
     let top = refs("nec2_refs.toml");
-    let case = |name: &str| {
-        top["case"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .find(|c| c["name"].as_str() == Some(name))
-            .unwrap()
-            .clone()
-    };
+    let case = |name: &str| nec_case(&top, name).unwrap();
     let c12 = case("round_5mm");
     let r_mm = f(&c12, "R_mm");
     let upper = 299_792_458.0 / (10.0 * 2.0 * std::f64::consts::PI * r_mm * 1e-3);
     let g = f(&c12, "gap_mm");
     let c_model = gap_capacitance_in_air(&c12);
-    let mut ms = Vec::new();
+    let (mut ms, mut cs) = (Vec::new(), Vec::new());
     for name in ["round_5mm", "round_5mm_rings16", "round_5mm_rings24"] {
         let c = case(name);
-        let (m, l, cg, rms) = nec_mlc(&top, &c, upper * 1.05, true);
-        let (_, _, _, rms0) = nec_mlc(&top, &c, upper * 1.05, false);
+        let (m, l, cg, rms) = nec_mlc(&top, &c, upper, true);
+        let (_, _, _, rms0) = nec_mlc(&top, &c, upper, false);
         eprintln!(
             "{name}: M {:.2} pH, L {:.3} nH, C {:.3} pF (model in air {:.3} pF); misfit {rms:.4} \
              ({rms0:.4} without C)",
@@ -750,11 +763,18 @@ fn nec2_gap_capacitance_and_mutual_against_the_model() {
             cg * 1e12,
             c_model * 1e12
         );
-        assert!(rms < 0.003 && rms0 > 3.0 * rms, "{name}: {rms} {rms0}");
-        assert!((c_model / cg - 1.0).abs() < 0.15, "{name}: C {cg:e}");
+        assert!(rms < 0.003 && rms0 > 2.0 * rms, "{name}: {rms} {rms0}");
         assert!(l > 3.1e-9 && l < 3.25e-9, "{name}: L {l:e}");
         ms.push(m);
+        cs.push(cg);
     }
+    let c_nec = 2.0 * cs[2] - cs[0];
+    eprintln!("C: NEC 1/N {:.3} pF", c_nec * 1e12);
+    // The model's value is above every grid's and within 60 % of the extrapolation.
+    for cg in &cs {
+        assert!(c_model > *cg && c_model < 1.3 * cg, "C {cg:e}");
+    }
+    assert!(c_nec > 0.0 && c_model < 1.6 * c_nec, "C 1/N {c_nec:e}");
     let m_nec = 2.0 * ms[2] - ms[0];
     // The model's mutual, with and without the gap's correction (NEC's crossing window).
     let (r, pl) = (r_mm * 1e-3, nec_plates(&c12));
@@ -765,17 +785,19 @@ fn nec2_gap_capacitance_and_mutual_against_the_model() {
     let h = f(&c12, "h_line_mm") * 1e-3;
     let z0 = (f(&c12, "z_apex_mm") - f(&c12, "h_line_mm")) * 1e-3;
     let m0 = MU0 * flux_filaments(&shape, &filaments(&sc, 8), |x, z| hx_line(x, z, h), 0.0, z0);
-    let wire = 2.0 * f(&c12, "wire_radius_mm") * 1e-3;
-    let gc = shield_gap::solve(r, &pl, &sc, wire, g * 1e-3, shield_gap::GAP_MESH).unwrap();
-    let dm: f64 = gc
-        .points
-        .iter()
-        .map(|q| {
-            let depth = r * (1.0 - q.theta.cos());
-            q.w * hx_line(q.z, z0 + depth - q.d * q.theta.cos(), h)
-        })
-        .sum::<f64>()
-        * MU0;
+    let dm_with = |c: &toml::Value| {
+        let wire = 2.0 * f(c, "wire_radius_mm") * 1e-3;
+        let gc = shield_gap::solve(r, &pl, &sc, wire, g * 1e-3, shield_gap::GAP_MESH).unwrap();
+        gc.points
+            .iter()
+            .map(|q| {
+                let depth = r * (1.0 - q.theta.cos());
+                q.w * hx_line(q.z, z0 + depth - q.d * q.theta.cos(), h)
+            })
+            .sum::<f64>()
+            * MU0
+    };
+    let dm = 2.0 * dm_with(&case("round_5mm_rings24")) - dm_with(&c12);
     let (shipped, corrected) = (m0 / m_nec - 1.0, (m0 + dm) / m_nec - 1.0);
     eprintln!(
         "M: NEC {:.2} pH (1/N), model {:.2} pH ({:+.1} %), with the correction {:.2} pH ({:+.1} %)",
@@ -790,25 +812,25 @@ fn nec2_gap_capacitance_and_mutual_against_the_model() {
 }
 
 /// NEC-2 compared like for like with the model of the probe factor's next step (the gap's
-/// correction in the predictions): every round loop (5 mm at its 1/N extrapolation), its
-/// transimpedance from a decade below the corner to the upper usable frequency, with the
-/// model's circuit of NEC's own geometry at the gap: the correction solved for NEC's crossing
-/// (each plate gathered to a wire on the centreline), the model's gap capacitance in air, and
-/// the inductance of NEC's bus ([`nec_bus_inductance`], 0.39 nH on the demo's cross-section).
-/// Within 0.4 dB for every loop, where the shipped model (no correction) holds only 0.6 dB on
-/// 5 mm ([`transimpedance_matches_nec2_grid_model`]).
+/// correction in the predictions): every round loop, its transimpedance from a decade below
+/// the corner to the upper usable frequency, with the model's circuit of NEC's own geometry at
+/// the gap: the correction solved for NEC's crossing (each plate gathered to a wire of the
+/// grid's own radius on the centreline), the model's gap capacitance in air, and the
+/// inductance of NEC's bus ([`nec_bus_inductance`] with the grid's wire radius; 2 mm of
+/// approach, within 2 % of 1 mm and 4 mm). The 5 mm loop is compared at NEC's 1/N
+/// extrapolation with the model put through the same combination (each grid's model with its
+/// own wire radius, 2·Z24 − Z12). Within 0.25 dB for every loop (held at 0.4 dB), where the shipped model (no
+/// correction) holds only 0.6 dB on 5 mm ([`transimpedance_matches_nec2_grid_model`]).
 #[test]
 fn corrected_model_matches_nec2_like_for_like() {
     use loopwright::model::probe::LoopShape;
     use loopwright::physics::{Cx, filaments, flux_filaments, hx_line, shield_gap};
     let top = refs("nec2_refs.toml");
     let (c0, eps) = (299_792_458.0, f(&top, "eps_eff"));
-    let mut worst = 0.0f64;
-    for c in top["case"].as_array().unwrap() {
-        let name = c["name"].as_str().unwrap();
-        if c["variant"].as_str() != Some("plates") || name.contains("_rings") {
-            continue;
-        }
+    let case = |name: &str| nec_case(&top, name);
+    // The model's |Z_t| (dBΩ) of NEC's geometry in case `c` with the wire radius of case `w`,
+    // at c's frequencies; and the band (corner/10, upper).
+    let model_db = |c: &toml::Value, w: &toml::Value| -> (Vec<f64>, f64, f64) {
         let r_mm = f(c, "R_mm");
         let (r, pl) = (r_mm * 1e-3, nec_plates(c));
         let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
@@ -819,7 +841,7 @@ fn corrected_model_matches_nec2_like_for_like() {
         let z0 = (f(c, "z_apex_mm") - f(c, "h_line_mm")) * 1e-3;
         let hx = |x: f64, z: f64| hx_line(x, z, h);
         let m0 = MU0 * flux_filaments(&shape, &filaments(&sc, 8), hx, 0.0, z0);
-        let a = f(c, "wire_radius_mm") * 1e-3;
+        let a = f(w, "wire_radius_mm") * 1e-3;
         let g = f(c, "gap_mm") * 1e-3;
         let gc = shield_gap::solve(r, &pl, &sc, 2.0 * a, g, shield_gap::GAP_MESH).unwrap();
         let dm = MU0
@@ -834,37 +856,59 @@ fn corrected_model_matches_nec2_like_for_like() {
             .map(|(k, p)| (p.z, sc.share[k * n..(k + 1) * n].iter().sum()))
             .collect();
         let bus = nec_bus_inductance(&shares, g, a, 2e-3);
+        let spread = [1e-3, 4e-3].map(|la| nec_bus_inductance(&shares, g, a, la) / bus - 1.0);
+        assert!(spread.iter().all(|d| d.abs() < 0.02), "{spread:?}");
         let (m, l, cg) = (
             m0 + dm,
             sc.l_outer + gc.dl_outer + bus,
             gap_capacitance_in_air(c),
         );
-        let l2 = std::f64::consts::PI * r;
-        let corner =
-            50.0 / (2.0 * std::f64::consts::PI * (sc.l_outer + 50.0 * eps.sqrt() * l2 / c0));
-        let upper = c0 / (10.0 * 2.0 * std::f64::consts::PI * r);
-        let nec = nec_zt(&top, c);
-        let mut line = String::new();
-        for (k, fr) in c["freq_hz"].as_array().unwrap().iter().enumerate() {
-            let fr = fr.as_float().or(fr.as_integer().map(|i| i as f64)).unwrap();
-            if fr < corner / 10.0 || fr > upper {
-                continue;
-            }
-            let w = 2.0 * std::f64::consts::PI * fr;
-            let zl = Cx::new(50.0, 50.0 * (w * eps.sqrt() / c0 * l2).tan());
-            let den = zl + Cx::new(0.0, w * l) + zl * Cx::new(-w * w * l * cg, 0.0);
-            let zt = Cx::new(0.0, 50.0 * w * m) / den;
-            let d = 20.0 * zt.abs().log10() - nec[k];
-            line += &format!(" {fr:.2e}:{d:+.2}");
-            worst = worst.max(d.abs());
-            assert!(d.abs() < 0.4, "{name} at {fr:.3e} Hz: {d:+.3} dB");
-        }
         eprintln!(
-            "{name}: bus {:.3} nH, C {:.3} pF, ΔM {:+.1} %:{line}",
+            "{} (wire {:.4} mm): bus {:.3} nH, C {:.3} pF, ΔM {:+.1} %",
+            c["name"],
+            a * 1e3,
             bus * 1e9,
             cg * 1e12,
             dm / m0 * 100.0
         );
+        let l2 = std::f64::consts::PI * r;
+        let corner =
+            50.0 / (2.0 * std::f64::consts::PI * (sc.l_outer + 50.0 * eps.sqrt() * l2 / c0));
+        let upper = c0 / (10.0 * 2.0 * std::f64::consts::PI * r);
+        let db = case_freqs(c)
+            .into_iter()
+            .map(|fr| {
+                let w = 2.0 * std::f64::consts::PI * fr;
+                let zl = Cx::new(50.0, 50.0 * (w * eps.sqrt() / c0 * l2).tan());
+                let den = zl + Cx::new(0.0, w * l) + zl * Cx::new(-w * w * l * cg, 0.0);
+                20.0 * (Cx::new(0.0, 50.0 * w * m) / den).abs().log10()
+            })
+            .collect();
+        (db, corner, upper)
+    };
+    let mut worst = 0.0f64;
+    for c in top["case"].as_array().unwrap() {
+        let name = c["name"].as_str().unwrap();
+        if c["variant"].as_str() != Some("plates") || name.contains("_rings") {
+            continue;
+        }
+        let (mut db, corner, upper) = model_db(c, c);
+        if let Some(c24) = case(&format!("{name}_rings24")) {
+            let (db24, _, _) = model_db(c, &c24);
+            db = db24.iter().zip(&db).map(|(b, a)| 2.0 * b - a).collect();
+        }
+        let nec = nec_zt(&top, c);
+        let mut line = String::new();
+        for (k, fr) in case_freqs(c).into_iter().enumerate() {
+            if fr < corner / 10.0 || fr > upper {
+                continue;
+            }
+            let d = db[k] - nec[k];
+            line += &format!(" {fr:.2e}:{d:+.2}");
+            worst = worst.max(d.abs());
+            assert!(d.abs() < 0.4, "{name} at {fr:.3e} Hz: {d:+.3} dB");
+        }
+        eprintln!("{name}:{line}");
     }
     eprintln!("worst {worst:.3} dB");
 }
