@@ -44,10 +44,10 @@
 //!
 //! **Status:** not yet used by the predictions. On the demo's 5 mm loop it brings the
 //! low-frequency S21 within 0.15 dB of FDTD (from 0.65–0.8 dB low) and its coupling within
-//! 1.5 % of NEC-2's, but leaves the top of the band 1.5 dB high against FDTD, where the FDTD's
-//! electrically long line and unconverged meshes are the suspects (the gap capacitance is
-//! confirmed in size by NEC-2; the FDTD's inductance at the gap is not resolved); the line
-//! spacing moves ΔA by about 20 % (halving it: 0.70 → 0.85 mm² on the 5 mm loop).
+//! 1.5 % of NEC-2's, but leaves the top of the band 1.36 dB high against FDTD's finest mesh;
+//! the 2-D gap capacitance (NEC-2 suggests it is high) and the FDTD's electrically long line
+//! are the suspects. The line spacing moves ΔA by about 20 % (halving it: 0.70 → 0.85 mm² on
+//! the 5 mm loop).
 //! docs/response.md has the numbers.
 
 use super::MU0;

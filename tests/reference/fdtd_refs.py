@@ -11,7 +11,10 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 fine
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finer  # third mesh, 12 min
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R10 finer # 3.7 M cells, 37 min
-#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finest # 3.4 M cells, ~80 min
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_refs.py run R5 finest # 3.4 M cells, 42 min
+# The finest run was recorded after the others, appended to the file with its Richardson table
+# of the three finest meshes:
+#     /usr/bin/python3 tests/reference/fdtd_refs.py append R5 finest >> tests/data/fdtd_refs.toml
 # The FM-R10 runs ring for tens of ns (see the TOML header); they were stopped at 6.5 ns by
 # creating a file ABORT in their run folder, and `... post CASE MESH` redoes the S-parameters
 # of a finished or stopped run.
@@ -82,6 +85,9 @@ MESHES = {
     "finer": dict(d=0.08, ny_pre=4, ny_core=6, dmax=1.5, end=1e-4),
     # a fourth (FM-R5 only, about 80 min on two cores): whether the top of the band settles
     "finest": dict(d=0.06, ny_pre=5, ny_core=8, dmax=1.5, end=1e-4),
+    # the fine mesh run on to -50 dB (probe-driven runs: whether their low-frequency port
+    # inductance, which the -40 dB record leaves to its tail, settles)
+    "fine-long": dict(d=0.11, ny_pre=3, ny_core=5, dmax=1.5, end=1e-5),
 }
 PROBES = {"R10": 10.0, "R5": 5.0}
 
@@ -489,6 +495,104 @@ SIMPLIFICATIONS = [
 ]
 
 
+def _run_block(w, case, mesh, r):
+    """One [[run]] table: the run facts of one JSON result."""
+    mp, g = r["mesh_params"], r.get("geo") or {}
+    row = dict(case=f"'{case}'", mesh=f"'{mesh}'", cell_probe_region_mm=mp["d"],
+               cells_prepreg=mp["ny_pre"], cells_core=mp["ny_core"], cell_max_mm=mp["dmax"],
+               end_criterion=mp["end"], lines_xyz=[r["nx"], r["ny"], r["nz"]],
+               cells=r["cells"], min_cell_mm=round(r["min_cell_mm"], 4), dt_s=r["dt_s"],
+               timesteps=r["timesteps"], simulated_time_s=float(f"{r['time_end_s']:.4e}"),
+               end_energy_db=r["end_energy_db"], run_seconds=r["run_seconds"])
+    reached = r["end_energy_db"] is not None and r["end_energy_db"] <= 10 * math.log10(mp["end"])
+    row["stopped_by"] = ("'end criterion'" if reached else
+                         "'hand (ABORT file in the run folder): time budget; see the tail'")
+    for k in ("zc", "apex_centreline", "tip", "handle_end"):
+        if k in g:
+            row[{"zc": "loop_centre"}.get(k, k) + "_z_mm"] = round(g[k], 4)
+    w("[[run]]")
+    for k, v in row.items():
+        w(f"{k} = {v}")
+    w("")
+
+
+def _sparam_block(w, case, mesh, r):
+    """One [[sparam]] table: every frequency of one run."""
+    f = r["freq_hz"]
+    w("[[sparam]]")
+    w(f"case = '{case}'\nmesh = '{mesh}'")
+    w(f"freq_hz = {_arr(f, '{:.6e}')}")
+    for k in ("s21_probe", "s21_thru", "s11"):
+        if k in r:
+            c = _cplx(r[k])
+            w(f"{k}_db = {_arr([_db(v) for v in c])}")
+            w(f"{k}_deg = {_arr([_deg(v) for v in c], '{:.2f}')}")
+            w(f"{k}_raw_db = {_arr([_db(v) for v in _cplx(r[k + '_raw'])])}")
+            w(f"{k}_cut_change_db = {_arr(r[k + '_cut_change_db'])}")
+    if "s21_probe" in r:
+        band = [i for i, fr in enumerate(f) if BAND_NP[0] <= fr <= BAND_NP[1]]
+        mags = [_db(_cplx(r["s21_probe"])[i]) for i in band]
+        lo, hi = band[int(np.argmin(mags))], band[int(np.argmax(mags))]
+        if lo not in (band[0], band[-1]):  # an interior minimum only (FM-R5 has none)
+            w(f"null_hz = {f[lo]:.4e}\nnull_db = {_db(complex(*r['s21_probe'][lo])):.2f}")
+        if hi not in (band[0], band[-1]):
+            w(f"peak_hz = {f[hi]:.4e}\npeak_db = {_db(complex(*r['s21_probe'][hi])):.2f}")
+    for n, d in enumerate(r.get("tail_fit", []), start=1):
+        w(f"tail_fit_port{n} = {{ order = {d['order']}, max_abs_z = {d['max_abs_z']:.6f}, "
+          f"rms_resid = {d['resid']:.3e}, used = {str(d['tail_used']).lower()} }}")
+    w("")
+
+
+def _richardson_block(w, case, ms, runs):
+    """A [[richardson]] table from three meshes `ms` (coarsest first) of `case`."""
+    # Richardson extrapolation of |S21| in dB to a zero cell (the probe region's cell d):
+    # the observed order p from three meshes, per frequency, where the changes share a sign
+    # and p falls in [0.5, 4]; the extrapolated value m0 = m3 + (m3 - m2)/((d2/d3)^p - 1).
+    ds = [MESHES[m]["d"] for m in ms]
+    mags = [[_db(v) for v in _cplx(runs[(case, m)]["s21_probe"])] for m in ms]
+    fr = runs[(case, ms[-1])]["freq_hz"]
+    pp, m0 = [], []
+    for i in range(len(fr)):
+        a, b, c = (mags[0][i], mags[1][i], mags[2][i])
+        e1, e2 = b - a, c - b
+        p = None
+        if e1 * e2 > 0 and abs(e2) > 1e-4:
+            g = lambda q: (ds[0] ** q - ds[1] ** q) / (ds[1] ** q - ds[2] ** q) - e1 / e2
+            lo, hi = 0.5, 4.0
+            if g(lo) * g(hi) < 0:
+                for _ in range(60):
+                    mid = 0.5 * (lo + hi)
+                    lo, hi = (mid, hi) if g(lo) * g(mid) > 0 else (lo, mid)
+                p = 0.5 * (lo + hi)
+        pp.append(p)
+        m0.append(None if p is None else c + e2 / ((ds[1] / ds[2]) ** p - 1))
+    w("[[richardson]]")
+    w(f"case = '{case}'")
+    w(f"meshes = {ms}")
+    w(f"cell_probe_region_mm = {ds}")
+    w(f"freq_hz = {_arr(fr, '{:.6e}')}")
+    w("# nan where the three meshes do not converge monotonically (order undefined)")
+    w("order = [" + ", ".join("nan" if p is None else f"{p:.3f}" for p in pp) + "]")
+    w(f"extrapolated_db = [{', '.join('nan' if v is None else f'{v:.4f}' for v in m0)}]")
+    w("")
+
+
+def _table_block(w, case, mesh, r):
+    """One [[table]]: |S21| and phase at the table frequencies."""
+    k = "s21_probe" if "s21_probe" in r else "s21_thru"
+    c = _cplx(r[k])
+    idx = [r["freq_hz"].index(t) for t in TABLE_F]
+    w("[[table]]")
+    w(f"case = '{case}'\nmesh = '{mesh}'\nquantity = '{k}'")
+    w(f"freq_hz = {_arr(TABLE_F, '{:.0f}')}")
+    w(f"mag_db = {_arr([_db(c[i]) for i in idx], '{:.2f}')}")
+    w(f"phase_deg = {_arr([_deg(c[i]) for i in idx], '{:.1f}')}")
+    if case == "line":
+        s11 = _cplx(r["s11"])
+        w(f"s11_db = {_arr([_db(s11[i]) for i in idx], '{:.2f}')}")
+    w("")
+
+
 def toml_out():
     work = os.environ.get("FDTD_WORK", "/tmp/loopwright-fdtd")
     runs = {}
@@ -555,47 +659,9 @@ def toml_out():
     w(f"table_freq_hz = {_arr(TABLE_F, '{:.0f}')}")
     w("")
     for (case, mesh), r in runs.items():
-        mp, g = r["mesh_params"], r.get("geo") or {}
-        row = dict(case=f"'{case}'", mesh=f"'{mesh}'", cell_probe_region_mm=mp["d"],
-                   cells_prepreg=mp["ny_pre"], cells_core=mp["ny_core"], cell_max_mm=mp["dmax"],
-                   end_criterion=mp["end"], lines_xyz=[r["nx"], r["ny"], r["nz"]],
-                   cells=r["cells"], min_cell_mm=round(r["min_cell_mm"], 4), dt_s=r["dt_s"],
-                   timesteps=r["timesteps"], simulated_time_s=float(f"{r['time_end_s']:.4e}"),
-                   end_energy_db=r["end_energy_db"], run_seconds=r["run_seconds"])
-        reached = r["end_energy_db"] is not None and r["end_energy_db"] <= 10 * math.log10(mp["end"])
-        row["stopped_by"] = ("'end criterion'" if reached else
-                             "'hand (ABORT file in the run folder): time budget; see the tail'")
-        for k in ("zc", "apex_centreline", "tip", "handle_end"):
-            if k in g:
-                row[{"zc": "loop_centre"}.get(k, k) + "_z_mm"] = round(g[k], 4)
-        w("[[run]]")
-        for k, v in row.items():
-            w(f"{k} = {v}")
-        w("")
+        _run_block(w, case, mesh, r)
     for (case, mesh), r in runs.items():
-        f = r["freq_hz"]
-        w("[[sparam]]")
-        w(f"case = '{case}'\nmesh = '{mesh}'")
-        w(f"freq_hz = {_arr(f, '{:.6e}')}")
-        for k in ("s21_probe", "s21_thru", "s11"):
-            if k in r:
-                c = _cplx(r[k])
-                w(f"{k}_db = {_arr([_db(v) for v in c])}")
-                w(f"{k}_deg = {_arr([_deg(v) for v in c], '{:.2f}')}")
-                w(f"{k}_raw_db = {_arr([_db(v) for v in _cplx(r[k + '_raw'])])}")
-                w(f"{k}_cut_change_db = {_arr(r[k + '_cut_change_db'])}")
-        if "s21_probe" in r:
-            band = [i for i, fr in enumerate(f) if BAND_NP[0] <= fr <= BAND_NP[1]]
-            mags = [_db(_cplx(r["s21_probe"])[i]) for i in band]
-            lo, hi = band[int(np.argmin(mags))], band[int(np.argmax(mags))]
-            if lo not in (band[0], band[-1]):  # an interior minimum only (FM-R5 has none)
-                w(f"null_hz = {f[lo]:.4e}\nnull_db = {_db(complex(*r['s21_probe'][lo])):.2f}")
-            if hi not in (band[0], band[-1]):
-                w(f"peak_hz = {f[hi]:.4e}\npeak_db = {_db(complex(*r['s21_probe'][hi])):.2f}")
-        for n, d in enumerate(r.get("tail_fit", []), start=1):
-            w(f"tail_fit_port{n} = {{ order = {d['order']}, max_abs_z = {d['max_abs_z']:.6f}, "
-              f"rms_resid = {d['resid']:.3e}, used = {str(d['tail_used']).lower()} }}")
-        w("")
+        _sparam_block(w, case, mesh, r)
     for case in ("R10", "R5"):
         if (case, "coarse") in runs and (case, "fine") in runs:
             rc, rf = runs[(case, "coarse")], runs[(case, "fine")]
@@ -618,52 +684,44 @@ def toml_out():
             w("")
     for case in ("R10", "R5"):
         ms = [m for m in ("coarse", "fine", "finer") if (case, m) in runs]
-        if len(ms) < 3:
-            continue
-        # Richardson extrapolation of |S21| in dB to a zero cell (the probe region's cell d):
-        # the observed order p from three meshes, per frequency, where the changes share a sign
-        # and p falls in [0.5, 4]; the extrapolated value m0 = m3 + (m3 - m2)/((d2/d3)^p - 1).
-        ds = [MESHES[m]["d"] for m in ms]
-        mags = [[_db(v) for v in _cplx(runs[(case, m)]["s21_probe"])] for m in ms]
-        fr = runs[(case, ms[-1])]["freq_hz"]
-        pp, m0 = [], []
-        for i in range(len(fr)):
-            a, b, c = (mags[0][i], mags[1][i], mags[2][i])
-            e1, e2 = b - a, c - b
-            p = None
-            if e1 * e2 > 0 and abs(e2) > 1e-4:
-                g = lambda q: (ds[0] ** q - ds[1] ** q) / (ds[1] ** q - ds[2] ** q) - e1 / e2
-                lo, hi = 0.5, 4.0
-                if g(lo) * g(hi) < 0:
-                    for _ in range(60):
-                        mid = 0.5 * (lo + hi)
-                        lo, hi = (mid, hi) if g(lo) * g(mid) > 0 else (lo, mid)
-                    p = 0.5 * (lo + hi)
-            pp.append(p)
-            m0.append(None if p is None else c + e2 / ((ds[1] / ds[2]) ** p - 1))
-        w("[[richardson]]")
-        w(f"case = '{case}'")
-        w(f"meshes = {ms}")
-        w(f"cell_probe_region_mm = {ds}")
-        w(f"freq_hz = {_arr(fr, '{:.6e}')}")
-        w("# nan where the three meshes do not converge monotonically (order undefined)")
-        w("order = [" + ", ".join("nan" if p is None else f"{p:.3f}" for p in pp) + "]")
-        w(f"extrapolated_db = [{', '.join('nan' if v is None else f'{v:.4f}' for v in m0)}]")
-        w("")
+        if len(ms) == 3:
+            _richardson_block(w, case, ms, runs)
     w("# |S21| (dB re the wave incident on the line) at the table frequencies")
     for (case, mesh), r in runs.items():
-        k = "s21_probe" if "s21_probe" in r else "s21_thru"
-        c = _cplx(r[k])
-        idx = [r["freq_hz"].index(t) for t in TABLE_F]
-        w("[[table]]")
-        w(f"case = '{case}'\nmesh = '{mesh}'\nquantity = '{k}'")
-        w(f"freq_hz = {_arr(TABLE_F, '{:.0f}')}")
-        w(f"mag_db = {_arr([_db(c[i]) for i in idx], '{:.2f}')}")
-        w(f"phase_deg = {_arr([_deg(c[i]) for i in idx], '{:.1f}')}")
-        if case == "line":
-            s11 = _cplx(r["s11"])
-            w(f"s11_db = {_arr([_db(s11[i]) for i in idx], '{:.2f}')}")
-        w("")
+        _table_block(w, case, mesh, r)
+    print("\n".join(o))
+
+
+def toml_append(case, mesh):
+    """The blocks of one later run (its JSON under $FDTD_WORK) to append to the recorded file,
+    and a Richardson table of the three finest meshes, the other two read back from the file
+    (their |S21| in dB as recorded, 4 decimals: what the extrapolation uses)."""
+    import tomllib
+    work = os.environ.get("FDTD_WORK", "/tmp/loopwright-fdtd")
+    here = os.path.dirname(os.path.abspath(__file__))
+    rec = tomllib.load(open(os.path.join(here, "..", "data", "fdtd_refs.toml"), "rb"))
+    r = json.load(open(os.path.join(work, f"{case}-{mesh}.json")))
+    runs = {}
+    for sp in rec["sparam"]:
+        if sp["case"] == case and "s21_probe_db" in sp:
+            c = [10 ** (m / 20) * np.exp(1j * math.radians(a))
+                 for m, a in zip(sp["s21_probe_db"], sp["s21_probe_deg"])]
+            runs[(case, sp["mesh"])] = {"freq_hz": sp["freq_hz"],
+                                        "s21_probe": [[v.real, v.imag] for v in c]}
+    runs[(case, mesh)] = r
+    o = []
+    w = o.append
+    day = time.strftime('%Y-%m-%d', time.gmtime())
+    w(f"# Appended: {case} on the '{mesh}' mesh (recorded {day}, same script and packages), by")
+    w(f"#   /usr/bin/python3 tests/reference/fdtd_refs.py append {case} {mesh}"
+      " >> tests/data/fdtd_refs.toml")
+    w("# and a Richardson table of the three finest meshes, the coarser two read back from this")
+    w("# file (|S21| dB as recorded above).")
+    _run_block(w, case, mesh, r)
+    _sparam_block(w, case, mesh, r)
+    ms = sorted((m for (c, m) in runs if c == case), key=lambda m: -MESHES[m]["d"])[-3:]
+    _richardson_block(w, case, ms, runs)
+    _table_block(w, case, mesh, r)
     print("\n".join(o))
 
 
@@ -674,3 +732,5 @@ if __name__ == "__main__":
         post(sys.argv[2], sys.argv[3])
     elif sys.argv[1] == "toml":
         toml_out()
+    elif sys.argv[1] == "append":
+        toml_append(sys.argv[2], sys.argv[3])
