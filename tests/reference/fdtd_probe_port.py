@@ -17,6 +17,12 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine open-walls1
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine bridged-walls1
 #     /usr/bin/python3 tests/reference/fdtd_probe_port.py toml > tests/data/fdtd_probe_port.toml
+# Run on to -50 dB (the -40 dB records leave the low-frequency port inductance to their tails;
+# these settle it), then appended to the recorded file:
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine-long bridged
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_probe_port.py run R5 fine-long open
+#     /usr/bin/python3 tests/reference/fdtd_probe_port.py append R5 fine-long open bridged \
+#         >> tests/data/fdtd_probe_port.toml
 import json
 import os
 import sys
@@ -88,23 +94,40 @@ def toml_out():
     w("# used (with its own tail): the tail's self-check.")
     w("")
     for case in ("R10", "R5"):
-        for mesh in ("coarse", "fine", "finer"):
+        for mesh in ("coarse", "fine", "fine-long", "finer"):
             for v in [b + t for t in WALL_BACK for b in VARIANTS]:
                 p = os.path.join(work, f"{case}-{mesh}-port3-{v}.json")
                 if not os.path.exists(p):
                     continue
-                r = json.load(open(p))
-                w("[[run]]")
-                w(f"case = '{case}'\nmesh = '{mesh}'\nvariant = '{v}'")
-                w(f"cells = {r['cells']}\nrun_seconds = {r.get('run_seconds')}")
-                w(f"timesteps = {r.get('timesteps')}\nend_energy_db = {r.get('end_energy_db')}")
-                w(f"freq_hz = {R._arr(r['freq_hz'], '{:.6e}')}")
-                for k in ("s33", "s13"):
-                    c = R._cplx(r[k])
-                    w(f"{k}_re = {R._arr([x.real for x in c], '{:.6f}')}")
-                    w(f"{k}_im = {R._arr([x.imag for x in c], '{:.6f}')}")
-                w(f"s33_cut_change_deg = {R._arr(r['s33_cut_change_deg'], '{:.3f}')}")
-                w("")
+                _run_block(w, case, mesh, v, json.load(open(p)))
+    print("\n".join(o))
+
+
+def _run_block(w, case, mesh, v, r):
+    w("[[run]]")
+    w(f"case = '{case}'\nmesh = '{mesh}'\nvariant = '{v}'")
+    w(f"cells = {r['cells']}\nrun_seconds = {r.get('run_seconds')}")
+    w(f"timesteps = {r.get('timesteps')}\nend_energy_db = {r.get('end_energy_db')}")
+    w(f"freq_hz = {R._arr(r['freq_hz'], '{:.6e}')}")
+    for k in ("s33", "s13"):
+        c = R._cplx(r[k])
+        w(f"{k}_re = {R._arr([x.real for x in c], '{:.6f}')}")
+        w(f"{k}_im = {R._arr([x.imag for x in c], '{:.6f}')}")
+    w(f"s33_cut_change_deg = {R._arr(r['s33_cut_change_deg'], '{:.3f}')}")
+    w("")
+
+
+def toml_append(case, mesh, variants):
+    """The runs of one later mesh to append to the recorded file."""
+    work = os.environ.get("FDTD_WORK", "/tmp/loopwright-fdtd")
+    o = []
+    w = o.append
+    w(f"# Appended: {case} on the '{mesh}' mesh ({R.MESHES[mesh]}), by")
+    w(f"#   /usr/bin/python3 tests/reference/fdtd_probe_port.py append {case} {mesh} "
+      f"{' '.join(variants)} >> tests/data/fdtd_probe_port.toml")
+    for v in variants:
+        _run_block(w, case, mesh, v, json.load(open(os.path.join(
+            work, f"{case}-{mesh}-port3-{v}.json"))))
     print("\n".join(o))
 
 
@@ -115,3 +138,5 @@ if __name__ == "__main__":
         post(sys.argv[2], sys.argv[3], sys.argv[4])
     elif sys.argv[1] == "toml":
         toml_out()
+    elif sys.argv[1] == "append":
+        toml_append(sys.argv[2], sys.argv[3], sys.argv[4:])
