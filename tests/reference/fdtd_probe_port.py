@@ -103,17 +103,21 @@ def toml_out():
     print("\n".join(o))
 
 
-def _run_block(w, case, mesh, v, r):
+def _run_block(w, case, mesh, v, r, keys=("s33", "s13"), fmt="{:.6f}",
+               cut=("s33_cut_change_deg", "{:.3f}")):
+    """One [[run]] table: the run's facts, each complex quantity of `keys` as `_re`/`_im`
+    arrays in `fmt`, and its tail self-check `cut` (key, format). Shared with
+    fdtd_gap_port.py."""
     w("[[run]]")
     w(f"case = '{case}'\nmesh = '{mesh}'\nvariant = '{v}'")
     w(f"cells = {r['cells']}\nrun_seconds = {r.get('run_seconds')}")
     w(f"timesteps = {r.get('timesteps')}\nend_energy_db = {r.get('end_energy_db')}")
     w(f"freq_hz = {R._arr(r['freq_hz'], '{:.6e}')}")
-    for k in ("s33", "s13"):
+    for k in keys:
         c = R._cplx(r[k])
-        w(f"{k}_re = {R._arr([x.real for x in c], '{:.6f}')}")
-        w(f"{k}_im = {R._arr([x.imag for x in c], '{:.6f}')}")
-    w(f"s33_cut_change_deg = {R._arr(r['s33_cut_change_deg'], '{:.3f}')}")
+        w(f"{k}_re = {R._arr([x.real for x in c], fmt)}")
+        w(f"{k}_im = {R._arr([x.imag for x in c], fmt)}")
+    w(f"{cut[0]} = {R._arr(r[cut[0]], cut[1])}")
     w("")
 
 

@@ -88,6 +88,7 @@ MESHES = {
     # the fine mesh run on to -50 dB (probe-driven runs: whether their low-frequency port
     # inductance, which the -40 dB record leaves to its tail, settles)
     "fine-long": dict(d=0.11, ny_pre=3, ny_core=5, dmax=1.5, end=1e-5),
+    "finer-long": dict(d=0.08, ny_pre=4, ny_core=6, dmax=1.5, end=1e-5),
 }
 PROBES = {"R10": 10.0, "R5": 5.0}
 
@@ -144,39 +145,51 @@ def rect_xz(x0, x1, z0, z1):
     return [[z0, z0, z1, z1], [x0, x1, x1, x0]]
 
 
-def build(case, mesh_name, drive_probe=False, bridged=False, wall_back=0.3):
+def build(case, mesh_name, drive_probe=False, bridged=False, wall_back=0.3, gap_port=False,
+          fixture=True):
     """The FDTD model of one case on one mesh; `drive_probe` excites the probe's port instead
     of the line's input (fdtd_probe_port.py), `bridged` joins the shield across its gap on
     L1, L3 and L4 (PEC sheets over the cut, the trace untouched); `wall_back` (mm) is how far
-    the ring's fence walls stop short of the cut (0.3 as built)."""
+    the ring's fence walls stop short of the cut (0.3 as built). `gap_port` (fdtd_gap_port.py)
+    removes the trace, its feed and short, fills L2 like the shield layers (ring with the cut,
+    handle plate) and puts the driven port 3 across the cut on L2 at the centreline (x from
+    -GAP/2 to +GAP/2, trace wide): the shield's gap circuit seen with no line at all.
+    `fixture=False` leaves the fixture out (the probe alone in air, PML on all six faces, the
+    same probe coordinates; for a plane wave, fdtd_gap_port.py)."""
     m = MESHES[mesh_name]
     d = m["d"]
     z_cu = LINE_H + LINE_T  # line's copper top (the strip itself is modelled as a sheet at LINE_H)
     fdtd = openEMS(EndCriteria=m["end"], NrTS=120000)
     fdtd.SetGaussExcite(0.5 * (F_MAX + 0.1e9), 0.5 * (F_MAX + 0.1e9))
-    fdtd.SetBoundaryCond(["PML_8", "PML_8", "PML_8", "PML_8", "PEC", "PML_8"])
+    fdtd.SetBoundaryCond(["PML_8", "PML_8", "PML_8", "PML_8", "PEC" if fixture else "PML_8",
+                          "PML_8"])
     csx = CSXCAD.ContinuousStructure()
     fdtd.SetCSX(csx)
     grid = csx.GetGrid()
     grid.SetDeltaUnit(1e-3)
 
-    # fixture: substrate over the whole domain, strip as a PEC sheet on top, lumped ports
     xl = LINE_LEN / 2
-    sub = csx.AddMaterial("fixture_fr4", epsilon=LINE_ER)
-    big = 200.0
-    sub.AddBox([-big, -big, 0.0], [big, big, LINE_H], priority=1)
-    strip = csx.AddMetal("line")
-    strip.AddBox([-xl, -LINE_W / 2, LINE_H], [xl, LINE_W / 2, LINE_H], priority=10)
-    p1 = fdtd.AddLumpedPort(1, 50.0, [-xl, -LINE_W / 2, 0.0], [-xl, LINE_W / 2, LINE_H], "z",
-                            excite=0.0 if drive_probe else 1.0, priority=5)
-    p2 = fdtd.AddLumpedPort(2, 50.0, [xl, -LINE_W / 2, 0.0], [xl, LINE_W / 2, LINE_H], "z",
-                            priority=5)
-    ports = [p1, p2]
+    ports = []
+    if fixture:
+        # fixture: substrate over the whole domain, strip as a PEC sheet on top, lumped ports
+        sub = csx.AddMaterial("fixture_fr4", epsilon=LINE_ER)
+        big = 200.0
+        sub.AddBox([-big, -big, 0.0], [big, big, LINE_H], priority=1)
+        strip = csx.AddMetal("line")
+        strip.AddBox([-xl, -LINE_W / 2, LINE_H], [xl, LINE_W / 2, LINE_H], priority=10)
+        p1 = fdtd.AddLumpedPort(1, 50.0, [-xl, -LINE_W / 2, 0.0], [-xl, LINE_W / 2, LINE_H], "z",
+                                excite=0.0 if drive_probe else 1.0, priority=5)
+        p2 = fdtd.AddLumpedPort(2, 50.0, [xl, -LINE_W / 2, 0.0], [xl, LINE_W / 2, LINE_H], "z",
+                                priority=5)
+        ports = [p1, p2]
 
     fx, fy, fz = [-xl, xl], [-LINE_W / 2, LINE_W / 2, 0.0], [0.0, LINE_H]
     rx, ry, rz = [(-xl - 1, -xl + 1, 0.5), (xl - 1, xl + 1, 0.5)], \
         [(-LINE_W / 2, LINE_W / 2, 0.35)], [(0.0, LINE_H, 0.4)]
-    x_span, y_span, z_top = xl + 16.0, 22.0, 20.0
+    x_span, y_span, z_top, z_bot = xl + 16.0, 22.0, 20.0, 0.0
+    if not fixture:
+        fx, fy, fz, rx, ry, rz = [], [], [], [], [], []
+        x_span, z_bot = 0.0, -15.0
     geo = {}
     if case != "line":
         r = PROBES[case] / 2
@@ -200,32 +213,37 @@ def build(case, mesh_name, drive_probe=False, bridged=False, wall_back=0.3):
         for y in (Y_L1, Y_L3, Y_L4):
             pec.AddPolygon(_ring_with_gap(zc, ri, ro), "y", y, priority=10)
             pec.AddPolygon(rect_xz(-hw, hw, zc + r, z_p1), "y", y, priority=10)
-        # L2: coplanar ground outside the slot (ring sides), handle ground either side of the
-        # feed slot, trace ring (whole turn but the top arc between feed and short), feed line
-        s_out, s_in = r + TRACE_W / 2 + SLOT, r - TRACE_W / 2 - SLOT
-        fs0, fs1 = FEED_X - TRACE_W / 2 - SLOT, FEED_X + TRACE_W / 2 + SLOT
-        # outer ground: from the apex gap round each side to the feed's slot (x = fs0..fs1,
-        # both left of the axis), where the feed leaves the loop
-        rm = 0.5 * (s_out + ro)
-        pg = gap_phi(rm, GAP / 2)
-        pec.AddPolygon(ring_xz(zc, s_out, ro, pg, math.pi + math.asin(-fs1 / rm)), "y", Y_L2,
-                       priority=10)
-        pec.AddPolygon(ring_xz(zc, s_out, ro, -(math.pi - math.asin(-fs0 / rm)), -pg), "y", Y_L2,
-                       priority=10)
-        pec.AddPolygon(_ring_with_gap(zc, ri, s_in), "y", Y_L2, priority=10)
-        z_h0 = zc + s_out + 0.0
-        pec.AddPolygon(rect_xz(-hw, fs0, z_h0, z_p1), "y", Y_L2, priority=10)
-        pec.AddPolygon(rect_xz(fs1, hw, z_h0, z_p1), "y", Y_L2, priority=10)
         delta = math.asin(abs(FEED_X) / r)
-        pec.AddPolygon(ring_xz(zc, r - TRACE_W / 2, r + TRACE_W / 2, -(math.pi - delta),
-                               math.pi - delta), "y", Y_L2, priority=10)
-        z_feed0 = zc + r * math.cos(delta) - TRACE_W / 2
-        pec.AddPolygon(rect_xz(FEED_X - TRACE_W / 2, FEED_X + TRACE_W / 2, z_feed0, z_p0),
-                       "y", Y_L2, priority=10)
-        # short: a via (square, drill size) through all layers at the trace's far end
-        xs_ = -FEED_X
-        zs_ = zc + r * math.cos(delta)
-        pec.AddBox([xs_ - 0.15, Y_L4, zs_ - 0.15], [xs_ + 0.15, Y_L1, zs_ + 0.15], priority=10)
+        if gap_port:
+            # L2 as a shield layer: the ring with the cut and the handle plate, no trace
+            pec.AddPolygon(_ring_with_gap(zc, ri, ro), "y", Y_L2, priority=10)
+            pec.AddPolygon(rect_xz(-hw, hw, zc + r, z_p1), "y", Y_L2, priority=10)
+        else:
+            # L2: coplanar ground outside the slot (ring sides), handle ground either side of the
+            # feed slot, trace ring (whole turn but the top arc between feed and short), feed line
+            s_out, s_in = r + TRACE_W / 2 + SLOT, r - TRACE_W / 2 - SLOT
+            fs0, fs1 = FEED_X - TRACE_W / 2 - SLOT, FEED_X + TRACE_W / 2 + SLOT
+            # outer ground: from the apex gap round each side to the feed's slot (x = fs0..fs1,
+            # both left of the axis), where the feed leaves the loop
+            rm = 0.5 * (s_out + ro)
+            pg = gap_phi(rm, GAP / 2)
+            pec.AddPolygon(ring_xz(zc, s_out, ro, pg, math.pi + math.asin(-fs1 / rm)), "y", Y_L2,
+                           priority=10)
+            pec.AddPolygon(ring_xz(zc, s_out, ro, -(math.pi - math.asin(-fs0 / rm)), -pg), "y", Y_L2,
+                           priority=10)
+            pec.AddPolygon(_ring_with_gap(zc, ri, s_in), "y", Y_L2, priority=10)
+            z_h0 = zc + s_out + 0.0
+            pec.AddPolygon(rect_xz(-hw, fs0, z_h0, z_p1), "y", Y_L2, priority=10)
+            pec.AddPolygon(rect_xz(fs1, hw, z_h0, z_p1), "y", Y_L2, priority=10)
+            pec.AddPolygon(ring_xz(zc, r - TRACE_W / 2, r + TRACE_W / 2, -(math.pi - delta),
+                                   math.pi - delta), "y", Y_L2, priority=10)
+            z_feed0 = zc + r * math.cos(delta) - TRACE_W / 2
+            pec.AddPolygon(rect_xz(FEED_X - TRACE_W / 2, FEED_X + TRACE_W / 2, z_feed0, z_p0),
+                           "y", Y_L2, priority=10)
+            # short: a via (square, drill size) through all layers at the trace's far end
+            xs_ = -FEED_X
+            zs_ = zc + r * math.cos(delta)
+            pec.AddBox([xs_ - 0.15, Y_L4, zs_ - 0.15], [xs_ + 0.15, Y_L1, zs_ + 0.15], priority=10)
         # fences as walls L1..L4: inner and outer ring rows (cut at the gap; the outer row
         # opens where the feed leaves), and the feed's two rows up the handle
         gcut = GAP / 2 + wall_back
@@ -249,9 +267,16 @@ def build(case, mesh_name, drive_probe=False, bridged=False, wall_back=0.3):
         pec.AddBox([-hw, Y_L4, z_p1], [hw, Y_L1, z_p1], priority=10)
         # output port: 50 ohm between the end cap (start) and the trace end (stop), so its
         # voltage is trace minus shield
-        p3 = fdtd.AddLumpedPort(3, 50.0, [FEED_X - TRACE_W / 2, Y_L2, z_p1],
-                                [FEED_X + TRACE_W / 2, Y_L2, z_p0], "z",
-                                excite=1.0 if drive_probe else 0.0, priority=5)
+        if gap_port:
+            z_a = zc - r  # apex of the centreline
+            p3 = fdtd.AddLumpedPort(3, 50.0, [-GAP / 2, Y_L2, z_a - TRACE_W / 2],
+                                    [GAP / 2, Y_L2, z_a + TRACE_W / 2], "x",
+                                    excite=1.0 if drive_probe else 0.0, priority=5)
+            fz += [z_a - TRACE_W / 2, z_a + TRACE_W / 2]
+        else:
+            p3 = fdtd.AddLumpedPort(3, 50.0, [FEED_X - TRACE_W / 2, Y_L2, z_p1],
+                                    [FEED_X + TRACE_W / 2, Y_L2, z_p0], "z",
+                                    excite=1.0 if drive_probe else 0.0, priority=5)
         if bridged:
             for y in (Y_L1, Y_L3, Y_L4):
                 pec.AddBox([-GAP / 2 - d, y, zc - ro], [GAP / 2 + d, y, zc - ri], priority=10)
@@ -281,14 +306,14 @@ def build(case, mesh_name, drive_probe=False, bridged=False, wall_back=0.3):
         # keep the board's own y lines exactly (graded() may not insert all of them)
         Y = np.array(sorted(set(np.round(np.concatenate([Y[(Y < Y_L4 - 0.05) | (Y > Y_L1 + 0.05)],
                                                         yfix]), 6))))
-    Z = graded(0.0, z_top, fz, rz, m["dmax"])
+    Z = graded(z_bot, z_top, fz, rz, m["dmax"])
     grid.SetLines("x", X)
     grid.SetLines("y", Y)
     grid.SetLines("z", Z)
     ncell = (len(X) - 1) * (len(Y) - 1) * (len(Z) - 1)
     info = dict(case=case, mesh=mesh_name, mesh_params=m, nx=len(X), ny=len(Y), nz=len(Z), cells=ncell,
                 min_cell_mm=float(min(np.diff(X).min(), np.diff(Y).min(), np.diff(Z).min())),
-                domain_mm=[[-x_span, x_span], [-y_span, y_span], [0.0, z_top]], geo=geo)
+                domain_mm=[[-x_span, x_span], [-y_span, y_span], [z_bot, z_top]], geo=geo)
     return fdtd, csx, ports, info
 
 
