@@ -57,18 +57,23 @@ fn compare(case: &str, name: &str) -> Vec<(f64, f64, f64, f64, bool)> {
 /// probe's finest mesh: cells 0.15, 0.11 and 0.08 mm in the probe's region, and 0.06 mm for
 /// FM-R5 (3.4 M cells, 42 min); the extrapolation is the three finest meshes'.
 ///
-/// **FM-R10**: within 0.94 dB of the finest mesh over the whole band (0.2 dB high at low
-/// frequency, rising to 0.94 dB at the top), 0.60 dB of the three meshes' Richardson
-/// extrapolation where one exists (above 0.75 GHz). The top of the band moves with the mesh
-/// towards the model: FDTD's staircased loop is electrically long, and its stub null climbs
-/// 1.85 → 1.98 → 2.07 GHz against the model's 2.26 GHz.
+/// The model as shipped: the shield's current with the gap's correction, and for the test
+/// line the gap capacitance in the gap's impedance only (`Response::line_transfer`, from the
+/// FDTD of the gap circuit).
 ///
-/// **FM-R5**: −0.72 to +0.75 dB against the finest mesh (low below the corner, as against
-/// NEC-2; high at the top), within 0.68 dB of the fine/finer/finest extrapolation. The fourth
-/// mesh moved the top of the band by only 0.1 dB (0.27 dB from fine to finer).
+/// **FM-R10**: +0.13 to +0.53 dB against the finest mesh over the whole band, within 0.29 dB
+/// of the three meshes' Richardson extrapolation where one exists (above 0.75 GHz). The top
+/// of the band moves with the mesh towards the model: FDTD's staircased loop is electrically
+/// long, and its stub null climbs 1.85 → 1.98 → 2.07 GHz against the model's 2.26 GHz.
 ///
-/// Against the coarser fine mesh the band is held at 1.25 dB, so a drift in either shows. The
-/// earlier centreline model read 1.7 dB (FM-R10) and 3.7 dB (FM-R5) high at low frequency.
+/// **FM-R5**: −0.08 to +0.50 dB against the finest mesh, within 0.70 dB of the
+/// fine/finer/finest extrapolation. The fourth mesh moved the top of the band by only 0.1 dB
+/// (0.27 dB from fine to finer).
+///
+/// Held at 0.6 dB against the finest mesh (the issue asks 1 dB) and 1 dB against the
+/// extrapolation; 1.25 dB against the coarser fine mesh, so a drift in either shows. The
+/// axisymmetric model with a lumped gap circuit read −0.72 to +0.94 dB, the earlier
+/// centreline model 1.7 dB (FM-R10) and 3.7 dB (FM-R5) high at low frequency.
 #[test]
 fn predicted_s21_follows_the_fdtd_reference_in_the_usable_band() {
     let top = refs("fdtd_refs.toml");
@@ -118,7 +123,7 @@ fn predicted_s21_follows_the_fdtd_reference_in_the_usable_band() {
                 continue;
             }
             assert!(
-                (m - ff[i]).abs() < 1.0,
+                (m - ff[i]).abs() < 0.6,
                 "{case} at {f:.3e} Hz: model {m:.2} dB, finest FDTD ({last}) {:.2} dB",
                 ff[i]
             );
@@ -184,16 +189,16 @@ use loopwright::physics::Cx;
 ///   the stub alone; as built (`open`) the shield's loop in series. At 10–50 MHz the lines are
 ///   electrically short, so the difference of the port reactances over ω is the shield loop's
 ///   inductance at the gap, free of any line model: 2.93 nH on the fine mesh, 2.91 nH on the
-///   finer one (converged to 1 %). The shipped model's L_out (the axisymmetric current,
-///   `physics::shield`) is 2.42 nH, 17 % lower; with the current gathered at the gap
-///   (`physics::shield_gap`, not shipped) 2.61 nH, 10 % lower. NEC-2's grid reads 3.15 nH with
+///   finer one (converged to 1 %). The axisymmetric current's L_out (`physics::shield`) is
+///   2.42 nH, 17 % lower; with the current gathered at the gap (`physics::shield_gap`), as
+///   shipped, 2.61 nH, 10 % lower. NEC-2's grid reads 3.15 nH with
 ///   its gap bus. Held at those margins (±3 %) as an open finding of the issue on the probe
 ///   factor: docs/response.md.
 /// - **Where the fence stops** (`-walls0`, `-walls1`: the ring's via walls reaching the cut or
 ///   stopping 1 mm short of it, against 0.3 mm as built; fine mesh). Full-record values: the
 ///   open probe's port inductance moves by 0.015 nH when the walls reach the cut (+0.18 nH at
 ///   1 mm), the bridged reference by +0.26 nH (open − bridged 2.68 nH, where the model with the
-///   gap's correction reads 2.9 % low and the shipped one 9.8 % low).
+///   gap's correction reads 2.9 % low and the axisymmetric one 9.8 % low).
 /// - **The −40 dB records do not resolve these inductances**: each run's tail self-check (S33
 ///   from the first 80 % of the record with its own tail) moves the bridged runs' low-frequency
 ///   inductance by 3–4 nH and the open runs' by 0.2–1 nH (asserted below), so the margins above
@@ -201,7 +206,7 @@ use loopwright::physics::Cx;
 /// - **Run on to −50 dB** (`fine-long`: the fine mesh, end criterion 1e-5), the self-check
 ///   moves them by less than 0.1 nH: open 10.61 nH, bridged 8.05 nH (the −40 dB runs read 0.16
 ///   and 0.53 nH low), so the shield's inductance at the gap is **2.56 nH**. The model with the
-///   gap's correction reads 2.61 nH (+1.6 %, held at 3 %), the shipped one 2.42 nH (−5.7 %,
+///   gap's correction (shipped) reads 2.61 nH (+1.6 %, held at 3 %), the axisymmetric one 2.42 nH (−5.7 %,
 ///   regression guard).
 #[test]
 fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
@@ -265,23 +270,25 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
     let wf = (x.solved.trace_width + 2.0 * x.probe.clearance) * 1e-3;
     let g = shield_gap::solve(r, &pl, &sc, wf, x.probe.gap * 1e-3, shield_gap::GAP_MESH).unwrap();
-    let shipped = x.response.l_outer / l_fdtd - 1.0;
-    let gathered = (x.response.l_outer + g.dl_outer) / l_fdtd - 1.0;
+    // The shipped L_out includes the gap's correction; without it, the axisymmetric current's.
+    let (l_corr, l_axi) = (x.response.l_outer, x.response.l_outer - g.dl_outer);
+    let axi = l_axi / l_fdtd - 1.0;
+    let gathered = l_corr / l_fdtd - 1.0;
     eprintln!(
-        "FDTD {:.3} nH; shipped {:.3} nH ({:+.1} %), with the gap's correction {:.3} nH ({:+.1} %)",
+        "FDTD {:.3} nH; the axisymmetric current alone {:.3} nH ({:+.1} %), shipped (with the gap's correction) {:.3} nH ({:+.1} %)",
         l_fdtd * 1e9,
-        x.response.l_outer * 1e9,
-        shipped * 100.0,
-        (x.response.l_outer + g.dl_outer) * 1e9,
+        l_axi * 1e9,
+        axi * 100.0,
+        l_corr * 1e9,
         gathered * 100.0
     );
     assert!(
-        (shipped + 0.17).abs() < 0.03,
-        "shipped L_out {shipped:+.3} re FDTD"
+        (axi + 0.17).abs() < 0.03,
+        "axisymmetric L_out {axi:+.3} re FDTD"
     );
     assert!(
         (gathered + 0.10).abs() < 0.03,
-        "corrected L_out {gathered:+.3} re FDTD"
+        "shipped L_out {gathered:+.3} re FDTD"
     );
     // Where the fence walls stop (fine mesh): the open probe's low-frequency port inductance
     // hardly moves when they reach the cut, but the bridged reference does, and its tail's
@@ -313,17 +320,14 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     assert!(bridged_0 > bridged_3 + 0.2e-9 && bridged_0 < bridged_3 + 0.35e-9);
     // Against the bridged reference with the walls reaching the cut: recorded margins.
     let l_walls = open_0 - bridged_0;
-    let (shipped_w, gathered_w) = (
-        x.response.l_outer / l_walls - 1.0,
-        (x.response.l_outer + g.dl_outer) / l_walls - 1.0,
-    );
+    let (axi_w, gathered_w) = (l_axi / l_walls - 1.0, l_corr / l_walls - 1.0);
     eprintln!(
-        "walls to the cut: FDTD {:.3} nH; shipped {:+.1} %, with the correction {:+.1} %",
+        "walls to the cut: FDTD {:.3} nH; axisymmetric {:+.1} %, shipped {:+.1} %",
         l_walls * 1e9,
-        shipped_w * 100.0,
+        axi_w * 100.0,
         gathered_w * 100.0
     );
-    assert!((shipped_w + 0.10).abs() < 0.02, "{shipped_w}");
+    assert!((axi_w + 0.10).abs() < 0.02, "{axi_w}");
     assert!(gathered_w.abs() < 0.04, "{gathered_w}");
     // The tail self-check: S33 with the recorded phase change of the 80 % record moves the
     // low-frequency inductance by far more than the differences above.
@@ -360,19 +364,16 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
         low_l(&port_run(&top, "R5", "fine-long", "bridged")),
     );
     let l_long = open_l - bridged_l;
-    let (shipped_l, gathered_l) = (
-        x.response.l_outer / l_long - 1.0,
-        (x.response.l_outer + g.dl_outer) / l_long - 1.0,
-    );
+    let (axi_l, gathered_l) = (l_axi / l_long - 1.0, l_corr / l_long - 1.0);
     eprintln!(
         "−50 dB runs: open {:.3} nH (−40 dB: {:.3}), bridged {:.3} nH (−40 dB: {:.3}); at the \
-         gap {:.3} nH: shipped {:+.1} %, with the correction {:+.1} %",
+         gap {:.3} nH: axisymmetric {:+.1} %, shipped {:+.1} %",
         open_l * 1e9,
         open_3 * 1e9,
         bridged_l * 1e9,
         bridged_3 * 1e9,
         l_long * 1e9,
-        shipped_l * 100.0,
+        axi_l * 100.0,
         gathered_l * 100.0
     );
     assert!(
@@ -380,8 +381,8 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
         "corrected L_out {gathered_l:+.3} re FDTD"
     );
     assert!(
-        (shipped_l + 0.056).abs() < 0.02,
-        "shipped L_out {shipped_l:+.3} re FDTD"
+        (axi_l + 0.056).abs() < 0.02,
+        "axisymmetric L_out {axi_l:+.3} re FDTD"
     );
 }
 
@@ -446,8 +447,9 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
     let wf = (x.solved.trace_width + 2.0 * x.probe.clearance) * 1e-3;
     let g = shield_gap::solve(r, &pl, &sc, wf, x.probe.gap * 1e-3, shield_gap::GAP_MESH).unwrap();
-    let l_corr = resp.l_outer + g.dl_outer;
-    let a_corr = resp.area_eff_m2 + g.d_area;
+    // Shipped: with the gap's correction; `_axi`: the axisymmetric current alone.
+    let (l_corr, l_axi) = (resp.l_outer, resp.l_outer - g.dl_outer);
+    let (a_corr, a_axi) = (resp.area_eff_m2, resp.area_eff_m2 - g.d_area);
     let upper = resp.upper_hz;
 
     let bridged = gap_run(&top, "R5", "fine-long", "bridged", "s33");
@@ -493,9 +495,9 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
             .map(|&(w, y)| ((w * c - 1.0 / (w * l)) - y).abs() / y.abs())
             .fold(0.0, f64::max);
         eprintln!(
-            "{mesh}: L {:.3} nH (model {:.3}, corrected {:.3}), C {:.4} pF (model {:.4}), misfit {misfit:.2e}",
+            "{mesh}: L {:.3} nH (axisymmetric {:.3}, shipped {:.3}), C {:.4} pF (model {:.4}), misfit {misfit:.2e}",
             l * 1e9,
-            resp.l_outer * 1e9,
+            l_axi * 1e9,
             l_corr * 1e9,
             c * 1e12,
             resp.c_gap * 1e12
@@ -506,8 +508,8 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
             "{mesh}: L {l:e} against {l_corr:e}"
         );
         assert!(
-            (resp.l_outer / l - 1.0 + 0.08).abs() < 0.03,
-            "{mesh}: shipped {l:e}"
+            (l_axi / l - 1.0 + 0.08).abs() < 0.03,
+            "{mesh}: axisymmetric {l:e}"
         );
         assert!(
             (resp.c_gap / c - 1.0 + 0.2).abs() < 0.05,
@@ -536,12 +538,13 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     let m0 = m_eff[0].1;
     let c = loopwright::physics::coupling::probe_coupling(&x.probe, &x.solved, resp, 1.0, &line);
     eprintln!(
-        "M_eff {:.1} pH at {:.0} MHz; shipped model {:.1} pH",
+        "M_eff {:.1} pH at {:.0} MHz; model {:.1} pH",
         m0 * 1e12,
         m_eff[0].0 / 1e6,
         c.mutual * 1e12
     );
     assert!((m0 / 212.8e-12 - 1.0).abs() < 0.01, "{m0:e}");
+    assert!((c.mutual / m0 - 1.0).abs() < 0.015, "{:e}", c.mutual);
     let (f_top, m_top) = *m_eff.iter().rfind(|(f, _)| *f <= upper).unwrap();
     let rise = 20.0 * (m_top / m0).log10();
     let w = 2.0 * PI * f_top;
@@ -567,14 +570,14 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     let (f0, v0) = bare[0];
     let a_fdtd = v0.abs() / transfer(f0, true) * a_corr;
     eprintln!(
-        "uniform field: FDTD {:.2} mm² (with the handle {:.2}); model {:.2}, corrected {:.2}",
+        "uniform field: FDTD {:.2} mm² (with the handle {:.2}); axisymmetric {:.2}, shipped {:.2}",
         a_fdtd * 1e6,
         handle[0].1.abs() / v0.abs() * a_fdtd * 1e6,
-        resp.area_eff_m2 * 1e6,
+        a_axi * 1e6,
         a_corr * 1e6
     );
     assert!((a_corr / a_fdtd - 1.0).abs() < 0.02, "{a_fdtd:e}");
-    assert!((resp.area_eff_m2 / a_fdtd - 1.0 + 0.062).abs() < 0.02);
+    assert!((a_axi / a_fdtd - 1.0 + 0.062).abs() < 0.02);
     let handle_db = 20.0 * (handle[0].1.abs() / v0.abs()).log10();
     assert!(handle_db > 1.0 && handle_db < 1.5, "{handle_db}");
     let shape = |boost: bool| {

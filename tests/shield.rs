@@ -232,9 +232,10 @@ fn nec_zt(top: &toml::Value, c: &toml::Value) -> Vec<f64> {
 /// load (50 Ω + jZ0·tan βl2), from a decade below the model's corner to its upper usable
 /// frequency. Holds 0.5 dB for 10, 20 and 30 mm (the model reads 0.15–0.34 dB low). The 5 mm
 /// loop is compared with NEC's ring-count extrapolation ([`nec_zt`]; the 12-ring grid alone
-/// reads 0.27 dB higher still): the model reads 0.08–0.57 dB low, held at 0.6 dB and reported
-/// as open in docs/response.md (the shield current's concentration at the gap, not yet in the
-/// model, is the known cause: `physics::shield_gap`).
+/// reads 0.27 dB higher still): the axisymmetric model reads 0.08–0.57 dB low, held at 0.6 dB.
+/// This is the shield's axisymmetric current alone; the predictions add the current's
+/// gathering at the gap (`physics::shield_gap`), checked against NEC like for like in
+/// [`corrected_model_matches_nec2_like_for_like`].
 #[test]
 fn transimpedance_matches_nec2_grid_model() {
     let top = refs("nec2_refs.toml");
@@ -734,8 +735,8 @@ fn nec_bus_inductance(plates: &[(f64, f64)], gap: f64, a: f64, la: f64) -> f64 {
 /// - The mutual inductance: NEC's fitted M, extrapolated in 1/N from 12 and 24 rings, against
 ///   the model's with the gap's correction (`physics::shield_gap`, solved with NEC's crossing:
 ///   every plate gathered to one wire of the grid's radius on the centreline, put through the
-///   same 1/N combination) agrees within 2.5 %; the shipped model (no correction) reads 5–8 %
-///   low, which is the 5 mm loop's low-frequency shortfall in
+///   same 1/N combination) agrees within 2.5 %; the axisymmetric current alone (no
+///   correction) reads 5–8 % low, which is the 5 mm loop's low-frequency shortfall in
 ///   [`transimpedance_matches_nec2_grid_model`].
 /// - NEC's fitted L (3.1–3.25 nH) is above the model's (2.42 nH, 2.63 with the correction):
 ///   NEC's bus of thin wires across the plates and the gap adds inductance the board does not
@@ -798,28 +799,32 @@ fn nec2_gap_capacitance_and_mutual_against_the_model() {
             * MU0
     };
     let dm = 2.0 * dm_with(&case("round_5mm_rings24")) - dm_with(&c12);
-    let (shipped, corrected) = (m0 / m_nec - 1.0, (m0 + dm) / m_nec - 1.0);
+    let (axi, corrected) = (m0 / m_nec - 1.0, (m0 + dm) / m_nec - 1.0);
     eprintln!(
-        "M: NEC {:.2} pH (1/N), model {:.2} pH ({:+.1} %), with the correction {:.2} pH ({:+.1} %)",
+        "M: NEC {:.2} pH (1/N), axisymmetric {:.2} pH ({:+.1} %), with the correction {:.2} pH ({:+.1} %)",
         m_nec * 1e12,
         m0 * 1e12,
-        shipped * 100.0,
+        axi * 100.0,
         (m0 + dm) * 1e12,
         corrected * 100.0
     );
     assert!(corrected.abs() < 0.025, "{corrected}");
-    assert!(shipped < -0.05 && shipped > -0.08, "{shipped}");
+    assert!(axi < -0.05 && axi > -0.08, "{axi}");
 }
 
-/// NEC-2 compared like for like with the model of the probe factor's next step (the gap's
-/// correction in the predictions): every round loop, its transimpedance from a decade below
+/// NEC-2 compared like for like with the shipped model (the axisymmetric current with the
+/// gap's correction): every round loop, its transimpedance from a decade below
 /// the corner to the upper usable frequency, with the model's circuit of NEC's own geometry at
 /// the gap: the correction solved for NEC's crossing (each plate gathered to a wire of the
 /// grid's own radius on the centreline), the model's gap capacitance in air, and the
 /// inductance of NEC's bus ([`nec_bus_inductance`] with the grid's wire radius; 2 mm of
 /// approach, within 2 % of 1 mm and 4 mm). The 5 mm loop is compared at NEC's 1/N
 /// extrapolation with the model put through the same combination (each grid's model with its
-/// own wire radius, 2·Z24 − Z12). Within 0.25 dB for every loop (held at 0.4 dB), where the shipped model (no
+/// own wire radius, 2·Z24 − Z12). With the lumped gap circuit (C_gap across the gap: NEC's
+/// gap is its bus of wires) within 0.25 dB for every loop (held at 0.4 dB); with the form the
+/// predictions use for a test line (C_gap in the gap's impedance only, from the FDTD of the
+/// board's gap: `Response::line_transfer`) within 0.45 dB (held at the 0.5 dB), the
+/// largest at the top of the 10–30 mm loops' bands. The axisymmetric current alone (no
 /// correction) holds only 0.6 dB on 5 mm ([`transimpedance_matches_nec2_grid_model`]).
 #[test]
 fn corrected_model_matches_nec2_like_for_like() {
@@ -830,7 +835,7 @@ fn corrected_model_matches_nec2_like_for_like() {
     let case = |name: &str| nec_case(&top, name);
     // The model's |Z_t| (dBΩ) of NEC's geometry in case `c` with the wire radius of case `w`,
     // at c's frequencies; and the band (corner/10, upper).
-    let model_db = |c: &toml::Value, w: &toml::Value| -> (Vec<f64>, f64, f64) {
+    let model_db = |c: &toml::Value, w: &toml::Value, line_form: bool| -> (Vec<f64>, f64, f64) {
         let r_mm = f(c, "R_mm");
         let (r, pl) = (r_mm * 1e-3, nec_plates(c));
         let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
@@ -880,35 +885,47 @@ fn corrected_model_matches_nec2_like_for_like() {
             .map(|fr| {
                 let w = 2.0 * std::f64::consts::PI * fr;
                 let zl = Cx::new(50.0, 50.0 * (w * eps.sqrt() / c0 * l2).tan());
-                let den = zl + Cx::new(0.0, w * l) + zl * Cx::new(-w * w * l * cg, 0.0);
+                let den = if line_form {
+                    zl + Cx::new(0.0, w * l / (1.0 - w * w * l * cg))
+                } else {
+                    zl + Cx::new(0.0, w * l) + zl * Cx::new(-w * w * l * cg, 0.0)
+                };
                 20.0 * (Cx::new(0.0, 50.0 * w * m) / den).abs().log10()
             })
             .collect();
         (db, corner, upper)
     };
-    let mut worst = 0.0f64;
-    for c in top["case"].as_array().unwrap() {
-        let name = c["name"].as_str().unwrap();
-        if c["variant"].as_str() != Some("plates") || name.contains("_rings") {
-            continue;
-        }
-        let (mut db, corner, upper) = model_db(c, c);
-        if let Some(c24) = case(&format!("{name}_rings24")) {
-            let (db24, _, _) = model_db(c, &c24);
-            db = db24.iter().zip(&db).map(|(b, a)| 2.0 * b - a).collect();
-        }
-        let nec = nec_zt(&top, c);
-        let mut line = String::new();
-        for (k, fr) in case_freqs(c).into_iter().enumerate() {
-            if fr < corner / 10.0 || fr > upper {
+    // The lumped form (NEC's gap is a bus of wires across the cut), held at 0.4 dB; the form
+    // the predictions use for a test line (the gap capacitance in the gap's impedance only,
+    // `Response::line_transfer`), held at the 0.5 dB.
+    for (line_form, tol) in [(false, 0.4), (true, 0.5)] {
+        let mut worst = 0.0f64;
+        for c in top["case"].as_array().unwrap() {
+            let name = c["name"].as_str().unwrap();
+            if c["variant"].as_str() != Some("plates") || name.contains("_rings") {
                 continue;
             }
-            let d = db[k] - nec[k];
-            line += &format!(" {fr:.2e}:{d:+.2}");
-            worst = worst.max(d.abs());
-            assert!(d.abs() < 0.4, "{name} at {fr:.3e} Hz: {d:+.3} dB");
+            let (mut db, corner, upper) = model_db(c, c, line_form);
+            if let Some(c24) = case(&format!("{name}_rings24")) {
+                let (db24, _, _) = model_db(c, &c24, line_form);
+                db = db24.iter().zip(&db).map(|(b, a)| 2.0 * b - a).collect();
+            }
+            let nec = nec_zt(&top, c);
+            let mut line = String::new();
+            for (k, fr) in case_freqs(c).into_iter().enumerate() {
+                if fr < corner / 10.0 || fr > upper {
+                    continue;
+                }
+                let d = db[k] - nec[k];
+                line += &format!(" {fr:.2e}:{d:+.2}");
+                worst = worst.max(d.abs());
+                assert!(
+                    d.abs() < tol,
+                    "{name} at {fr:.3e} Hz: {d:+.3} dB ({line_form})"
+                );
+            }
+            eprintln!("{name}:{line}");
         }
-        eprintln!("{name}:{line}");
+        eprintln!("worst {worst:.3} dB (line form: {line_form})");
     }
-    eprintln!("worst {worst:.3} dB");
 }

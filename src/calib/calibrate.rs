@@ -16,7 +16,9 @@ use crate::calib::touchstone::Network;
 use crate::error::{Error, FieldError};
 use crate::model::probe::Probe;
 use crate::physics::Response;
-use crate::physics::coupling::{Coupling, TestLine, pf_from_s21, probe_coupling, probe_s21};
+use crate::physics::coupling::{
+    Coupling, TestLine, line_to_uniform_db, pf_from_s21, probe_coupling, probe_s21,
+};
 use crate::solve::probe::SolvedProbe;
 
 /// One frequency of a calibration.
@@ -214,7 +216,8 @@ pub fn calibrate(
             f,
             s21_db: 20.0 * mag.log10(),
             s21_pred_db: 20.0 * (pred.abs() * k).log10(),
-            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp * k, net.r_ref),
+            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp * k, net.r_ref)
+                + line_to_uniform_db(r, f),
             pf_pred_db: crate::physics::probe_factor_at(p, s, r, f),
             in_band: f <= r.upper_hz,
             current_db: 20.0 * k.log10(),

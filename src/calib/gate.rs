@@ -14,7 +14,7 @@
 use crate::calib::touchstone::Network;
 use crate::model::probe::Probe;
 use crate::physics::Response;
-use crate::physics::coupling::{TestLine, pf_from_s21, probe_coupling};
+use crate::physics::coupling::{TestLine, line_to_uniform_db, pf_from_s21, probe_coupling};
 use crate::solve::probe::SolvedProbe;
 
 /// Largest |level| (median of measured − predicted over the band) accepted, dB. The reasons
@@ -290,7 +290,7 @@ impl Bench<'_> {
                 mag,
                 coupling.h_avg_per_amp * (self.current)(f),
                 self.net.r_ref,
-            );
+            ) + line_to_uniform_db(c.response, f);
             let pred = crate::physics::probe_factor_at(c.probe, c.solved, c.response, f);
             out.push((f, pf - pred));
         }

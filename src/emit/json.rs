@@ -39,6 +39,8 @@ pub fn probe_json(x: &Predicted) -> Value {
         "size": x.probe.shape.size_text(),
         "loop_area_mm2": r.area_m2 * 1e6,
         "effective_area_mm2": r.area_eff_m2 * 1e6,
+        "gap_area_mm2": r.gap_area_m2 * 1e6,
+        "gap_inductance_nh": r.gap_l_outer * 1e9,
         "outer_inductance_gmd_nh": r.l_outer_gmd * 1e9,
         "gap_capacitance_pf": r.c_gap * 1e12,
         "gap_resonance_hz": r.f_gap_res_hz,

@@ -71,14 +71,16 @@ pub struct Coupling {
 
 impl Coupling {
     /// Predicted S21 (line input → probe output) at `f` Hz, complex, for a probe whose
-    /// response is `r` (its outer inductance, gap capacitance and inner line). The phase is
+    /// response is `r` (its outer inductance, gap capacitance and inner line), through
+    /// [`Response::line_transfer`]: the line's EMF is induced next to the gap, so the gap
+    /// capacitance acts in the gap's impedance only. The phase is
     /// referred to the line's current under the probe: the delay of the fixture's line up to
     /// the probe is not included (a measured phase carries it); the probe's own feed run
     /// enters by its loss only, and the sign follows the loop's orientation.
     pub fn s21(&self, r: &Response, f: f64) -> super::Cx {
         // jωM/R_port · V_out/V_oc.
         let w = 2.0 * PI * f;
-        r.gap_transfer(f) * super::Cx::new(0.0, w * self.mutual / self.r_port)
+        r.line_transfer(f) * super::Cx::new(0.0, w * self.mutual / self.r_port)
     }
 }
 
@@ -111,8 +113,17 @@ pub fn couple(
 
 /// Probe factor in dB(S/m) from a measured |S21| (linear) and the reference field per ampere:
 /// PF = (H_ref/I)/(R_port·|S21|), i.e. PF[dB(S/m)] = 20·log10(H_ref/I) − 20·log10(R_port) − |S21|dB.
+/// This is the factor in the test line's own field; [`line_to_uniform_db`] converts it to the
+/// uniform-field probe factor that `predict` gives.
 pub fn pf_from_s21(s21_mag: f64, h_per_amp: f64, r_port: f64) -> f64 {
     20.0 * (h_per_amp / (r_port * s21_mag)).log10()
+}
+
+/// dB to add to a probe factor derived on a test line ([`pf_from_s21`]) for the uniform-field
+/// probe factor at `f` Hz: 20·log10|1 − ω²·L_out·C_gap| ([`Response::line_factor`]; a uniform
+/// field rings up the loop–gap resonance, a test line's field under the apex does not).
+pub fn line_to_uniform_db(r: &Response, f: f64) -> f64 {
+    20.0 * r.line_factor(f).abs().log10()
 }
 
 /// The coupling of a built probe held with its tip `height_mm` above the strip: the flux
@@ -127,9 +138,7 @@ pub fn probe_coupling(
 ) -> Coupling {
     let apex = height_mm * 1e-3 + super::tip_to_apex_m(p, s) + line.top;
     let shape = &p.shape;
-    let flux_with = |l: &TestLine| {
-        super::flux_filaments(shape, &r.filaments, |x, z| line_field(x, z, l).0, 0.0, apex)
-    };
+    let flux_with = |l: &TestLine| r.flux_through(shape, |x, z| line_field(x, z, l).0, 0.0, apex);
     let flux = flux_with(line);
     let filament = TestLine {
         width: 0.0,

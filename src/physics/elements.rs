@@ -74,6 +74,106 @@ pub fn shield_current(p: &Probe, s: &SolvedProbe) -> Result<shield::ShieldCurren
     })
 }
 
+/// The radius of the round loop whose outer current stands for the shape's (m): the loop's own
+/// radius, or R_eq = 2A/P for other shapes (module [`shield`]).
+pub fn shield_radius_m(shape: &LoopShape) -> f64 {
+    match *shape {
+        LoopShape::Round { diameter } => diameter * 0.5e-3,
+        _ => 2.0 * shape.centreline_area() / shape.circumference() * 1e-3,
+    }
+}
+
+/// The shield current's correction at the gap (module [`shield_gap`]): solved on the round
+/// loop of [`shield_radius_m`] with the feed window the trace's slot (trace width plus twice
+/// its clearance).
+pub fn gap_current(
+    p: &Probe,
+    s: &SolvedProbe,
+    sc: &shield::ShieldCurrent,
+) -> Result<shield_gap::GapCurrent, Error> {
+    let plates = shield_plates(p, s);
+    let wf = (s.trace_width + 2.0 * p.clearance) * 1e-3;
+    shield_gap::solve(
+        shield_radius_m(&p.shape),
+        &plates,
+        sc,
+        wf,
+        p.gap * 1e-3,
+        shield_gap::GAP_MESH,
+    )
+    .ok_or_else(|| {
+        Error::Unsolvable(format!(
+            "{}: the shield's current at the gap could not be solved (ring half width {} mm, slot {} mm)",
+            p.name,
+            s.ring_half_width,
+            wf * 1e3
+        ))
+    })
+}
+
+/// Depth below the apex of the centreline at arc length `s` (m) from the apex, and the
+/// downward component of the outward normal there (1 at the apex, −1 at the top).
+pub fn apex_path(shape: &LoopShape, s: f64) -> (f64, f64) {
+    let s = s.abs();
+    match *shape {
+        LoopShape::Round { diameter } => {
+            let r = diameter * 0.5e-3;
+            let t = (s / r).min(PI);
+            (r * (1.0 - t.cos()), t.cos())
+        }
+        LoopShape::Rect {
+            width,
+            height,
+            corner_radius,
+            ..
+        } => {
+            let (w, h, rc) = (width * 1e-3, height * 1e-3, corner_radius * 1e-3);
+            let flat = 0.5 * w - rc;
+            let quarter = 0.5 * PI * rc;
+            let side = h - 2.0 * rc;
+            if s <= flat {
+                (0.0, 1.0)
+            } else if s <= flat + quarter {
+                let f = (s - flat) / rc;
+                (rc * (1.0 - f.cos()), f.cos())
+            } else if s <= flat + quarter + side {
+                (rc + (s - flat - quarter), 0.0)
+            } else if s <= flat + 2.0 * quarter + side {
+                let f = (s - flat - quarter - side) / rc;
+                (rc + side + rc * f.sin(), -f.sin())
+            } else {
+                (h, -1.0)
+            }
+        }
+    }
+}
+
+/// Flux per ampere divided by μ0 (m) through the gap correction's stream function (the
+/// counterpart of [`flux_filaments`] for [`shield_gap::GapCurrent::points`]): each point at its
+/// arc length from the gap (on the round loop of radius `r_eq` it was solved on) is placed on
+/// the shape's own path below the apex `z0`, its plane `z` further sideways than `x`.
+pub fn flux_gap(
+    shape: &LoopShape,
+    points: &[shield_gap::GapPoint],
+    r_eq: f64,
+    field: impl Fn(f64, f64) -> f64,
+    x: f64,
+    z0: f64,
+) -> f64 {
+    points
+        .iter()
+        .map(|q| {
+            let th = if q.theta > PI {
+                q.theta - 2.0 * PI
+            } else {
+                q.theta
+            };
+            let (depth, down) = apex_path(shape, r_eq * th);
+            q.w * field(x + q.z, z0 + depth - q.d * down)
+        })
+        .sum()
+}
+
 /// The loop's centreline as a closed polygon, m.
 pub(super) fn centreline_m(shape: &LoopShape) -> Vec<(f64, f64)> {
     crate::model::centreline::closed(shape, 0.0)

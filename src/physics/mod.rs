@@ -170,6 +170,15 @@ pub struct Response {
     /// The shield's outer current grouped into filaments: (offset from the centreline m,
     /// height across the board from its mid-plane m, share of the current).
     pub filaments: Vec<(f64, f64, f64)>,
+    /// The outer current's correction at the gap (module [`shield_gap`]): the inductance it
+    /// adds (included in `l_outer`), H.
+    pub gap_l_outer: f64,
+    /// The effective area it adds (included in `area_eff_m2`), m².
+    pub gap_area_m2: f64,
+    /// Its stream function sampled over the plates, for the flux of a non-uniform field.
+    pub gap_points: Vec<shield_gap::GapPoint>,
+    /// Radius of the round loop the correction was solved on, m ([`shield_radius_m`]).
+    pub gap_radius_m: f64,
     /// The connector launch's budget: its return loss to f_max and its effect on the probe
     /// factor (module [`launch`]).
     pub launch: Option<launch::ProbeLaunch>,
@@ -188,6 +197,21 @@ pub fn surface_resistance(f: f64) -> f64 {
 }
 
 impl Response {
+    /// Flux per ampere divided by μ0 (m) of `field` (Hx across the loop's plane, at lateral
+    /// offset and height above the line) through the shield's outer current: its axisymmetric
+    /// filaments and the gap's correction, apex `z0` above the line, the board's mid-plane `x`
+    /// beside it.
+    pub fn flux_through(
+        &self,
+        shape: &LoopShape,
+        field: impl Fn(f64, f64) -> f64,
+        x: f64,
+        z0: f64,
+    ) -> f64 {
+        flux_filaments(shape, &self.filaments, &field, x, z0)
+            + flux_gap(shape, &self.gap_points, self.gap_radius_m, &field, x, z0)
+    }
+
     /// Propagation constant γ = α + jβ of the inner line at `f` Hz, 1/m: conductor loss
     /// α_c(1 GHz)·√(f/1 GHz) (Wheeler's incremental-inductance rule), not below the trace's DC
     /// loss, dielectric loss
@@ -215,6 +239,22 @@ impl Response {
         // The run's loss; its delay is left out, so phases stay referred to the gap.
         let run = (-g.re * self.l1_m).exp();
         Cx::new(R_LOAD * run, 0.0) / den
+    }
+
+    /// The factor a test line's (or a trace's) field under the apex takes off the gap transfer,
+    /// 1 − ω²·L_out·C_gap: such a field induces its EMF next to the gap and does not ring up
+    /// the loop–gap resonance that a uniform field does (the FDTD of the gap circuit,
+    /// docs/response.md), so for it the gap capacitance acts in the gap's impedance only:
+    /// V_out/V_oc = R_L·e^(−αl1)/(Z_in + jωL_out/(1 − ω²·L_out·C_gap)).
+    pub fn line_factor(&self, f: f64) -> f64 {
+        let w = 2.0 * PI * f;
+        1.0 - w * w * self.l_outer * self.c_gap
+    }
+
+    /// V_out/V_oc for a test line under the apex at `f` Hz: [`Self::gap_transfer`] times
+    /// [`Self::line_factor`].
+    pub fn line_transfer(&self, f: f64) -> Cx {
+        self.gap_transfer(f) * Cx::new(self.line_factor(f), 0.0)
     }
 
     /// |V_out/H| (V per A/m) in a uniform normal field at `f` Hz.
@@ -288,7 +328,8 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let pts = centreline_m(shape);
     let l_outer_gmd = neumann_loop(&pts, g);
     let sc = shield_current(p, s)?;
-    let l_outer = sc.l_outer;
+    let gap = gap_current(p, s, &sc)?;
+    let l_outer = sc.l_outer + gap.dl_outer;
     let circumference = shape.circumference() * 1e-3;
     let l2 = circumference / 2.0;
     let eps_eff = s.solution.eps_eff;
@@ -302,7 +343,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let tan_d = signal_loss_tangent(p);
     let mut r = Response {
         area_m2: area,
-        area_eff_m2: sc.area_eff,
+        area_eff_m2: sc.area_eff + gap.d_area,
         gmd_m: g,
         l_outer_gmd,
         l_outer,
@@ -331,6 +372,10 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         mutual: 0.0,
         resolution_m: 0.0,
         filaments: filaments(&sc, 8),
+        gap_l_outer: gap.dl_outer,
+        gap_area_m2: gap.d_area,
+        gap_points: gap.points,
+        gap_radius_m: shield_radius_m(shape),
         launch: None,
         options: *o,
     };
@@ -366,10 +411,8 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.
     let z0 = o.height_mm * 1e-3 + tip_to_apex_m(p, s);
     let h = o.trace_h_mm * 1e-3;
-    let fil = r.filaments.clone();
-    let flux = |x: f64| flux_filaments(shape, &fil, |xx, zz| hx_line(xx, zz, h), x, z0);
+    let flux = |x: f64| r.flux_through(shape, |xx, zz| hx_line(xx, zz, h), x, z0);
     let flux0 = flux(0.0);
-    r.mutual = MU0 * flux0;
     // The filaments sit on both sides of the board's mid-plane, so the scan is symmetric about
     // x = 0 only to first order: take the −6 dB points on both sides.
     let half = |x: f64| flux(x) - 0.5 * flux0;
@@ -378,13 +421,15 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
             Error::Unsolvable(format!("resolution: the −6 dB point was not found ({e:?})"))
         })
     };
-    r.resolution_m = find(1.0)? + find(-1.0)?;
+    let resolution = find(1.0)? + find(-1.0)?;
+    r.mutual = MU0 * flux0;
+    r.resolution_m = resolution;
     for f in freqs {
         let t = r.transfer(f);
         r.probe_factor.push((f, pf_db(t)));
         r.e_rejection.push((f, r.e_rejection_db(f, electric::ETA0)));
         let w = 2.0 * PI * f;
-        let v_per_a = w * r.mutual * r.gap_transfer(f).abs();
+        let v_per_a = w * r.mutual * r.line_transfer(f).abs();
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
     }
     r.launch = Some(launch::probe_launch(p, s, &r));

@@ -15,13 +15,17 @@ pub const ASSUMPTIONS: [&str; 7] = [
     "probe factor referred to a uniform field normal to the loop (equivalently the average over \
      the effective loop), into a 50 Ω load; H[dBµA/m] = V[dBµV] + PF[dB(S/m)]",
     "shield: a perfect conductor whose outer current is solved over every copper layer of the \
-     ring (thin plates, equal flux linkage): it gives the effective area and the outer-loop \
-     inductance; via walls, the handle junction and (for non-round loops) the corners' own \
-     crowding are approximated",
+     ring (thin plates, equal flux linkage) and where it gathers to cross the gap: it gives the \
+     effective area and the outer-loop inductance; via walls, the handle junction and (for \
+     non-round loops) the corners' own crowding are approximated. The handle's shield is left \
+     out: in a uniform field it diverts flux through the ring (a full-wave check: +1.3 dB of \
+     output for a 5 mm loop on a 6 mm × 8 mm handle, so the factor reads high by as much)",
     "inner line: a shorted stub from the gap to the short (half the turn) and a matched run to \
      the output, with conductor loss (smooth copper, Wheeler's rule) and dielectric loss",
     "gap capacitance: 2-D field solution across the gap, the plates straight for a quarter \
-     turn each side; the trace crossing the gap left out",
+     turn each side (about 20 % below a full-wave check); the trace crossing the gap left out. \
+     A uniform field rings up the loop–gap resonance; a trace or test line under the tip does \
+     not, so for it the capacitance acts in the gap's impedance only",
     "coupling and resolution: a thin trace over a perfect plane (image theory), loop plane \
      vertical and containing the trace's axis, tip at the stated height",
     "near-field readings locate and rank sources; they do not predict a compliance result",

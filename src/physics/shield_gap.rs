@@ -42,13 +42,12 @@
 //! part of δψ (its field and moment included). Left out: the current through the board to the
 //! trace's layer at the cut (vias, the cut's faces), and any change of the plates' shares.
 //!
-//! **Status:** not yet used by the predictions. On the demo's 5 mm loop it brings the
-//! low-frequency S21 within 0.15 dB of FDTD (from 0.65–0.8 dB low) and its coupling within
-//! 1.5 % of NEC-2's, and with it L_out is within 1.6 % of the FDTD's inductance at the gap
-//! (probe-driven runs to −50 dB), but it leaves the top of the band 1.36 dB high against
-//! FDTD's finest mesh; the 2-D gap capacitance (NEC-2 suggests it is high) and the FDTD's
-//! electrically long line are the suspects. The line spacing moves ΔA by about 20 % (halving it: 0.70 → 0.85 mm² on
-//! the 5 mm loop).
+//! **Status:** in the predictions (area, outer inductance and the flux of a line under the
+//! apex, through [`crate::physics::gap_current`]). Outside checks: the FDTD of the
+//! demo's 5 mm loop in a plane wave reads its effective area within 0.8 % (the axisymmetric
+//! current alone 6 % low), the FDTD of its gap circuit its outer inductance within 1.6 %, the
+//! FDTD line coupling within 0.6 % and NEC-2's within 1.5 %. The line spacing moves ΔA by about
+//! 20 % (halving it: 0.70 → 0.85 mm² on the 5 mm loop).
 //! docs/response.md has the numbers.
 
 use super::MU0;

@@ -16,7 +16,7 @@
 #     loopwright impedance --stackup common-2l-1.6 --layer 1 --width W --method cover-blend --json
 # for W = the pad width, each taper step's mid width and the line's width; they are stated here
 # as inputs; the Rust test cascades the same sections with loopwright's network code.
-# The probe: H_avg/I = 7.8268 A/m per A (the demo's 10 mm loop 1 mm above the demo line, the
+# The probe: H_avg/I = 7.9205 A/m per A (the demo's 10 mm loop 1 mm above the demo line, the
 # coupling loopwright's own tests check against scipy) and a stated probe factor, the small-loop
 # formula PF = -20*log10(w*mu0*A*R/|R + j*w*L|) with A = pi*(5 mm)^2, L = 16 nH, R = 50 ohm.
 # The probe port's transmission is S31 = (H_avg/I)*k/(R*PF) with k = I_middle/(V_inc/R), the
@@ -38,7 +38,7 @@ TAPER = [  # (Z0 ohm, eps_eff) of each of the 24 steps, port side first
     (57.9037, 3.3074), (56.6941, 3.3183), (55.5388, 3.3288), (54.4340, 3.3391),
     (53.3760, 3.3492), (52.3619, 3.3590), (51.3887, 3.3686), (50.4538, 3.3780)]
 UNIFORM = (33.062222e-3, 50.0, 3.3826)
-H_AVG_PER_AMP = 7.8268
+H_AVG_PER_AMP = 7.9205
 AREA = np.pi * (5e-3) ** 2
 L_PROBE = 16e-9
 MU0 = 1.25663706127e-6
