@@ -411,6 +411,59 @@ fn sub(a: Cx, b: Cx) -> Cx {
     a + b * Cx::new(-1.0, 0.0)
 }
 
+/// The shield's impedance at the gap, Z_open − Z_bridged, fitted as jωL/(1 − ω²LC) between
+/// `lo` and `hi` Hz (Im 1/Z = ωC − 1/(ωL), least squares in C and 1/L scaled to order one);
+/// (L, C), after checking the lumped form fits every point within 1 %.
+fn fit_gap(open: &[(f64, Cx)], bridged: &[(f64, Cx)], lo: f64, hi: f64) -> (f64, f64) {
+    let rows: Vec<(f64, f64)> = open
+        .iter()
+        .zip(bridged)
+        .filter(|((f, _), _)| *f >= lo && *f <= hi)
+        .map(|(&(f, so), &(_, sb))| {
+            let y = Cx::new(1.0, 0.0) / sub(z_of(so), z_of(sb));
+            (2.0 * std::f64::consts::PI * f, y.im)
+        })
+        .collect();
+    assert!(rows.len() > 30, "{}", rows.len());
+    let (mut a11, mut a12, mut a22, mut b1, mut b2) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for &(w, y) in &rows {
+        let (u, v) = (w * 1e-9, -1e9 / w);
+        (a11, a12, a22, b1, b2) = (
+            a11 + u * u,
+            a12 + u * v,
+            a22 + v * v,
+            b1 + u * y,
+            b2 + v * y,
+        );
+    }
+    let det = a11 * a22 - a12 * a12;
+    let (c, inv_l) = (
+        (b1 * a22 - b2 * a12) / det * 1e-9,
+        (a11 * b2 - a12 * b1) / det * 1e9,
+    );
+    let l = 1.0 / inv_l;
+    let misfit = rows
+        .iter()
+        .map(|&(w, y)| ((w * c - 1.0 / (w * l)) - y).abs() / y.abs())
+        .fold(0.0, f64::max);
+    assert!(misfit < 0.01, "the lumped form does not fit: {misfit}");
+    (l, c)
+}
+
+/// The line's voltage per ampere into the gap, M_eff = 2·50·S13/(jω(1 − S33)), per frequency.
+fn m_eff_of(s13: &[(f64, Cx)], s33: &[(f64, Cx)]) -> Vec<(f64, f64)> {
+    s13.iter()
+        .zip(s33)
+        .map(|(&(f, a), &(_, s))| {
+            let w = 2.0 * std::f64::consts::PI * f;
+            (
+                f,
+                (Cx::new(100.0, 0.0) * a / (Cx::new(0.0, w) * sub(Cx::new(1.0, 0.0), s))).abs(),
+            )
+        })
+        .collect()
+}
+
 /// The shield's gap circuit and the probe in a uniform field, against the FDTD with no inner
 /// line at all (`fdtd_gap_port.py`: FM-R5 on the fixture with the trace, feed and short removed,
 /// L2 filled like the shield layers, a 50 Ω port across the cut on L2 at the centreline; runs
@@ -419,19 +472,25 @@ fn sub(a: Cx, b: Cx) -> Cx {
 /// - **Gap circuit.** Z_open − Z_bridged (the port's own crossing, 0.32 nH, taken out) is the
 ///   shield's impedance at the gap. Fitted as jωL/(1 − ω²LC) (Im 1/Z linear in C and 1/L) from
 ///   0.3 GHz (below, the FDTD's X/ω wanders by 0.8 %) to FM-R5's upper usable frequency, on two
-///   meshes: L = 2.62 nH, C = 0.335 pF, misfit under 1 %. The model: L_out 2.42 nH as shipped
-///   (−8 %), 2.61 nH with the gap's correction (within 3 %); its 2-D gap capacitance in the
+///   meshes: L = 2.62 nH, C = 0.335 pF, misfit under 1 %. The model: L_out 2.42 nH for the
+///   axisymmetric current alone (−8 %), 2.61 nH with the gap's correction, as shipped (within
+///   3 %); its 2-D gap capacitance in the
 ///   board 0.268 pF, 20 % low (held at 20 ± 5 %).
 /// - **The line sees no resonant rise.** The line's voltage per ampere into the gap,
-///   M_eff = 2·50·S13/(jω(1 − S33)), is 212.8 pH at 50 MHz (shipped model 195.1 pH) and rises
+///   M_eff = 2·50·S13/(jω(1 − S33)), is 212.8 pH at 50 MHz (axisymmetric model 195.1 pH, shipped 214.1 pH) and rises
 ///   0.19 dB to the upper usable frequency, where a capacitor across the loop's terminals would
 ///   raise it by 1/(1 − ω²LC), 0.87 dB.
 /// - **A uniform field does.** The same probe alone in air (no fixture), the port a passive
 ///   load, lit by a plane wave with H normal to the loop (`wave-bare`: the handle cut back to a
-///   neck): V/H at 50 MHz gives an effective area of 12.97 mm², the model's 12.16 mm² as shipped
-///   (−6.2 %) and 12.86 mm² with the gap's correction (within 2 %); over the band it follows
+///   neck): V/H at 50 MHz gives an effective area of 12.97 mm², the axisymmetric model's
+///   12.16 mm² (−6.2 %) and 12.86 mm² with the gap's correction, as shipped (within 2 %); over the band it follows
 ///   the model's uniform-field transfer, with the rise, within 0.1 dB (held at 0.25), and
 ///   departs from the same transfer without the rise by 1.0 dB.
+/// - **FM-R10's gap circuit** (fine mesh): L = 9.75 nH (shipped 9.89, +1.4 %), C = 0.416 pF
+///   (model 0.275, −34 %), and its line coupling *does* rise, 0.89 dB to the upper usable
+///   frequency against the lumped form's 0.84: the line form the predictions use
+///   (`Response::line_transfer`) is FM-R5's finding and does not hold for FM-R10 (an open
+///   limitation, docs/response.md).
 /// - **The handle adds area.** With the 6 mm handle of the other runs (`wave`), the effective
 ///   area is 14.99 mm², +1.26 dB (held at 1–1.5 dB): the model's shield is the ring alone.
 #[test]
@@ -462,47 +521,15 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     for mesh in ["fine-long", "finer-long"] {
         let open = gap_run(&top, "R5", mesh, "open", "s33");
         let br = gap_run(&top, "R5", mesh, "bridged", "s33");
-        // Im(1/Z_sh) = ωC − 1/(ωL): least squares in (C, 1/L), scaled to order one.
-        let rows: Vec<(f64, f64)> = open
-            .iter()
-            .zip(&br)
-            .filter(|((f, _), _)| *f >= 3e8 && *f <= upper)
-            .map(|(&(f, so), &(_, sb))| {
-                let y = Cx::new(1.0, 0.0) / sub(z_of(so), z_of(sb));
-                (2.0 * PI * f, y.im)
-            })
-            .collect();
-        assert!(rows.len() > 30, "{}", rows.len());
-        let (mut a11, mut a12, mut a22, mut b1, mut b2) = (0.0, 0.0, 0.0, 0.0, 0.0);
-        for &(w, y) in &rows {
-            let (u, v) = (w * 1e-9, -1e9 / w);
-            (a11, a12, a22, b1, b2) = (
-                a11 + u * u,
-                a12 + u * v,
-                a22 + v * v,
-                b1 + u * y,
-                b2 + v * y,
-            );
-        }
-        let det = a11 * a22 - a12 * a12;
-        let (c, inv_l) = (
-            (b1 * a22 - b2 * a12) / det * 1e-9,
-            (a11 * b2 - a12 * b1) / det * 1e9,
-        );
-        let l = 1.0 / inv_l;
-        let misfit = rows
-            .iter()
-            .map(|&(w, y)| ((w * c - 1.0 / (w * l)) - y).abs() / y.abs())
-            .fold(0.0, f64::max);
+        let (l, c) = fit_gap(&open, &br, 3e8, upper);
         eprintln!(
-            "{mesh}: L {:.3} nH (axisymmetric {:.3}, shipped {:.3}), C {:.4} pF (model {:.4}), misfit {misfit:.2e}",
+            "{mesh}: L {:.3} nH (axisymmetric {:.3}, shipped {:.3}), C {:.4} pF (model {:.4})",
             l * 1e9,
             l_axi * 1e9,
             l_corr * 1e9,
             c * 1e12,
             resp.c_gap * 1e12
         );
-        assert!(misfit < 0.01, "the lumped form does not fit: {misfit}");
         assert!(
             (l_corr / l - 1.0).abs() < 0.03,
             "{mesh}: L {l:e} against {l_corr:e}"
@@ -524,17 +551,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     // The line's mutual as the gap drives it, and how little it rises.
     let s13 = gap_run(&top, "R5", "fine-long", "open", "s13");
     let s33 = gap_run(&top, "R5", "fine-long", "open", "s33");
-    let m_eff: Vec<(f64, f64)> = s13
-        .iter()
-        .zip(&s33)
-        .map(|(&(f, a), &(_, s))| {
-            let w = 2.0 * PI * f;
-            (
-                f,
-                (Cx::new(100.0, 0.0) * a / (Cx::new(0.0, w) * sub(Cx::new(1.0, 0.0), s))).abs(),
-            )
-        })
-        .collect();
+    let m_eff = m_eff_of(&s13, &s33);
     let m0 = m_eff[0].1;
     let c = loopwright::physics::coupling::probe_coupling(&x.probe, &x.solved, resp, 1.0, &line);
     eprintln!(
@@ -544,6 +561,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
         c.mutual * 1e12
     );
     assert!((m0 / 212.8e-12 - 1.0).abs() < 0.01, "{m0:e}");
+    // The shipped model's mutual (with the gap's correction): +0.6 %, held at 1.5 %.
     assert!((c.mutual / m0 - 1.0).abs() < 0.015, "{:e}", c.mutual);
     let (f_top, m_top) = *m_eff.iter().rfind(|(f, _)| *f <= upper).unwrap();
     let rise = 20.0 * (m_top / m0).log10();
@@ -551,6 +569,43 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     let lumped = -20.0 * (1.0 - w * w * l_corr * resp.c_gap).log10();
     eprintln!("M_eff rises {rise:.2} dB to {f_top:.3e} Hz; a lumped gap capacitor: {lumped:.2} dB");
     assert!(rise.abs() < 0.3 && lumped > 0.7, "{rise} {lumped}");
+
+    // FM-R10's gap circuit (fine mesh): the same L and C fit, and its line coupling, which
+    // does rise as the lumped form says: the line form is FM-R5's finding, not a general one.
+    let (x10, line10) = common::demo_probe_and_line("FM-R10");
+    let r10 = &x10.response;
+    let open = gap_run(&top, "R10", "fine-long", "open", "s33");
+    let br = gap_run(&top, "R10", "fine-long", "bridged", "s33");
+    let (l10, c10) = fit_gap(&open, &br, 3e8, r10.upper_hz);
+    let m10 = m_eff_of(&gap_run(&top, "R10", "fine-long", "open", "s13"), &open);
+    let (f10, m10_top) = *m10.iter().rfind(|(f, _)| *f <= r10.upper_hz).unwrap();
+    let rise10 = 20.0 * (m10_top / m10[0].1).log10();
+    let w10 = 2.0 * PI * f10;
+    let lumped10 = -20.0 * (1.0 - w10 * w10 * r10.l_outer * r10.c_gap).log10();
+    let c10m =
+        loopwright::physics::coupling::probe_coupling(&x10.probe, &x10.solved, r10, 1.0, &line10);
+    eprintln!(
+        "FM-R10: L {:.3} nH (shipped {:.3}), C {:.4} pF (model {:.4}); M_eff {:.1} pH (model {:.1}), rises {rise10:.2} dB to {f10:.3e} Hz, lumped {lumped10:.2} dB",
+        l10 * 1e9,
+        r10.l_outer * 1e9,
+        c10 * 1e12,
+        r10.c_gap * 1e12,
+        m10[0].1 * 1e12,
+        c10m.mutual * 1e12
+    );
+    assert!((r10.l_outer / l10 - 1.0).abs() < 0.03, "{l10:e}");
+    assert!((r10.c_gap / c10 - 1.0 + 0.34).abs() < 0.05, "{c10:e}");
+    // The model's mutual reads 5.9 % high here (its S21 0.5 dB high at low frequency, above):
+    // a regression guard on a stated offset, not a verdict.
+    assert!(
+        (c10m.mutual / m10[0].1 - 1.059).abs() < 0.02,
+        "{:e}",
+        m10[0].1
+    );
+    assert!(
+        (rise10 - lumped10).abs() < 0.3 && rise10 > 0.6,
+        "{rise10} {lumped10}"
+    );
 
     // The probe in a uniform field (no fixture): V/H against the model's uniform transfer.
     let mu0 = 4e-7 * PI;
