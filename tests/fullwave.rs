@@ -210,8 +210,6 @@ use loopwright::physics::Cx;
 ///   regression guard).
 #[test]
 fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
-    use loopwright::physics::shield::{RIBBONS_PER_PLATE, solve_round};
-    use loopwright::physics::{shield_gap, shield_plates};
     let top = refs("fdtd_probe_port.toml");
     let open = port_run(&top, "R5", "fine", "open");
     // Reciprocity against the line-driven run.
@@ -265,13 +263,11 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
         "the meshes differ: {l_fine:e} {l_fdtd:e}"
     );
     let (x, _) = common::demo_probe_and_line("FM-R5");
-    let pl = shield_plates(&x.probe, &x.solved);
-    let r = x.probe.shape.circumference() * 1e-3 / (2.0 * std::f64::consts::PI);
-    let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
-    let wf = (x.solved.trace_width + 2.0 * x.probe.clearance) * 1e-3;
-    let g = shield_gap::solve(r, &pl, &sc, wf, x.probe.gap * 1e-3, shield_gap::GAP_MESH).unwrap();
     // The shipped L_out includes the gap's correction; without it, the axisymmetric current's.
-    let (l_corr, l_axi) = (x.response.l_outer, x.response.l_outer - g.dl_outer);
+    let (l_corr, l_axi) = (
+        x.response.l_outer,
+        x.response.l_outer - x.response.gap_l_outer,
+    );
     let axi = l_axi / l_fdtd - 1.0;
     let gathered = l_corr / l_fdtd - 1.0;
     eprintln!(
@@ -495,20 +491,13 @@ fn m_eff_of(s13: &[(f64, Cx)], s33: &[(f64, Cx)]) -> Vec<(f64, f64)> {
 ///   area is 14.99 mm², +1.26 dB (held at 1–1.5 dB): the model's shield is the ring alone.
 #[test]
 fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
-    use loopwright::physics::shield::{RIBBONS_PER_PLATE, solve_round};
-    use loopwright::physics::{shield_gap, shield_plates};
     use std::f64::consts::PI;
     let top = refs("fdtd_gap_port.toml");
     let (x, line) = common::demo_probe_and_line("FM-R5");
     let resp = &x.response;
-    let pl = shield_plates(&x.probe, &x.solved);
-    let r = x.probe.shape.circumference() * 1e-3 / (2.0 * PI);
-    let sc = solve_round(r, &pl, RIBBONS_PER_PLATE).unwrap();
-    let wf = (x.solved.trace_width + 2.0 * x.probe.clearance) * 1e-3;
-    let g = shield_gap::solve(r, &pl, &sc, wf, x.probe.gap * 1e-3, shield_gap::GAP_MESH).unwrap();
     // Shipped: with the gap's correction; `_axi`: the axisymmetric current alone.
-    let (l_corr, l_axi) = (resp.l_outer, resp.l_outer - g.dl_outer);
-    let (a_corr, a_axi) = (resp.area_eff_m2, resp.area_eff_m2 - g.d_area);
+    let (l_corr, l_axi) = (resp.l_outer, resp.l_outer - resp.gap_l_outer);
+    let (a_corr, a_axi) = (resp.area_eff_m2, resp.area_eff_m2 - resp.gap_area_m2);
     let upper = resp.upper_hz;
 
     let bridged = gap_run(&top, "R5", "fine-long", "bridged", "s33");
