@@ -19,6 +19,11 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R10 fine-long open
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R10 fine-long bridged
 #     /usr/bin/python3 tests/reference/fdtd_gap_port.py toml > tests/data/fdtd_gap_port.toml
+# The plane-wave runs (the probe alone in air), recorded with them:
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R5 fine-long wave
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R5 fine-long wave-bare
+# and later, appended as its own block (1.6 M cells, 47 min):
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R5 fine-long wave-long
 import json
 import os
 import sys
@@ -32,7 +37,7 @@ import fdtd_refs as R  # noqa: E402
 R.F_MIN, R.F_MAX = 50e6, 8e9
 R.FREQS = np.unique(np.concatenate([np.geomspace(R.F_MIN, R.F_MAX, 161),
                                     [100e6, 300e6, 1e9, 2e9, 3e9, 5e9]]))
-VARIANTS = ("open", "bridged", "wave", "wave-bare")
+VARIANTS = ("open", "bridged", "wave", "wave-bare", "wave-long")
 # `wave`: the probe alone in air (no fixture, PML on every face), the gap port a passive 50-ohm
 # load, lit by a plane wave (total-field/scattered-field box round the probe) travelling along
 # x in the loop's plane, E along z (the loop's axis: the electric field the symmetric shield
@@ -48,6 +53,15 @@ def _sim(case, mesh, variant):
 
 
 def _build(case, mesh, variant):
+    if variant == "wave-long":
+        # the same with the demo's own handle length (40 mm above the ring, 8 mm wide): how
+        # much the handle's copper adds when it is as long as built
+        keep = R.HANDLE_LEN
+        R.HANDLE_LEN = 40.0
+        try:
+            return _build(case, mesh, "wave")
+        finally:
+            R.HANDLE_LEN = keep
     if variant == "wave-bare":
         # the same without the handle: its shield cut back to a neck 0.3 mm above the ring,
         # as wide as the ring (how much of the uniform-field response the handle's copper adds)
