@@ -373,12 +373,19 @@ fn predict_with_a_fixture_gives_the_coupling_and_the_s21_behind_its_probe_factor
         let h_avg = c["h_avg_per_amp"].as_f64().unwrap();
         assert!(c["mutual_ph"].as_f64().unwrap() < c["mutual_filament_ph"].as_f64().unwrap());
         // The predicted S21 and the predicted probe factor are one model: PF =
-        // 20·log10(H_avg/I) + 20·log10|k| − 20·log10(50 Ω) − |S21|dB + 20·log10|1 − ω²LC| at
+        // 20·log10(H_avg/I) + 20·log10|k| − 20·log10(50 Ω) − |S21|dB + 20·log10|1 − ω²LC| −
+        // 20·log10(1 + A_handle/A_eff) at
         // every tabulated frequency, k the line current under the probe per V_inc/50 Ω (the
-        // launch model), the last term the line's transfer against a uniform field's (L the
-        // outer inductance, C the gap capacitance).
+        // launch model), then the line's transfer against a uniform field's (L the outer
+        // inductance, C the gap capacitance), less 20·log10(1 + A_handle/A_eff).
         let pf = p["probe_factor"].as_array().unwrap();
         let s21 = c["s21"].as_array().unwrap();
+        // The handle's share of a uniform field, which the test line does not see.
+        let (handle_mm2, a_eff_mm2) = (
+            p["handle_area_mm2"].as_f64().unwrap(),
+            p["effective_area_mm2"].as_f64().unwrap(),
+        );
+        assert!(handle_mm2 > 0.0 && handle_mm2 < a_eff_mm2, "{handle_mm2}");
         let lc = p["outer_inductance_nh"].as_f64().unwrap()
             * 1e-9
             * p["gap_capacitance_pf"].as_f64().unwrap()
@@ -390,7 +397,8 @@ fn predict_with_a_fixture_gives_the_coupling_and_the_s21_behind_its_probe_factor
             let w = 2.0 * std::f64::consts::PI * b["freq_hz"].as_f64().unwrap();
             let from_s21 =
                 20.0 * h_avg.log10() + k_db - 20.0 * 50f64.log10() - b["db"].as_f64().unwrap()
-                    + 20.0 * (1.0 - w * w * lc).abs().log10();
+                    + 20.0 * (1.0 - w * w * lc).abs().log10()
+                    - 20.0 * (1.0 + handle_mm2 / a_eff_mm2).log10();
             let want = a["db_s_per_m"].as_f64().unwrap();
             assert!((from_s21 - want).abs() < 1e-9, "{from_s21} vs {want}");
             // Below the corner the loop's output leads the line current by nearly 90°.

@@ -41,6 +41,7 @@ pub fn probe_json(x: &Predicted) -> Value {
         "effective_area_mm2": r.area_eff_m2 * 1e6,
         "gap_area_mm2": r.gap_area_m2 * 1e6,
         "gap_inductance_nh": r.gap_l_outer * 1e9,
+        "handle_area_mm2": r.handle_area_m2 * 1e6,
         "outer_inductance_gmd_nh": r.l_outer_gmd * 1e9,
         "gap_capacitance_pf": r.c_gap * 1e12,
         "gap_resonance_hz": r.f_gap_res_hz,

@@ -193,7 +193,7 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
         let r = &x.response;
         let _ = writeln!(
             o,
-            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>E-rejection (worst case: electric field across the loop's axis, E/H = η0) {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; error budget ({} dB) {}.<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
+            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's; {:.2} mm² with the handle's share of a uniform field); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>E-rejection (worst case: electric field across the loop's axis, E/H = η0) {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; error budget ({} dB) {}.<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
             previews.get(i).map(String::as_str).unwrap_or(""),
             xml(&x.probe.name),
             x.probe.shape.kind(),
@@ -202,6 +202,7 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
             x.probe.target_z0,
             r.area_eff_m2 * 1e6,
             r.area_eff_m2 / r.area_m2,
+            r.area_uniform_m2() * 1e6,
             r.l_total * 1e9,
             r.l_outer * 1e9,
             r.l_stub * 1e9,

@@ -28,6 +28,16 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
         );
         line(
             &mut o,
+            "with the handle",
+            format!(
+                "{:.2} mm² in a uniform field ({:+.2} dB: the handle's shield diverts flux \
+                 through the loop)",
+                r.area_uniform_m2() * 1e6,
+                20.0 * (r.area_uniform_m2() / r.area_eff_m2).log10()
+            ),
+        );
+        line(
+            &mut o,
             "inductance",
             format!(
                 "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH)",

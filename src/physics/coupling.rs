@@ -121,9 +121,11 @@ pub fn pf_from_s21(s21_mag: f64, h_per_amp: f64, r_port: f64) -> f64 {
 
 /// dB to add to a probe factor derived on a test line ([`pf_from_s21`]) for the uniform-field
 /// probe factor at `f` Hz: 20·log10|1 − ω²·L_out·C_gap| ([`Response::line_factor`]; a uniform
-/// field rings up the loop–gap resonance, a test line's field under the apex does not).
+/// field rings up the loop–gap resonance, a test line's field under the apex does not), less
+/// the handle's share of a uniform field, 20·log10(1 + A_handle/A_eff) (a test line's field
+/// hardly reaches the handle; module [`super::handle`]).
 pub fn line_to_uniform_db(r: &Response, f: f64) -> f64 {
-    20.0 * r.line_factor(f).abs().log10()
+    20.0 * r.line_factor(f).abs().log10() - 20.0 * (r.area_uniform_m2() / r.area_eff_m2).log10()
 }
 
 /// The coupling of a built probe held with its tip `height_mm` above the strip: the flux

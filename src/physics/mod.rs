@@ -15,6 +15,7 @@ pub mod coupling;
 pub mod electric;
 mod elements;
 pub mod elliptic2;
+pub mod handle;
 mod inductance;
 pub mod launch;
 pub mod on_fixture;
@@ -175,6 +176,10 @@ pub struct Response {
     pub gap_l_outer: f64,
     /// The effective area it adds (included in `area_eff_m2`), m².
     pub gap_area_m2: f64,
+    /// The handle's share of a uniform field (module [`handle`]): the effective area its shield
+    /// copper adds, `area_eff_m2`·(ratio − 1), m². Only a uniform field sees it (the probe
+    /// factor); a test line's or a trace's field under the apex does not (not in `mutual`).
+    pub handle_area_m2: f64,
     /// Its stream function sampled over the plates, for the flux of a non-uniform field.
     pub gap_points: Vec<shield_gap::GapPoint>,
     /// Radius of the round loop the correction was solved on, m ([`shield_radius_m`]).
@@ -267,9 +272,15 @@ impl Response {
         self.gap_transfer(f) * Cx::new(self.line_factor(f), 0.0)
     }
 
+    /// The effective area in a uniform normal field: the loop's own (`area_eff_m2`) and the
+    /// handle's share (`handle_area_m2`), m².
+    pub fn area_uniform_m2(&self) -> f64 {
+        self.area_eff_m2 + self.handle_area_m2
+    }
+
     /// |V_out/H| (V per A/m) in a uniform normal field at `f` Hz.
     pub fn transfer(&self, f: f64) -> f64 {
-        2.0 * PI * f * MU0 * self.area_eff_m2 * self.gap_transfer(f).abs()
+        2.0 * PI * f * MU0 * self.area_uniform_m2() * self.gap_transfer(f).abs()
     }
 
     /// Loss of the feed run from the gap to the connector at `f` Hz, dB (8.686·α·l1).
@@ -350,10 +361,12 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let f_small = C0 / (10.0 * circumference);
     let f_null = C0 / (4.0 * l2 * eps_eff.sqrt());
     let c_gap = gap_capacitance(p, s)?;
+    let area_eff = sc.area_eff + gap.d_area;
+    let handle_area = area_eff * (handle::handle_ratio(p, s) - 1.0);
     let tan_d = signal_loss_tangent(p);
     let mut r = Response {
         area_m2: area,
-        area_eff_m2: sc.area_eff + gap.d_area,
+        area_eff_m2: area_eff,
         gmd_m: g,
         l_outer_gmd,
         l_outer,
@@ -384,6 +397,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         filaments: filaments(&sc, 8),
         gap_l_outer: gap.dl_outer,
         gap_area_m2: gap.d_area,
+        handle_area_m2: handle_area,
         gap_points: gap.points,
         gap_radius_m: shield_radius_m(shape),
         launch: None,
