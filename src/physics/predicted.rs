@@ -19,9 +19,9 @@ pub const ASSUMPTIONS: [&str; 7] = [
      effective area and the outer-loop inductance; via walls, the handle junction and (for \
      non-round loops) the corners' own crowding are approximated. In a uniform field the \
      handle's shield diverts flux through the ring: its share is solved on a thin sheet of the \
-     outline and applied as a ratio (a full-wave check on a 5 mm loop with a 40 mm handle: \
-     +1.67 dB measured, +1.84 dB modelled, so the factor reads low by about 0.2 dB); a test \
-     line's field is taken not to reach the handle",
+     outline and applied as a ratio (full-wave checks with a 40 mm handle: +1.67 dB measured, \
+     +1.84 dB modelled on a 5 mm loop, so its factor reads about 0.2 dB low; +0.86 and \
+     +0.89 dB on a 10 mm loop); a test line's field is taken not to reach the handle",
     "inner line: a shorted stub from the gap to the short (half the turn) and a matched run to \
      the output, with conductor loss (smooth copper, Wheeler's rule) and dielectric loss",
     "gap capacitance: 2-D field solution across the gap, the plates straight for a quarter \

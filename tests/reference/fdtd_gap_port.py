@@ -24,6 +24,8 @@
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R5 fine-long wave-bare
 # and later, appended as its own block (1.6 M cells, 47 min):
 #     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R5 fine-long wave-long
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R10 fine-long wave-bare
+#     nice -n 19 /usr/bin/python3 tests/reference/fdtd_gap_port.py run R10 fine wave-long  # 2.7 M cells
 import json
 import os
 import sys
@@ -44,7 +46,7 @@ VARIANTS = ("open", "bridged", "wave", "wave-bare", "wave-long")
 # rejects) and H along y, normal to the loop: the magnetic response in a uniform field,
 # V_port/H_inc, the probe factor's own quantity.
 WAVE_MARGIN = 1.0  # mm between the probe board and the plane wave's box
-RUNS = [("R5", "fine-long"), ("R5", "finer-long"), ("R10", "fine-long")]
+RUNS = [("R5", "fine-long"), ("R5", "finer-long"), ("R10", "fine-long"), ("R10", "fine")]
 
 
 def _sim(case, mesh, variant):
