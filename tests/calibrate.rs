@@ -791,7 +791,7 @@ fn convert_warns_above_the_usable_band_and_extrapolates_past_it_only_when_told_t
     );
     for key in [
         "# probe: FM-R10",
-        "# field reference: area-average",
+        "# field reference: uniform H normal to the loop (from the test line's area-average H)",
         "# source: calibrated from band.s2p",
     ] {
         assert!(text.contains(key), "{key}: {text}");

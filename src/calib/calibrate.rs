@@ -3,14 +3,16 @@
 //! A VNA drives the fixture's line (port `line_port`, far end matched) and reads the probe
 //! (port `probe_port`). With the line matched, its current is I = V_inc/R_ref, so the field the
 //! probe sees is known from the coupling model ([`crate::physics::coupling`]): the
-//! **area-average** Hx over the loop per ampere, M/(μ0·A), the same field reference as the
-//! predicted probe factor. Then
+//! **area-average** Hx over the loop's own effective area per ampere, M/(μ0·A). Then
 //!
 //!   PF = (H_avg/I)/(R_ref·|S21|),  PF[dB(S/m)] = 20·log10(H_avg/I) − 20·log10(R_ref) − |S21|dB.
 //!
 //! When the line is not uniform (the fixture's launches narrow it at each port) the current
 //! under the probe is k·V_inc/R_ref, with k from the launch model or the measured line
-//! ([`LineCurrent`]); then PF[dB(S/m)] gains 20·log10|k|.
+//! ([`LineCurrent`]); then PF[dB(S/m)] gains 20·log10|k|. That factor refers to the test line's
+//! field; [`line_to_uniform_db`] converts it to the predicted probe factor's reference, a
+//! uniform field normal to the loop (the loop–gap rise, and the handle's share of a uniform
+//! field, which the line's field does not reach).
 
 use crate::calib::touchstone::Network;
 use crate::error::{Error, FieldError};

@@ -63,7 +63,7 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
         outln!("{l}");
     }
     outln!(
-        "wrote {} (field reference: area-average H over the loop)",
+        "wrote {} (field reference: uniform H normal to the loop)",
         a.out.display()
     );
     outln!("\n{}", super::CAL_CAUTIONS);

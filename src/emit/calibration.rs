@@ -60,7 +60,7 @@ pub fn detail_csv(c: &Calibration, header: &[String]) -> String {
 pub fn plots(name: &str, c: &Calibration, r: &Response) -> (String, String) {
     let pf = log_plot(
         &format!(
-            "{name}: probe factor at {} mm over the test line (area-average H)",
+            "{name}: probe factor from {} mm over the test line (uniform H)",
             c.height_mm
         ),
         "probe factor dB(S/m)",
@@ -127,10 +127,17 @@ pub fn notes(
     let _ = writeln!(o, "## Field reference\n");
     let _ = writeln!(
         o,
-        "The probe factors here (`pf_db_s_per_m`) are **H / V_probe with H the area-average \
-         field over the loop** (the component normal to the loop), in dB(S/m): the same \
-         reference as loopwright's predicted probe factor. Field strength = reading (dBµV) + \
-         probe factor gives dBµA/m of area-average field.\n"
+        "The probe factors here (`pf_db_s_per_m`) are **H / V_probe with H a uniform field \
+         normal to the loop**, in dB(S/m): the same reference as loopwright's predicted probe \
+         factor. The test line's field is known as its area-average over the loop's own \
+         effective area; the factor derived from it is converted to the uniform reference by \
+         20·log10|1 − ω²·L_out·C_gap| (a uniform field rings up the loop–gap resonance, the \
+         line's does not) and by −{:.2} dB, the handle's share of a uniform field (the line's \
+         field does not reach the handle). Field strength = reading (dBµV) + probe factor \
+         gives dBµA/m of uniform field; for a field confined under the tip, as over a trace, \
+         add {:.2} dB for its area-average over the loop.\n",
+        r.local_field_db(),
+        r.local_field_db()
     );
     let _ = writeln!(
         o,
@@ -169,7 +176,7 @@ pub fn notes(
     let _ = writeln!(
         o,
         "- PF[dB(S/m)] = 20·log10(H_avg/I) + 20·log10|I/(V_inc/R_ref)| − 20·log10(R_ref) − \
-         |S21|[dB].\n"
+         |S21|[dB] + 20·log10|1 − ω²·L_out·C_gap| − 20·log10(A_uniform/A_eff).\n"
     );
     let _ = writeln!(o, "## Result\n");
     let n_in = c.points.iter().filter(|q| q.in_band).count();

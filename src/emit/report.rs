@@ -92,8 +92,10 @@ const COMPARISON_HEADS: [&str; 12] = [
 ];
 
 /// What the comparison table's probe factors mean.
-const COMPARISON_NOTE: &str = "PF in dB(S/m), area-average field normal to the loop, into \
-     50 Ω: H[dBµA/m] = V[dBµV] + PF. Values above a probe's upper usable frequency are shown \
+const COMPARISON_NOTE: &str = "PF in dB(S/m), uniform field normal to the loop, into 50 Ω: \
+     H[dBµA/m] = V[dBµV] + PF (for a field confined under the tip, as over a trace, its \
+     area-average over the loop's own effective area is higher by the handle's share, given in \
+     each probe's notes). Values above a probe's upper usable frequency are shown \
      for comparison only. A_eff: effective area of the shield's outer current. E-rej.: E-rejection \
      in the worst orientation (electric field across the loop's axis, E/H = η0). Resolution: −6 dB \
      full width across a trace, at the stated height.";

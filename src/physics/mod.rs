@@ -9,7 +9,10 @@
 //! - the EMF jωμ0·A·H appears across the gap at the apex and drives the inner line: towards the
 //!   output a matched line (the 50 Ω load), towards the short a shorted stub of half the turn;
 //!   V_out = V_oc·R_L/(R_L + jωL_out + jZ0·tan βl2);
-//! - the probe factor is |H/V_out| in S/m with H the **area-average** field normal to the loop.
+//! - the probe factor is |H/V_out| in S/m with H a **uniform** field normal to the loop; it
+//!   includes the handle's share of such a field (module [`handle`]), which a field confined
+//!   under the tip does not reach: for that field's average over the loop's own effective area,
+//!   add 20·log10(A_uniform/A_eff) ([`Response::local_field_db`]).
 
 pub mod coupling;
 pub mod electric;
@@ -278,6 +281,14 @@ impl Response {
         self.area_eff_m2 + self.handle_area_m2
     }
 
+    /// dB to add to the (uniform-field) probe factor for a field confined under the tip, as
+    /// over a trace, to read that field's average over the loop's own effective area:
+    /// 20·log10(A_uniform/A_eff), the handle's share (at low frequency; near the top of the band
+    /// a test line's transfer also differs by [`Self::line_factor`]).
+    pub fn local_field_db(&self) -> f64 {
+        20.0 * (self.area_uniform_m2() / self.area_eff_m2).log10()
+    }
+
     /// |V_out/H| (V per A/m) in a uniform normal field at `f` Hz.
     pub fn transfer(&self, f: f64) -> f64 {
         2.0 * PI * f * MU0 * self.area_uniform_m2() * self.gap_transfer(f).abs()
@@ -362,7 +373,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let f_null = C0 / (4.0 * l2 * eps_eff.sqrt());
     let c_gap = gap_capacitance(p, s)?;
     let area_eff = sc.area_eff + gap.d_area;
-    let handle_area = area_eff * (handle::handle_ratio(p, s) - 1.0);
+    let handle_area = area_eff * (handle::handle_ratio(p, s)? - 1.0);
     let tan_d = signal_loss_tangent(p);
     let mut r = Response {
         area_m2: area,

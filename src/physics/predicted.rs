@@ -20,7 +20,7 @@ pub const ASSUMPTIONS: [&str; 7] = [
      non-round loops) the corners' own crowding are approximated. In a uniform field the \
      handle's shield diverts flux through the ring: its share is solved on a thin sheet of the \
      outline and applied as a ratio (full-wave checks with a 40 mm handle: +1.67 dB measured, \
-     +1.84 dB modelled on a 5 mm loop, so its factor reads about 0.2 dB low; +0.86 and \
+     +1.84 dB modelled on a 5 mm loop, so its factor reads about 0.2 dB low; +0.85 and \
      +0.89 dB on a 10 mm loop); a test line's field is taken not to reach the handle",
     "inner line: a shorted stub from the gap to the short (half the turn) and a matched run to \
      the output, with conductor loss (smooth copper, Wheeler's rule) and dielectric loss",

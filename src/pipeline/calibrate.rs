@@ -210,7 +210,7 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     let (lo, hi) = (band[0], band[band.len() - 1]);
     let common = [
         format!("probe: {} (spec {spec_name})", x.probe.name),
-        "field reference: area-average H normal to the loop; H[dBµA/m] = V_probe[dBµV] + \
+        "field reference: uniform H normal to the loop (from the test line's area-average H); H[dBµA/m] = V_probe[dBµV] + \
          pf_db_s_per_m"
             .to_string(),
         crate::calib::band::band_line(

@@ -275,7 +275,9 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         o,
         "- Probe factor (uniform H, 50 Ω): {:.2} dB(S/m) at 10 MHz, {:.2} at 100 MHz, {:.2} at \
          1 GHz{}. H[dBµA/m] = V[dBµV] + PF (with the handle's share of a uniform field, about \
-         0.2 dB too large on a 5 mm loop: see the assumptions).",
+         0.2 dB too large on a 5 mm loop: see the assumptions). For a field confined under the \
+         tip, as over a trace, which does not reach the handle: add {:.2} dB for its average \
+         over the loop.",
         pf(10e6),
         pf(100e6),
         pf(1e9),
@@ -283,7 +285,8 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
             " (1 GHz is above the usable band)"
         } else {
             ""
-        }
+        },
+        r.local_field_db()
     );
     if let Some(l) = &r.launch {
         o.push_str(&launch_line(l));
