@@ -51,7 +51,7 @@ pub struct Outline {
 
 /// Cells across the ring's half width at least.
 pub const CELLS_PER_HALF_WIDTH: f64 = 5.0;
-/// At most this many grid cells; coarser cells beyond it.
+/// At most this many grid cells; coarser cells beyond it, down to half the ring's half width.
 pub const MAX_CELLS: f64 = 25_000.0;
 /// The handle is modelled up to this many times the larger of its width and the loop's height
 /// from the ring: on FM-R5 the copper further away adds under 0.05 dB (module tests).
@@ -346,8 +346,9 @@ pub fn probe_handle(p: &Probe, s: &SolvedProbe) -> (f64, f64, f64) {
 }
 
 /// The cell size for an outline: [`CELLS_PER_HALF_WIDTH`] across the ring's half width, coarser
-/// only if the grid would pass [`MAX_CELLS`], and never coarser than a fifth of the loop's
-/// inner half size (so the loop always holds cells).
+/// only if the grid would pass [`MAX_CELLS`], but never coarser than half the ring's half width
+/// (so the ring stays whole: a large loop takes more cells and time instead) nor than a fifth
+/// of the loop's inner half size (so the loop always holds cells).
 pub fn cell_size(o: &Outline) -> f64 {
     let (a, b) = half_extent(&o.shape);
     let mut w = 2.0 * (a + o.ring_half_width);
@@ -357,7 +358,9 @@ pub fn cell_size(o: &Outline) -> f64 {
         hgt = hgt.max(b + o.ring_half_width - lo);
     }
     let inner = (a.min(b) - o.ring_half_width).max(0.0);
-    let h = (o.ring_half_width / CELLS_PER_HALF_WIDTH).max((w * hgt / MAX_CELLS).sqrt());
+    let h = (o.ring_half_width / CELLS_PER_HALF_WIDTH)
+        .max((w * hgt / MAX_CELLS).sqrt())
+        .min(o.ring_half_width / 2.0);
     if inner > 0.0 { h.min(inner / 5.0) } else { h }
 }
 
@@ -565,5 +568,21 @@ mod tests {
         };
         let h = cell_size(&tiny);
         assert!(h <= (1.65 - 1.108) / 5.0 + 1e-12, "{h}");
+    }
+
+    /// A large loop keeps cells of at most half the ring's half width, so its ring stays whole,
+    /// and its handle's share stays small and finite.
+    #[test]
+    fn a_large_loop_keeps_its_ring_whole() {
+        let big = Outline {
+            shape: LoopShape::Round { diameter: 200.0 },
+            ring_half_width: 1.108,
+            gap: 0.4,
+            handle: Some((4.0, -(100.0 + 1.108 + 40.0), -100.0)),
+        };
+        let h = cell_size(&big);
+        assert!(h <= 1.108 / 2.0 + 1e-12, "{h}");
+        let r = ratio_of(&big).unwrap();
+        assert!(r > 1.0 && 20.0 * r.log10() < 0.2, "{r}");
     }
 }
