@@ -33,7 +33,7 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
                 "{:.2} mm² in a uniform field ({:+.2} dB: the handle's shield diverts flux \
                  through the loop)",
                 r.area_uniform_m2() * 1e6,
-                20.0 * (r.area_uniform_m2() / r.area_eff_m2).log10()
+                r.local_field_db()
             ),
         );
         line(

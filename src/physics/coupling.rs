@@ -125,7 +125,7 @@ pub fn pf_from_s21(s21_mag: f64, h_per_amp: f64, r_port: f64) -> f64 {
 /// the handle's share of a uniform field, 20·log10(1 + A_handle/A_eff) (a test line's field
 /// hardly reaches the handle; module [`super::handle`]).
 pub fn line_to_uniform_db(r: &Response, f: f64) -> f64 {
-    20.0 * r.line_factor(f).abs().log10() - 20.0 * (r.area_uniform_m2() / r.area_eff_m2).log10()
+    20.0 * r.line_factor(f).abs().log10() - r.local_field_db()
 }
 
 /// The coupling of a built probe held with its tip `height_mm` above the strip: the flux

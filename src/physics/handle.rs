@@ -73,8 +73,6 @@ pub struct SheetFlux {
     pub moment_mm3: f64,
     /// Conjugate-gradient iterations.
     pub iterations: usize,
-    /// Cell size, mm.
-    pub cell_mm: f64,
 }
 
 /// The normal field at offset (x, y) of a unit counter-clockwise square loop of side `h`
@@ -298,7 +296,6 @@ pub fn aperture_flux(o: &Outline, h: f64) -> Result<SheetFlux, Error> {
         area_mm2,
         moment_mm3,
         iterations,
-        cell_mm: h,
     })
 }
 
@@ -446,13 +443,18 @@ fn outline_key(o: &Outline) -> Vec<u64> {
 mod tests {
     use super::*;
 
-    fn ring(handle: Option<(f64, f64, f64)>) -> Outline {
+    /// A round loop of centreline diameter `d` with FM-R5's ring (1.108 mm half width) and gap.
+    fn round(d: f64, handle: Option<(f64, f64, f64)>) -> Outline {
         Outline {
-            shape: LoopShape::Round { diameter: 5.0 },
+            shape: LoopShape::Round { diameter: d },
             ring_half_width: 1.108,
             gap: 0.4,
             handle,
         }
+    }
+
+    fn ring(handle: Option<(f64, f64, f64)>) -> Outline {
+        round(5.0, handle)
     }
 
     /// A thin perfectly conducting disc of radius a in a normal field H0 carries the moment
@@ -560,26 +562,25 @@ mod tests {
         }
         let e = aperture_flux(&ring(None), 1e-4).unwrap_err().to_string();
         assert!(e.contains("cells of"), "{e}");
-        let tiny = Outline {
-            shape: LoopShape::Round { diameter: 3.3 },
-            ring_half_width: 1.108,
-            gap: 0.4,
-            handle: Some((50.0, -300.0, -1.65)),
-        };
-        let h = cell_size(&tiny);
+        let h = cell_size(&round(3.3, Some((50.0, -300.0, -1.65))));
         assert!(h <= (1.65 - 1.108) / 5.0 + 1e-12, "{h}");
+        // The same loop on a 100 mm × 300 mm handle, cut as `probe_handle` cuts it (three loop
+        // half widths across, three modelled widths along): a finite share, not 0/0.
+        let (a, hr) = (1.65, 1.108);
+        let half_w = HANDLE_REACH * (a + hr);
+        let tiny = round(
+            3.3,
+            Some((half_w, -(a + hr + HANDLE_REACH * 2.0 * half_w), -a)),
+        );
+        let r = ratio_of(&tiny).unwrap();
+        assert!(r.is_finite() && r > 1.0, "{r}");
     }
 
     /// A large loop keeps cells of at most half the ring's half width, so its ring stays whole,
     /// and its handle's share stays small and finite.
     #[test]
     fn a_large_loop_keeps_its_ring_whole() {
-        let big = Outline {
-            shape: LoopShape::Round { diameter: 200.0 },
-            ring_half_width: 1.108,
-            gap: 0.4,
-            handle: Some((4.0, -(100.0 + 1.108 + 40.0), -100.0)),
-        };
+        let big = round(200.0, Some((4.0, -(100.0 + 1.108 + 40.0), -100.0)));
         let h = cell_size(&big);
         assert!(h <= 1.108 / 2.0 + 1e-12, "{h}");
         let r = ratio_of(&big).unwrap();

@@ -219,7 +219,7 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         r.area_eff_m2 / r.area_m2,
         r.gap_area_m2 * 1e6,
         r.handle_area_m2 * 1e6,
-        20.0 * (r.area_uniform_m2() / r.area_eff_m2).log10(),
+        r.local_field_db(),
         r.l_total * 1e9,
         r.l_outer * 1e9,
         r.gap_l_outer * 1e9,
