@@ -156,6 +156,7 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
                 d: 0.5,
                 plated: false,
                 via: false,
+                mechanical: None,
             })
         }),
         (Rule::MaskWeb, |c| c.p.fab.mask_web = 2.0),
@@ -200,6 +201,7 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
                 d: 0.3,
                 plated: false,
                 via: true,
+                mechanical: None,
             });
         }),
         (Rule::ViaPitchBelowFab, |c| c.s.pitch_min += 0.2),
@@ -211,6 +213,7 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
                 d: 0.3,
                 plated: false,
                 via: true,
+                mechanical: None,
             });
         }),
         (Rule::StitchingRowPitch, |c| {

@@ -97,8 +97,8 @@ pub fn compose(f: &Fixture, b: &FixtureBoard) -> Artwork {
         drills,
         gap_rect: None,
         nets: Nets {
-            default: GND_NET,
-            signal: Some((LINE_NET, signal_area)),
+            default: Some(GND_NET.to_string()),
+            areas: vec![(LINE_NET.to_string(), signal_area)],
         },
         layer_roles: ("test line", "ground"),
     }

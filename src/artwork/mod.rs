@@ -9,6 +9,7 @@ use geo::{BooleanOps, Coord, LineString, MultiPolygon, Polygon};
 use kurbo::Point;
 
 pub mod fixture;
+pub mod panel;
 
 /// The net every copper object of a probe belongs to: the loop trace is shorted to the shield at
 /// its far end, so the whole probe is one net at DC (the fab's electrical test must expect the
@@ -18,29 +19,32 @@ pub const NET: &str = "PROBE";
 /// Net names of a board's copper objects (the Gerber `.N` attribute).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Nets {
-    /// The net of every object not in `signal`.
-    pub default: &'static str,
-    /// A second net and the area it covers: an object whose first point (a region's first
-    /// vertex, a flash's centre) lies in the area belongs to it.
-    pub signal: Option<(&'static str, MultiPolygon<f64>)>,
+    /// The net of every object in none of `areas`; `None`: not connected (`N/C`, as for a
+    /// panel's fiducials).
+    pub default: Option<String>,
+    /// Nets and the areas they cover: an object whose first point (a region's first vertex, a
+    /// flash's centre) lies in an area belongs to the first such net.
+    pub areas: Vec<(String, MultiPolygon<f64>)>,
 }
 
 impl Nets {
     /// One net for everything.
-    pub fn one(name: &'static str) -> Nets {
+    pub fn one(name: &str) -> Nets {
         Nets {
-            default: name,
-            signal: None,
+            default: Some(name.to_string()),
+            areas: Vec::new(),
         }
     }
 
-    /// The net of an object whose first point is `p`.
-    pub fn at(&self, p: Point) -> &'static str {
+    /// The net of an object whose first point is `p` (`None`: not connected).
+    pub fn at(&self, p: Point) -> Option<&str> {
         use geo::Intersects;
-        match &self.signal {
-            Some((name, area)) if area.intersects(&geo::Point::new(p.x, p.y)) => name,
-            _ => self.default,
-        }
+        let q = geo::Point::new(p.x, p.y);
+        self.areas
+            .iter()
+            .find(|(_, area)| area.intersects(&q))
+            .map(|(name, _)| name.as_str())
+            .or(self.default.as_deref())
     }
 }
 
@@ -55,6 +59,8 @@ pub enum PadFunction {
     Component,
     /// A solder-mask opening (on mask layers).
     MaskOpening,
+    /// A panel's fiducial (a bare copper dot for the assembler's vision system).
+    Fiducial,
 }
 
 /// An aperture shape (mm, snapped to nm).
@@ -155,6 +161,18 @@ pub struct Drill {
     pub plated: bool,
     /// A via (true) or a component hole.
     pub via: bool,
+    /// A hole drilled for the fab's own use, not the board's: a panel's tooling hole or a
+    /// tab's perforation (never plated).
+    pub mechanical: Option<Mechanical>,
+}
+
+/// What a mechanical hole is for (the Gerber format's drill functions).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Mechanical {
+    /// A panel's tooling hole (registration).
+    Tooling,
+    /// A breakaway tab's perforation.
+    BreakOut,
 }
 
 /// All artwork of one probe board.
@@ -274,6 +292,7 @@ pub(crate) fn via_drills(vias: &[crate::geom::Via]) -> Vec<Drill> {
             d: snap(v.drill),
             plated: true,
             via: true,
+            mechanical: None,
         })
         .collect()
 }
@@ -482,6 +501,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         d: snap(h.drill),
         plated: true,
         via: false,
+        mechanical: None,
     }));
     Artwork {
         copper,

@@ -113,5 +113,31 @@ pub(super) fn run(a: &BuildArgs) -> Result<(), Error> {
     let (_, built) =
         build_to_dir(&spec, base, &a.out, a.force, Vec::new()).map_err(|e| with_lines(&text, e))?;
     print_summary(&a.out, &built);
+    print_panel(&a.out);
     Ok(())
+}
+
+/// Names the panel folder a build wrote, if any (a folder holding panel notes).
+pub fn print_panel(out: &Path) {
+    let Ok(dir) = std::fs::read_dir(out) else {
+        return;
+    };
+    let mut found: Vec<PathBuf> = dir
+        .flatten()
+        .map(|e| e.path())
+        .filter(|p| {
+            std::fs::read_dir(p).is_ok_and(|mut d| {
+                d.any(|f| {
+                    f.is_ok_and(|f| f.file_name().to_string_lossy().ends_with("-panel-notes.md"))
+                })
+            })
+        })
+        .collect();
+    found.sort();
+    for p in found {
+        outln!(
+            "\npanel: {} (one fabrication panel; its notes list every board's offset and tabs)",
+            p.display()
+        );
+    }
 }

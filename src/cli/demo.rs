@@ -11,7 +11,7 @@
 use super::build::{print_fixture, print_summary};
 use crate::error::Error;
 use crate::output::Edited;
-use crate::pipeline::{build_fixture, family_files, fixture_entries};
+use crate::pipeline::{build_fixture, family_files_with, fixture_entries};
 use crate::spec::fixture::FixtureFileSpec;
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
@@ -25,6 +25,11 @@ pub const DEMO_SPEC_NAME: &str = "fenwick-marsh-probes.toml";
 pub const DEMO_FIXTURE: &str = include_str!("../../data/demo/fenwick-marsh-fixture.toml");
 /// Its file name.
 pub const DEMO_FIXTURE_NAME: &str = "fenwick-marsh-fixture.toml";
+/// The demo panel's fixture spec (the test line on the probes' own stackup), also written into
+/// the output folder.
+pub const DEMO_PANEL_FIXTURE: &str = include_str!("../../data/demo/fenwick-marsh-fixture-4l.toml");
+/// Its file name, as the family spec's `[panel]` table names it.
+pub const DEMO_PANEL_FIXTURE_NAME: &str = "fenwick-marsh-fixture-4l.toml";
 /// Invented bench data: (file name, content).
 pub const DEMO_BENCH: [(&str, &str); 2] = [
     (
@@ -66,6 +71,10 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
             PathBuf::from(DEMO_FIXTURE_NAME),
             DEMO_FIXTURE.as_bytes().to_vec(),
         ),
+        (
+            PathBuf::from(DEMO_PANEL_FIXTURE_NAME),
+            DEMO_PANEL_FIXTURE.as_bytes().to_vec(),
+        ),
     ];
     extra.extend(
         DEMO_BENCH
@@ -75,7 +84,7 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     // The fixture and the family are built at once (on separate cores where there are).
     let (fixture, family) = rayon::join(
         || build_fixture(&fx_spec, Path::new("."), false),
-        || family_files(&spec, Path::new("."), false, extra),
+        || family_files_with(&spec, Path::new("."), false, extra, &demo_fixture),
     );
     let fixture = fixture?;
     let (_, built, mut entries) = family?;
@@ -87,6 +96,7 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
         a.out.join(DEMO_SPEC_NAME).display()
     );
     print_summary(&a.out, &built);
+    super::build::print_panel(&a.out);
     outln!();
     print_fixture(&a.out, &fixture);
     outln!(
@@ -99,6 +109,21 @@ pub(super) fn run(a: &DemoArgs) -> Result<(), Error> {
     );
     outln!("\n{}\n\n{}", super::CAL_CAUTIONS, super::CAUTIONS);
     Ok(())
+}
+
+/// The demo panel's fixture spec, from the built-in copy.
+fn demo_fixture(name: &str) -> Result<(FixtureFileSpec, PathBuf), Error> {
+    if name != DEMO_PANEL_FIXTURE_NAME {
+        return Err(Error::Invalid(vec![crate::error::FieldError::new(
+            "panel.fixtures",
+            name,
+            format!("the demo carries only {DEMO_PANEL_FIXTURE_NAME}"),
+        )]));
+    }
+    Ok((
+        parse_toml(DEMO_PANEL_FIXTURE, DEMO_PANEL_FIXTURE_NAME)?,
+        PathBuf::from("."),
+    ))
 }
 
 /// A refusal that `--force` would lift (the folder fails the usual check but passes the one

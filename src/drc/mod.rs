@@ -49,11 +49,13 @@ pub mod slack {
 mod board;
 mod fixture;
 mod kernel;
+pub mod panel;
 mod probe;
 
 pub use board::check_board;
 pub use fixture::check_fixture;
 pub use kernel::{flash_polygon, layer_copper};
+pub use panel::{PanelRule, PanelViolation, check_panel};
 pub use probe::check;
 
 pub use crate::error::{Rule, Violation};

@@ -113,10 +113,13 @@ impl Writer {
 
     fn net(&mut self, at: Point) {
         if let Some(nets) = &self.nets {
-            let name = nets.at(at).to_string();
+            let net = match nets.at(at) {
+                Some(name) => Net::Connected(vec![name.to_string()]),
+                None => Net::NotConnected,
+            };
             self.cmds
                 .push(ext(ExtendedCode::ObjectAttribute(ObjectAttribute::Net(
-                    Net::Connected(vec![name]),
+                    net,
                 ))));
         }
     }
@@ -242,6 +245,7 @@ fn pad_function(f: PadFunction) -> ApertureFunction {
         PadFunction::Connector => ApertureFunction::ConnectorPad,
         PadFunction::Component => ApertureFunction::ComponentPad,
         PadFunction::MaskOpening => ApertureFunction::Material,
+        PadFunction::Fiducial => ApertureFunction::FiducialPad(FiducialScope::Panel),
     }
 }
 

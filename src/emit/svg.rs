@@ -23,7 +23,11 @@ fn ring_d(pts: &[Point]) -> String {
         d.push_str(if i == 0 { "M" } else { "L" });
         d.push_str(&format!("{} {} ", f(p.x), f(-p.y)));
     }
-    d.push('Z');
+    // A closed ring (first point = last) is closed; an open path (a panel's routed edge
+    // broken at its tabs) is not.
+    if pts.len() > 2 && pts.first() == pts.last() {
+        d.push('Z');
+    }
     d
 }
 

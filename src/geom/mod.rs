@@ -10,6 +10,7 @@
 
 pub mod fixture;
 pub mod font;
+pub mod panel;
 mod path;
 mod probe;
 mod region;

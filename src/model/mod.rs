@@ -7,6 +7,7 @@ pub mod centreline;
 pub mod fab;
 pub mod fixture;
 pub mod line;
+pub mod panel;
 pub mod probe;
 pub mod stackup;
 pub mod text;

@@ -7,12 +7,14 @@
 pub mod calibrate;
 pub mod fixture;
 pub mod output;
+pub mod panel;
 pub mod predict;
 pub mod probe;
 
 pub use fixture::{BuiltFixture, build_fixture, fixture_entries, load_fixture};
 pub use output::{FileEntry, artwork_files, write_atomically};
+pub use panel::{BuiltPanel, build_panel, panel_entries};
 pub use probe::{
-    BuiltProbe, FamilyBuild, build_family, build_probe, build_to_dir, family_files, family_summary,
-    launch_over_limit, predicted, probe_spec_copy,
+    BuiltProbe, FamilyBuild, build_family, build_probe, build_to_dir, family_files,
+    family_files_with, family_summary, launch_over_limit, predicted, probe_spec_copy,
 };

@@ -126,6 +126,7 @@ pub fn probe_spec_copy(spec: &ProbeFileSpec, index: usize, stackup_file: Option<
     let mut one = spec.clone();
     one.probe = vec![spec.probe[index].clone()];
     one.family = None;
+    one.panel = None;
     if let Some(f) = stackup_file {
         one.stackup = Some(f.to_string());
     }
@@ -211,12 +212,38 @@ pub fn build_to_dir(
 
 /// The files of a family's output folder in memory (each probe's folder, the summary, the
 /// report, and `extra`); nothing is written.
+///
+/// A spec with a `[panel]` table also gets its panel's folder and the folders of the fixtures
+/// the panel carries (fixture specs read relative to `base`).
 #[allow(clippy::type_complexity)]
 pub fn family_files(
     spec: &ProbeFileSpec,
     base: &Path,
     force: bool,
     extra: Vec<(PathBuf, Vec<u8>)>,
+) -> Result<(Family, Vec<BuiltProbe>, Vec<(PathBuf, Vec<u8>)>), Error> {
+    let load = |name: &str| -> Result<(crate::spec::fixture::FixtureFileSpec, PathBuf), Error> {
+        let path = base.join(name);
+        let text = std::fs::read_to_string(&path).map_err(|e| Error::Io {
+            path: path.display().to_string(),
+            source: e,
+        })?;
+        let shown = path.display().to_string();
+        let spec: crate::spec::fixture::FixtureFileSpec = crate::spec::parse_toml(&text, &shown)?;
+        let dir = path.parent().unwrap_or(Path::new(".")).to_path_buf();
+        Ok((spec, dir))
+    };
+    family_files_with(spec, base, force, extra, &load)
+}
+
+/// [`family_files`] with the panel's fixture specs read by `load`.
+#[allow(clippy::type_complexity)]
+pub fn family_files_with(
+    spec: &ProbeFileSpec,
+    base: &Path,
+    force: bool,
+    extra: Vec<(PathBuf, Vec<u8>)>,
+    load: &super::panel::FixtureLoader<'_>,
 ) -> Result<(Family, Vec<BuiltProbe>, Vec<(PathBuf, Vec<u8>)>), Error> {
     let FamilyBuild {
         family,
@@ -251,6 +278,10 @@ pub fn family_files(
         PathBuf::from(format!("{fam}-report.html")),
         crate::emit::report::html(&family.name, &predicted(&built), &previews).into_bytes(),
     ));
+    if let Some(ps) = &spec.panel {
+        let panel = super::panel::build_panel(ps, &fam, &built, load, force)?;
+        entries.extend(super::panel::panel_entries(&panel));
+    }
     Ok((family, built, entries))
 }
 

@@ -4,6 +4,7 @@
 //! Only this module knows serde field names and unit spellings (`thickness_oz`).
 
 pub mod fixture;
+pub mod panel;
 pub mod probe;
 pub mod stackup;
 

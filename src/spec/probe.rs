@@ -36,6 +36,8 @@ pub struct ProbeFileSpec {
     /// The loops.
     #[serde(default)]
     pub probe: Vec<LoopSpec>,
+    /// One fabrication panel of the family (and fixtures on its stackup).
+    pub panel: Option<super::panel::PanelSpec>,
 }
 
 /// One loop of the family.

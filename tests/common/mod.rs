@@ -17,7 +17,7 @@ pub fn demo_dir() -> &'static Path {
         let _ = std::fs::remove_dir_all(&dir);
         let spec: loopwright::spec::probe::ProbeFileSpec =
             toml::from_str(loopwright::cli::DEMO_SPEC).unwrap();
-        loopwright::pipeline::build_to_dir(&spec, Path::new("."), &dir, false, Vec::new())
+        loopwright::pipeline::build_to_dir(&spec, Path::new("data/demo"), &dir, false, Vec::new())
             .expect("demo builds");
         dir
     })

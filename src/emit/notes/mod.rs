@@ -7,7 +7,9 @@ use crate::model::stackup::Layer;
 use std::fmt::Write;
 
 mod fixture;
+mod panel;
 mod probe;
+pub use panel::panel_notes;
 
 pub use fixture::fixture_notes;
 pub use probe::{launch_line, notes, predictions};
