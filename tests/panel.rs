@@ -432,3 +432,101 @@ fn every_panel_rule_fires_alone() {
         vec![PanelRule::HoleToCopper]
     );
 }
+
+#[test]
+fn the_panel_job_file_lists_its_folder_and_the_probes_stay_symmetric() {
+    use geo::BooleanOps;
+    use std::collections::BTreeSet;
+    let dir = common::demo_dir().join(PANEL);
+    let j: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(dir.join(format!("{PANEL}.gbrjob"))).unwrap(),
+    )
+    .unwrap();
+    let listed: BTreeSet<String> = j["FilesAttributes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["Path"].as_str().unwrap().to_string())
+        .collect();
+    let in_folder: BTreeSet<String> = std::fs::read_dir(&dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
+        .filter(|n| n.ends_with(".gbr") || n.ends_with(".drl"))
+        .collect();
+    assert_eq!(listed, in_folder);
+    assert!(in_folder.contains(&format!("{PANEL}-NPTH.drl")));
+    // The shield planes (L2, L4) of each probe, read back from the panel, are mirror images of
+    // themselves about the probe's axis (x = 0 on the board, x = its offset on the panel): the
+    // move kept them whole.
+    for n in [2, 4] {
+        let panel = common::read_gerber(&panel_file(&format!("L{n}.gbr")));
+        for (name, dx, dy) in offsets().iter().filter(|o| o.0.starts_with("FM-")) {
+            let (x0, y0, x1, y1) = bbox_of(&common::read_gerber(&board_file(name, "profile.gbr")));
+            let mine = MultiPolygon(
+                panel
+                    .regions
+                    .0
+                    .iter()
+                    .filter(|p| {
+                        let r = p.bounding_rect().unwrap();
+                        r.min().x >= x0 + dx - 1e-6
+                            && r.max().x <= x1 + dx + 1e-6
+                            && r.min().y >= y0 + dy - 1e-6
+                            && r.max().y <= y1 + dy + 1e-6
+                    })
+                    .cloned()
+                    .collect(),
+            );
+            let mirrored = MultiPolygon(
+                mine.0
+                    .iter()
+                    .map(|p| {
+                        let flip = |ls: &LineString<f64>| {
+                            LineString::from(
+                                ls.coords()
+                                    .map(|c| (2.0 * dx - c.x, c.y))
+                                    .collect::<Vec<_>>(),
+                            )
+                        };
+                        Polygon::new(flip(p.exterior()), p.interiors().iter().map(flip).collect())
+                    })
+                    .collect(),
+            );
+            let area = mine.unsigned_area();
+            let xor = mine.xor(&mirrored).unsigned_area();
+            assert!(area > 10.0, "{name} L{n}");
+            assert!(
+                xor < 1e-4 * area,
+                "{name} L{n}: {xor} mm² asymmetric of {area} mm²"
+            );
+        }
+    }
+}
+
+#[test]
+fn two_copies_wrap_into_rows_and_enclosed_waste_is_pocketed() {
+    let d = scratch("copies");
+    std::fs::write(
+        d.join("fenwick-marsh-fixture-4l.toml"),
+        loopwright::cli::demo::DEMO_PANEL_FIXTURE,
+    )
+    .unwrap();
+    let spec = loopwright::cli::DEMO_SPEC.replace(
+        "name = \"fenwick-marsh-panel\"",
+        "name = \"fenwick-marsh-panel\"\ncopies = 2\nmax_width_mm = 160",
+    );
+    let o = build(&d, &spec);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let notes = std::fs::read_to_string(
+        d.join("out")
+            .join(PANEL)
+            .join(format!("{PANEL}-panel-notes.md")),
+    )
+    .unwrap();
+    // The fixture wraps to a second row over the two 20 mm loops; the waste the three enclose
+    // is milled out, and the panel's own check is clean.
+    assert!(notes.contains("2 × probe FM-R20"), "{notes}");
+    assert!(notes.contains("1 pocket(s)"), "{notes}");
+    assert!(notes.contains("Clean: 7 rules"), "{notes}");
+    let _ = std::fs::remove_dir_all(&d);
+}

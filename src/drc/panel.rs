@@ -21,7 +21,7 @@ pub enum PanelRule {
     BoardSpacing,
     /// Every board has at least two tabs (common practice, no source).
     TabCount,
-    /// No tab or perforation touches a board's keep-out: a probe's loop (its tip, its sides,
+    /// No tab or perforation touches any board's keep-out: a probe's loop (its tip, its sides,
     /// inside it) and the connector edges (the panel's own rule, from the probe's function).
     TabInKeepOut,
     /// Every board hangs, through its tabs, on the panel's frame (the rails), so nothing comes
@@ -205,7 +205,8 @@ pub fn check_panel(
             );
         }
         for t in &p.tabs {
-            for (k, why) in &p.keep_outs {
+            // Its own keep-outs and its neighbours' (a tab may bridge to another board).
+            for (k, why) in layout.placed.iter().flat_map(|q| q.keep_outs.iter()) {
                 let holes_in = t
                     .holes
                     .iter()

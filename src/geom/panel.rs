@@ -6,7 +6,7 @@
 //! board's files and its place on the panel differ by a translation only).
 //!
 //! The rule for tabs: a tab sits on a straight stretch of a board's outer edge, clear (by a
-//! router bit's diameter) of the board's keep-outs (a probe's loop, its tip and inside it; the
+//! router bit's diameter) of every board's keep-outs (a probe's loop, its tip and inside it; the
 //! connector edges and the connector's footprint near them), and reaching across the router's
 //! channel to panel material or to a neighbouring board. Each straight stretch that is long
 //! enough gets one tab, or one per [`TAB_SPAN`] of its length; a board needs [`MIN_TABS`].
@@ -93,6 +93,8 @@ pub struct PanelLayout {
     pub tooling: Vec<Point>,
     /// What the router removes: each board's channel less the tabs, and milled interiors.
     pub routed: MultiPolygon<f64>,
+    /// Enclosed waste milled out as pockets (already in `routed`).
+    pub pockets: Vec<Polygon<f64>>,
     /// The board edges the router cuts: each board's outline broken where its tabs are.
     pub cut_edges: Vec<Vec<Point>>,
 }
@@ -233,8 +235,14 @@ pub fn layout(panel: &Panel, blanks: &[Blank]) -> Result<PanelLayout, Error> {
             && !channels.iter().any(|c| c.contains(&g))
             && !interiors.iter().any(|c| c.contains(&g))
     };
+    // Every board's keep-outs: a tab may not land on a neighbour's loop or connector edge
+    // either.
+    let keep_outs: Vec<(Polygon<f64>, String)> = placed
+        .iter()
+        .flat_map(|p| p.keep_outs.iter().cloned())
+        .collect();
     for i in 0..placed.len() {
-        let tabs = tabs_of(panel, &placed[i], &reaches);
+        let tabs = tabs_of(panel, &placed[i], &keep_outs, &reaches);
         if tabs.len() < MIN_TABS {
             let why: Vec<String> = placed[i].keep_outs.iter().map(|k| k.1.clone()).collect();
             return Err(Error::Invalid(vec![FieldError::new(
@@ -270,7 +278,30 @@ pub fn layout(panel: &Panel, blanks: &[Blank]) -> Result<PanelLayout, Error> {
     routed = routed
         .difference(&bridges)
         .union(&MultiPolygon(interiors))
-        .intersection(&MultiPolygon(vec![panel_rect]));
+        .intersection(&MultiPolygon(vec![panel_rect.clone()]));
+    // Waste the channels enclose on every side (between two loops and a board above them,
+    // say) would come loose and fly: it is milled out as a pocket.
+    let material = MultiPolygon(vec![panel_rect.clone()]).difference(&routed);
+    let body = (0..material.0.len()).max_by(|&a, &b| {
+        use geo::Area;
+        material.0[a]
+            .unsigned_area()
+            .total_cmp(&material.0[b].unsigned_area())
+    });
+    let board_points: Vec<geo::Point<f64>> = placed
+        .iter()
+        .filter_map(|p| geo::InteriorPoint::interior_point(&p.outline))
+        .collect();
+    let pockets: Vec<Polygon<f64>> = material
+        .0
+        .iter()
+        .enumerate()
+        .filter(|(k, m)| Some(*k) != body && !board_points.iter().any(|q| m.contains(q)))
+        .map(|(_, m)| m.clone())
+        .collect();
+    if !pockets.is_empty() {
+        routed = routed.union(&MultiPolygon(pockets.clone()));
+    }
     let cut_edges = placed.iter().flat_map(cut_edges_of).collect();
     Ok(PanelLayout {
         size,
@@ -279,6 +310,7 @@ pub fn layout(panel: &Panel, blanks: &[Blank]) -> Result<PanelLayout, Error> {
         fiducials,
         tooling,
         routed,
+        pockets,
         cut_edges,
     })
 }
@@ -293,7 +325,12 @@ fn ccw(ls: &LineString<f64>) -> bool {
 }
 
 /// The tabs of one placed board.
-fn tabs_of(panel: &Panel, p: &Placed, reaches: &dyn Fn(Point) -> bool) -> Vec<Tab> {
+fn tabs_of(
+    panel: &Panel,
+    p: &Placed,
+    keep_outs: &[(Polygon<f64>, String)],
+    reaches: &dyn Fn(Point) -> bool,
+) -> Vec<Tab> {
     let d = panel.router;
     let tw = panel.tab_width;
     let ring = p.outline.exterior();
@@ -311,9 +348,9 @@ fn tabs_of(panel: &Panel, p: &Placed, reaches: &dyn Fn(Point) -> bool) -> Vec<Ta
         let out = Vec2::new(along.y, -along.x) * turn;
         let fits = |s: f64| -> bool {
             let c = a + along * s;
-            // The tab grown by half a bit all round must clear every keep-out.
+            // The tab grown by half a bit all round must clear every board's keep-outs.
             let grown = quad(c, along, out, tw / 2.0 + d / 2.0, -d / 2.0, d * 1.5);
-            if p.keep_outs.iter().any(|(k, _)| k.intersects(&grown)) {
+            if keep_outs.iter().any(|(k, _)| k.intersects(&grown)) {
                 return false;
             }
             // Its far end, across the channel, must land on material or a board: tested at

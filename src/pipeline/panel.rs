@@ -40,32 +40,37 @@ pub struct BuiltPanel {
     pub files: Vec<FileEntry>,
 }
 
-/// Where tabs may not go on a probe (board coordinates), with the reasons.
+/// Where tabs may not go on a probe (board coordinates), with the reasons: each zone reaches
+/// a router bit beyond the board, so a neighbour's tab cannot land on it either.
 fn probe_keep_outs(b: &BuiltProbe, router: f64) -> Vec<(Polygon<f64>, String)> {
     let ring_bottom = b.board.edge_y + b.probe.handle.length;
     let con = &b.probe.connector;
     let keep = con.ground_pad_length.max(con.centre_pad_length) + router;
+    let (lo, hi) = b.board.bbox;
+    let (x0, x1) = (lo.x - router, hi.x + router);
     vec![
         (
-            rect(-1e4, ring_bottom, 1e4, 1e4),
+            rect(x0, ring_bottom, x1, hi.y + router),
             "the loop (its tip, its sides and inside it)".to_string(),
         ),
         (
-            rect(-1e4, -1e4, 1e4, b.board.edge_y + keep),
+            rect(x0, b.board.edge_y - router, x1, b.board.edge_y + keep),
             "the connector edge and the connector's pads".to_string(),
         ),
     ]
 }
 
-/// Where tabs may not go on a fixture: both connector edges and their pads.
+/// Where tabs may not go on a fixture: both connector edges and their pads (reaching a router
+/// bit beyond the board).
 fn fixture_keep_outs(f: &BuiltFixture, router: f64) -> Vec<(Polygon<f64>, String)> {
     let con = &f.fixture.connector;
     let keep = con.ground_pad_length.max(con.centre_pad_length) + router;
-    let l2 = f.fixture.length / 2.0;
+    let (l2, w2) = (f.fixture.length / 2.0, f.fixture.width / 2.0);
+    let (y0, y1) = (-w2 - router, w2 + router);
     let why = "the connector edges and the connectors' pads".to_string();
     vec![
-        (rect(-1e4, -1e4, -l2 + keep, 1e4), why.clone()),
-        (rect(l2 - keep, -1e4, 1e4, 1e4), why),
+        (rect(-l2 - router, y0, -l2 + keep, y1), why.clone()),
+        (rect(l2 - keep, y0, l2 + router, y1), why),
     ]
 }
 

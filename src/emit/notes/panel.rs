@@ -51,6 +51,35 @@ pub fn panel_notes(
             pl.tabs.len()
         );
     }
+    // Counts per design (copies share a name before their copy number).
+    let mut counts: Vec<(String, usize)> = Vec::new();
+    for name in names {
+        let design = kinds
+            .iter()
+            .zip(names)
+            .find(|(_, n)| *n == name)
+            .map(|(k, _)| k.split(',').next().unwrap_or("").to_string())
+            .unwrap_or_default();
+        let key = format!(
+            "{design} {}",
+            name.rsplit_once('-')
+                .filter(|(_, k)| k.parse::<usize>().is_ok() && p.copies > 1)
+                .map_or(name.as_str(), |(b, _)| b)
+        );
+        match counts.iter_mut().find(|c| c.0 == key) {
+            Some(c) => c.1 += 1,
+            None => counts.push((key, 1)),
+        }
+    }
+    let _ = writeln!(
+        o,
+        "\nCounts: {}.",
+        counts
+            .iter()
+            .map(|(k, c)| format!("{c} × {k}"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
     let _ = writeln!(
         o,
         "\nEach board's nets keep their names with the board's name in front \
@@ -68,6 +97,20 @@ pub fn panel_notes(
         n(p.spacing),
         n(p.router)
     );
+    if !lay.pockets.is_empty() {
+        let _ = writeln!(
+            o,
+            "- Waste enclosed by the routing on every side is milled out as a pocket, so that \
+             nothing comes loose: {} pocket(s), at {}.",
+            lay.pockets.len(),
+            lay.pockets
+                .iter()
+                .filter_map(geo::InteriorPoint::interior_point)
+                .map(|q| format!("({:.1}, {:.1})", q.x(), q.y()))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+    }
     let _ = writeln!(
         o,
         "- Breakaway tabs {} mm wide across the router's channel, perforated by {} mm \
@@ -104,6 +147,13 @@ pub fn panel_notes(
         o,
         "- The connector pads of every board run to their board's routed edge on purpose (the \
          edge-launch connector sits on them): exempt them from copper pullback."
+    );
+    let _ = writeln!(
+        o,
+        "- Annular rings are checked on the {} hole (drill allowance {} mm); each board's own \
+         notes give its least ring on both bases.",
+        fab.ring_basis.name(),
+        n(fab.drill_allowance)
     );
     let _ = writeln!(o, "\n## Panel design-rule check\n");
     if violations.is_empty() {
