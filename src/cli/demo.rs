@@ -2,9 +2,10 @@
 //!
 //! The scenario (invented): the bench team at "Fenwick Marsh Instruments" has a motor-drive
 //! controller whose 48 MHz clock harmonics fail a radiated-emissions pre-scan. They order a
-//! family of printed loop probes on the usual 1.6 mm four-layer build, loop trace on L2:
+//! family of printed loop probes on the usual 1.6 mm four-layer build, loop trace on L3:
 //! round loops of 20, 10 and 5 mm and a flat-tipped 12 × 6 mm loop, and a 50 Ω test-line
-//! fixture on a two-layer board to calibrate them. The demo also writes invented bench data (a
+//! fixture on a two-layer board to calibrate them; the probes and a second test line on their
+//! own four-layer build come as one fabrication panel. The demo also writes invented bench data (a
 //! VNA file of FM-R10 on the fixture and an analyzer scan of the controller) for the README's
 //! calibrate-and-convert walk-through; `examples/demo_bench_data.rs` made them.
 
