@@ -12,6 +12,9 @@ const PANEL: &str = "fenwick-marsh-panel";
 /// The demo's handle length and the connector's pad lengths (`data/demo` spec; the generic
 /// connector's defaults, docs/probe-spec.md).
 const HANDLE_MM: f64 = 40.0;
+/// The generic edge-launch footprint's pad length along the board, mm (centre and ground pads,
+/// docs/probe-spec.md's [connector] defaults): tabs stay a router bit beyond it.
+const PAD_MM: f64 = 3.0;
 
 fn panel_file(suffix: &str) -> PathBuf {
     common::demo_dir()
@@ -203,13 +206,13 @@ fn boards_are_a_router_bit_apart_and_tabs_avoid_the_keep_outs() {
                 "{name}: a tab on the loop at y {by}"
             );
             assert!(
-                by - d / 2.0 >= y0 + 3.0 + bit,
+                by - d / 2.0 >= y0 + PAD_MM + bit,
                 "{name}: a tab by the connector at y {by}"
             );
         } else {
             // Fixture: connectors at both ends along x.
             assert!(
-                bx - d / 2.0 >= x0 + 3.0 + bit && bx + d / 2.0 <= x1 - 3.0 - bit,
+                bx - d / 2.0 >= x0 + PAD_MM + bit && bx + d / 2.0 <= x1 - PAD_MM - bit,
                 "{name}: {bx}"
             );
         }

@@ -190,13 +190,8 @@ pub fn check_panel(
         }
     }
     // Tabs: count and keep-outs (the bridge itself and each perforation hole).
-    for (p, name) in layout.placed.iter().zip(names) {
-        let c = boxes[layout
-            .placed
-            .iter()
-            .position(|q| std::ptr::eq(q, p))
-            .unwrap_or(0)]
-        .center();
+    for ((p, name), b) in layout.placed.iter().zip(names).zip(&boxes) {
+        let c = b.center();
         if p.tabs.len() < MIN_TABS {
             v(
                 PanelRule::TabCount,

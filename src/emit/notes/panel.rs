@@ -53,13 +53,8 @@ pub fn panel_notes(
     }
     // Counts per design (copies share a name before their copy number).
     let mut counts: Vec<(String, usize)> = Vec::new();
-    for name in names {
-        let design = kinds
-            .iter()
-            .zip(names)
-            .find(|(_, n)| *n == name)
-            .map(|(k, _)| k.split(',').next().unwrap_or("").to_string())
-            .unwrap_or_default();
+    for (name, kind) in names.iter().zip(kinds) {
+        let design = kind.split(',').next().unwrap_or("");
         let key = format!(
             "{design} {}",
             name.rsplit_once('-')
