@@ -456,8 +456,19 @@ fn swapping_the_stripline_dielectrics_leaves_z0_unchanged() {
     };
     let a = field::solve_line(&s(0.2, 0.6, 3.0, 4.5), Accuracy::default()).unwrap();
     let b = field::solve_line(&s(0.6, 0.2, 4.5, 3.0), Accuracy::default()).unwrap();
-    assert!(rel(a.z0_ohms, b.z0_ohms) < 1e-9);
-    assert!(rel(a.eps_eff, b.eps_eff) < 1e-9);
+    // The mirrored mesh orders its unknowns the other way, so the iterative solve stops at a
+    // slightly different point: the two agree to the solver's stopping error (`CG_TOL` leaves
+    // about 1e-8), not to the last bit.
+    assert!(
+        rel(a.z0_ohms, b.z0_ohms) < 1e-7,
+        "{}",
+        rel(a.z0_ohms, b.z0_ohms)
+    );
+    assert!(
+        rel(a.eps_eff, b.eps_eff) < 1e-7,
+        "{}",
+        rel(a.eps_eff, b.eps_eff)
+    );
     // And the permittivities really matter (εeff between them, not at either).
     assert!(a.eps_eff > 3.05 && a.eps_eff < 4.45, "{}", a.eps_eff);
 }
@@ -475,7 +486,12 @@ fn mirroring_left_right_leaves_z0_unchanged() {
     let a = solve(&cs);
     let b = solve(&cs.mirrored_x());
     assert!(!a.half_domain && !b.half_domain);
-    assert!(rel(a.z0_ohms, b.z0_ohms) < 1e-9);
+    // To the solver's stopping error, as for the top–bottom mirror above.
+    assert!(
+        rel(a.z0_ohms, b.z0_ohms) < 1e-7,
+        "{}",
+        rel(a.z0_ohms, b.z0_ohms)
+    );
     // The coplanar ground does something: lower Z0 than the bare microstrip.
     let bare = z0(&microstrip(0.5, 0.3, 0.035, 4.3), Accuracy::default());
     assert!(a.z0_ohms < 0.99 * bare);
