@@ -98,6 +98,65 @@ fn check_width_space(
     }
 }
 
+/// The nearest approach of `body` (one layer's copper) to the board's edge, as a violation when
+/// it is under `cte`: every pair of a copper edge and an outline edge within `cte` of each other
+/// (a sweep over x, so the work grows with the edges near the outline, not with their product)
+/// measured exactly, and copper wholly outside the board or wholly round a cut-out (no edge
+/// near the outline) found by one point of each. Only the artwork grid's snapping is slack.
+fn copper_to_edge(
+    outline_rings: &[Vec<Point>],
+    outline: &geo::Polygon<f64>,
+    body: &MultiPolygon<f64>,
+    cte: f64,
+) -> Option<Violation> {
+    let limit = cte - slack::GRID;
+    let violation = |at: Point, detail: String| Violation {
+        rule: Rule::CopperToEdge,
+        layer: String::new(),
+        at,
+        detail,
+    };
+    let copper_rings = rings_of(body);
+    let n_edge = outline_rings.len();
+    let mut rings = outline_rings.to_vec();
+    rings.extend(copper_rings.iter().cloned());
+    let (segs, _) = segments(&rings);
+    let mut nearest: Option<(f64, Point)> = None;
+    for (i, j) in near_pairs(&segs, limit.max(0.0)) {
+        let (a, b) = (&segs[i], &segs[j]);
+        // One edge of the outline, one of the copper.
+        let (e, c) = match (a.ring < n_edge, b.ring < n_edge) {
+            (true, false) => (a, b),
+            (false, true) => (b, a),
+            _ => continue,
+        };
+        let (d, _, u) = seg_seg(e.a, e.b, c.a, c.b);
+        if d < limit && nearest.is_none_or(|(n, _)| d < n) {
+            nearest = Some((d, c.a + (c.b - c.a) * u));
+        }
+    }
+    if let Some((d, at)) = nearest {
+        return Some(violation(at, format!("{d:.4} mm < {cte:.4} mm")));
+    }
+    // No edge within reach: each copper ring lies wholly inside or wholly outside the board,
+    // and each cut-out wholly inside or outside the copper.
+    for r in &copper_rings {
+        if let Some(&q) = r.first()
+            && !outline.contains(&geo::Point::new(q.x, q.y))
+        {
+            return Some(violation(q, "copper outside the board".into()));
+        }
+    }
+    for r in &outline_rings[1..] {
+        if let Some(&q) = r.first()
+            && body.contains(&geo::Point::new(q.x, q.y))
+        {
+            return Some(violation(q, "a cut-out inside the copper".into()));
+        }
+    }
+    None
+}
+
 /// copper to edge, drills (size, annular ring, pads, hole gap, inside the outline), mask web and
 /// silkscreen. Returns the violations (empty: clean).
 pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
@@ -109,6 +168,10 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         }
         poly
     };
+    let outline_rings: Vec<Vec<Point>> = std::iter::once(outline.exterior())
+        .chain(outline.interiors())
+        .map(|r| r.coords().map(|c| Point::new(c.x, c.y)).collect())
+        .collect();
     let edge = |pt: &geo::Point<f64>| -> f64 {
         std::iter::once(outline.exterior())
             .chain(outline.interiors())
@@ -121,8 +184,7 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         let copper = layer_copper(&l.regions, &l.flashes);
         check_width_space(&mut out, &name, &copper, fab.min_trace, fab.min_space);
         // Copper to edge: regions and non-connector pads, measured exactly (the nearest
-        // approach of two polylines is at a vertex of one of them: every copper vertex to the
-        // outline, and every outline vertex to the copper), with only the artwork grid's
+        // approach of every copper edge to every outline edge), with only the artwork grid's
         // snapping as slack.
         // Copper inside a connector pad (a trace that starts under it) is the pad's: exempt.
         let pads: Vec<crate::artwork::Flash> = l
@@ -137,44 +199,12 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
             use geo::BooleanOps;
             body_copper(l).difference(&layer_copper(&MultiPolygon(vec![]), &pads))
         };
-        let mut reported = false;
-        for poly in &body.0 {
-            for c in poly.exterior().coords() {
-                let pt = geo::Point::new(c.x, c.y);
-                let inside = outline.contains(&pt);
-                let d = edge(&pt);
-                if !inside || d < fab.copper_to_edge - slack::GRID {
-                    out.push(Violation {
-                        rule: Rule::CopperToEdge,
-                        layer: name.clone(),
-                        at: Point::new(c.x, c.y),
-                        detail: format!("{d:.4} mm < {:.4} mm", fab.copper_to_edge),
-                    });
-                    reported = true;
-                    break;
-                }
-            }
-        }
-        if !reported {
-            let ring_vertices = std::iter::once(outline.exterior())
-                .chain(outline.interiors())
-                .flat_map(|r| r.coords());
-            for c in ring_vertices {
-                let pt = geo::Point::new(c.x, c.y);
-                let d = Euclidean.distance(&pt, &body);
-                if d < fab.copper_to_edge - slack::GRID {
-                    out.push(Violation {
-                        rule: Rule::CopperToEdge,
-                        layer: name.clone(),
-                        at: Point::new(c.x, c.y),
-                        detail: format!(
-                            "{d:.4} mm < {:.4} mm (outline corner)",
-                            fab.copper_to_edge
-                        ),
-                    });
-                    break;
-                }
-            }
+        if let Some(v) = copper_to_edge(&outline_rings, &outline, &body, fab.copper_to_edge) {
+            out.push(Violation {
+                rule: Rule::CopperToEdge,
+                layer: name.clone(),
+                ..v
+            });
         }
     }
     // Drills: size, annular ring, hole gap, inside the board.
@@ -285,4 +315,51 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
         }
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geom::rect;
+
+    fn rings(p: &geo::Polygon<f64>) -> Vec<Vec<Point>> {
+        rings_of(&MultiPolygon(vec![p.clone()]))
+    }
+
+    // A 20 × 10 mm board with a 4 × 4 mm cut-out at (12..16, 3..7), copper to edge 0.3 mm.
+    fn board() -> geo::Polygon<f64> {
+        let mut b = rect(0.0, 0.0, 20.0, 10.0);
+        b.interiors_push(rect(12.0, 3.0, 16.0, 7.0).exterior().clone());
+        b
+    }
+
+    fn check(copper: geo::Polygon<f64>) -> Option<Violation> {
+        let b = board();
+        copper_to_edge(&rings(&b), &b, &MultiPolygon(vec![copper]), 0.3)
+    }
+
+    #[test]
+    fn copper_to_edge_measures_the_nearest_approach_and_finds_whole_rings() {
+        // Clear of every edge by 0.5 mm: clean.
+        assert!(check(rect(0.5, 0.5, 11.5, 9.5)).is_none());
+        // 0.2 mm from the left edge, along a whole side (no vertex of either ring is nearer
+        // than another: the edges' approach is what counts).
+        let v = check(rect(0.2, 0.5, 11.5, 9.5)).expect("0.2 mm from the left edge");
+        assert!(
+            v.detail.starts_with("0.2000 mm < 0.3000 mm"),
+            "{}",
+            v.detail
+        );
+        assert!((v.at.x - 0.2).abs() < 1e-12);
+        // 0.1 mm from the cut-out's left side.
+        let v = check(rect(0.5, 0.5, 11.9, 9.5)).expect("0.1 mm from the cut-out");
+        assert!(v.detail.starts_with("0.1000 mm"), "{}", v.detail);
+        // Wholly outside the board, far from it.
+        let v = check(rect(30.0, 0.0, 40.0, 10.0)).expect("outside the board");
+        assert_eq!(v.detail, "copper outside the board");
+        // A copper plane round the cut-out, clear of the outline by 0.5 mm but not of the
+        // cut-out, which lies inside it.
+        let v = check(rect(0.5, 0.5, 19.5, 9.5)).expect("round the cut-out");
+        assert_eq!(v.detail, "a cut-out inside the copper");
+    }
 }
