@@ -634,6 +634,9 @@ fn predict_json_has_the_documented_keys() {
         for k in ["name", "shape"] {
             assert!(p[k].is_string(), "{k}");
         }
+        // The demo spec gives neither: today's meaning, a single-turn singly-loaded loop.
+        assert_eq!(p["kind"], "loop");
+        assert_eq!(p["turns"], 1);
         for k in [
             "loop_area_mm2",
             "inductance_nh",

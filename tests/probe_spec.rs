@@ -37,6 +37,39 @@ fn negative_size_is_refused() {
 }
 
 #[test]
+fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
+    let probe = "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n";
+    for k in ["balanced", "electric"] {
+        refused(
+            &format!("{probe}kind = \"{k}\"\n"),
+            &["probe[1].kind", k, "not built yet", "\"loop\""],
+        );
+    }
+    refused(
+        &format!("{probe}kind = \"dipole\"\n"),
+        &["probe[1].kind", "dipole", "must be \"loop\""],
+    );
+    refused(
+        &format!("{probe}turns = 2\n"),
+        &["probe[1].turns", "2", "not built yet", "turns = 1"],
+    );
+    for n in ["0", "-1", "4"] {
+        refused(
+            &format!("{probe}turns = {n}\n"),
+            &["probe[1].turns", n, "must be 1"],
+        );
+    }
+    // Spelled out, today's meaning is accepted.
+    let s = spec(&format!("{BASE}{probe}kind = \"loop\"\nturns = 1\n"));
+    let fam = loopwright::model::probe::family_from_spec(&s, Path::new(".")).unwrap();
+    assert_eq!(
+        fam.probes[0].kind,
+        loopwright::model::probe::ProbeKind::Loop
+    );
+    assert_eq!(fam.probes[0].turns, 1);
+}
+
+#[test]
 fn gap_wider_than_the_loop_is_refused() {
     refused(
         "gap_mm = 6\n[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n",

@@ -33,7 +33,7 @@ pub fn probe_json(x: &Predicted) -> Value {
             "s11_db": l.s11.s11_db.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
         })
     });
-    json!({
+    let mut v = json!({
         "name": x.probe.name,
         "shape": x.probe.shape.kind(),
         "size": x.probe.shape.size_text(),
@@ -71,7 +71,11 @@ pub fn probe_json(x: &Predicted) -> Value {
         "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e, "above_band": *f > r.upper_hz})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
         "launch": launch,
-    })
+    });
+    // What the probe is (the keys sort into place: the map is ordered by key).
+    v["kind"] = json!(x.probe.kind.name());
+    v["turns"] = json!(x.probe.turns);
+    v
 }
 /// The JSON object of a fixture coupling.
 pub fn coupling_json(c: &FixtureCoupling) -> Value {

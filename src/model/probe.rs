@@ -188,6 +188,68 @@ impl WidthFrom {
     }
 }
 
+/// What a probe is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ProbeKind {
+    /// A singly-loaded shielded loop: the trace runs round the turn inside the split shield and
+    /// is shorted to it where the turn closes.
+    Loop,
+}
+
+impl ProbeKind {
+    /// The spec's spelling.
+    pub fn name(self) -> &'static str {
+        match self {
+            ProbeKind::Loop => "loop",
+        }
+    }
+}
+
+/// The kind and turn count of a `[[probe]]`: today's meaning when absent; the kinds and turn
+/// counts that are planned but not built are refused with that reason.
+fn kind_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> (ProbeKind, u32) {
+    let kind = match l.kind.as_deref() {
+        None | Some("loop") => ProbeKind::Loop,
+        Some(k @ ("balanced" | "electric")) => {
+            out.push(FieldError::new(
+                format!("{p}.kind"),
+                format!("\"{k}\""),
+                "is not built yet: this version builds \"loop\" (a singly-loaded shielded loop) \
+                 only",
+            ));
+            ProbeKind::Loop
+        }
+        Some(k) => {
+            out.push(FieldError::new(
+                format!("{p}.kind"),
+                format!("\"{k}\""),
+                "must be \"loop\" (\"balanced\" and \"electric\" are planned)",
+            ));
+            ProbeKind::Loop
+        }
+    };
+    let turns = match l.turns {
+        None | Some(1) => 1,
+        Some(n @ (2 | 3)) => {
+            out.push(FieldError::new(
+                format!("{p}.turns"),
+                n,
+                "is not built yet: this version builds single-turn loops (turns = 1)",
+            ));
+            1
+        }
+        Some(n) => {
+            out.push(FieldError::new(
+                format!("{p}.turns"),
+                n,
+                "must be 1 (2 and 3 are planned)",
+            ));
+            1
+        }
+    };
+    (kind, turns)
+}
+
 /// One validated probe.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Probe {
@@ -195,6 +257,10 @@ pub struct Probe {
     pub name: String,
     /// Folder-safe name.
     pub folder: String,
+    /// What the probe is.
+    pub kind: ProbeKind,
+    /// Turns of the loop.
+    pub turns: u32,
     /// Loop shape.
     pub shape: LoopShape,
     /// Stackup.
@@ -654,6 +720,7 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
             ));
         }
         folders.push(folder.clone());
+        let (kind, turns) = kind_from(&mut out, &p, l);
         let before = out.len();
         let shape = shape_from(&mut out, &p, l);
         // The gap's limit follows from the loop's size: checked only when the size is sound.
@@ -679,6 +746,8 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
             probes.push(Probe {
                 name,
                 folder,
+                kind,
+                turns,
                 shape,
                 stackup: st.clone(),
                 signal_layer,

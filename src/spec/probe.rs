@@ -58,6 +58,11 @@ pub struct LoopSpec {
     pub corner_radius_mm: Option<f64>,
     /// Extra silkscreen text (default: none).
     pub silk_text: Option<String>,
+    /// What the probe is: `loop` (the default: a singly-loaded shielded loop). The balanced
+    /// (doubly-loaded) loop and the electric-field probe are planned and refused for now.
+    pub kind: Option<String>,
+    /// Turns of the loop (default 1; more turns are planned and refused for now).
+    pub turns: Option<i64>,
 }
 
 /// Stitching-via settings.
