@@ -245,8 +245,9 @@ pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error>
     kept_or(format!("C|{cs:?}|{acc:?}"), || solve_mesh(cs, acc, false)).map(|s| s.c_per_m)
 }
 
-/// [`solve_uncached`]; without `vacuum` only C is solved (C0, Z0 and εeff are then NaN).
-fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSolution, Error> {
+/// The two nested meshes of `acc` (the second with every cell of the first halved), and
+/// whether they cover the half `x ≥ 0` only (a mirror-symmetric section).
+fn grids(cs: &CrossSection, acc: Accuracy) -> Result<(bool, mesh::Grid, mesh::Grid), Error> {
     let (params, m) = acc.mesh();
     if m == 0 || m > MAX_REFINEMENT {
         return Err(Error::Invalid(vec![FieldError::new(
@@ -273,6 +274,127 @@ fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSol
     let fine_xs = mesh::subdivide(&coarse.xs, 2);
     let fine_ys = mesh::subdivide(&coarse.ys, 2);
     let fine = mesh::fill(&r, fine_xs, fine_ys);
+    Ok((half, coarse, fine))
+}
+
+/// One node column's share of a ground conductor's charge (see [`ground_charge`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ChargeColumn {
+    /// The node column's position, mm.
+    pub x: f64,
+    /// Left end of the column's cell (half way to the neighbouring node column), mm.
+    pub x0: f64,
+    /// Right end, mm.
+    pub x1: f64,
+    /// Charge per metre (along the line) per volt on the signal, F/m: negative, induced.
+    pub c_per_m: f64,
+}
+
+/// The charge that one ground conductor carries, column by column across the section, with the
+/// signal at 1 V and every ground at 0: `ground` indexes `cs.conductors` and must be a ground
+/// rectangle. Gauss's law on each node's cell of the finer mesh of `acc` (a distribution, so it
+/// is not extrapolated); the columns of a mirror-symmetric section are mirrored into the whole.
+/// The distribution is the finer mesh's, scaled so that every ground's columns together carry
+/// the capacitance [`solve`] extrapolates from both meshes (the scale differs from 1 by the
+/// finer mesh's own error). Their sum is the conductor's share of the line's capacitance. For
+/// an electrode set into
+/// that ground: its charge is this density integrated over its face.
+pub fn ground_charge(
+    cs: &CrossSection,
+    ground: usize,
+    acc: Accuracy,
+) -> Result<Vec<ChargeColumn>, Error> {
+    let bad = |why: &str| {
+        Error::Invalid(vec![FieldError::new(
+            format!("conductors[{ground}]"),
+            "(ground charge)",
+            why,
+        )])
+    };
+    let Some(Conductor {
+        role: Role::Ground,
+        shape: Shape::Rect { x0, x1, y0, y1 },
+    }) = cs.conductors.get(ground).cloned()
+    else {
+        return Err(bad("must be a ground rectangle of the section"));
+    };
+    let (half, coarse, fine) = grids(cs, acc)?;
+    let (guess, energy_coarse) = {
+        let sys = System::new(&coarse, &coarse.eps);
+        let (phi, _, ok) = sys.solve(None, CG_TOL);
+        check(ok)?;
+        (
+            solver::prolong(&phi, coarse.nx(), coarse.ny()),
+            sys.energy(&phi),
+        )
+    };
+    let sys = System::new(&fine, &fine.eps);
+    let (phi, _, ok) = sys.solve(Some(&guess), CG_TOL);
+    check(ok)?;
+    // The distribution is the finer mesh's; its scale is Richardson's, as in [`solve`]: the
+    // line's charge (its capacitance) extrapolated from the two meshes' energies, so that the
+    // columns of every ground together carry the extrapolated capacitance.
+    let energy_fine = sys.energy(&phi);
+    let scale = (energy_fine + (energy_fine - energy_coarse) / 3.0) / energy_fine;
+    let (nx, ny) = (fine.nx(), fine.ny());
+    let tol = 1e-9 * (fine.xs[nx - 1] - fine.xs[0]).max(fine.ys[ny - 1] - fine.ys[0]);
+    let inside = |v: f64, lo: f64, hi: f64| v >= lo - tol && v <= hi + tol;
+    let mut columns = Vec::with_capacity(2 * nx);
+    for i in 0..nx {
+        let x = fine.xs[i];
+        if !inside(x, x0, x1) {
+            continue;
+        }
+        let q: f64 = (0..ny)
+            .filter(|&j| inside(fine.ys[j], y0, y1) && fine.state[j * nx + i] == mesh::GROUND)
+            .map(|j| sys.node_charge(&phi, j * nx + i))
+            .sum();
+        let lo = if i > 0 { 0.5 * (fine.xs[i - 1] + x) } else { x };
+        let hi = if i + 1 < nx {
+            0.5 * (x + fine.xs[i + 1])
+        } else {
+            x
+        };
+        columns.push(ChargeColumn {
+            x,
+            x0: lo,
+            x1: hi,
+            c_per_m: EPS0 * q * scale,
+        });
+    }
+    if half {
+        // The half domain's x = 0 column is half of the whole one's cell; mirror the rest.
+        let mirrored: Vec<ChargeColumn> = columns
+            .iter()
+            .rev()
+            .map(|c| ChargeColumn {
+                x: -c.x,
+                x0: -c.x1,
+                x1: -c.x0,
+                c_per_m: c.c_per_m,
+            })
+            .collect();
+        let mut whole = mirrored;
+        if let (Some(l), Some(f)) = (whole.last_mut(), columns.first())
+            && l.x1 == 0.0
+            && f.x0 == 0.0
+        {
+            // The column on the axis: its two halves become one.
+            l.x1 = f.x1;
+            l.c_per_m += f.c_per_m;
+            whole.extend(columns.into_iter().skip(1));
+        } else {
+            whole.extend(columns);
+        }
+        columns = whole;
+    }
+    Ok(columns)
+}
+
+/// [`solve_uncached`]; without `vacuum` only C is solved (C0, Z0 and εeff are then NaN).
+fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSolution, Error> {
+    let (half, coarse, fine) = grids(cs, acc)?;
+    let m = acc.mesh().1;
     let factor = if half { 2.0 } else { 1.0 } * EPS0;
 
     // One permittivity everywhere (a homogeneous stripline): C0 = C/εr exactly, one solve.

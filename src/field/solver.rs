@@ -334,6 +334,27 @@ impl System {
         (x, iters, converged)
     }
 
+    /// The charge (per ε0, per metre) at node `k` for the potential `phi`: Gauss's law on the
+    /// node's cell, Σ over its edges of g·(φ_k − φ_neighbour). On a held node it is the charge
+    /// the conductor carries there; on a free node of a solved potential, about 0.
+    pub fn node_charge(&self, phi: &[f64], k: usize) -> f64 {
+        let (nx, n) = (self.nx, phi.len());
+        let mut q = 0.0;
+        if k % nx + 1 < nx {
+            q += self.gx[k] * (phi[k] - phi[k + 1]);
+        }
+        if !k.is_multiple_of(nx) {
+            q += self.gx[k - 1] * (phi[k] - phi[k - 1]);
+        }
+        if k + nx < n {
+            q += self.gy[k] * (phi[k] - phi[k + nx]);
+        }
+        if k >= nx {
+            q += self.gy[k - nx] * (phi[k] - phi[k - nx]);
+        }
+        q
+    }
+
     /// Σ g·Δφ² over every edge (= 2 × the energy per ε0 per metre at 1 V).
     pub fn energy(&self, phi: &[f64]) -> f64 {
         let nx = self.nx;

@@ -16,6 +16,7 @@
 
 pub mod coupling;
 pub mod electric;
+pub mod electrode;
 mod elements;
 pub mod elliptic2;
 pub mod handle;
