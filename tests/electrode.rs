@@ -79,3 +79,70 @@ fn the_signal_is_not_a_ground_to_report() {
     );
     assert!(ground_charge(&cs, 7, Accuracy::default()).is_err());
 }
+
+// Gauss's law (textbook): under the middle of a strip much wider than its gap to the face, the
+// field is uniform, V/d, and a disc collects ε0·π·r²·V/d. A 40 mm strip 1 mm below the face,
+// a 1 mm disc: within 0.5 %.
+#[test]
+fn under_a_wide_strip_the_disc_collects_the_parallel_plate_charge() {
+    use loopwright::model::line::Microstrip;
+    let line = Microstrip {
+        width: 40.0,
+        h: 1.5,
+        t: 0.035,
+        er: 4.3,
+    };
+    let q = loopwright::physics::electrode::line_coupling(&line, 1.0, 1.0, &[0.0]).unwrap();
+    let plate = loopwright::math::EPS0 * std::f64::consts::PI * 1e-6 / 1e-3;
+    assert!(
+        (q[0].abs() / plate - 1.0).abs() < 5e-3,
+        "{} F against {plate} F",
+        q[0]
+    );
+}
+
+// The self-capacitance's elliptic ratio against scipy 1.17.1 (`scipy.special.ellipk(m)` with
+// m = k², K(k)/K(k′) for k = 1/1.3, i.e. a 1 mm disc in a ring cleared by 0.3 mm):
+// 2·ε0·(4.3 + 1)·K/K′·π·1 mm for one face. Recorded with
+// `python3 -c "from scipy.special import ellipk; k=1/1.3; print(repr(ellipk(k*k)/ellipk(1-k*k)))"`
+// = 1.088267532271709.
+#[test]
+fn the_self_capacitance_uses_the_coplanar_gap_ratio() {
+    let ratio = 1.088267532271709;
+    let want = 2.0 * loopwright::math::EPS0 * 5.3 * ratio * std::f64::consts::PI * 1e-3;
+    let got = loopwright::physics::electrode::self_capacitance(1.0, 0.3, 4.3, 1);
+    assert!((got / want - 1.0).abs() < 1e-12, "{got} against {want}");
+    // Two faces, twice the load.
+    let two = loopwright::physics::electrode::self_capacitance(1.0, 0.3, 4.3, 2);
+    assert!((two / got - 2.0).abs() < 1e-12);
+}
+
+// The factor's two limits (our derivation, the load's algebra): well below the corner
+// 1/(2πR·C_self) it falls 20 dB per decade of frequency, and well above it tends to the
+// capacitive divider's 20·log10(C_self/(ε0·A)) (V = Q/C_self).
+#[test]
+fn the_factor_falls_20_db_per_decade_then_flattens_at_the_divider() {
+    use loopwright::physics::electrode::{corner_hz, factor_db};
+    let (a, r, c) = (std::f64::consts::PI * 1.15e-3 * 1.15e-3, 50.0, 0.2e-12);
+    let fc = corner_hz(r, c);
+    let slope = factor_db(fc / 1e4, a, r, c) - factor_db(fc / 1e3, a, r, c);
+    assert!((slope - 20.0).abs() < 1e-3, "{slope}");
+    let divider = 20.0 * (c / (loopwright::math::EPS0 * a)).log10();
+    assert!((factor_db(fc * 1e4, a, r, c) - divider).abs() < 1e-3);
+    // At the corner, 3 dB above the falling asymptote.
+    let asymptote =
+        20.0 * (1.0 / (2.0 * std::f64::consts::PI * fc * loopwright::math::EPS0 * a * r)).log10();
+    assert!((factor_db(fc, a, r, c) - asymptote - 3.0103).abs() < 1e-3);
+}
+
+// The −6 dB full width of a profile 1/(1 + x²), which halves at x = 1: 2 mm, from samples
+// every 0.1 mm interpolated in dB; a profile that never falls 6 dB has none.
+#[test]
+fn the_resolution_is_the_minus_6_db_full_width() {
+    use loopwright::physics::electrode::resolution_mm;
+    let xs: Vec<f64> = (0..=30).map(|k| k as f64 * 0.1).collect();
+    let q: Vec<f64> = xs.iter().map(|x| -1.0 / (1.0 + x * x)).collect();
+    let w = resolution_mm(&xs, &q).unwrap();
+    assert!((w - 2.0).abs() < 0.01, "{w}");
+    assert!(resolution_mm(&xs[..5], &q[..5]).is_none());
+}
