@@ -126,7 +126,9 @@ pub fn line_coupling(
 /// The radius that collects a disc's charge when the plane round it is pulled back by a
 /// clearance `c`: the disc's radius plus half the clearance, the field that enters the ring
 /// splitting between the disc and the plane (first order in c against the distance to the
-/// source; the guard-ring rule, from memory, no check here yet), mm.
+/// source; the guard-ring rule, from memory). Its planar analogue solved by the field solver
+/// (`tests/electrode.rs`) collects 0.1–1.8 % less than the rule says, the shortfall growing as
+/// c² (c/r from 0.1 to 0.6), mm.
 pub fn effective_radius(r: f64, c: f64) -> f64 {
     r + c / 2.0
 }
