@@ -51,12 +51,12 @@ fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
     );
     refused(
         &format!("{probe}turns = 2\n"),
-        &["probe[1].turns", "2", "not built yet", "turns = 1"],
+        &["probe[1].turns = 2: is not built yet", "turns = 1"],
     );
     for n in ["0", "-1", "4"] {
         refused(
             &format!("{probe}turns = {n}\n"),
-            &["probe[1].turns", n, "must be 1"],
+            &[&format!("probe[1].turns = {n}: must be 1")],
         );
     }
     // Spelled out, today's meaning is accepted.

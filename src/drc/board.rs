@@ -99,8 +99,9 @@ fn check_width_space(
 }
 
 /// The nearest approach of `body` (one layer's copper) to the board's edge, as a violation when
-/// it is under `cte`: every pair of a copper edge and an outline edge within `cte` of each other
-/// (a sweep over x, so the work grows with the edges near the outline, not with their product)
+/// it is under `cte` (or the copper touches or crosses the edge, whatever `cte`): every pair of a
+/// copper edge and an outline edge whose boxes come within `cte` of each other (a sweep over x,
+/// so the work grows with the pairs of nearby edges, not with the product of the edge counts)
 /// measured exactly, and copper wholly outside the board or wholly round a cut-out (no edge
 /// near the outline) found by one point of each. Only the artwork grid's snapping is slack.
 fn copper_to_edge(
@@ -131,7 +132,9 @@ fn copper_to_edge(
             _ => continue,
         };
         let (d, _, u) = seg_seg(e.a, e.b, c.a, c.b);
-        if d < limit && nearest.is_none_or(|(n, _)| d < n) {
+        // Copper on or across the edge fails whatever the rule (a rule of 0 leaves the limit
+        // below zero, where no distance falls).
+        if (d < limit || d <= 0.0) && nearest.is_none_or(|(n, _)| d < n) {
             nearest = Some((d, c.a + (c.b - c.a) * u));
         }
     }
@@ -334,8 +337,29 @@ mod tests {
     }
 
     fn check(copper: geo::Polygon<f64>) -> Option<Violation> {
+        check_at(copper, 0.3)
+    }
+
+    fn check_at(copper: geo::Polygon<f64>, cte: f64) -> Option<Violation> {
         let b = board();
-        copper_to_edge(&rings(&b), &b, &MultiPolygon(vec![copper]), 0.3)
+        copper_to_edge(&rings(&b), &b, &MultiPolygon(vec![copper]), cte)
+    }
+
+    // A rule of 0 mm still refuses copper that crosses or touches the edge (the limit, 0 less
+    // the grid's slack, is below any distance), and passes copper clear of it.
+    #[test]
+    fn copper_across_the_edge_fails_a_rule_of_zero() {
+        let v = check_at(rect(0.5, 0.5, 25.0, 9.5), 0.0).expect("across the right edge");
+        assert!(v.detail.starts_with("0.0000 mm"), "{}", v.detail);
+        assert!(
+            check_at(rect(-1.0, 0.5, 11.5, 9.5), 0.0).is_some(),
+            "across the left"
+        );
+        assert!(
+            check_at(rect(0.0, 0.5, 11.5, 9.5), 0.0).is_some(),
+            "on the edge"
+        );
+        assert!(check_at(rect(0.01, 0.5, 11.5, 9.5), 0.0).is_none());
     }
 
     #[test]

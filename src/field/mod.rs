@@ -292,11 +292,13 @@ pub struct ChargeColumn {
 
 /// The charge that one ground conductor carries, column by column across the section, with the
 /// signal at 1 V and every ground at 0: `ground` indexes `cs.conductors` and must be a ground
-/// rectangle. Gauss's law on each node's cell of the finer mesh of `acc` (a distribution, so it
+/// rectangle that no other ground overlaps (every ground node within its box is counted). Gauss's law on each node's cell of the finer mesh of `acc` (a distribution, so it
 /// is not extrapolated); the columns of a mirror-symmetric section are mirrored into the whole.
 /// The distribution is the finer mesh's, scaled so that every ground's columns together carry
-/// the capacitance [`solve`] extrapolates from both meshes (the scale differs from 1 by the
-/// finer mesh's own error). Their sum is the conductor's share of the line's capacitance. For
+/// the capacitance [`solve`] extrapolates from both meshes (to the solver's stopping tolerance;
+/// the scale differs from 1 by the finer mesh's own error; a grounded shield boundary's walls
+/// carry a share no conductor reports). Their sum is the conductor's share of the line's
+/// capacitance. For
 /// an electrode set into
 /// that ground: its charge is this density integrated over its face.
 pub fn ground_charge(
@@ -339,12 +341,9 @@ pub fn ground_charge(
     let (nx, ny) = (fine.nx(), fine.ny());
     let tol = 1e-9 * (fine.xs[nx - 1] - fine.xs[0]).max(fine.ys[ny - 1] - fine.ys[0]);
     let inside = |v: f64, lo: f64, hi: f64| v >= lo - tol && v <= hi + tol;
-    let mut columns = Vec::with_capacity(2 * nx);
-    for i in 0..nx {
+    // Node column i: the charge of its ground nodes within the rectangle's height, on its cell.
+    let column = |i: usize| -> ChargeColumn {
         let x = fine.xs[i];
-        if !inside(x, x0, x1) {
-            continue;
-        }
         let q: f64 = (0..ny)
             .filter(|&j| inside(fine.ys[j], y0, y1) && fine.state[j * nx + i] == mesh::GROUND)
             .map(|j| sys.node_charge(&phi, j * nx + i))
@@ -355,38 +354,43 @@ pub fn ground_charge(
         } else {
             x
         };
-        columns.push(ChargeColumn {
+        ChargeColumn {
             x,
             x0: lo,
             x1: hi,
             c_per_m: EPS0 * q * scale,
-        });
-    }
-    if half {
-        // The half domain's x = 0 column is half of the whole one's cell; mirror the rest.
-        let mirrored: Vec<ChargeColumn> = columns
-            .iter()
-            .rev()
-            .map(|c| ChargeColumn {
-                x: -c.x,
-                x0: -c.x1,
-                x1: -c.x0,
-                c_per_m: c.c_per_m,
-            })
-            .collect();
-        let mut whole = mirrored;
-        if let (Some(l), Some(f)) = (whole.last_mut(), columns.first())
-            && l.x1 == 0.0
-            && f.x0 == 0.0
-        {
-            // The column on the axis: its two halves become one.
-            l.x1 = f.x1;
-            l.c_per_m += f.c_per_m;
-            whole.extend(columns.into_iter().skip(1));
-        } else {
-            whole.extend(columns);
         }
-        columns = whole;
+    };
+    let mut columns = Vec::with_capacity(2 * nx);
+    if half {
+        // The half domain holds x ≥ 0; by the mirror symmetry the whole section's charge at −x
+        // is the half's at x. So the rectangle's columns left of the axis are the half's
+        // columns at their mirror images (the other ground of a mirrored pair, or the
+        // rectangle's own other half), and the axis column (a half cell in the half domain)
+        // is doubled into its whole cell.
+        for i in (1..nx).rev() {
+            if inside(-fine.xs[i], x0, x1) {
+                let c = column(i);
+                columns.push(ChargeColumn {
+                    x: -c.x,
+                    x0: -c.x1,
+                    x1: -c.x0,
+                    c_per_m: c.c_per_m,
+                });
+            }
+        }
+        if inside(0.0, x0, x1) {
+            let c = column(0);
+            columns.push(ChargeColumn {
+                x: 0.0,
+                x0: -c.x1,
+                x1: c.x1,
+                c_per_m: 2.0 * c.c_per_m,
+            });
+        }
+        columns.extend((1..nx).filter(|&i| inside(fine.xs[i], x0, x1)).map(column));
+    } else {
+        columns.extend((0..nx).filter(|&i| inside(fine.xs[i], x0, x1)).map(column));
     }
     Ok(columns)
 }

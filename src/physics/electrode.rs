@@ -26,9 +26,13 @@ const DISC_POINTS: usize = 4000;
 /// keeps every column's charge ([`nodal_density`]); ∫ σ(x)·2√(r² − (x − x0)²) dx is taken with
 /// x = x0 + r·sin θ, which makes the chord's square-root ends smooth (2r²·cos²θ dθ): the
 /// midpoint rule in θ.
+/// NaN when `r` or `x0` is not a finite number or `r` is negative.
 pub fn disc_charge(columns: &[ChargeColumn], r: f64, x0: f64) -> f64 {
+    if !(r.is_finite() && x0.is_finite() && r >= 0.0) {
+        return f64::NAN;
+    }
     let cols = nodal_density(columns);
-    if cols.is_empty() || r <= 0.0 {
+    if cols.is_empty() || r == 0.0 {
         return 0.0;
     }
     // Density (F/m per mm of x) at x, linear between node columns, held beyond the ends.
@@ -130,8 +134,8 @@ pub fn line_coupling(
 /// clearance `c`: the disc's radius plus half the clearance, the field that enters the ring
 /// splitting between the disc and the plane (first order in c against the distance to the
 /// source; the guard-ring rule, from memory). Its planar analogue solved by the field solver
-/// (`tests/electrode.rs`) collects 0.1–1.8 % less than the rule says, the shortfall growing as
-/// c² (c/r from 0.1 to 0.6), mm.
+/// (`tests/electrode.rs`) collects 0.1, 0.6 and 1.8 % less than the rule says at c/r = 0.1,
+/// 0.3 and 0.6 (the shortfall growing faster than linearly), mm.
 pub fn effective_radius(r: f64, c: f64) -> f64 {
     r + c / 2.0
 }
@@ -144,7 +148,11 @@ pub fn effective_radius(r: f64, c: f64) -> f64 {
 /// Systems*, 2001, ch. 2, from memory) along the disc's edge, half of it per edge: 2πr·C′/2 per
 /// face. The via and the inner layers' clearance are left out: an estimate of the load it puts
 /// beside the 50 Ω, which sets the corner above which the output stops rising.
+/// NaN unless r > 0 and c > 0.
 pub fn self_capacitance(r: f64, c: f64, er: f64, faces: usize) -> f64 {
+    if !(r > 0.0 && c > 0.0) {
+        return f64::NAN;
+    }
     let k = r / (r + c);
     let kp = (1.0 - k * k).sqrt();
     let c_per_m = 2.0 * crate::math::EPS0 * (er + 1.0) * crate::solve::elliptic::k_ratio(k, kp);
