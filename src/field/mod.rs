@@ -292,15 +292,16 @@ pub struct ChargeColumn {
 
 /// The charge that one ground conductor carries, column by column across the section, with the
 /// signal at 1 V and every ground at 0: `ground` indexes `cs.conductors` and must be a ground
-/// rectangle that no other ground overlaps (every ground node within its box is counted). Gauss's law on each node's cell of the finer mesh of `acc` (a distribution, so it
-/// is not extrapolated); the columns of a mirror-symmetric section are mirrored into the whole.
-/// The distribution is the finer mesh's, scaled so that every ground's columns together carry
-/// the capacitance [`solve`] extrapolates from both meshes (to the solver's stopping tolerance;
-/// the scale differs from 1 by the finer mesh's own error; a grounded shield boundary's walls
-/// carry a share no conductor reports). Their sum is the conductor's share of the line's
-/// capacitance. For
-/// an electrode set into
-/// that ground: its charge is this density integrated over its face.
+/// rectangle that no other ground overlaps (every ground node within its box is counted).
+///
+/// Gauss's law on each node's cell of the finer mesh of `acc` (a distribution, so its shape is
+/// not extrapolated); a mirror-symmetric section, solved on its half, is unfolded into the
+/// whole. The columns are scaled so that every ground's columns together carry the
+/// capacitance [`solve`] extrapolates from both meshes (to the solver's stopping tolerance; the
+/// scale differs from 1 by the finer mesh's own error; a grounded shield boundary's walls carry
+/// a share no conductor reports), so their sum is the conductor's share of the line's
+/// capacitance. For an electrode set into that ground, its charge is this density integrated
+/// over its face.
 pub fn ground_charge(
     cs: &CrossSection,
     ground: usize,
