@@ -6,7 +6,8 @@
 //! FileFunction, FilePolarity}`, `MaterialStackup[].{Name, Type}`), each dielectric's own
 //! material, and the order's finish, colours, IPC class and Tg, which the notes state too.
 
-use std::collections::BTreeSet;
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -58,17 +59,7 @@ fn the_job_file_lists_every_image_and_drill_file_with_the_required_header() {
     let o = build(&spec(&d, "common-4l-1.6", ""), &out);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let j = job(&out);
-    let listed: BTreeSet<String> = j["FilesAttributes"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|f| f["Path"].as_str().unwrap().to_string())
-        .collect();
-    let in_folder: BTreeSet<String> = std::fs::read_dir(out.join("J10"))
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
-        .filter(|n| n.ends_with(".gbr") || n.ends_with(".drl"))
-        .collect();
+    let (listed, in_folder) = common::job_listing(&j, &out.join("J10"));
     assert_eq!(listed, in_folder);
     for f in j["FilesAttributes"].as_array().unwrap() {
         assert!(!f["FileFunction"].as_str().unwrap().is_empty(), "{f}");

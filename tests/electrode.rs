@@ -2,24 +2,15 @@
 //! collects from a line below it (tests/reference/electrode_refs.py, recorded in
 //! tests/data/electrode_refs.toml with its calls).
 
+mod common;
+
+use common::{f, refs};
 use loopwright::field::{Accuracy, cross_section_for_line, ground_charge, solve};
 use loopwright::model::line::{Line, Stripline};
 use loopwright::physics::electrode::disc_charge;
 
-/// The mesh the electrode's charge is taken on (see the test's comment).
-const ACC: Accuracy = Accuracy::Refined(2);
-
-fn refs() -> toml::Value {
-    let path = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/electrode_refs.toml"
-    );
-    toml::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
-}
-
-fn f(v: &toml::Value, k: &str) -> f64 {
-    v[k].as_float().unwrap()
-}
+/// The mesh the electrode's charge is taken on, the model's own (see the first test's comment).
+const ACC: Accuracy = loopwright::physics::electrode::ACCURACY;
 
 /// The reference's line charge between two planes, as the field solver sees it: a strip 5 µm
 /// wide and of no thickness (a filament to within (w/s)², at most 1e-4 here), in air, `s` over the lower
@@ -44,7 +35,7 @@ fn section(s: f64, h: f64) -> loopwright::field::CrossSection {
 // capacitance (at `Standard` the first case reads +0.56 %).
 #[test]
 fn a_disc_in_the_plane_collects_what_scipy_integrates() {
-    let r = refs();
+    let r = refs("electrode_refs.toml");
     for case in r["disc"].as_array().unwrap() {
         let (s, h) = (f(case, "s_mm"), f(case, "h_mm"));
         let cs = section(s, h);
@@ -214,11 +205,7 @@ fn the_clearance_adds_half_of_itself_to_the_collecting_width() {
 fn the_electrode_couples_to_the_line_as_the_fdtd_says() {
     use loopwright::model::line::Microstrip;
     use loopwright::physics::electrode::{effective_radius, line_coupling};
-    let path = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/electrode_fdtd.toml"
-    );
-    let r: toml::Value = toml::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    let r = refs("electrode_fdtd.toml");
     let line = Microstrip {
         width: 3.0,
         h: 1.5,

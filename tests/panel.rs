@@ -439,23 +439,12 @@ fn every_panel_rule_fires_alone() {
 #[test]
 fn the_panel_job_file_lists_its_folder_and_the_probes_stay_symmetric() {
     use geo::BooleanOps;
-    use std::collections::BTreeSet;
     let dir = common::demo_dir().join(PANEL);
     let j: serde_json::Value = serde_json::from_str(
         &std::fs::read_to_string(dir.join(format!("{PANEL}.gbrjob"))).unwrap(),
     )
     .unwrap();
-    let listed: BTreeSet<String> = j["FilesAttributes"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|f| f["Path"].as_str().unwrap().to_string())
-        .collect();
-    let in_folder: BTreeSet<String> = std::fs::read_dir(&dir)
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
-        .filter(|n| n.ends_with(".gbr") || n.ends_with(".drl"))
-        .collect();
+    let (listed, in_folder) = common::job_listing(&j, &dir);
     assert_eq!(listed, in_folder);
     assert!(in_folder.contains(&format!("{PANEL}-NPTH.drl")));
     // The shield planes (L2, L4) of each probe, read back from the panel, are mirror images of

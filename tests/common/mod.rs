@@ -404,3 +404,26 @@ pub fn sections_of(v: &toml::Value) -> Vec<loopwright::solve::network::Section> 
         })
         .collect()
 }
+
+/// The paths a Gerber job file (`job`, parsed) lists, and the Gerber and drill files in its
+/// folder `dir`: the two sets a complete job file makes equal.
+pub fn job_listing(
+    job: &serde_json::Value,
+    dir: &Path,
+) -> (
+    std::collections::BTreeSet<String>,
+    std::collections::BTreeSet<String>,
+) {
+    let listed = job["FilesAttributes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["Path"].as_str().unwrap().to_string())
+        .collect();
+    let in_folder = std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
+        .filter(|n| n.ends_with(".gbr") || n.ends_with(".drl"))
+        .collect();
+    (listed, in_folder)
+}
