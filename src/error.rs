@@ -222,11 +222,15 @@ pub enum Rule {
     LineShortedToGround,
     /// Along the fixture's uniform line, ground copper keeps the solved keepout (or coplanar gap) from the line's edges, so the line keeps the impedance it was solved for (the fixture's own rule).
     GroundTooNearLine,
+    /// An electric probe's electrode is whole copper on both outer layers and the solder mask opens over all of it, so the field reaches bare copper on either face (the probe's own rule, docs/probe-spec.md).
+    ElectrodeExposed,
+    /// On every layer, shield copper keeps the electrode's stated clearance from its centre's disc (`electrode_clearance_mm`): the predictions' collecting radius assumes it (the probe's own rule).
+    ElectrodeClearance,
 }
 
 impl Rule {
     /// Every rule.
-    pub const ALL: [Rule; 23] = [
+    pub const ALL: [Rule; 25] = [
         Rule::RegionNotClosed,
         Rule::RegionNotSimple,
         Rule::MinTraceWidth,
@@ -250,6 +254,8 @@ impl Rule {
         Rule::LineContinuity,
         Rule::LineShortedToGround,
         Rule::GroundTooNearLine,
+        Rule::ElectrodeExposed,
+        Rule::ElectrodeClearance,
     ];
 
     /// The rule's name as printed.
@@ -278,6 +284,8 @@ impl Rule {
             Rule::LineContinuity => "line continuity",
             Rule::LineShortedToGround => "line shorted to ground",
             Rule::GroundTooNearLine => "ground too near the line",
+            Rule::ElectrodeExposed => "electrode not exposed",
+            Rule::ElectrodeClearance => "shield inside the electrode's clearance",
         }
     }
 }

@@ -40,6 +40,21 @@ fn probe_case() -> ProbeCase {
     ProbeCase { p, s, b, art }
 }
 
+/// An electric probe on the demo's stackup: a 2 mm electrode, the default clearance.
+fn electric_case() -> ProbeCase {
+    let text = "stackup = \"common-4l-1.6\"\nsignal_layer = 2\n[[probe]]\nname = \"E2\"\n\
+                kind = \"electric\"\nelectrode_diameter_mm = 2.0\n";
+    let spec = loopwright::spec::parse_toml(text, "electric").unwrap();
+    let p = family_from_spec(&spec, Path::new("."))
+        .unwrap()
+        .probes
+        .remove(0);
+    let s = loopwright::solve::probe::solve(&p).unwrap();
+    let b = loopwright::geom::build(&p, &s);
+    let art = loopwright::artwork::compose(&p, &b);
+    ProbeCase { p, s, b, art }
+}
+
 #[derive(Clone)]
 struct FixtureCase {
     f: Fixture,
@@ -223,6 +238,29 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
     ]
 }
 
+fn electric_cases() -> Vec<Case<ProbeCase>> {
+    vec![
+        (Rule::ElectrodeExposed, |c| {
+            // The mask left whole over the bottom face's electrode.
+            c.art.mask_bottom.retain(|f| f.at.to_vec2().hypot() > 1e-6);
+        }),
+        (Rule::ElectrodeClearance, |c| {
+            // A tongue of the inner shield (L3) reaching half way into the clearance.
+            let e = c.p.kind.electrode().unwrap();
+            let r = e.diameter / 2.0 + e.clearance;
+            add(
+                &mut c.art,
+                3,
+                loopwright::geom::rect(r - e.clearance / 2.0, -0.2, r + 0.3, 0.2),
+            );
+        }),
+        (Rule::StitchingRowPitch, |c| {
+            c.b.vias.retain(|v| v.role != ViaRole::FaceRing);
+            c.art = loopwright::artwork::compose(&c.p, &c.b);
+        }),
+    ]
+}
+
 fn fixture_cases() -> Vec<Case<FixtureCase>> {
     vec![
         (Rule::LineContinuity, |c| {
@@ -270,6 +308,12 @@ fn every_rule_fires_alone() {
     let base = probe_case();
     let clean = loopwright::drc::check(&base.p, &base.s, &base.b, &base.art);
     assert!(clean.is_empty(), "the demo probe is not clean: {clean:?}");
+    let ebase = electric_case();
+    let clean = loopwright::drc::check(&ebase.p, &ebase.s, &ebase.b, &ebase.art);
+    assert!(
+        clean.is_empty(),
+        "the electric probe is not clean: {clean:?}"
+    );
     let fbase = fixture_case();
     let clean = loopwright::drc::check_fixture(&fbase.f, &fbase.s, &fbase.b, &fbase.art);
     assert!(clean.is_empty(), "the demo fixture is not clean: {clean:?}");
@@ -279,6 +323,13 @@ fn every_rule_fires_alone() {
     run(
         &base,
         probe_cases(),
+        |c| loopwright::drc::check(&c.p, &c.s, &c.b, &c.art),
+        &mut covered,
+        &mut failures,
+    );
+    run(
+        &ebase,
+        electric_cases(),
         |c| loopwright::drc::check(&c.p, &c.s, &c.b, &c.art),
         &mut covered,
         &mut failures,

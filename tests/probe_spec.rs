@@ -39,15 +39,17 @@ fn negative_size_is_refused() {
 #[test]
 fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
     let probe = "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n";
-    for k in ["balanced", "electric"] {
-        refused(
-            &format!("{probe}kind = \"{k}\"\n"),
-            &["probe[1].kind", k, "not built yet", "\"loop\""],
-        );
-    }
+    refused(
+        &format!("{probe}kind = \"balanced\"\n"),
+        &["probe[1].kind", "balanced", "not built yet", "\"loop\""],
+    );
     refused(
         &format!("{probe}kind = \"dipole\"\n"),
-        &["probe[1].kind", "dipole", "must be \"loop\""],
+        &[
+            "probe[1].kind",
+            "dipole",
+            "must be \"loop\" or \"electric\"",
+        ],
     );
     refused(
         &format!("{probe}turns = 2\n"),
@@ -67,6 +69,51 @@ fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
         loopwright::model::probe::ProbeKind::Loop
     );
     assert_eq!(fam.probes[0].turns, 1);
+}
+
+#[test]
+fn electric_probe_fields_are_checked_and_loop_fields_refused() {
+    let e = "[[probe]]\nname = \"e\"\nkind = \"electric\"\n";
+    // The diameter is required, at least the via pad and at most 20 mm.
+    refused(
+        e,
+        &[
+            "probe[1].electrode_diameter_mm = (missing)",
+            "via pad (0.6)",
+        ],
+    );
+    refused(
+        &format!("{e}electrode_diameter_mm = 0.4\n"),
+        &["probe[1].electrode_diameter_mm = 0.4", "0.6", "20"],
+    );
+    refused(
+        &format!("{e}electrode_diameter_mm = 1\nelectrode_clearance_mm = 0.05\n"),
+        &["probe[1].electrode_clearance_mm = 0.05"],
+    );
+    // A loop's fields and a turn count do not apply.
+    refused(
+        &format!("{e}electrode_diameter_mm = 1\nshape = \"round\"\nsize_mm = 10\nturns = 2\n"),
+        &[
+            "probe[1].shape = \"round\": does not apply to an electric probe",
+            "probe[1].size_mm = 10: does not apply to an electric probe",
+            "probe[1].turns = 2: does not apply to an electric probe",
+        ],
+    );
+    // Nor do the electrode's fields to a loop.
+    refused(
+        "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\nelectrode_diameter_mm = 1\n",
+        &["probe[1].electrode_diameter_mm = 1: applies only to kind = \"electric\""],
+    );
+    // Accepted, with the clearance's default.
+    let s = spec(&format!("{BASE}{e}electrode_diameter_mm = 1.5\n"));
+    let fam = loopwright::model::probe::family_from_spec(&s, Path::new(".")).unwrap();
+    assert_eq!(
+        fam.probes[0].kind,
+        loopwright::model::probe::ProbeKind::Electric(loopwright::model::probe::Electrode {
+            diameter: 1.5,
+            clearance: loopwright::model::probe::electrode_limits::CLEARANCE,
+        })
+    );
 }
 
 #[test]

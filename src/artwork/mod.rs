@@ -16,6 +16,12 @@ pub mod panel;
 /// centre pad to be continuous with the shield).
 pub const NET: &str = "PROBE";
 
+/// An electric probe's nets: its electrode and line (open to the shield at DC, so the fab's
+/// electrical test must find the centre pad isolated from the shield) and its shield.
+pub const ELECTRODE_NET: &str = "ELECTRODE";
+/// An electric probe's shield net.
+pub const SHIELD_NET: &str = "SHIELD";
+
 /// Net names of a board's copper objects (the Gerber `.N` attribute).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Nets {
@@ -316,7 +322,16 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         .find(|v| v.role == ViaRole::Signal)
         .expect("a board always has its signal via");
     let g2 = b.gap / 2.0;
-    let gap = MultiPolygon(vec![rect(-g2, b.gap_y.0, g2, b.gap_y.1)]);
+    // An electric probe's electrode: a disc on both outer layers, its via in the middle.
+    let electrode = p
+        .kind
+        .electrode()
+        .map(|e| MultiPolygon(vec![circle(Point::ZERO, e.diameter / 2.0)]));
+    let gap = if electrode.is_some() {
+        MultiPolygon(vec![])
+    } else {
+        MultiPolygon(vec![rect(-g2, b.gap_y.0, g2, b.gap_y.1)])
+    };
     // The anti-pad clears the via pad and the ends of both lines that meet it.
     let antipad_r = sv.pad.max(b.trace_width).max(b.top_width) / 2.0 + c;
     let antipad = MultiPolygon(vec![circle(sv.at, antipad_r)]);
@@ -378,7 +393,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     for n in 1..=n_layers {
         let side = Side::of(n, n_layers);
         let signal = n == p.signal_layer;
-        let regions = if signal {
+        let mut regions = if signal {
             let channel = stroke_butt(&b.trace_path[..=b.exit_index], b.trace_width / 2.0 + c);
             let trace = stroke_butt(&b.trace_path, b.trace_width / 2.0);
             shield_cut
@@ -415,11 +430,18 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
                 .difference(&relief(n))
                 .difference(&edge_web(n))
         };
+        if let Some(disc) = &electrode
+            && (n == 1 || n == n_layers)
+        {
+            regions = regions.union(disc);
+        }
         let mut flashes = Vec::new();
         for v in &b.vias {
             // The signal via has lands where it connects (L1, the loop's layer) and an isolated
-            // land on the bottom layer, so both outer layers carry a pad around the hole.
-            let joins = v.role != ViaRole::Signal || n == 1 || signal || n == n_layers;
+            // land on the bottom layer, so both outer layers carry a pad around the hole; the
+            // electrode's via has lands where it joins (the discs, the line's end).
+            let lands_only = matches!(v.role, ViaRole::Signal | ViaRole::Electrode);
+            let joins = !lands_only || n == 1 || signal || n == n_layers;
             if joins {
                 flashes.push(Flash {
                     at: snap_pt(v.at),
@@ -465,12 +487,20 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         shape: Shape::Circle(snap(h.pad + 2.0 * exp)),
         function: PadFunction::MaskOpening,
     });
+    // The electrode is bare copper on both sides: the mask opens over it, grown by the mask
+    // expansion.
+    let electrode_opening = p.kind.electrode().map(|e| Flash {
+        at: Point::ZERO,
+        shape: Shape::Circle(snap(e.diameter + 2.0 * exp)),
+        function: PadFunction::MaskOpening,
+    });
     let mask_top = b
         .pads
         .iter()
         .filter(|pd| pd.top)
         .map(opening)
         .chain(hole_openings.clone())
+        .chain(electrode_opening)
         .collect();
     let mask_bottom = b
         .pads
@@ -478,6 +508,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         .filter(|pd| !pd.top)
         .map(opening)
         .chain(hole_openings)
+        .chain(electrode_opening)
         .collect();
     let snap_strokes = |v: &[Vec<Point>]| -> Vec<Vec<Point>> {
         v.iter()
@@ -512,9 +543,45 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         silk_width: snap(p.fab.silk_width),
         profile,
         drills,
-        gap_rect: Some((-g2, b.gap_y.0, g2, b.gap_y.1)),
-        nets: Nets::one(NET),
-        layer_roles: ("loop trace", "shield"),
+        gap_rect: electrode
+            .is_none()
+            .then_some((-g2, b.gap_y.0, g2, b.gap_y.1)),
+        nets: match &electrode {
+            None => Nets::one(NET),
+            Some(disc) => electric_nets(p, b, disc, sv.at),
+        },
+        layer_roles: if electrode.is_some() {
+            ("line to the electrode", "shield")
+        } else {
+            ("loop trace", "shield")
+        },
+    }
+}
+
+/// An electric probe's nets: the electrode's copper (its discs, its via's lands, the line, the
+/// top link, the signal via's lands and the connector's centre pad), grown by 1 µm so that the
+/// first vertex of each of its regions, snapped to the grid, lies inside; everything else is
+/// the shield.
+fn electric_nets(p: &Probe, b: &Board, disc: &MultiPolygon<f64>, sv: Point) -> Nets {
+    let pad = p.vias.pad / 2.0;
+    let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
+    let signal = disc
+        .union(&stroke_butt(&b.trace_path, b.trace_width / 2.0))
+        .union(&stroke_butt(&b.top_path, b.top_width / 2.0))
+        .union(&MultiPolygon(vec![circle(sv, pad)]))
+        .union(&MultiPolygon(vec![circle(Point::ZERO, pad)]))
+        .union(&MultiPolygon(vec![rect(
+            centre.at.x - centre.w / 2.0,
+            centre.at.y - centre.h / 2.0,
+            centre.at.x + centre.w / 2.0,
+            centre.at.y + centre.h / 2.0,
+        )]));
+    Nets {
+        default: Some(SHIELD_NET.to_string()),
+        areas: vec![(
+            ELECTRODE_NET.to_string(),
+            crate::geom::round_buffer(&signal, 1e-3),
+        )],
     }
 }
 

@@ -16,9 +16,119 @@ use kurbo::Point;
 /// inside the loop, the shield gap, via pitch and stitching rows). Returns the violations.
 pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
     let mut out = check_board(&p.fab, art);
-    let Some((gx0, gy0, gx1, gy1)) = art.gap_rect else {
-        return out;
-    };
+    if let Some(g) = art.gap_rect {
+        out.extend(loop_rules(p, b, art, g));
+    }
+    if let Some(e) = p.kind.electrode() {
+        out.extend(electrode_rules(art, &e));
+    }
+    // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
+    // An electric probe's electrode via stitches nothing (it is the line's), so it needs no
+    // neighbour within the limit.
+    let electrode_via =
+        |q: Point| p.kind.electrode().is_some() && q.to_vec2().hypot() < slack::GRID;
+    let vias: Vec<Point> = art
+        .drills
+        .iter()
+        .filter(|d| d.via && !electrode_via(d.at))
+        .map(|d| d.at)
+        .collect();
+    for (v, nn) in nearest_neighbours(&vias, s.pitch_max, &mut out) {
+        // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
+        if nn < s.pitch_min - slack::PITCH {
+            out.push(Violation {
+                rule: Rule::ViaPitchBelowFab,
+                layer: "drill".into(),
+                at: v,
+                detail: format!("nearest via {nn:.3} mm < {:.3} mm", s.pitch_min),
+            });
+        }
+    }
+    out.extend(row_coverage(p, s, b, &vias));
+    out
+}
+
+/// An electric probe's own rules: the electrode whole and bare on both outer layers, and no
+/// shield copper inside its clearance on any layer.
+fn electrode_rules(art: &Artwork, e: &crate::model::probe::Electrode) -> Vec<Violation> {
+    use crate::geom::circle;
+    let mut out = Vec::new();
+    let r = e.diameter / 2.0;
+    let disc = MultiPolygon(vec![circle(Point::ZERO, r)]);
+    // The clearance, less the grid's rounding and the flattening of the drawn circles.
+    let keep = MultiPolygon(vec![circle(
+        Point::ZERO,
+        r + e.clearance - crate::geom::TOL - slack::GRID,
+    )]);
+    let n_layers = art.copper.len();
+    let electrode_area = art
+        .nets
+        .areas
+        .iter()
+        .find(|(name, _)| name == crate::artwork::ELECTRODE_NET)
+        .map(|(_, a)| a.clone())
+        .unwrap_or_else(|| MultiPolygon(vec![]));
+    for l in &art.copper {
+        let name = format!("L{}", l.n);
+        let copper = layer_copper(&l.regions, &l.flashes);
+        if l.n == 1 || l.n == n_layers {
+            let missing = disc.difference(&copper).unsigned_area();
+            if missing > slack::AREA {
+                out.push(Violation {
+                    rule: Rule::ElectrodeExposed,
+                    layer: name.clone(),
+                    at: Point::ZERO,
+                    detail: format!("{missing:.4} mm² of the electrode's disc is not copper"),
+                });
+            }
+        }
+        let shield_in = copper
+            .difference(&electrode_area)
+            .intersection(&keep)
+            .unsigned_area();
+        if shield_in > slack::AREA {
+            out.push(Violation {
+                rule: Rule::ElectrodeClearance,
+                layer: name,
+                at: Point::ZERO,
+                detail: format!(
+                    "{shield_in:.4} mm² of shield copper within {} mm of the electrode's centre",
+                    crate::math::fmt_num(r + e.clearance)
+                ),
+            });
+        }
+    }
+    for (side, mask) in [
+        ("top mask", &art.mask_top),
+        ("bottom mask", &art.mask_bottom),
+    ] {
+        let opened = mask.iter().any(|f| {
+            let reach = match f.shape {
+                crate::artwork::Shape::Circle(d) => d / 2.0,
+                crate::artwork::Shape::Rect(w, h) => w.min(h) / 2.0,
+            } - f.at.to_vec2().hypot();
+            reach >= r - slack::GRID
+        });
+        if !opened {
+            out.push(Violation {
+                rule: Rule::ElectrodeExposed,
+                layer: side.into(),
+                at: Point::ZERO,
+                detail: format!(
+                    "no mask opening covers the electrode (Ø{} mm)",
+                    crate::math::fmt_num(e.diameter)
+                ),
+            });
+        }
+    }
+    out
+}
+
+/// A loop's own rules: no copper inside the loop, the shield gap holds only the trace and no
+/// via, the gap being `(x0, y0, x1, y1)`.
+fn loop_rules(p: &Probe, b: &Board, art: &Artwork, g: (f64, f64, f64, f64)) -> Vec<Violation> {
+    let mut out = Vec::new();
+    let (gx0, gy0, gx1, gy1) = g;
     let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
     let interior = MultiPolygon(vec![b.interior.clone()]);
     for l in &art.copper {
@@ -88,20 +198,6 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
             }
         }
     }
-    // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
-    let vias: Vec<Point> = art.drills.iter().filter(|d| d.via).map(|d| d.at).collect();
-    for (v, nn) in nearest_neighbours(&vias, s.pitch_max, &mut out) {
-        // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
-        if nn < s.pitch_min - slack::PITCH {
-            out.push(Violation {
-                rule: Rule::ViaPitchBelowFab,
-                layer: "drill".into(),
-                at: v,
-                detail: format!("nearest via {nn:.3} mm < {:.3} mm", s.pitch_min),
-            });
-        }
-    }
-    out.extend(row_coverage(p, s, b, &vias));
     out
 }
 
@@ -118,8 +214,9 @@ struct Row {
 }
 
 /// Via coverage of every required row from end to end: the loop's inner and outer stitching
-/// rows on both halves (from the gap's keep-out to the axis) and the fences on both sides of
-/// the feed (from the signal via to where the feed joins the loop). The vias standing on a row
+/// rows on both halves (from the gap's keep-out to the axis), or an electric probe's ring round
+/// its electrode (both halves, from the top to the line's channel), and the fences on both
+/// sides of the feed (from the signal via to where the feed joins the loop or the ring). The vias standing on a row
 /// (within 0.01 mm of its path) are taken in order along it, with the row's two ends, and no
 /// step between consecutive ones may exceed the pitch limit (straight-line distance), outside
 /// the row's stated exemptions. A row with missing vias, or none, fails: the nearest-neighbour
@@ -128,8 +225,37 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
     use crate::geom::shape::{arclengths, gap_keep, left_half, point_at, row_start};
     let mut rows = Vec::new();
     let keep = gap_keep(p.gap, p.vias.pad);
-    let feed_zone = s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
-    for (off, label) in [(-s.fence_offset, "inner"), (s.fence_offset, "outer")] {
+    let mut feed_zone = s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
+    if let Some(e) = p.kind.electrode() {
+        // An electric probe: the ring round the electrode's clearance, each half from the top
+        // down to where the line's channel crosses it at the bottom (where the feed's fences
+        // take over); the fences end where the ring begins.
+        let r = crate::geom::electrode_ring_radius(p, &e);
+        let f = s.fence_offset;
+        let half: Vec<Point> = (0..=180)
+            .map(|k| {
+                let phi = std::f64::consts::PI * k as f64 / 180.0;
+                Point::new(-r * phi.sin(), r * phi.cos())
+            })
+            .collect();
+        let to = *arclengths(&half).last().unwrap();
+        for (side, sign) in [("left", 1.0), ("right", -1.0)] {
+            rows.push(Row {
+                name: format!("ring round the electrode, {side} half"),
+                path: half.iter().map(|q| Point::new(sign * q.x, q.y)).collect(),
+                from: 0.0,
+                to,
+                exempt: vec![(Point::new(0.0, -r), f + s.pitch_min)],
+            });
+        }
+        feed_zone = r + s.pitch_min;
+    }
+    let loop_rows = if p.kind.electrode().is_some() {
+        Vec::new()
+    } else {
+        vec![(-s.fence_offset, "inner"), (s.fence_offset, "outer")]
+    };
+    for (off, label) in loop_rows {
         let half = left_half(&p.shape, off);
         let sl = arclengths(&half);
         let from = row_start(&half, &sl, keep);

@@ -8,6 +8,7 @@
 //! via fences and the short vias). The shield copper itself stays symmetric: vias sit inside
 //! the pour, and the signal via is on the axis.
 
+mod electric;
 pub mod fixture;
 pub mod font;
 pub mod panel;
@@ -19,8 +20,16 @@ mod vias;
 
 /// The loop centreline and its offsets (owned by the model; kept here under its old name).
 pub use crate::model::centreline as shape;
+pub use electric::electrode_ring_radius;
 pub(crate) use path::offset_round;
-pub use probe::build;
+
+/// Builds the board of a probe, whatever its kind.
+pub fn build(p: &crate::model::probe::Probe, s: &crate::solve::probe::SolvedProbe) -> Board {
+    match p.kind {
+        crate::model::probe::ProbeKind::Loop => probe::build(p, s),
+        crate::model::probe::ProbeKind::Electric(e) => electric::build(p, s, e),
+    }
+}
 pub use region::{circle, polygon, rect, round_buffer, stroke_butt, stroke_round, symmetrise};
 
 use geo::{MultiPolygon, Polygon};
@@ -43,6 +52,12 @@ pub enum ViaRole {
     SignalGround,
     /// Ground via beside a connector ground pad, joining its pad to the shield planes.
     PadGround,
+    /// An electric probe's electrode via: joins the electrode's discs on the outer layers and
+    /// the line's end on the signal layer.
+    Electrode,
+    /// An electric probe's ground via in the face round the electrode's clearance, joining the
+    /// shield layers at the face's inner edge.
+    FaceRing,
 }
 
 /// A plated via (through all layers).

@@ -72,28 +72,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     // space) fills every notch narrower than that, and the loop interior is then taken out again.
     let hw = p.handle.width / 2.0;
     let interior = polygon(&closed(shape, -hr));
-    let r_close = p.fab.min_space.max(p.clearance) + offsets::CLOSE_MARGIN;
-    let extent = MultiPolygon(vec![polygon(&closed(shape, hr))]).union(&MultiPolygon(vec![rect(
-        -hw,
-        edge_y + cte,
-        hw,
-        bottom,
-    )]));
-    let extent = largest(&symmetrise(&round_buffer(
-        &round_buffer(&extent, r_close),
-        -r_close,
-    )));
-    // The closing's flattened arcs can move the straight pullback at the connector edge by a
-    // fraction of a micrometre, and snapping by a nanometre: cut it back to `cte` from that
-    // edge and the margin beyond.
-    let extent = largest(
-        &MultiPolygon(vec![extent]).intersection(&MultiPolygon(vec![rect(
-            -1e4,
-            edge_y + cte + offsets::EDGE_MARGIN,
-            1e4,
-            1e4,
-        )])),
-    );
+    let extent = head_and_handle(p, polygon(&closed(shape, hr)), edge_y, bottom);
     let shield =
         MultiPolygon(vec![extent.clone()]).difference(&MultiPolygon(vec![interior.clone()]));
 
@@ -101,8 +80,85 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let top = left[0].y;
     let gap_y = (top - hr - 0.5, top + hr + 0.5);
 
-    // --- Outline: the copper extent grown by the copper-to-edge rule (round joins), which puts
-    // the connector edge at `edge_y`.
+    // --- Outline: the copper extent grown by the copper-to-edge rule, filleted for the router.
+    let mut outline = outline_around(p, &extent, edge_y);
+    if p.mill_interior {
+        let cut = polygon(&closed(shape, -hr - cte - offsets::EDGE_MARGIN));
+        // The solve refuses a loop whose cut is narrower than the bit (with the flattening in
+        // hand), so the opened cut is never empty; were it, the cut is kept as drawn.
+        let cut = router_cut(&cut, p.fab.router_diameter / 2.0).unwrap_or(cut);
+        outline.interiors_push(cut.exterior().clone());
+    }
+
+    // --- Connector pads and holes.
+    let (pads, holes) = connector_pads(p, edge_y);
+
+    // --- Vias.
+    let mut placer = ViaPlacer::new(
+        p,
+        s,
+        trace_path[..=exit_index].to_vec(),
+        &top_path,
+        &shield,
+        &pads,
+        sv,
+    );
+    // Short vias on the stub, in solid ground below the channel.
+    let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
+    for q in [
+        short1,
+        Point::new(e, short1.y - s.pitch_min - offsets::PITCH_MARGIN),
+    ] {
+        placer.vias.push(Via {
+            at: q,
+            drill: p.vias.drill,
+            pad,
+            role: ViaRole::Short,
+        });
+    }
+    placer.rows(shape, -f, ViaRole::InnerRow);
+    placer.rows(shape, f, ViaRole::OuterRow);
+    // Ground vias around the signal via, then around the connector's ground pads.
+    placer.signal_ring(crate::solve::launch::signal_ring_radius(p, &s.launch));
+    placer.pad_vias();
+    placer.fences(&feed);
+    let vias = placer.vias;
+
+    // --- Silkscreen.
+    let (silk_top, silk_bottom) = silk(p, s, edge_y, bottom - hr, hw);
+
+    Board {
+        bbox: bbox(&outline),
+        trace_path,
+        exit_index,
+        entry_index,
+        trace_width: w,
+        top_path,
+        top_width: s.top_width,
+        clearance: c,
+        pad_gap: s.launch.pad_gap,
+        barrel_antipad_d: s.launch.barrel_antipad_d,
+        stub_antipad_d: s.launch.stub_antipad_d,
+        relief_layers: s.launch.relieved_layers().collect(),
+        shield,
+        gap_y,
+        gap: p.gap,
+        vias,
+        pads,
+        holes,
+        outline,
+        interior,
+        silk_top,
+        silk_bottom,
+        edge_y,
+    }
+}
+
+/// The board outline round a shield extent: the extent grown by the copper-to-edge rule (round
+/// joins), which puts the connector edge at `edge_y`, its internal corners filleted to the
+/// router bit's radius, the connector edge cut straight.
+pub(super) fn outline_around(p: &Probe, extent: &Polygon<f64>, edge_y: f64) -> Polygon<f64> {
+    let cte = p.fab.copper_to_edge;
     // Round joins are flattened to chords that cut inside the true arcs by up to the arc
     // tolerance, and the artwork snaps to its grid: the outline is grown by that much more, so
     // that every point of it stays at least `cte` from the copper, and cut back to the
@@ -135,16 +191,13 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         &MultiPolygon(vec![filleted])
             .intersection(&MultiPolygon(vec![rect(-1e4, edge_y, 1e4, 1e4)])),
     );
-    let mut outline = Polygon::new(filleted.exterior().clone(), vec![]);
-    if p.mill_interior {
-        let cut = polygon(&closed(shape, -hr - cte - offsets::EDGE_MARGIN));
-        // The solve refuses a loop whose cut is narrower than the bit (with the flattening in
-        // hand), so the opened cut is never empty; were it, the cut is kept as drawn.
-        let cut = router_cut(&cut, r_bit).unwrap_or(cut);
-        outline.interiors_push(cut.exterior().clone());
-    }
+    Polygon::new(filleted.exterior().clone(), vec![])
+}
 
-    // --- Connector pads and holes.
+/// The edge-launch connector's pads (centre on top, ground on both sides, top and bottom) and
+/// its ground-leg holes, the connector edge at `edge_y`.
+pub(super) fn connector_pads(p: &Probe, edge_y: f64) -> (Vec<Pad>, Vec<Hole>) {
+    let cp_len = p.connector.centre_pad_length;
     let con = &p.connector;
     let mut pads = vec![Pad {
         at: Point::new(0.0, edge_y + cp_len / 2.0),
@@ -181,47 +234,47 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         }
     }
 
-    // --- Vias.
-    let mut placer = ViaPlacer {
-        p,
-        s,
-        vias: Vec::new(),
-        trace: trace_path[..=exit_index].to_vec(),
-        top_path: top_path.clone(),
-        shield: shield.clone(),
-        pads: pads.clone(),
-        sv,
-    };
-    placer.vias.push(Via {
-        at: sv,
-        drill: p.vias.drill,
-        pad,
-        role: ViaRole::Signal,
-    });
-    // Short vias on the stub, in solid ground below the channel.
-    let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
-    for q in [
-        short1,
-        Point::new(e, short1.y - s.pitch_min - offsets::PITCH_MARGIN),
-    ] {
-        placer.vias.push(Via {
-            at: q,
-            drill: p.vias.drill,
-            pad,
-            role: ViaRole::Short,
-        });
-    }
-    placer.rows(shape, -f, ViaRole::InnerRow);
-    placer.rows(shape, f, ViaRole::OuterRow);
-    // Ground vias around the signal via, then around the connector's ground pads.
-    placer.signal_ring(crate::solve::launch::signal_ring_radius(p, &s.launch));
-    placer.pad_vias();
-    placer.fences(&feed);
-    let vias = placer.vias;
+    (pads, holes)
+}
 
-    // --- Silkscreen.
-    let (silk_top, silk_bottom) = silk(p, s, edge_y, bottom, hw);
+/// The copper extent of a probe: its head (the loop's ring, the electric probe's face) ∪ the
+/// handle from the connector edge's pullback up to `handle_top`, closed where they meet (grow,
+/// then shrink, by more than the fab space, filling every notch narrower than that),
+/// symmetrised, and cut back to the copper-to-edge rule at the connector edge.
+pub(super) fn head_and_handle(
+    p: &Probe,
+    head: Polygon<f64>,
+    edge_y: f64,
+    handle_top: f64,
+) -> Polygon<f64> {
+    let cte = p.fab.copper_to_edge;
+    let hw = p.handle.width / 2.0;
+    let r_close = p.fab.min_space.max(p.clearance) + offsets::CLOSE_MARGIN;
+    let extent = MultiPolygon(vec![head]).union(&MultiPolygon(vec![rect(
+        -hw,
+        edge_y + cte,
+        hw,
+        handle_top,
+    )]));
+    let extent = largest(&symmetrise(&round_buffer(
+        &round_buffer(&extent, r_close),
+        -r_close,
+    )));
+    // The closing's flattened arcs can move the straight pullback at the connector edge by a
+    // fraction of a micrometre, and snapping by a nanometre: cut it back to `cte` from that
+    // edge and the margin beyond.
+    largest(
+        &MultiPolygon(vec![extent]).intersection(&MultiPolygon(vec![rect(
+            -1e4,
+            edge_y + cte + offsets::EDGE_MARGIN,
+            1e4,
+            1e4,
+        )])),
+    )
+}
 
+/// The bounding box (min, max) of an outline's exterior, mm.
+pub(super) fn bbox(outline: &Polygon<f64>) -> (Point, Point) {
     let (mut lo, mut hi) = (
         Point::new(f64::MAX, f64::MAX),
         Point::new(f64::MIN, f64::MIN),
@@ -230,29 +283,5 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         lo = Point::new(lo.x.min(q.x), lo.y.min(q.y));
         hi = Point::new(hi.x.max(q.x), hi.y.max(q.y));
     }
-    Board {
-        trace_path,
-        exit_index,
-        entry_index,
-        trace_width: w,
-        top_path,
-        top_width: s.top_width,
-        clearance: c,
-        pad_gap: s.launch.pad_gap,
-        barrel_antipad_d: s.launch.barrel_antipad_d,
-        stub_antipad_d: s.launch.stub_antipad_d,
-        relief_layers: s.launch.relieved_layers().collect(),
-        shield,
-        gap_y,
-        gap: p.gap,
-        vias,
-        pads,
-        holes,
-        outline,
-        interior,
-        silk_top,
-        silk_bottom,
-        edge_y,
-        bbox: (lo, hi),
-    }
+    (lo, hi)
 }

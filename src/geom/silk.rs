@@ -7,20 +7,21 @@ use crate::solve::probe::SolvedProbe;
 use kurbo::{Affine, Point, Vec2};
 
 /// Silkscreen: name, size and stackup along the handle, and the sensitive-direction mark.
+/// The text ends a millimetre short of `head_y`, where the probe's head (the loop's shield ring,
+/// the electric probe's face) begins.
 pub(super) fn silk(
     p: &Probe,
     s: &SolvedProbe,
     edge_y: f64,
-    loop_bottom: f64,
+    head_y: f64,
     hw: f64,
 ) -> (Vec<Vec<Point>>, Vec<Vec<Point>>) {
     let h = p.fab.silk_text_height;
-    let right = format!(
-        "{} {} {}",
-        p.name,
-        p.shape.kind().to_uppercase(),
-        p.shape.size_tag()
-    );
+    let (kind, letter) = match p.kind {
+        crate::model::probe::ProbeKind::Loop => (p.shape.kind().to_uppercase(), "H"),
+        crate::model::probe::ProbeKind::Electric(_) => ("ELECTRIC".to_string(), "E"),
+    };
+    let right = format!("{} {kind} {}", p.name, p.shape.size_tag());
     let mut left = p.stackup.name().to_uppercase();
     if !p.silk_text.is_empty() {
         left = format!("{left} {}", p.silk_text);
@@ -29,7 +30,7 @@ pub(super) fn silk(
     // of the feed's via fences.
     let clear = s.fence_offset + p.vias.pad / 2.0 + 0.3;
     let y_start = edge_y + p.connector.ground_pad_length + p.fab.silk_to_pad + 1.0;
-    let y_end = loop_bottom - s.ring_half_width - 1.0;
+    let y_end = head_y - 1.0;
     let mark_c = Point::new(-hw + 0.6 + h, y_end - h);
     let mut top = Vec::new();
     let columns = [
@@ -54,7 +55,7 @@ pub(super) fn silk(
         top.extend(font::text_strokes(t.trim_end(), h, place));
     }
     // Sensitive-direction mark on the left of the handle: ⊙ (the probe responds to the field
-    // component normal to the board), with "H" below it.
+    // component normal to the board), with "H" (a loop) or "E" (an electric probe) below it.
     let r = 0.5 * h;
     let mut bottom: Vec<Vec<Point>> = Vec::new();
     // Only where the handle leaves room above the connector's pads.
@@ -65,7 +66,7 @@ pub(super) fn silk(
             mark_c.x - 2.0 / 3.0 * h / 2.0,
             mark_c.y - r - 0.4 - h,
         ));
-        top.extend(font::text_strokes("H", h, place));
+        top.extend(font::text_strokes(letter, h, place));
         // Bottom: the same mark, seen from the top (mirrored).
         bottom.push(arc_points(mirror(mark_c), r, 0.0, std::f64::consts::TAU));
     }

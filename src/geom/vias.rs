@@ -4,7 +4,7 @@
 use super::path::*;
 use super::shape::{arclengths, dist_to_polyline, left_half, mirror, point_at};
 use super::*;
-use crate::model::probe::{LoopShape, Probe};
+use crate::model::probe::{LoopShape, Probe, ProbeKind};
 use crate::solve::probe::{SolvedProbe, VIA_WEB};
 use geo::MultiPolygon;
 use kurbo::{Point, Vec2};
@@ -20,7 +20,35 @@ pub(super) struct ViaPlacer<'a> {
     pub(super) sv: Point,
 }
 
-impl ViaPlacer<'_> {
+impl<'a> ViaPlacer<'a> {
+    /// A placer along the line `trace` (its channel kept clear) and the top link, inside
+    /// `shield`, clear of the connector's `pads`, starting with the signal via at `sv`.
+    pub(super) fn new(
+        p: &'a Probe,
+        s: &'a SolvedProbe,
+        trace: Vec<Point>,
+        top_path: &[Point],
+        shield: &MultiPolygon<f64>,
+        pads: &[Pad],
+        sv: Point,
+    ) -> Self {
+        ViaPlacer {
+            p,
+            s,
+            vias: vec![Via {
+                at: sv,
+                drill: p.vias.drill,
+                pad: p.vias.pad,
+                role: ViaRole::Signal,
+            }],
+            trace,
+            top_path: top_path.to_vec(),
+            shield: shield.clone(),
+            pads: pads.to_vec(),
+            sv,
+        }
+    }
+
     /// True when a via at `q` keeps every construction rule.
     pub(super) fn ok(&self, q: Point) -> bool {
         use geo::{Contains, Distance, Euclidean};
@@ -40,8 +68,11 @@ impl ViaPlacer<'_> {
         if (q - self.sv).hypot() < antipad + pad / 2.0 + VIA_WEB - TOL {
             return false;
         }
-        // Clear of the gap.
-        if q.y > 0.0 && q.x.abs() < self.p.gap / 2.0 + pad / 2.0 + 0.1 {
+        // Clear of the gap (a loop's; an electric probe's shield has none).
+        if self.p.kind == ProbeKind::Loop
+            && q.y > 0.0
+            && q.x.abs() < self.p.gap / 2.0 + pad / 2.0 + 0.1
+        {
             return false;
         }
         // Clear of the connector pads (the centre pad with its gap, which is also the
@@ -209,6 +240,32 @@ impl ViaPlacer<'_> {
             self.vias.retain(|v| {
                 !(v.role == ViaRole::PadGround && (v.at - mirror(q)).hypot() < offsets::SAME_POINT)
             });
+        }
+    }
+
+    /// The ring of ground vias round an electric probe's electrode, radius `r` about `c` (on
+    /// the axis): equally spaced from the top, the fewest whose chord is within the stitching
+    /// share of λ/N (and never under the fab's least pitch), in mirror pairs; those in the
+    /// line's channel at the bottom are refused by [`Self::ok`].
+    pub(super) fn face_ring(&mut self, c: Point, r: f64) {
+        let d_max = offsets::PITCH_MAX_SHARE * self.s.pitch_max;
+        let d_min = self.s.pitch_min + offsets::PITCH_MARGIN;
+        let chord = |n: usize| 2.0 * r * (std::f64::consts::PI / n as f64).sin();
+        let mut n = 4;
+        while chord(n) > d_max && chord(n + 1) >= d_min {
+            n += 1;
+        }
+        for k in 0..=n / 2 {
+            let phi = std::f64::consts::TAU * k as f64 / n as f64;
+            let q = c + Vec2::new(-phi.sin(), phi.cos()) * r;
+            if q.x.abs() < 1e-9 {
+                self.try_add(Point::new(c.x, q.y), ViaRole::FaceRing);
+            } else if self.ok(q) && self.ok(mirror(q)) {
+                self.try_add(q, ViaRole::FaceRing);
+                if !self.try_add(mirror(q), ViaRole::FaceRing) {
+                    self.vias.pop();
+                }
+            }
         }
     }
 

@@ -189,11 +189,25 @@ impl WidthFrom {
 }
 
 /// What a probe is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ProbeKind {
     /// A singly-loaded shielded loop: the trace runs round the turn inside the split shield and
     /// is shorted to it where the turn closes.
     Loop,
+    /// An electric-field probe: the shielded line runs up the handle to a disc electrode at the
+    /// tip, exposed on both outer layers and joined through the board by a via; every shield
+    /// layer stands a clearance back from it. Held flat, the face round the electrode is the
+    /// grounded plane of `physics::electrode`.
+    Electric(Electrode),
+}
+
+/// The electrode of an electric-field probe (mm).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Electrode {
+    /// Diameter of the disc on the outer layers.
+    pub diameter: f64,
+    /// How far every shield layer stands back from the disc's edge.
+    pub clearance: f64,
 }
 
 impl ProbeKind {
@@ -201,21 +215,104 @@ impl ProbeKind {
     pub fn name(self) -> &'static str {
         match self {
             ProbeKind::Loop => "loop",
+            ProbeKind::Electric(_) => "electric",
+        }
+    }
+
+    /// The electrode, for an electric probe.
+    pub fn electrode(self) -> Option<Electrode> {
+        match self {
+            ProbeKind::Electric(e) => Some(e),
+            ProbeKind::Loop => None,
         }
     }
 }
 
+/// Electrode defaults and limits (mm), documented in docs/probe-spec.md.
+pub mod electrode_limits {
+    /// Default clearance from the electrode to the shield, mm: the geometry the full-wave check
+    /// of the electrode model ran on (`tests/data/electrode_fdtd.toml`).
+    pub const CLEARANCE: f64 = 0.3;
+    /// Largest electrode diameter, mm.
+    pub const DIAMETER_MAX: f64 = 20.0;
+    /// Largest clearance, mm.
+    pub const CLEARANCE_MAX: f64 = 5.0;
+}
+
 /// The kind and turn count of a `[[probe]]`: today's meaning when absent; the kinds and turn
-/// counts that are planned but not built are refused with that reason.
-fn kind_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> (ProbeKind, u32) {
+/// counts that are planned but not built are refused with that reason. An electric probe's
+/// electrode fields are read here (its diameter is required); a loop refuses them.
+fn kind_from(
+    out: &mut Vec<FieldError>,
+    p: &str,
+    l: &LoopSpec,
+    fab: &FabProfile,
+    via_pad: f64,
+) -> (ProbeKind, u32) {
+    let electrode_fields = [
+        ("electrode_diameter_mm", l.electrode_diameter_mm),
+        ("electrode_clearance_mm", l.electrode_clearance_mm),
+    ];
     let kind = match l.kind.as_deref() {
-        None | Some("loop") => ProbeKind::Loop,
-        Some(k @ ("balanced" | "electric")) => {
+        None | Some("loop") => {
+            for (field, v) in electrode_fields {
+                if let Some(v) = v {
+                    out.push(FieldError::new(
+                        format!("{p}.{field}"),
+                        crate::math::fmt_num(v),
+                        "applies only to kind = \"electric\"; remove it",
+                    ));
+                }
+            }
+            ProbeKind::Loop
+        }
+        Some("electric") => {
+            let diameter = match l.electrode_diameter_mm {
+                Some(d) => {
+                    check_range(
+                        out,
+                        &format!("{p}.electrode_diameter_mm"),
+                        d,
+                        via_pad,
+                        electrode_limits::DIAMETER_MAX,
+                    );
+                    d
+                }
+                None => {
+                    out.push(FieldError::new(
+                        format!("{p}.electrode_diameter_mm"),
+                        "(missing)",
+                        format!(
+                            "an electric probe's electrode diameter in mm, at least the via pad \
+                             ({}) and at most {}",
+                            crate::math::fmt_num(via_pad),
+                            electrode_limits::DIAMETER_MAX
+                        ),
+                    ));
+                    1.0
+                }
+            };
+            let clearance = l
+                .electrode_clearance_mm
+                .unwrap_or(electrode_limits::CLEARANCE.max(fab.min_space));
+            check_range(
+                out,
+                &format!("{p}.electrode_clearance_mm"),
+                clearance,
+                fab.min_space,
+                electrode_limits::CLEARANCE_MAX,
+            );
+            ProbeKind::Electric(Electrode {
+                diameter,
+                clearance,
+            })
+        }
+        Some(k @ "balanced") => {
             out.push(FieldError::new(
                 format!("{p}.kind"),
                 format!("\"{k}\""),
                 "is not built yet: this version builds \"loop\" (a singly-loaded shielded loop) \
-                 only",
+                 and \"electric\" (an electric-field probe)",
             ));
             ProbeKind::Loop
         }
@@ -223,13 +320,22 @@ fn kind_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> (ProbeKind, u3
             out.push(FieldError::new(
                 format!("{p}.kind"),
                 format!("\"{k}\""),
-                "must be \"loop\" (\"balanced\" and \"electric\" are planned)",
+                "must be \"loop\" or \"electric\" (\"balanced\" is planned)",
             ));
             ProbeKind::Loop
         }
     };
+    let electric = matches!(kind, ProbeKind::Electric(_));
     let turns = match l.turns {
         None | Some(1) => 1,
+        Some(n) if electric => {
+            out.push(FieldError::new(
+                format!("{p}.turns"),
+                n,
+                "does not apply to an electric probe, which has no turn; remove it",
+            ));
+            1
+        }
         Some(n @ (2 | 3)) => {
             out.push(FieldError::new(
                 format!("{p}.turns"),
@@ -250,6 +356,35 @@ fn kind_from(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec) -> (ProbeKind, u3
     (kind, turns)
 }
 
+/// An electric probe's stand-in shape: its electrode's disc (round, of the electrode's
+/// diameter), which names and sizes it in the outputs. Loop fields given to it are refused.
+fn electrode_shape(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec, e: Electrode) -> LoopShape {
+    for (field, set) in [
+        ("shape", l.shape.as_ref().map(|_| 0.0)),
+        ("size_mm", l.size_mm),
+        ("width_mm", l.width_mm),
+        ("height_mm", l.height_mm),
+        ("corner_radius_mm", l.corner_radius_mm),
+    ] {
+        if set.is_some() {
+            let value = if field == "shape" {
+                format!("\"{}\"", l.shape.clone().unwrap_or_default())
+            } else {
+                crate::math::fmt_num(set.unwrap_or_default())
+            };
+            out.push(FieldError::new(
+                format!("{p}.{field}"),
+                value,
+                "does not apply to an electric probe, which takes electrode_diameter_mm and \
+                 electrode_clearance_mm; remove it",
+            ));
+        }
+    }
+    LoopShape::Round {
+        diameter: e.diameter,
+    }
+}
+
 /// One validated probe.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Probe {
@@ -261,7 +396,8 @@ pub struct Probe {
     pub kind: ProbeKind,
     /// Turns of the loop.
     pub turns: u32,
-    /// Loop shape.
+    /// Loop shape; an electric probe's is its electrode's disc (round, of the electrode's
+    /// diameter), which names and sizes it in the outputs.
     pub shape: LoopShape,
     /// Stackup.
     pub stackup: Stackup,
@@ -720,11 +856,14 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
             ));
         }
         folders.push(folder.clone());
-        let (kind, turns) = kind_from(&mut out, &p, l);
+        let (kind, turns) = kind_from(&mut out, &p, l, &fab, vias.pad);
         let before = out.len();
-        let shape = shape_from(&mut out, &p, l);
+        let shape = match kind {
+            ProbeKind::Electric(e) => electrode_shape(&mut out, &p, l, e),
+            ProbeKind::Loop => shape_from(&mut out, &p, l),
+        };
         // The gap's limit follows from the loop's size: checked only when the size is sound.
-        if out.len() == before && gap >= 0.5 * shape.min_dimension() {
+        if kind == ProbeKind::Loop && out.len() == before && gap >= 0.5 * shape.min_dimension() {
             out.push(FieldError::new(
                 "gap_mm",
                 gap,

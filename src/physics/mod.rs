@@ -354,6 +354,16 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }
+    if p.kind != crate::model::probe::ProbeKind::Loop {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "kind",
+            format!("\"{}\"", p.kind.name()),
+            format!(
+                "probe '{}': the loop's predictions do not apply to this kind",
+                p.name
+            ),
+        )]));
+    }
     let shape = &p.shape;
     let area = shape.centreline_area() * 1e-6;
     // The earlier closed form, kept as a limit: the solid cross-section's GMD.

@@ -2,7 +2,7 @@
 
 use crate::error::{Error, FieldError};
 use crate::field::{Boundary, Conductor, CrossSection, Dielectric, Fence};
-use crate::model::probe::{Probe, WidthFrom};
+use crate::model::probe::{Probe, ProbeKind, WidthFrom};
 use crate::solve::impedance::{
     Accuracy, Line, Method, Solution, SolveLimits, Stripline, Structure, solve_width,
     solve_width_near,
@@ -195,7 +195,13 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             format!("the field solution of the probe's cross-section failed: {e}"),
         )])
     };
-    let arm_cf = field_z(closed_form.0, Section::Arm).map_err(field_err)?;
+    // A loop's width is set on its arm; an electric probe has no arm, its line runs up the
+    // handle only.
+    let own = match p.kind {
+        ProbeKind::Loop => Section::Arm,
+        ProbeKind::Electric(_) => Section::Handle,
+    };
+    let arm_cf = field_z(closed_form.0, own).map_err(field_err)?;
     let differs = (solution.z0 / arm_cf - 1.0).abs() > WidthFrom::AUTO_THRESHOLD;
     let use_field = match p.width_from {
         WidthFrom::Field => true,
@@ -203,17 +209,21 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         WidthFrom::Auto => differs,
     };
     let (w, solution, width_source) = if use_field {
-        let w = solve_width_near(|w| field_z(w, Section::Arm), closed_form.0, p.target_z0)
-            .map_err(field_err)?;
-        let z = field_z(w, Section::Arm).map_err(field_err)?;
+        let w =
+            solve_width_near(|w| field_z(w, own), closed_form.0, p.target_z0).map_err(field_err)?;
+        let z = field_z(w, own).map_err(field_err)?;
         let sol = Solution {
             z0: z,
             eps_eff: solution.eps_eff,
             method: Method::Field,
             warnings: vec![crate::solve::impedance::Warning::note(format!(
-                "width from the 2-D field solution of the loop arm's own cross-section; the \
-                 {} closed form for ideal stripline gives w = {:.4} mm, which would be {:.2} Ω \
-                 here ({:+.1} %)",
+                "width from the 2-D field solution of the {} own cross-section; the {} closed \
+                 form for ideal stripline gives w = {:.4} mm, which would be {:.2} Ω here \
+                 ({:+.1} %)",
+                match own {
+                    Section::Arm => "loop arm's",
+                    Section::Handle => "handle's",
+                },
                 closed_form.1.method,
                 closed_form.0,
                 arm_cf,
@@ -282,7 +292,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     } else {
         2.0 * ring_half_width + 1.0
     };
-    if p.shape.min_dimension() < min_size {
+    if p.kind == ProbeKind::Loop && p.shape.min_dimension() < min_size {
         errs.push(FieldError::new(
             "size_mm",
             crate::model::probe::num(p.shape.min_dimension()),

@@ -58,11 +58,16 @@ pub struct LoopSpec {
     pub corner_radius_mm: Option<f64>,
     /// Extra silkscreen text (default: none).
     pub silk_text: Option<String>,
-    /// What the probe is: `loop` (the default: a singly-loaded shielded loop). The balanced
-    /// (doubly-loaded) loop and the electric-field probe are planned and refused for now.
+    /// What the probe is: `loop` (the default: a singly-loaded shielded loop) or `electric` (an
+    /// electric-field probe: a disc electrode at the tip). The balanced (doubly-loaded) loop is
+    /// planned and refused for now.
     pub kind: Option<String>,
     /// Turns of the loop (default 1; more turns are planned and refused for now).
     pub turns: Option<i64>,
+    /// Electric probe: diameter of the disc electrode on the outer layers, mm.
+    pub electrode_diameter_mm: Option<f64>,
+    /// Electric probe: how far every shield layer stands back from the electrode's edge, mm.
+    pub electrode_clearance_mm: Option<f64>,
 }
 
 /// Stitching-via settings.
