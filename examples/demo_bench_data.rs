@@ -32,7 +32,13 @@ fn main() {
     let fx = loopwright::model::fixture::fixture_from_spec(&fx_spec, Path::new(".")).unwrap();
     let fs = loopwright::solve::fixture::solve(&fx).unwrap();
     let line = fs.test_line(50.0);
-    let c = probe_coupling(&x.probe, &x.solved, &x.response, 1.0, &line);
+    let c = probe_coupling(
+        &x.probe,
+        &x.solved,
+        x.response.as_loop().unwrap(),
+        1.0,
+        &line,
+    );
     let n = 161;
     let freqs: Vec<f64> = (0..n)
         .map(|i| 1e6 * 10f64.powf(3.0 * i as f64 / (n - 1) as f64))
@@ -45,7 +51,13 @@ fn main() {
     );
     let secs = loopwright::solve::fixture::launch_sections(&fx, &fs).unwrap();
     let beyond: Vec<_> = secs.iter().rev().copied().collect();
-    for (f, s) in probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs) {
+    for (f, s) in probe_s21(
+        &x.probe,
+        &x.solved,
+        x.response.as_loop().unwrap(),
+        &c,
+        &freqs,
+    ) {
         let s = s * launch_current(&secs, &beyond, 50.0, f);
         let (re, im) = (s.re, s.im);
         let ghz = f / 1e9;

@@ -57,20 +57,37 @@ fn model() -> Model {
     let fixture = tmp_file("fixture.toml", DEMO_FIXTURE);
     let (x, fx, fs) = demo_probe_and_fixture();
     let line = fs.test_line(50.0);
-    let c = probe_coupling(&x.probe, &x.solved, &x.response, HEIGHT_MM, &line);
+    let c = probe_coupling(
+        &x.probe,
+        &x.solved,
+        x.response.as_loop().unwrap(),
+        HEIGHT_MM,
+        &line,
+    );
     let freqs: Vec<f64> = (0..25).map(|i| 1e6 * 10f64.powf(i as f64 / 8.0)).collect();
     // The line current under the probe: the fixture's launches (the default of calibrate).
     let secs = loopwright::solve::fixture::launch_sections(&fx, &fs).unwrap();
     let beyond: Vec<_> = secs.iter().rev().copied().collect();
-    let points = probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs)
-        .into_iter()
-        .map(|(f, s)| {
-            let s = s * launch_current(&secs, &beyond, 50.0, f);
-            let (re, im) = (s.re, s.im);
-            let pf = loopwright::physics::probe_factor_at(&x.probe, &x.solved, &x.response, f);
-            (f, re, im, pf)
-        })
-        .collect();
+    let points = probe_s21(
+        &x.probe,
+        &x.solved,
+        x.response.as_loop().unwrap(),
+        &c,
+        &freqs,
+    )
+    .into_iter()
+    .map(|(f, s)| {
+        let s = s * launch_current(&secs, &beyond, 50.0, f);
+        let (re, im) = (s.re, s.im);
+        let pf = loopwright::physics::probe_factor_at(
+            &x.probe,
+            &x.solved,
+            x.response.as_loop().unwrap(),
+            f,
+        );
+        (f, re, im, pf)
+    })
+    .collect();
     Model {
         probes,
         fixture,
@@ -741,7 +758,7 @@ fn a_line_with_a_93_ohm_neck_round_trips_through_the_launch_aware_current() {
         let cal = calibrate(
             &x.probe,
             &x.solved,
-            &x.response,
+            x.response.as_loop().unwrap(),
             fs.test_line(50.0),
             50.0,
             &net,
@@ -759,7 +776,7 @@ fn a_line_with_a_93_ohm_neck_round_trips_through_the_launch_aware_current() {
             assert!((pt.f / f0 - 1.0).abs() < 1e-9);
             // The stated factor is the line's own (no gap capacitance): take off the
             // conversion to the uniform-field factor that the calibration adds.
-            let miss = pt.pf_db - line_to_uniform_db(&x.response, pt.f) - want;
+            let miss = pt.pf_db - line_to_uniform_db(x.response.as_loop().unwrap(), pt.f) - want;
             if name == "launch" {
                 assert!(miss.abs() < 0.1, "{f0} Hz: {} vs {want}", pt.pf_db);
             } else {

@@ -193,7 +193,7 @@ fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
     // crowds inwards, away from the line).
     let c = loopwright::physics::coupling::couple(
         &x.probe.shape,
-        x.response.area_m2,
+        x.response.as_loop().unwrap().area_m2,
         loopwright::physics::tip_to_apex_m(&x.probe, &x.solved),
         f(e, "height_mm") * 1e-3,
         &line,
@@ -211,7 +211,7 @@ fn a_built_probe_couples_to_the_fixture_as_scipy_integrates_it() {
     let own = loopwright::physics::coupling::probe_coupling(
         &x.probe,
         &x.solved,
-        &x.response,
+        x.response.as_loop().unwrap(),
         f(e, "height_mm"),
         &line,
     );

@@ -331,3 +331,63 @@ fn the_rebuilt_density_keeps_every_cell_charge() {
         );
     }
 }
+
+// The built electric probe's predictions (`predict --json`'s object): the electrode of the FDTD
+// check above (Ø2.0 mm, 0.3 mm clearance) on the demo's stackup. The factor's points are
+// recomputed here from Gauss's law and the load (docs/formulas.md §11) with the collecting
+// radius r + c/2; the coupling is the FDTD-checked function on the 50 Ω microstrip the
+// prediction states; the band and its rule are as documented.
+#[test]
+fn predict_gives_the_electric_probe_its_factor_coupling_and_band() {
+    use loopwright::physics::electric_probe::{SCENE_ER, scene_trace};
+    use loopwright::physics::electrode::{effective_radius, line_coupling, self_capacitance};
+    let text = "stackup = \"common-4l-1.6\"\nsignal_layer = 2\n[[probe]]\nname = \"E2\"\n\
+                kind = \"electric\"\nelectrode_diameter_mm = 2.0\nelectrode_clearance_mm = 0.3\n";
+    let spec: loopwright::spec::probe::ProbeFileSpec = toml::from_str(text).unwrap();
+    let o = loopwright::physics::PredictOptions::default();
+    let all =
+        loopwright::pipeline::predict::predict_spec(&spec, std::path::Path::new("."), &o).unwrap();
+    let j = loopwright::emit::json::probe_json(&all[0]);
+    assert_eq!(j["kind"], "electric");
+    assert_eq!(j["turns"], 1);
+    let area = std::f64::consts::PI * (effective_radius(1.0, 0.3) * 1e-3).powi(2);
+    assert!((j["collecting_area_mm2"].as_f64().unwrap() - area * 1e6).abs() < 1e-9);
+    // εr 4.4 under the outer layers of the demo's stackup (its prepregs).
+    let c_self = self_capacitance(1.0, 0.3, 4.4, 2);
+    assert!((j["self_capacitance_pf"].as_f64().unwrap() / (c_self * 1e12) - 1.0).abs() < 1e-12);
+    let eps0 = 8.854_187_812_8e-12; // CODATA 2018 ε0, F/m
+    let points = j["electric_factor"].as_array().unwrap();
+    assert!(points.len() > 40);
+    for p in points {
+        let f = p["freq_hz"].as_f64().unwrap();
+        let w = 2.0 * std::f64::consts::PI * f;
+        let want =
+            20.0 * ((1.0 + (w * 50.0 * c_self).powi(2)).sqrt() / (w * eps0 * area * 50.0)).log10();
+        let got = p["db_per_m"].as_f64().unwrap();
+        assert!((got - want).abs() < 1e-6, "{f} Hz: {got} against {want}");
+    }
+    // 150 kHz to the upper usable frequency, here the stitching's 3 GHz (the small-electrode
+    // limit, c0/(10·2π·1.15 mm) = 4.15 GHz, is higher).
+    let first = points[0]["freq_hz"].as_f64().unwrap();
+    let last = points.last().unwrap()["freq_hz"].as_f64().unwrap();
+    assert_eq!((first, last), (150e3, 3e9));
+    let small = 299_792_458.0 / (10.0 * 2.0 * std::f64::consts::PI * 1.15e-3);
+    assert!((j["f_small_electrode_hz"].as_f64().unwrap() / small - 1.0).abs() < 1e-12);
+    assert!(j["upper_rule"].as_str().unwrap().starts_with("stitching"));
+    // The coupling: a 50 Ω microstrip on εr 4.3 at the default 1.5 mm, the face 1 mm above.
+    let trace = scene_trace(1.5).unwrap();
+    assert_eq!(trace.er, SCENE_ER);
+    let z = loopwright::solve::impedance::analyse(
+        &loopwright::model::line::Line::Microstrip(trace),
+        None,
+    )
+    .unwrap()
+    .z0;
+    assert!((z - 50.0).abs() < 1e-3, "{z}");
+    let c = -line_coupling(&trace, 1.0, effective_radius(1.0, 0.3), &[0.0]).unwrap()[0];
+    assert!((j["coupling_capacitance_ff"].as_f64().unwrap() / (c * 1e15) - 1.0).abs() < 1e-12);
+    // Near the FDTD's 35.4 fF on its 3.0 mm line (this one is 2.9 mm and 35 µm thick).
+    assert!((c * 1e15 / 35.4 - 1.0).abs() < 0.05, "{} fF", c * 1e15);
+    let res = j["resolution_mm"].as_f64().unwrap();
+    assert!(res > 2.0 && res < 10.0, "{res} mm");
+}

@@ -35,7 +35,7 @@ fn compare(case: &str, name: &str) -> Vec<(f64, f64, f64, f64, bool)> {
     };
     let (fine, coarse) = (sp("fine"), sp("coarse"));
     let (x, line) = common::demo_probe_and_line(name);
-    let mut r = x.response.clone();
+    let mut r = x.response.as_loop().unwrap().clone();
     (r.alpha_c_1ghz, r.alpha_dc, r.tan_d) = (0.0, 0.0, 0.0);
     let c = loopwright::physics::coupling::probe_coupling(&x.probe, &x.solved, &r, 1.0, &line);
     let fr = floats(&fine["freq_hz"]);
@@ -265,8 +265,8 @@ fn gap_inductance_and_reciprocity_against_the_probe_driven_fdtd() {
     let (x, _) = common::demo_probe_and_line("FM-R5");
     // The shipped L_out includes the gap's correction; without it, the axisymmetric current's.
     let (l_corr, l_axi) = (
-        x.response.l_outer,
-        x.response.l_outer - x.response.gap_l_outer,
+        x.response.as_loop().unwrap().l_outer,
+        x.response.as_loop().unwrap().l_outer - x.response.as_loop().unwrap().gap_l_outer,
     );
     let axi = l_axi / l_fdtd - 1.0;
     let gathered = l_corr / l_fdtd - 1.0;
@@ -501,7 +501,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     use std::f64::consts::PI;
     let top = refs("fdtd_gap_port.toml");
     let (x, line) = common::demo_probe_and_line("FM-R5");
-    let resp = &x.response;
+    let resp = x.response.as_loop().unwrap();
     // Shipped: with the gap's correction; `_axi`: the axisymmetric current alone.
     let (l_corr, l_axi) = (resp.l_outer, resp.l_outer - resp.gap_l_outer);
     let (a_corr, a_axi) = (resp.area_eff_m2, resp.area_eff_m2 - resp.gap_area_m2);
@@ -569,7 +569,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
     // FM-R10's gap circuit (fine mesh): the same L and C fit, and its line coupling, which
     // does rise as the lumped form says: the line form is FM-R5's finding, not a general one.
     let (x10, line10) = common::demo_probe_and_line("FM-R10");
-    let r10 = &x10.response;
+    let r10 = x10.response.as_loop().unwrap();
     let open = gap_run(&top, "R10", "fine-long", "open", "s33");
     let br = gap_run(&top, "R10", "fine-long", "bridged", "s33");
     let (l10, c10) = fit_gap(&open, &br, 3e8, r10.upper_hz);

@@ -156,24 +156,29 @@ fn the_size_trade_off_and_low_frequency_laws() {
     let by = |n: &str| all.iter().find(|x| x.probe.name == n).unwrap();
     let (big, mid, small) = (by("FM-R20"), by("FM-R10"), by("FM-R5"));
     for (a, b) in [(big, mid), (mid, small)] {
-        assert!(a.response.resolution_m > b.response.resolution_m);
-        let pa = probe_factor_at(&a.probe, &a.solved, &a.response, 10e6);
-        let pb = probe_factor_at(&b.probe, &b.solved, &b.response, 10e6);
+        assert!(
+            a.response.as_loop().unwrap().resolution_m > b.response.as_loop().unwrap().resolution_m
+        );
+        let pa = probe_factor_at(&a.probe, &a.solved, a.response.as_loop().unwrap(), 10e6);
+        let pb = probe_factor_at(&b.probe, &b.solved, b.response.as_loop().unwrap(), 10e6);
         assert!(pa < pb, "bigger loop must need less factor: {pa} vs {pb}");
         // Far below both corners the output scales with the (effective) area: 4× the area,
         // 12.04 dB. The shield's current crowding makes the small loop's effective area less
         // than a quarter of the big one's, so the step exceeds 12 dB.
         let f = 1e5;
-        let d = probe_factor_at(&b.probe, &b.solved, &b.response, f)
-            - probe_factor_at(&a.probe, &a.solved, &a.response, f);
+        let d = probe_factor_at(&b.probe, &b.solved, b.response.as_loop().unwrap(), f)
+            - probe_factor_at(&a.probe, &a.solved, a.response.as_loop().unwrap(), f);
         // (The areas in a uniform field: the loop's own and the handle's share.)
-        let want = 20.0 * (a.response.area_uniform_m2() / b.response.area_uniform_m2()).log10();
+        let want = 20.0
+            * (a.response.as_loop().unwrap().area_uniform_m2()
+                / b.response.as_loop().unwrap().area_uniform_m2())
+            .log10();
         // (0.05 dB: the two feed runs differ in length, and so in their small DC loss.)
         assert!((d - want).abs() < 0.05, "{d} vs {want}");
         assert!(d > 20.0 * 4f64.log10(), "{d}");
     }
     for x in &all {
-        let r = &x.response;
+        let r = x.response.as_loop().unwrap();
         let f = r.corner_hz / 1000.0;
         let slope = probe_factor_at(&x.probe, &x.solved, r, f)
             - probe_factor_at(&x.probe, &x.solved, r, 10.0 * f);

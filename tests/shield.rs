@@ -327,7 +327,7 @@ fn error_budget_frequency_is_where_the_budget_is_spent() {
     use loopwright::physics::electric::BUDGET_DB;
     for name in ["FM-R20", "FM-R10", "FM-R5", "FM-T12x6"] {
         let (x, _) = common::demo_probe_and_line(name);
-        let r = &x.response;
+        let r = x.response.as_loop().unwrap();
         let b = r
             .budget_hz
             .expect("the demo probes reach the budget below the null");

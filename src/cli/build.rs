@@ -40,8 +40,8 @@ pub fn print_summary(out: &Path, built: &[BuiltProbe]) {
         outln!(
             "{:<12} {:<10} {:<28} {:>9.3} {:>8.2} {:>14} {:>5}  {}",
             b.probe.name,
-            b.probe.shape.kind(),
-            b.probe.shape.size_text(),
+            b.probe.shape_name(),
+            b.probe.size_text(),
             b.solved.trace_width,
             b.solved.solution.z0,
             format!("{:.1} × {:.1}", hi.x - lo.x, hi.y - lo.y),

@@ -56,7 +56,7 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
     };
     let all = predict_spec(&spec, a.spec.parent().unwrap_or(Path::new(".")), &o)
         .map_err(|e| crate::spec::with_lines(&text, e))?;
-    let couplings: Vec<FixtureCoupling> = match &a.fixture {
+    let couplings: Vec<Option<FixtureCoupling>> = match &a.fixture {
         Some(path) => {
             let (fx, fs) = crate::pipeline::load_fixture(path)?;
             all.iter()
@@ -71,7 +71,7 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
             .enumerate()
             .map(|(i, x)| {
                 let mut v = probe_json(x);
-                if let Some(c) = couplings.get(i) {
+                if let Some(Some(c)) = couplings.get(i) {
                     v["fixture_coupling"] = coupling_json(c);
                 }
                 v

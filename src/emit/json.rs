@@ -1,14 +1,54 @@
 //! The JSON object of a predicted probe: `predict --json` prints it and the family report embeds
 //! it, so both carry the same numbers.
 
+use crate::physics::Response;
+use crate::physics::electric_probe::ElectricResponse;
 use crate::physics::on_fixture::FixtureCoupling;
-use crate::physics::predicted::Predicted;
+use crate::physics::predicted::{Predicted, ProbeResponse};
 use crate::physics::probe_factor_at;
 use serde_json::{Value, json};
 
-/// The JSON object of one probe.
+/// The JSON object of one probe, by its kind; every kind gives `kind` and `turns`.
 pub fn probe_json(x: &Predicted) -> Value {
-    let r = &x.response;
+    let mut v = match &x.response {
+        ProbeResponse::Loop(r) => loop_json(x, r),
+        ProbeResponse::Electric(r) => electric_json(x, r),
+    };
+    // What the probe is (the keys sort into place: the map is ordered by key).
+    v["kind"] = json!(x.probe.kind.name());
+    v["turns"] = json!(x.probe.turns);
+    v
+}
+
+/// An electric probe's JSON object.
+fn electric_json(x: &Predicted, r: &ElectricResponse) -> Value {
+    json!({
+        "name": x.probe.name,
+        "shape": x.probe.shape_name(),
+        "size": x.probe.size_text(),
+        "electrode_diameter_mm": r.electrode.diameter,
+        "electrode_clearance_mm": r.electrode.clearance,
+        "collecting_radius_mm": r.r_eff_m * 1e3,
+        "collecting_area_mm2": r.area_eff_m2 * 1e6,
+        "self_capacitance_pf": r.c_self * 1e12,
+        "corner_hz": r.corner_hz,
+        "upper_hz": r.upper_hz,
+        "upper_rule": r.upper_rule,
+        "f_small_electrode_hz": r.f_small_hz,
+        "coupling_capacitance_ff": r.coupling_f * 1e15,
+        "coupling_trace_width_mm": r.trace.width,
+        "resolution_mm": r.resolution_m.map(|m| m * 1e3),
+        "resolution_height_mm": r.options.height_mm,
+        "trace_height_mm": r.options.trace_h_mm,
+        "field_reference": "E normal to the probe's face, the probe held flat, into 50 Ω; E[dBµV/m] = V[dBµV] + factor[dB(1/m)]",
+        "coupling_reference": "a 50 Ω microstrip on εr 4.3 at trace_height_mm over its plane, the face resolution_height_mm above its copper, the electrode centred over it",
+        "electric_factor": r.factor.iter().map(|(f, d)| json!({"freq_hz": f, "db_per_m": d, "above_band": *f > r.upper_hz})).collect::<Vec<_>>(),
+        "output_per_volt": r.output_per_volt.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
+    })
+}
+
+/// A loop's JSON object.
+fn loop_json(x: &Predicted, r: &Response) -> Value {
     let pf_at = |f: f64| probe_factor_at(&x.probe, &x.solved, r, f);
     let launch = r.launch.as_ref().map(|l| {
         let sl = &x.solved.launch;
@@ -33,10 +73,10 @@ pub fn probe_json(x: &Predicted) -> Value {
             "s11_db": l.s11.s11_db.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
         })
     });
-    let mut v = json!({
+    json!({
         "name": x.probe.name,
-        "shape": x.probe.shape.kind(),
-        "size": x.probe.shape.size_text(),
+        "shape": x.probe.shape_name(),
+        "size": x.probe.size_text(),
         "loop_area_mm2": r.area_m2 * 1e6,
         "effective_area_mm2": r.area_eff_m2 * 1e6,
         "gap_area_mm2": r.gap_area_m2 * 1e6,
@@ -71,11 +111,7 @@ pub fn probe_json(x: &Predicted) -> Value {
         "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e, "above_band": *f > r.upper_hz})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
         "launch": launch,
-    });
-    // What the probe is (the keys sort into place: the map is ordered by key).
-    v["kind"] = json!(x.probe.kind.name());
-    v["turns"] = json!(x.probe.turns);
-    v
+    })
 }
 /// The JSON object of a fixture coupling.
 pub fn coupling_json(c: &FixtureCoupling) -> Value {

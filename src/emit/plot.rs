@@ -329,6 +329,38 @@ pub fn probe_factor_plot(title: &str, curves: &[(&str, &str, &Response)]) -> Str
     log_plot(title, "probe factor dB(S/m)", "response-plot", &series)
 }
 
+/// One or more electric probe factor curves on one log-frequency plot: (label, colour,
+/// response).
+pub fn electric_factor_plot(
+    title: &str,
+    curves: &[(
+        &str,
+        &str,
+        &crate::physics::electric_probe::ElectricResponse,
+    )],
+) -> String {
+    let series: Vec<Series> = curves
+        .iter()
+        .map(|(label, colour, resp)| Series {
+            label: format!(
+                "{label} (self-capacitance corner {}, upper {})",
+                hz_label(resp.corner_hz),
+                hz_label(resp.upper_hz)
+            ),
+            colour,
+            points: resp.factor.clone(),
+            corner_hz: None,
+            above_hz: Some(resp.upper_hz),
+        })
+        .collect();
+    log_plot(
+        title,
+        "electric probe factor dB(1/m)",
+        "response-plot",
+        &series,
+    )
+}
+
 /// Escapes text for XML.
 pub fn xml(t: &str) -> String {
     t.replace('&', "&amp;")

@@ -106,8 +106,8 @@ fn comparison_cells(x: &Predicted) -> [String; 12] {
     let v = |k: &str, scale: f64, d: usize| num(j[k].as_f64().unwrap_or(f64::NAN) / scale, d);
     [
         x.probe.name.clone(),
-        x.probe.shape.kind().to_string(),
-        x.probe.shape.size_text(),
+        x.probe.shape_name().to_string(),
+        x.probe.size_text(),
         v("inductance_nh", 1.0, 2),
         v("corner_hz", 1e6, 1),
         v("upper_hz", 1e6, 0),
@@ -116,26 +116,158 @@ fn comparison_cells(x: &Predicted) -> [String; 12] {
         v("pf_1ghz_db_s_per_m", 1.0, 2),
         v("effective_area_mm2", 1.0, 2),
         num(
-            x.response
-                .e_rejection_db(100e6, crate::physics::electric::ETA0),
+            x.response.as_loop().map_or(f64::NAN, |r| {
+                r.e_rejection_db(100e6, crate::physics::electric::ETA0)
+            }),
             1,
         ),
         v("resolution_mm", 1.0, 2),
     ]
 }
 
-/// The comparison table of a family (Markdown), from the predictions.
-pub fn comparison_markdown(all: &[Predicted]) -> String {
+/// The electric probes' comparison table's column heads.
+const ELECTRIC_HEADS: [&str; 11] = [
+    "probe",
+    "electrode",
+    "collecting area (mm²)",
+    "self-capacitance (pF)",
+    "corner (MHz)",
+    "upper (MHz)",
+    "EF 10 MHz",
+    "EF 100 MHz",
+    "EF 1 GHz",
+    "to the trace (fF)",
+    "resolution (mm)",
+];
+
+/// What the electric probes' table means.
+const ELECTRIC_NOTE: &str = "EF: electric probe factor in dB(1/m), the probe held flat, the field \
+     normal to its face, into 50 Ω: E[dBµV/m] = V[dBµV] + EF. It falls 20 dB a decade up to the \
+     corner, where the electrode's own capacitance shunts the load, and levels off above it. \
+     Values above a probe's upper usable frequency are shown for comparison only. To the \
+     trace: capacitance from a 50 Ω microstrip below the electrode centred over it; \
+     resolution: −6 dB full width of that coupling across the trace; both at the stated height.";
+
+/// One electric probe's row, from the same numbers as `predict --json`.
+fn electric_cells(x: &Predicted) -> [String; 11] {
+    let j = probe_json(x);
+    let v = |k: &str, scale: f64, d: usize| num(j[k].as_f64().unwrap_or(f64::NAN) / scale, d);
+    let ef = |f: f64| {
+        x.response
+            .as_electric()
+            .map_or(f64::NAN, |r| r.factor_db_at(f))
+    };
+    [
+        x.probe.name.clone(),
+        x.probe.size_text(),
+        v("collecting_area_mm2", 1.0, 2),
+        v("self_capacitance_pf", 1.0, 3),
+        v("corner_hz", 1e6, 0),
+        v("upper_hz", 1e6, 0),
+        num(ef(10e6), 2),
+        num(ef(100e6), 2),
+        num(ef(1e9), 2),
+        v("coupling_capacitance_ff", 1.0, 2),
+        v("resolution_mm", 1.0, 2),
+    ]
+}
+
+/// The loops and the electric probes of a family.
+fn by_kind(all: &[Predicted]) -> (Vec<&Predicted>, Vec<&Predicted>) {
+    all.iter().partition(|x| x.response.as_loop().is_some())
+}
+
+/// A Markdown table of `rows` under `heads`, with its note.
+fn markdown_table(heads: &[&str], rows: &[Vec<String>], note: &str) -> String {
     let mut o = format!(
         "| {} |\n|{}\n",
-        COMPARISON_HEADS.join(" | "),
-        "---|".repeat(COMPARISON_HEADS.len())
+        heads.join(" | "),
+        "---|".repeat(heads.len())
     );
-    for x in all {
-        let _ = writeln!(o, "| {} |", comparison_cells(x).join(" | "));
+    for r in rows {
+        let _ = writeln!(o, "| {} |", r.join(" | "));
     }
-    let _ = writeln!(o, "\n{COMPARISON_NOTE}");
+    let _ = writeln!(o, "\n{note}");
     o
+}
+
+/// The comparison tables of a family (Markdown), from the predictions: the loops', then the
+/// electric probes' when the family has any.
+pub fn comparison_markdown(all: &[Predicted]) -> String {
+    let (loops, electric) = by_kind(all);
+    let mut o = String::new();
+    if !loops.is_empty() {
+        let rows: Vec<Vec<String>> = loops.iter().map(|x| comparison_cells(x).to_vec()).collect();
+        o.push_str(&markdown_table(&COMPARISON_HEADS, &rows, COMPARISON_NOTE));
+    }
+    if !electric.is_empty() {
+        if !o.is_empty() {
+            o.push('\n');
+        }
+        let rows: Vec<Vec<String>> = electric
+            .iter()
+            .map(|x| electric_cells(x).to_vec())
+            .collect();
+        o.push_str(&markdown_table(&ELECTRIC_HEADS, &rows, ELECTRIC_NOTE));
+    }
+    o
+}
+
+/// An HTML table of `rows` under `heads`, with its note.
+fn html_table(o: &mut String, id: &str, heads: &[&str], rows: &[Vec<String>], note: &str) {
+    let _ = write!(o, "<table id=\"{id}\"><tr>");
+    for h in heads {
+        let _ = write!(o, "<th>{}</th>", xml(h));
+    }
+    o.push_str("</tr>\n");
+    for r in rows {
+        o.push_str("<tr>");
+        for c in r {
+            let _ = write!(o, "<td>{}</td>", xml(c));
+        }
+        o.push_str("</tr>\n");
+    }
+    let _ = writeln!(o, "</table>\n<p>{}</p>", xml(note));
+}
+
+/// An electric probe's section of the report.
+fn electric_section(
+    o: &mut String,
+    x: &Predicted,
+    r: &crate::physics::electric_probe::ElectricResponse,
+    preview: &str,
+    colour: &str,
+) {
+    let _ = writeln!(
+        o,
+        "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>Electric-field probe, {}; line w = {:.3} mm ({} Ω target).<br>Collecting radius {:.3} mm (the disc and half its clearance), area {:.2} mm²; self-capacitance {:.3} pF (both faces, εr {:.2} under them); corner {:.0} MHz; upper usable {:.0} MHz ({}).<br>Electric probe factor {:.1} dB(1/m) at 10 MHz, {:.1} dB(1/m) at 100 MHz (the probe held flat, E normal to its face, into 50 Ω).<br>Over a 50 Ω microstrip {} mm over its plane (w = {:.2} mm), face {} mm above it: {:.2} fF to the electrode, resolution {}.</p><div class=\"plot\">{}</div></div></div>",
+        preview,
+        xml(&x.probe.name),
+        xml(&x.probe.size_text()),
+        x.solved.trace_width,
+        x.probe.target_z0,
+        r.r_eff_m * 1e3,
+        r.area_eff_m2 * 1e6,
+        r.c_self * 1e12,
+        r.er_outer,
+        r.corner_hz / 1e6,
+        r.upper_hz / 1e6,
+        xml(r.upper_rule),
+        r.factor_db_at(10e6),
+        r.factor_db_at(100e6),
+        r.options.trace_h_mm,
+        r.trace.width,
+        r.options.height_mm,
+        r.coupling_f * 1e15,
+        match r.resolution_m {
+            Some(w) => format!("{:.2} mm (−6 dB)", w * 1e3),
+            None => "beyond the profile (no −6 dB point)".to_string(),
+        },
+        super::plot::electric_factor_plot(
+            &format!("{} electric probe factor", x.probe.name),
+            &[(x.probe.name.as_str(), colour, r)]
+        )
+    );
 }
 
 /// The HTML report. `previews` are the probes' composited SVG previews, in the same order.
@@ -154,36 +286,66 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
     );
     let _ = writeln!(o, "<h1>{} — probe family report</h1>", xml(family));
     let _ = writeln!(o, "<p class=\"caution\">{}</p>", xml(CAUTIONS));
-    let _ = write!(o, "<h2>Comparison</h2>\n<table id=\"comparison\"><tr>");
-    for h in COMPARISON_HEADS {
-        let _ = write!(o, "<th>{}</th>", xml(h));
+    let (loops, electric) = by_kind(all);
+    o.push_str("<h2>Comparison</h2>\n");
+    if !loops.is_empty() {
+        let rows: Vec<Vec<String>> = loops.iter().map(|x| comparison_cells(x).to_vec()).collect();
+        html_table(
+            &mut o,
+            "comparison",
+            &COMPARISON_HEADS,
+            &rows,
+            COMPARISON_NOTE,
+        );
     }
-    o.push_str("</tr>\n");
-    for x in all {
-        o.push_str("<tr>");
-        for c in comparison_cells(x) {
-            let _ = write!(o, "<td>{}</td>", xml(&c));
-        }
-        o.push_str("</tr>\n");
+    if !electric.is_empty() {
+        let rows: Vec<Vec<String>> = electric
+            .iter()
+            .map(|x| electric_cells(x).to_vec())
+            .collect();
+        html_table(
+            &mut o,
+            "comparison-electric",
+            &ELECTRIC_HEADS,
+            &rows,
+            ELECTRIC_NOTE,
+        );
     }
-    let _ = writeln!(o, "</table>\n<p>{}</p>", xml(COMPARISON_NOTE));
+    let colour = |x: &Predicted| {
+        let i = all.iter().position(|y| std::ptr::eq(y, x)).unwrap_or(0);
+        COLOURS[i % COLOURS.len()]
+    };
     if let Some(first) = all.first() {
         let curves: Vec<(&str, &str, &crate::physics::Response)> = all
             .iter()
-            .enumerate()
-            .map(|(i, x)| {
-                (
-                    x.probe.name.as_str(),
-                    COLOURS[i % COLOURS.len()],
-                    &x.response,
-                )
+            .filter_map(|x| {
+                x.response
+                    .as_loop()
+                    .map(|r| (x.probe.name.as_str(), colour(x), r))
             })
             .collect();
-        let _ = writeln!(
-            o,
-            "<h2>Probe factors</h2>\n<div class=\"plot\">{}</div>",
-            super::plot::probe_factor_plot("Probe factor of the family", &curves)
-        );
+        if !curves.is_empty() {
+            let _ = writeln!(
+                o,
+                "<h2>Probe factors</h2>\n<div class=\"plot\">{}</div>",
+                super::plot::probe_factor_plot("Probe factor of the family", &curves)
+            );
+        }
+        let curves: Vec<_> = all
+            .iter()
+            .filter_map(|x| {
+                x.response
+                    .as_electric()
+                    .map(|r| (x.probe.name.as_str(), colour(x), r))
+            })
+            .collect();
+        if !curves.is_empty() {
+            let _ = writeln!(
+                o,
+                "<h2>Electric probe factors</h2>\n<div class=\"plot\">{}</div>",
+                super::plot::electric_factor_plot("Electric probe factor of the family", &curves)
+            );
+        }
         let _ = writeln!(
             o,
             "<h2>Stackup</h2>\n<div class=\"stackup\">{}</div>",
@@ -192,14 +354,21 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
     }
     o.push_str("<h2>Probes</h2>\n");
     for (i, x) in all.iter().enumerate() {
-        let r = &x.response;
+        let preview = previews.get(i).map(String::as_str).unwrap_or("");
+        let r = match &x.response {
+            crate::physics::predicted::ProbeResponse::Loop(r) => r,
+            crate::physics::predicted::ProbeResponse::Electric(r) => {
+                electric_section(&mut o, x, r, preview, colour(x));
+                continue;
+            }
+        };
         let _ = writeln!(
             o,
             "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's; {:.2} mm² with the handle's share of a uniform field); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>E-rejection (worst case: electric field across the loop's axis, E/H = η0) {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; error budget ({} dB) {}.<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
-            previews.get(i).map(String::as_str).unwrap_or(""),
+            preview,
             xml(&x.probe.name),
-            x.probe.shape.kind(),
-            xml(&x.probe.shape.size_text()),
+            x.probe.shape_name(),
+            xml(&x.probe.size_text()),
             x.solved.trace_width,
             x.probe.target_z0,
             r.area_eff_m2 * 1e6,

@@ -19,9 +19,14 @@ pub struct Row<'a> {
 
 /// The family summary (Markdown) written at the top of the output folder.
 pub fn summary(family: &Family, built: &[Row<'_>], predicted: &[Predicted]) -> String {
+    let electric = if family.probes.iter().any(|p| p.kind.electrode().is_some()) {
+        "; an electric probe's, its electrode's diameter and the shield's clearance round it"
+    } else {
+        ""
+    };
     let mut o = format!(
         "# {}: probe family\n\nBuilt by loopwright {}. Size = mean diameter (round) or side \
-         lengths (square, rectangle) of the loop trace's centreline.\n\n\
+         lengths (square, rectangle) of the loop trace's centreline{electric}.\n\n\
          | probe | shape | size | trace w (mm) | Z0 (Ω) | width from | board (mm) | vias | DRC |\n\
          |---|---|---|---|---|---|---|---|---|\n",
         family.name,
@@ -32,8 +37,8 @@ pub fn summary(family: &Family, built: &[Row<'_>], predicted: &[Predicted]) -> S
         o.push_str(&format!(
             "| {} | {} | {} | {:.3} | {:.2} | {} | {:.1} × {:.1} | {} | {} |\n",
             b.probe.name,
-            b.probe.shape.kind(),
-            b.probe.shape.size_text(),
+            b.probe.shape_name(),
+            b.probe.size_text(),
             b.solved.trace_width,
             b.solved.solution.z0,
             b.solved.solution.method,

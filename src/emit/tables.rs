@@ -1,19 +1,107 @@
 //! The human-readable tables of `predict`.
 
 use crate::math::hz_label;
+use crate::physics::electric_probe::ElectricResponse;
 use crate::physics::on_fixture::FixtureCoupling;
-use crate::physics::predicted::{ASSUMPTIONS, Predicted};
+use crate::physics::predicted::{ASSUMPTIONS, Predicted, ProbeResponse};
 
-/// The human-readable tables.
-pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
+/// An electric probe's table.
+fn electric_table(o: &mut String, x: &Predicted, r: &ElectricResponse) {
+    o.push_str(&format!(
+        "{} — electric-field probe, {}\n",
+        x.probe.name,
+        x.probe.size_text()
+    ));
+    let line = |o: &mut String, k: &str, v: String| o.push_str(&format!("  {k:<22} {v}\n"));
+    line(
+        o,
+        "collecting area",
+        format!(
+            "{:.2} mm² (radius {:.3} mm: the disc and half its clearance)",
+            r.area_eff_m2 * 1e6,
+            r.r_eff_m * 1e3
+        ),
+    );
+    line(
+        o,
+        "self-capacitance",
+        format!(
+            "{:.3} pF (both faces, εr {:.2} under them; estimate)",
+            r.c_self * 1e12,
+            r.er_outer
+        ),
+    );
+    line(
+        o,
+        "corner",
+        format!(
+            "{} (above it the output stops rising)",
+            hz_label(r.corner_hz)
+        ),
+    );
+    line(
+        o,
+        "upper usable frequency",
+        format!("{} ({})", hz_label(r.upper_hz), r.upper_rule),
+    );
+    line(
+        o,
+        "to the trace",
+        format!(
+            "{:.2} fF from a 50 Ω microstrip {} mm over its plane (w = {:.2} mm), face {} mm \
+             above it",
+            r.coupling_f * 1e15,
+            r.options.trace_h_mm,
+            r.trace.width,
+            r.options.height_mm
+        ),
+    );
+    line(
+        o,
+        "resolution (−6 dB)",
+        match r.resolution_m {
+            Some(w) => format!("{:.2} mm across that trace", w * 1e3),
+            None => "beyond the profile (no −6 dB point)".to_string(),
+        },
+    );
+    o.push_str(
+        "  electric probe factor (dB(1/m), the probe held flat, E normal to its face, 50 Ω) and \
+         output per volt on the trace below (dB):\n",
+    );
+    let step = (r.factor.len() / 10).max(1);
+    for (i, ((f, d), (_, v))) in r.factor.iter().zip(&r.output_per_volt).enumerate() {
+        if i % step == 0 || i + 1 == r.factor.len() {
+            o.push_str(&format!(
+                "    {:>12} {d:>7.2}  {v:>7.2}{}\n",
+                hz_label(*f),
+                if *f > r.upper_hz {
+                    "  above the usable band"
+                } else {
+                    ""
+                }
+            ));
+        }
+    }
+    o.push('\n');
+}
+
+/// The human-readable tables; `couplings` holds each probe's coupling to a fixture, in the
+/// same order (None: none asked, or an electric probe).
+pub fn tables(all: &[Predicted], couplings: &[Option<FixtureCoupling>]) -> String {
     let mut o = String::new();
     for (i, x) in all.iter().enumerate() {
-        let r = &x.response;
+        let r = match &x.response {
+            ProbeResponse::Loop(r) => r,
+            ProbeResponse::Electric(r) => {
+                electric_table(&mut o, x, r);
+                continue;
+            }
+        };
         o.push_str(&format!(
             "{} — {} loop, {}\n",
             x.probe.name,
-            x.probe.shape.kind(),
-            x.probe.shape.size_text()
+            x.probe.shape_name(),
+            x.probe.size_text()
         ));
         let line = |o: &mut String, k: &str, v: String| o.push_str(&format!("  {k:<22} {v}\n"));
         line(&mut o, "loop area", format!("{:.2} mm²", r.area_m2 * 1e6));
@@ -124,7 +212,7 @@ pub fn tables(all: &[Predicted], couplings: &[FixtureCoupling]) -> String {
                 ));
             }
         }
-        if let Some(c) = couplings.get(i) {
+        if let Some(Some(c)) = couplings.get(i) {
             let k = &c.coupling;
             o.push_str(&format!(
                 "  on fixture {}, tip {} mm over the line (loop plane along it):\n",

@@ -425,6 +425,29 @@ pub struct Probe {
     pub silk_text: String,
 }
 
+impl Probe {
+    /// The shape of what senses, as printed: the loop's (`round`, `square`, `rectangle`), or
+    /// `disc` for an electric probe's electrode.
+    pub fn shape_name(&self) -> &'static str {
+        match self.kind {
+            ProbeKind::Loop => self.shape.kind(),
+            ProbeKind::Electric(_) => "disc",
+        }
+    }
+
+    /// The size as printed: the loop's, or the electrode's diameter and clearance.
+    pub fn size_text(&self) -> String {
+        match self.kind {
+            ProbeKind::Loop => self.shape.size_text(),
+            ProbeKind::Electric(e) => format!(
+                "Ø{} mm electrode, {} mm clearance",
+                num(e.diameter),
+                num(e.clearance)
+            ),
+        }
+    }
+}
+
 /// A validated family: one or more probes sharing stackup, handle and connector.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Family {

@@ -1,5 +1,6 @@
-//! The flat electrode of an electric-field probe (issue 12; the probe kind that uses it is not
-//! built yet): the charge a disc set into a grounded plane collects from a line below it.
+//! The flat electrode of an electric-field probe (`kind = "electric"`; what the built probe
+//! measures is `physics::electric_probe`): the charge a disc set into a grounded plane collects
+//! from a line below it.
 //!
 //! Held flat over a board, the probe's outer copper is a grounded plane facing the line, and
 //! the electrode is a disc set into it (the copper round it pulled back by a clearance). With
@@ -10,8 +11,7 @@
 //! the probe being short against the line's length (so the section holds under the whole disc).
 //! The clearance round the disc widens the collecting radius by half of itself
 //! ([`effective_radius`]); the face is taken as unlimited, which an FDTD of a tip-sized face
-//! bears out to 0.9 % (`tests/electrode.rs`). The probe kind that builds such a board, and the
-//! probe held upright, are not in this part.
+//! bears out to 0.9 % (`tests/electrode.rs`). The probe held upright is not in this part.
 
 use crate::error::Error;
 use crate::field::{Accuracy, ChargeColumn, CrossSection, cross_section_for_line, ground_charge};

@@ -16,6 +16,7 @@
 
 pub mod coupling;
 pub mod electric;
+pub mod electric_probe;
 pub mod electrode;
 mod elements;
 pub mod elliptic2;
@@ -435,24 +436,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     };
     let upper = r.upper_hz;
     let f_lo = o.f_min_hz.unwrap_or(SCAN_FROM_HZ.min(corner / 10.0));
-    let f_hi = o.f_max_hz.unwrap_or(upper);
-    if f_hi <= f_lo {
-        return Err(Error::Invalid(vec![FieldError::new(
-            "f-max",
-            f_hi,
-            format!("must be greater than the lowest frequency {f_lo:.4e} Hz"),
-        )]));
-    }
-    let decades = (f_hi / f_lo).log10();
-    let n = ((decades * o.per_decade as f64).ceil() as usize).max(1);
-    // The ends exactly as asked (the last row at the upper frequency is within the band).
-    let freqs: Vec<f64> = (0..=n)
-        .map(|i| match i {
-            0 => f_lo,
-            i if i == n => f_hi,
-            i => f_lo * 10f64.powf(decades * i as f64 / n as f64),
-        })
-        .collect();
+    let freqs = log_frequencies(f_lo, o.f_max_hz.unwrap_or(upper), o.per_decade)?;
 
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.
     let z0 = o.height_mm * 1e-3 + tip_to_apex_m(p, s);
@@ -480,6 +464,28 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     }
     r.launch = Some(launch::probe_launch(p, s, &r));
     Ok(r)
+}
+
+/// A table's frequencies from `f_lo` to `f_hi`, `per_decade` to a decade evenly in log, the
+/// ends exactly as asked (the last row at the upper frequency is within the band); refused
+/// (naming `f-max`) when the range is empty.
+pub fn log_frequencies(f_lo: f64, f_hi: f64, per_decade: usize) -> Result<Vec<f64>, Error> {
+    if f_hi <= f_lo {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "f-max",
+            f_hi,
+            format!("must be greater than the lowest frequency {f_lo:.4e} Hz"),
+        )]));
+    }
+    let decades = (f_hi / f_lo).log10();
+    let n = ((decades * per_decade as f64).ceil() as usize).max(1);
+    Ok((0..=n)
+        .map(|i| match i {
+            0 => f_lo,
+            i if i == n => f_hi,
+            i => f_lo * 10f64.powf(decades * i as f64 / n as f64),
+        })
+        .collect())
 }
 
 /// The lowest frequency from `lo` up to `hi` (the first null) where the budget's error reaches

@@ -27,22 +27,24 @@ pub struct FixtureCoupling {
     pub e_rejection_db: Vec<f64>,
 }
 
-/// The coupling of a predicted probe to a solved fixture at `height_mm`.
+/// The coupling of a predicted loop to a solved fixture at `height_mm` (None for an electric
+/// probe: its coupling to the fixture is not built yet).
 pub fn fixture_coupling(
     x: &Predicted,
     fx: &crate::model::fixture::Fixture,
     fs: &crate::solve::fixture::SolvedFixture,
     height_mm: f64,
-) -> FixtureCoupling {
+) -> Option<FixtureCoupling> {
     use crate::physics::coupling::{launch_current, probe_coupling, probe_s21};
+    let r = x.response.as_loop()?;
     let c = probe_coupling(
         &x.probe,
         &x.solved,
-        &x.response,
+        r,
         height_mm,
         &fs.test_line(crate::physics::R_LOAD),
     );
-    let freqs: Vec<f64> = x.response.probe_factor.iter().map(|(f, _)| *f).collect();
+    let freqs: Vec<f64> = r.probe_factor.iter().map(|(f, _)| *f).collect();
     // The fixture's launches (a fixture that solved has sections; none would mean k = 1).
     let secs = crate::solve::fixture::launch_sections(fx, fs).unwrap_or_default();
     let beyond: Vec<_> = secs.iter().rev().copied().collect();
@@ -53,7 +55,7 @@ pub fn fixture_coupling(
             20.0 * k.abs().log10()
         })
         .collect();
-    let s21 = probe_s21(&x.probe, &x.solved, &x.response, &c, &freqs)
+    let s21 = probe_s21(&x.probe, &x.solved, r, &c, &freqs)
         .into_iter()
         .zip(&k_db)
         .map(|((f, s), k)| (f, 20.0 * s.abs().log10() + k, s.im.atan2(s.re).to_degrees()))
@@ -61,9 +63,9 @@ pub fn fixture_coupling(
     let line_wave_ohm = crate::physics::electric::ETA0 / fs.solution.eps_eff.sqrt();
     let e_rejection_db = freqs
         .iter()
-        .map(|&f| x.response.e_rejection_db(f, line_wave_ohm))
+        .map(|&f| r.e_rejection_db(f, line_wave_ohm))
         .collect();
-    FixtureCoupling {
+    Some(FixtureCoupling {
         fixture: fx.name.clone(),
         height_mm,
         coupling: c,
@@ -71,5 +73,5 @@ pub fn fixture_coupling(
         line_current_db: k_db,
         line_wave_ohm,
         e_rejection_db,
-    }
+    })
 }

@@ -6,7 +6,16 @@ use crate::calib::gate::{self, Bench, Candidate, Verdict};
 use crate::calib::touchstone;
 use crate::error::{Error, FieldError};
 use crate::physics::PredictOptions;
-use crate::physics::predicted::Predicted;
+
+/// The calibrated loop with its solved values and prediction.
+pub struct Chosen {
+    /// The probe.
+    pub probe: crate::model::probe::Probe,
+    /// Its solved values.
+    pub solved: crate::solve::probe::SolvedProbe,
+    /// Its response.
+    pub response: crate::physics::Response,
+}
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
 use std::path::{Path, PathBuf};
@@ -149,9 +158,20 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
             format!("name one of the spec's probes: {}", names.join(", ")),
         )]));
     };
+    if let Some(e) = probe.kind.electrode() {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "probe",
+            probe.name.clone(),
+            format!(
+                "is an electric probe (Ø{} mm electrode): its calibration from the fixture's \
+                 line voltage is not built yet; calibrate a loop",
+                crate::model::probe::num(e.diameter)
+            ),
+        )]));
+    }
     let solved = crate::solve::probe::solve(probe)?;
     let response = crate::physics::predict(probe, &solved, &PredictOptions::default())?;
-    let x = Predicted {
+    let x = Chosen {
         probe: probe.clone(),
         solved,
         response,
@@ -322,7 +342,7 @@ fn gate(
     a: &Request,
     spec: &ProbeFileSpec,
     base: &Path,
-    x: &Predicted,
+    x: &Chosen,
     net: &touchstone::Network,
     ports: (usize, usize),
     cal: &crate::calib::calibrate::Calibration,

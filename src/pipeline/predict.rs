@@ -2,8 +2,8 @@
 
 use crate::error::Error;
 use crate::model::probe::family_from_spec;
-use crate::physics::predicted::Predicted;
-use crate::physics::{PredictOptions, predict};
+use crate::physics::PredictOptions;
+use crate::physics::predicted::{Predicted, predict_any};
 use crate::solve::probe::solve;
 use crate::spec::probe::ProbeFileSpec;
 use std::path::Path;
@@ -35,7 +35,7 @@ pub fn predict_spec(
         .into_par_iter()
         .map(|p| {
             let solved = solve(&p)?;
-            let response = predict(&p, &solved, o)?;
+            let response = predict_any(&p, &solved, o)?;
             Ok(Predicted {
                 probe: p,
                 solved,

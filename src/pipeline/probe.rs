@@ -28,7 +28,7 @@ pub struct BuiltProbe {
     /// Warnings (a launch above its return-loss limit).
     pub warnings: Vec<String>,
     /// Predicted response at the default prediction options.
-    pub response: crate::physics::Response,
+    pub response: crate::physics::predicted::ProbeResponse,
     /// Its files: (name inside the probe's folder, content).
     pub files: Vec<(String, Vec<u8>)>,
 }
@@ -56,7 +56,11 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
             violations: violations.clone(),
         });
     }
-    let response = crate::physics::predict(p, &solved, &crate::physics::PredictOptions::default())?;
+    let response = crate::physics::predicted::predict_any(
+        p,
+        &solved,
+        &crate::physics::PredictOptions::default(),
+    )?;
     let base = &p.folder;
     let (lo, hi) = board.bbox;
     let mut files = artwork_files(
@@ -65,22 +69,35 @@ pub fn build_probe(p: &Probe, spec_copy: &str, force: bool) -> Result<BuiltProbe
         &p.stackup,
         &p.fab,
         (hi.x - lo.x, hi.y - lo.y),
-        &format!("{} — {}", p.name, p.shape.size_text()),
+        &format!("{} — {}", p.name, p.size_text()),
     );
-    files.push((
-        format!("{base}-response.svg"),
-        emit::plot::probe_factor_plot(
+    let plot = match &response {
+        crate::physics::predicted::ProbeResponse::Loop(r) => emit::plot::probe_factor_plot(
             &format!("{} probe factor (uniform H, 50 Ω)", p.name),
-            &[(p.name.as_str(), emit::report::COLOURS[0], &response)],
-        )
-        .into_bytes(),
-    ));
+            &[(p.name.as_str(), emit::report::COLOURS[0], r)],
+        ),
+        crate::physics::predicted::ProbeResponse::Electric(r) => emit::plot::electric_factor_plot(
+            &format!(
+                "{} electric probe factor (E normal to the face, 50 Ω)",
+                p.name
+            ),
+            &[(p.name.as_str(), emit::report::COLOURS[0], r)],
+        ),
+    };
+    files.push((format!("{base}-response.svg"), plot.into_bytes()));
     files.push((format!("{base}.toml"), spec_copy.as_bytes().to_vec()));
     let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
     let notes_name = format!("{base}-fab-notes.md");
     names.push(notes_name.clone());
     let mut notes = emit::notes::notes(p, &solved, &board, &artwork, &names, &violations);
-    notes.push_str(&emit::notes::predictions(p, &solved, &response));
+    notes.push_str(&match &response {
+        crate::physics::predicted::ProbeResponse::Loop(r) => {
+            emit::notes::predictions(p, &solved, r)
+        }
+        crate::physics::predicted::ProbeResponse::Electric(r) => {
+            emit::notes::electric_predictions(r)
+        }
+    });
     files.push((notes_name, notes.into_bytes()));
     Ok(BuiltProbe {
         probe: p.clone(),
@@ -105,7 +122,7 @@ pub fn launch_over_limit(p: &Probe, s: &SolvedProbe) -> Option<String> {
     let n = p.stackup.copper_count();
     let hint = if p.signal_layer + 1 < n {
         format!(
-            "; the signal via's open stub runs from L{} to L{n}: a loop layer nearer the bottom \
+            "; the signal via's open stub runs from L{} to L{n}: a signal layer nearer the bottom \
              (signal_layer = {}) shortens it",
             p.signal_layer,
             n - 1

@@ -12,7 +12,7 @@ mod probe;
 pub use panel::panel_notes;
 
 pub use fixture::fixture_notes;
-pub use probe::{launch_line, notes, predictions};
+pub use probe::{electric_predictions, launch_line, notes, predictions};
 
 /// The stackup table (Markdown), top to bottom; `role` names what each copper layer carries.
 pub fn stackup_table(
