@@ -387,6 +387,11 @@ fn predict_with_a_fixture_gives_the_coupling_and_the_s21_behind_its_probe_factor
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     for p in v["probes"].as_array().unwrap() {
         let c = &p["fixture_coupling"];
+        if p["kind"] == "electric" {
+            // Its coupling to the fixture is not predicted yet: no key, rather than a loop's.
+            assert!(c.is_null(), "{c}");
+            continue;
+        }
         let h_avg = c["h_avg_per_amp"].as_f64().unwrap();
         assert!(c["mutual_ph"].as_f64().unwrap() < c["mutual_filament_ph"].as_f64().unwrap());
         // The predicted S21 and the predicted probe factor are one model: PF =

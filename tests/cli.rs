@@ -629,12 +629,31 @@ fn predict_json_has_the_documented_keys() {
     );
     let v = json(&["predict", spec, "--json"]);
     let probes = v["probes"].as_array().unwrap();
-    assert_eq!(probes.len(), 4);
+    assert_eq!(probes.len(), 5);
     for p in probes {
         for k in ["name", "shape"] {
             assert!(p[k].is_string(), "{k}");
         }
-        // The demo spec gives neither: today's meaning, a single-turn singly-loaded loop.
+        assert_eq!(p["turns"], 1);
+        if p["name"] == "FM-E2" {
+            // The electric probe: its factor in dB(1/m) per point, none of a loop's keys.
+            assert_eq!(p["kind"], "electric");
+            let ef = p["electric_factor"].as_array().unwrap();
+            assert!(ef.len() > 10);
+            assert!(ef[0]["freq_hz"].as_f64().unwrap() > 0.0);
+            assert!(ef[0]["db_per_m"].is_number());
+            assert!(p["probe_factor"].is_null() && p["loop_area_mm2"].is_null());
+            for k in [
+                "corner_hz",
+                "upper_hz",
+                "resolution_mm",
+                "coupling_capacitance_ff",
+            ] {
+                assert!(p[k].as_f64().unwrap() > 0.0, "{k}");
+            }
+            continue;
+        }
+        // The loops give neither: today's meaning, a single-turn singly-loaded loop.
         assert_eq!(p["kind"], "loop");
         assert_eq!(p["turns"], 1);
         for k in [

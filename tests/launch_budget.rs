@@ -92,10 +92,17 @@ fn demo_launch_is_the_recorded_one_and_meets_the_limit() {
         f(case, "worst_s11_db")
     );
     assert!(s.launch.worst_s11.0 <= DEFAULT_LIMIT_DB);
-    // Every demo probe shares the launch.
+    // Every demo loop shares the launch; the electric probe's line is solved on the handle's
+    // section, not the loop arm's, so its load differs by 0.2 Ω and its worst return loss by
+    // less than 0.1 dB (tests/launch_fdtd.rs).
     for q in &fam.probes {
         let sq = loopwright::solve::probe::solve(q).unwrap();
-        assert!((sq.launch.worst_s11.0 - s.launch.worst_s11.0).abs() < 1e-6);
+        let within = if q.kind.electrode().is_some() {
+            0.1
+        } else {
+            1e-6
+        };
+        assert!((sq.launch.worst_s11.0 - s.launch.worst_s11.0).abs() < within);
     }
 }
 

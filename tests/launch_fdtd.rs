@@ -108,9 +108,13 @@ fn edge_frame(mut j: Value) -> Value {
     j
 }
 
-/// The one transition simulated stands for every demo probe: the demo family's launches are
+/// The one transition simulated stands for every demo loop: the demo family's launches are
 /// the same in the frame of the connector edge (pad, link, vias and their antipads, the
-/// ground vias within 8 mm of the signal via, the line-section model).
+/// ground vias within 8 mm of the signal via, the line-section model). The demo's electric
+/// probe shares the pad, the link, the signal via and its antipads, but not the rest: its line
+/// runs on the axis (so its fence vias stand elsewhere) and is solved on the handle's section
+/// (0.214 mm, not the loops' 0.216 mm): no full-wave run stands for its launch, and its
+/// line-section model's worst return loss is within 0.1 dB of the loops'.
 #[test]
 fn one_transition_stands_for_the_demo_family() {
     let reference = edge_frame(launch_json::probe_json("FM-R10", None, None));
@@ -119,6 +123,12 @@ fn one_transition_stands_for_the_demo_family() {
     let names: Vec<String> = spec.probe.iter().filter_map(|p| p.name.clone()).collect();
     assert_eq!(names.len(), spec.probe.len(), "every demo probe is named");
     assert!(names.len() >= 4, "{names:?}");
+    let electric: Vec<&String> = spec
+        .probe
+        .iter()
+        .filter(|p| p.kind.as_deref() == Some("electric"))
+        .filter_map(|p| p.name.as_ref())
+        .collect();
     for name in &names {
         let mut d = Vec::new();
         json_diff(
@@ -127,6 +137,28 @@ fn one_transition_stands_for_the_demo_family() {
             "",
             &mut d,
         );
+        if electric.contains(&name) {
+            let allowed = [
+                ".ground_vias[",
+                ".model.worst_s11_db:",
+                ".model.z_load:",
+                ".trace.",
+                ".z_line:",
+            ];
+            let other: Vec<&String> = d
+                .iter()
+                .filter(|l| !allowed.iter().any(|a| l.starts_with(a)))
+                .collect();
+            assert!(other.is_empty(), "{name}: {other:?}");
+            let worst = |n: &str| {
+                launch_json::probe_json(n, None, None)["model"]["worst_s11_db"]
+                    .as_f64()
+                    .unwrap()
+            };
+            let gap = (worst(name) - worst("FM-R10")).abs();
+            assert!(gap < 0.1, "{name}: {gap} dB from the loops' launch");
+            continue;
+        }
         assert!(
             d.is_empty(),
             "{name}'s launch differs from FM-R10's:\n{}",

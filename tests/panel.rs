@@ -62,8 +62,8 @@ fn every_board_sits_at_its_stated_offset_with_its_copper_unchanged() {
     let offs = offsets();
     assert_eq!(
         offs.len(),
-        5,
-        "four probes and the four-layer fixture: {offs:?}"
+        6,
+        "five probes and the four-layer fixture: {offs:?}"
     );
     for n in 1..=4 {
         let panel = common::read_gerber(&panel_file(&format!("L{n}.gbr")));

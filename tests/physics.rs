@@ -177,8 +177,11 @@ fn the_size_trade_off_and_low_frequency_laws() {
         assert!((d - want).abs() < 0.05, "{d} vs {want}");
         assert!(d > 20.0 * 4f64.log10(), "{d}");
     }
-    for x in &all {
-        let r = x.response.as_loop().unwrap();
+    // The loops (the demo's electric probe has its own laws, tests/electrode.rs).
+    for (x, r) in all
+        .iter()
+        .filter_map(|x| x.response.as_loop().map(|r| (x, r)))
+    {
         let f = r.corner_hz / 1000.0;
         let slope = probe_factor_at(&x.probe, &x.solved, r, f)
             - probe_factor_at(&x.probe, &x.solved, r, 10.0 * f);

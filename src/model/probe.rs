@@ -440,7 +440,7 @@ impl Probe {
         match self.kind {
             ProbeKind::Loop => self.shape.size_text(),
             ProbeKind::Electric(e) => format!(
-                "Ø{} mm electrode, {} mm clearance",
+                "Ø{} mm disc, {} mm clearance",
                 num(e.diameter),
                 num(e.clearance)
             ),
