@@ -388,8 +388,31 @@ fn predict_with_a_fixture_gives_the_coupling_and_the_s21_behind_its_probe_factor
     for p in v["probes"].as_array().unwrap() {
         let c = &p["fixture_coupling"];
         if p["kind"] == "electric" {
-            // Its coupling to the fixture is not predicted yet: no key, rather than a loop's.
-            assert!(c.is_null(), "{c}");
+            // The electric probe held flat over the line: its predicted S21 and its predicted
+            // factor are one model, EF = 20·log10(E/V_line) + 20·log10|V_line/V_inc| − |S21|dB
+            // less the line's own loading of the electrode, 20·log10(|1 + jωR(Cs + Cc)|/|1 +
+            // jωR·Cs|) (docs/formulas.md §11), at every tabulated frequency.
+            let e = c["e_per_volt_per_m"].as_f64().unwrap();
+            let (cs, cc) = (
+                p["self_capacitance_pf"].as_f64().unwrap() * 1e-12,
+                c["coupling_capacitance_ff"].as_f64().unwrap() * 1e-15,
+            );
+            let ef = p["electric_factor"].as_array().unwrap();
+            let s21 = c["s21"].as_array().unwrap();
+            assert_eq!(ef.len(), s21.len());
+            for (a, b) in ef.iter().zip(s21) {
+                let f = a["freq_hz"].as_f64().unwrap();
+                assert_eq!(f, b["freq_hz"].as_f64().unwrap());
+                let w = 2.0 * std::f64::consts::PI * f * 50.0;
+                let loading =
+                    10.0 * ((1.0 + (w * (cs + cc)).powi(2)) / (1.0 + (w * cs).powi(2))).log10();
+                assert!(loading < 0.5, "{f}: {loading}");
+                let from_s21 = 20.0 * e.log10() + b["line_voltage_db"].as_f64().unwrap()
+                    - b["db"].as_f64().unwrap()
+                    - loading;
+                let got = a["db_per_m"].as_f64().unwrap();
+                assert!((from_s21 - got).abs() < 1e-6, "{f}: {from_s21} vs {got}");
+            }
             continue;
         }
         let h_avg = c["h_avg_per_amp"].as_f64().unwrap();

@@ -146,6 +146,50 @@ pub fn calibrate(
     height_mm: f64,
     current: &LineCurrent,
 ) -> Result<Calibration, Error> {
+    let s21 = measured_transmission(net, path, (line_port, probe_port), height_mm, line_z0)?;
+    let line = TestLine {
+        r_port: net.r_ref,
+        ..line
+    };
+    let coupling = probe_coupling(p, s, r, height_mm, &line);
+    let mut points = Vec::new();
+    for (f, mag) in s21 {
+        let pred = probe_s21(p, s, r, &coupling, &[f])[0].1;
+        let k = (current.ratio)(f).abs();
+        points.push(CalPoint {
+            f,
+            s21_db: 20.0 * mag.log10(),
+            s21_pred_db: 20.0 * (pred.abs() * k).log10(),
+            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp * k, net.r_ref)
+                + line_to_uniform_db(r, f),
+            pf_pred_db: crate::physics::probe_factor_at(p, s, r, f),
+            in_band: f <= r.upper_hz,
+            current_db: 20.0 * k.log10(),
+        });
+    }
+    Ok(Calibration {
+        points,
+        coupling,
+        line,
+        height_mm,
+        ports: (line_port, probe_port),
+        skipped_dc: net.freqs.iter().filter(|f| **f == 0.0).count(),
+        current_source: current.source.clone(),
+    })
+}
+
+/// The measured transmission S(probe, line) of `net` at every point above 0 Hz, (Hz, |S|),
+/// after the checks every calibration makes: the ports, the height, a reference resistance of
+/// the probe model's 50 Ω load, a fixture line that matches it (`line_z0`), frequencies within
+/// [`F_RANGE`], and an |S| that is finite, non-zero and at most 0 dB (a passive fixture cannot
+/// gain). `path` names the file in errors.
+pub fn measured_transmission(
+    net: &Network,
+    path: &str,
+    (line_port, probe_port): (usize, usize),
+    height_mm: f64,
+    line_z0: f64,
+) -> Result<Vec<(f64, f64)>, Error> {
     let mut errs = check_ports(net.ports, line_port, probe_port);
     crate::error::check_range(&mut errs, "height", height_mm, 0.0, 100.0);
     let r_load = crate::physics::R_LOAD;
@@ -174,17 +218,10 @@ pub fn calibrate(
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }
-    let line = TestLine {
-        r_port: net.r_ref,
-        ..line
-    };
-    let coupling = probe_coupling(p, s, r, height_mm, &line);
     let s21 = net.param(probe_port, line_port);
     let mut points = Vec::new();
-    let mut skipped_dc = 0;
     for (k, &f) in net.freqs.iter().enumerate() {
         if f == 0.0 {
-            skipped_dc += 1;
             continue;
         }
         let bad = |why: String| Error::Parse {
@@ -212,18 +249,7 @@ pub fn calibrate(
                 20.0 * mag.log10()
             )));
         }
-        let pred = probe_s21(p, s, r, &coupling, &[f])[0].1;
-        let k = (current.ratio)(f).abs();
-        points.push(CalPoint {
-            f,
-            s21_db: 20.0 * mag.log10(),
-            s21_pred_db: 20.0 * (pred.abs() * k).log10(),
-            pf_db: pf_from_s21(mag, coupling.h_avg_per_amp * k, net.r_ref)
-                + line_to_uniform_db(r, f),
-            pf_pred_db: crate::physics::probe_factor_at(p, s, r, f),
-            in_band: f <= r.upper_hz,
-            current_db: 20.0 * k.log10(),
-        });
+        points.push((f, mag));
     }
     if points.is_empty() {
         return Err(Error::Parse {
@@ -234,13 +260,5 @@ pub fn calibrate(
             ),
         });
     }
-    Ok(Calibration {
-        points,
-        coupling,
-        line,
-        height_mm,
-        ports: (line_port, probe_port),
-        skipped_dc,
-        current_source: current.source.clone(),
-    })
+    Ok(points)
 }

@@ -5,6 +5,7 @@
 pub mod band;
 pub mod calibrate;
 pub mod convert;
+pub mod electric;
 pub mod export;
 pub mod gate;
 pub mod touchstone;

@@ -1,11 +1,11 @@
 //! `loopwright predict`: what each probe of a spec will measure.
 
-use crate::emit::json::{coupling_json, probe_json};
+use crate::emit::json::{on_fixture_json, probe_json};
 use crate::emit::tables::tables;
 use crate::error::Error;
 use crate::physics::PredictOptions;
 use crate::physics::predicted::ASSUMPTIONS;
-use crate::pipeline::predict::{FixtureCoupling, fixture_coupling, predict_spec};
+use crate::pipeline::predict::{OnFixture, on_fixture, predict_spec};
 use crate::spec::parse_toml;
 use crate::spec::probe::ProbeFileSpec;
 use serde_json::{Value, json};
@@ -56,12 +56,12 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
     };
     let all = predict_spec(&spec, a.spec.parent().unwrap_or(Path::new(".")), &o)
         .map_err(|e| crate::spec::with_lines(&text, e))?;
-    let couplings: Vec<Option<FixtureCoupling>> = match &a.fixture {
+    let couplings: Vec<OnFixture> = match &a.fixture {
         Some(path) => {
             let (fx, fs) = crate::pipeline::load_fixture(path)?;
             all.iter()
-                .map(|x| fixture_coupling(x, &fx, &fs, a.height))
-                .collect()
+                .map(|x| on_fixture(x, &fx, &fs, a.height))
+                .collect::<Result<_, _>>()?
         }
         None => Vec::new(),
     };
@@ -71,8 +71,8 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
             .enumerate()
             .map(|(i, x)| {
                 let mut v = probe_json(x);
-                if let Some(Some(c)) = couplings.get(i) {
-                    v["fixture_coupling"] = coupling_json(c);
+                if let Some(c) = couplings.get(i) {
+                    v["fixture_coupling"] = on_fixture_json(c);
                 }
                 v
             })

@@ -40,20 +40,25 @@ pub fn detail_csv(c: &Calibration, header: &[String]) -> String {
         "freq_hz,s21_db,s21_predicted_db,pf_db_s_per_m,pf_predicted_db_s_per_m,difference_db,in_band,line_current_db\n",
     );
     for p in &c.points {
-        let _ = writeln!(
-            o,
-            "{},{:.4},{:.4},{:.4},{:.4},{:.4},{},{:.4}",
+        detail_row(
+            &mut o,
             p.f,
-            p.s21_db,
-            p.s21_pred_db,
-            p.pf_db,
-            p.pf_pred_db,
-            p.diff_db(),
+            [p.s21_db, p.s21_pred_db, p.pf_db, p.pf_pred_db, p.diff_db()],
             p.in_band,
-            p.current_db
+            p.current_db,
         );
     }
     o
+}
+
+/// One row of a detail table: the frequency, five values (both S21, both factors, their
+/// difference), the band flag and the line's level under the probe.
+fn detail_row(o: &mut String, f: f64, v: [f64; 5], in_band: bool, line_db: f64) {
+    let _ = writeln!(
+        o,
+        "{f},{:.4},{:.4},{:.4},{:.4},{:.4},{in_band},{line_db:.4}",
+        v[0], v[1], v[2], v[3], v[4]
+    );
 }
 
 /// The probe-factor plot (measured and predicted) and the difference plot.
@@ -285,4 +290,128 @@ pub fn warnings(fx: &Fixture) -> Vec<String> {
         );
     }
     w
+}
+
+/// An electric probe's factor table `freq_hz,ef_db_per_m`: measured (`measured`) or predicted
+/// at the measured frequencies, after `header` as comment lines.
+pub fn ef_csv(
+    c: &crate::calib::electric::ElectricCalibration,
+    measured: bool,
+    header: &[String],
+) -> String {
+    let mut o = comments(header);
+    o.push_str("freq_hz,ef_db_per_m\n");
+    for p in &c.points {
+        let v = if measured { p.ef_db } else { p.ef_pred_db };
+        let _ = writeln!(o, "{},{v:.4}", p.f);
+    }
+    o
+}
+
+/// An electric probe's detail table: both S21, both factors, their difference, the band flag
+/// and the line voltage under the probe, after `header` as comment lines.
+pub fn ef_detail_csv(c: &crate::calib::electric::ElectricCalibration, header: &[String]) -> String {
+    let mut o = comments(header);
+    o.push_str(
+        "freq_hz,s21_db,s21_predicted_db,ef_db_per_m,ef_predicted_db_per_m,difference_db,in_band,line_voltage_db\n",
+    );
+    for p in &c.points {
+        detail_row(
+            &mut o,
+            p.f,
+            [p.s21_db, p.s21_pred_db, p.ef_db, p.ef_pred_db, p.diff_db()],
+            p.in_band,
+            p.line_voltage_db,
+        );
+    }
+    o
+}
+
+/// An electric probe's calibration plot: measured and predicted factor.
+pub fn ef_plot(
+    name: &str,
+    c: &crate::calib::electric::ElectricCalibration,
+    r: &crate::physics::electric_probe::ElectricResponse,
+) -> String {
+    log_plot(
+        &format!(
+            "{name}: electric probe factor from {} mm over the test line (held flat)",
+            c.on.height_mm
+        ),
+        "electric probe factor dB(1/m)",
+        "calibration-plot",
+        &[
+            Series {
+                label: "measured (from S21)".into(),
+                colour: "#1f5fa8",
+                points: c.points.iter().map(|p| (p.f, p.ef_db)).collect(),
+                corner_hz: None,
+                above_hz: Some(r.upper_hz),
+            },
+            Series {
+                label: "predicted".into(),
+                colour: "#c0392b",
+                points: c.points.iter().map(|p| (p.f, p.ef_pred_db)).collect(),
+                corner_hz: None,
+                above_hz: Some(r.upper_hz),
+            },
+        ],
+    )
+}
+
+/// An electric probe's calibration notes (Markdown).
+pub fn ef_notes(
+    p: &Probe,
+    r: &crate::physics::electric_probe::ElectricResponse,
+    fx: &Fixture,
+    c: &crate::calib::electric::ElectricCalibration,
+    source: &str,
+    files: &[String],
+    verdict: &Verdict,
+) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "# Calibration of {} on {}\n", p.name, fx.name);
+    for w in warnings(fx) {
+        let _ = writeln!(o, "> **Note:** {w}\n");
+    }
+    let _ = writeln!(
+        o,
+        "Measured electric probe factor from `{source}` (S{}{}: VNA port {} on the line's input, \
+         port {} on the probe), the probe held flat with its face {} mm above the line's copper \
+         and its electrode centred over the line. Written by loopwright {}.\n",
+        c.ports.1,
+        c.ports.0,
+        c.ports.0,
+        c.ports.1,
+        c.on.height_mm,
+        env!("CARGO_PKG_VERSION")
+    );
+    let _ = writeln!(o, "## Field reference\n");
+    let _ = writeln!(
+        o,
+        "The factors here (`ef_db_per_m`) are **E / V_probe with E the field normal to the \
+         probe's face averaged over the electrode's collecting area** (radius {:.3} mm, {:.2} \
+         mm²), into 50 Ω: E[dBµV/m] = V_probe[dBµV] + EF. Over the line that field is \
+         C_c·V_line/(ε0·A_eff) with C_c = {:.2} fF from the fixture's own cross-section (2-D \
+         field solution, the face above it): {:.1} V/m per volt on the line. The line voltage \
+         under the probe: {}. The line's own loading of the electrode (C_c beside the \
+         electrode's {:.3} pF) is taken off, so the factor is the one the probe has over any \
+         trace that loads it less.\n",
+        r.r_eff_m * 1e3,
+        r.area_eff_m2 * 1e6,
+        c.on.coupling_f * 1e15,
+        c.on.e_per_volt,
+        c.current_source,
+        r.c_self * 1e12
+    );
+    let _ = writeln!(o, "## Plausibility\n");
+    for l in verdict.lines() {
+        let _ = writeln!(o, "- {l}");
+    }
+    let _ = writeln!(o, "\n## Files\n");
+    for f in files {
+        let _ = writeln!(o, "- `{f}`");
+    }
+    let _ = writeln!(o, "\n## Cautions\n\n{}", crate::emit::cautions::CAUTIONS);
+    o
 }

@@ -3,7 +3,7 @@
 
 use crate::physics::Response;
 use crate::physics::electric_probe::ElectricResponse;
-use crate::physics::on_fixture::FixtureCoupling;
+use crate::physics::on_fixture::{FixtureCoupling, OnFixture};
 use crate::physics::predicted::{Predicted, ProbeResponse};
 use crate::physics::probe_factor_at;
 use serde_json::{Value, json};
@@ -113,7 +113,23 @@ fn loop_json(x: &Predicted, r: &Response) -> Value {
         "launch": launch,
     })
 }
-/// The JSON object of a fixture coupling.
+/// The JSON object of a probe's coupling to a fixture, by its kind.
+pub fn on_fixture_json(c: &OnFixture) -> Value {
+    match c {
+        OnFixture::Loop(c) => coupling_json(c),
+        OnFixture::Electric(c) => json!({
+            "fixture": c.fixture,
+            "height_mm": c.height_mm,
+            "coupling_capacitance_ff": c.coupling_f * 1e15,
+            "e_per_volt_per_m": c.e_per_volt,
+            "line_z0_ohms": c.line_z0,
+            "field_reference": "E normal to the face averaged over the electrode's collecting area, E = C_c·V_line/(ε0·A_eff); V_line = I·Z0 with I from the fixture's launch model",
+            "s21": c.s21.iter().zip(&c.line_voltage_db).map(|((f, db, deg), v)| json!({"freq_hz": f, "db": db, "deg": deg, "line_voltage_db": v})).collect::<Vec<_>>(),
+        }),
+    }
+}
+
+/// The JSON object of a loop's fixture coupling.
 pub fn coupling_json(c: &FixtureCoupling) -> Value {
     let k = &c.coupling;
     json!({

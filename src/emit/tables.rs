@@ -2,7 +2,28 @@
 
 use crate::math::hz_label;
 use crate::physics::electric_probe::ElectricResponse;
-use crate::physics::on_fixture::FixtureCoupling;
+use crate::physics::on_fixture::{ElectricOnFixture, OnFixture};
+
+/// An electric probe's lines over a fixture.
+fn electric_on_fixture(o: &mut String, c: &ElectricOnFixture) {
+    o.push_str(&format!(
+        "  on fixture {}, face {} mm over the line (held flat, electrode centred):\n",
+        c.fixture, c.height_mm
+    ));
+    o.push_str(&format!(
+        "  {:<22} {:.2} fF; field over the electrode {:.1} V/m per volt on the line\n",
+        "line to electrode",
+        c.coupling_f * 1e15,
+        c.e_per_volt
+    ));
+    o.push_str("  predicted S21, line input to probe (dB, degrees):\n");
+    let step = (c.s21.len() / 10).max(1);
+    for (j, (f, db, deg)) in c.s21.iter().enumerate() {
+        if j % step == 0 || j + 1 == c.s21.len() {
+            o.push_str(&format!("    {:>12} {db:>7.2}  {deg:>7.1}\n", hz_label(*f)));
+        }
+    }
+}
 use crate::physics::predicted::{ASSUMPTIONS, Predicted, ProbeResponse};
 
 /// An electric probe's table.
@@ -82,18 +103,21 @@ fn electric_table(o: &mut String, x: &Predicted, r: &ElectricResponse) {
             ));
         }
     }
-    o.push('\n');
 }
 
 /// The human-readable tables; `couplings` holds each probe's coupling to a fixture, in the
 /// same order (None: none asked, or an electric probe).
-pub fn tables(all: &[Predicted], couplings: &[Option<FixtureCoupling>]) -> String {
+pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
     let mut o = String::new();
     for (i, x) in all.iter().enumerate() {
         let r = match &x.response {
             ProbeResponse::Loop(r) => r,
             ProbeResponse::Electric(r) => {
                 electric_table(&mut o, x, r);
+                if let Some(OnFixture::Electric(c)) = couplings.get(i) {
+                    electric_on_fixture(&mut o, c);
+                }
+                o.push('\n');
                 continue;
             }
         };
@@ -212,7 +236,7 @@ pub fn tables(all: &[Predicted], couplings: &[Option<FixtureCoupling>]) -> Strin
                 ));
             }
         }
-        if let Some(Some(c)) = couplings.get(i) {
+        if let Some(OnFixture::Loop(c)) = couplings.get(i) {
             let k = &c.coupling;
             o.push_str(&format!(
                 "  on fixture {}, tip {} mm over the line (loop plane along it):\n",

@@ -109,6 +109,36 @@ pub fn section_under_face(line: &crate::model::line::Microstrip, gap: f64) -> Cr
     cs
 }
 
+/// The cross-section of a surface line (microstrip, coated or not) with the probe's face `gap`
+/// mm above the trace's copper top, and the face's conductor index. A coated line's face must
+/// clear its coat; other lines (stripline, coplanar) are refused: the face cannot lie on them.
+pub fn face_section(line: &Line, gap: f64) -> Result<(CrossSection, usize), Error> {
+    let (m, coat) = match line {
+        Line::Microstrip(m) => (m, 0.0),
+        Line::CoatedMicrostrip(c) => (&c.line, c.mask_t),
+        _ => {
+            return Err(Error::Unsolvable(
+                "an electric probe's face lies on a surface line (microstrip, coated or not)"
+                    .into(),
+            ));
+        }
+    };
+    if gap <= coat {
+        return Err(Error::Invalid(vec![crate::error::FieldError::new(
+            "height",
+            gap,
+            format!(
+                "must be more than the line's solder-mask coat ({coat} mm): the face rests on it"
+            ),
+        )]));
+    }
+    let mut cs = cross_section_for_line(line);
+    cs.conductors
+        .push(crate::field::Conductor::plane(m.h + m.t + gap, 0.0));
+    let face = cs.conductors.len() - 1;
+    Ok((cs, face))
+}
+
 /// The mesh the electrode's charge is taken on: a distribution converges more slowly than a
 /// capacitance (`tests/electrode.rs`: within 0.6 % of the closed form here, where `Standard`
 /// reads up to 0.56 % high under the line).
@@ -123,7 +153,14 @@ pub fn line_coupling(
     r: f64,
     offsets: &[f64],
 ) -> Result<Vec<f64>, Error> {
-    let columns = ground_charge(&section_under_face(line, gap), 2, ACCURACY)?;
+    surface_coupling(&Line::Microstrip(*line), gap, r, offsets)
+}
+
+/// [`line_coupling`] over any surface line of [`face_section`] (a coated microstrip: the face
+/// above its coat).
+pub fn surface_coupling(line: &Line, gap: f64, r: f64, offsets: &[f64]) -> Result<Vec<f64>, Error> {
+    let (cs, face) = face_section(line, gap)?;
+    let columns = ground_charge(&cs, face, ACCURACY)?;
     Ok(offsets
         .iter()
         .map(|&x0| disc_charge(&columns, r, x0))

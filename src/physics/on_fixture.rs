@@ -75,3 +75,102 @@ pub fn fixture_coupling(
         e_rejection_db,
     })
 }
+
+/// An electric probe over a solved test-line fixture, held flat with its face `height_mm` above
+/// the line's copper, the electrode centred over the line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ElectricOnFixture {
+    /// The fixture's name.
+    pub fixture: String,
+    /// Face height above the line's copper, mm.
+    pub height_mm: f64,
+    /// Capacitance from the line to the electrode, F (2-D field solution of the fixture's own
+    /// cross-section with the face above it).
+    pub coupling_f: f64,
+    /// The field normal to the face averaged over the collecting area, per volt on the line,
+    /// 1/m: C_c/(ε0·A_eff) (Gauss's law).
+    pub e_per_volt: f64,
+    /// Z0 of the fixture's line, Ω (the voltage under the probe is the line current times it).
+    pub line_z0: f64,
+    /// Predicted S21 (line input to probe output) at `freqs`: (Hz, dB, degrees).
+    pub s21: Vec<(f64, f64, f64)>,
+    /// The line voltage under the probe per incident voltage at the same frequencies, dB (0 on
+    /// a uniform matched line).
+    pub line_voltage_db: Vec<f64>,
+}
+
+/// V_out/V_line of an electric probe whose electrode couples `c_c` F to the line and `c_self` F
+/// to its face, into `r_load` Ω at `f` Hz: jωC_c·R/(1 + jωR(C_self + C_c)).
+pub fn electric_transfer(f: f64, c_c: f64, c_self: f64, r_load: f64) -> crate::math::Cx {
+    let w = 2.0 * std::f64::consts::PI * f;
+    crate::math::Cx::new(0.0, w * c_c * r_load)
+        / crate::math::Cx::new(1.0, w * r_load * (c_self + c_c))
+}
+
+/// The coupling of a predicted electric probe to a solved fixture at `height_mm`, with the line
+/// voltage under the probe from `line_current` (the line current per V_inc/R at a frequency,
+/// R the port impedance): V_line = I·Z0, Z0 the line's solved impedance.
+pub fn electric_fixture_coupling(
+    r: &crate::physics::electric_probe::ElectricResponse,
+    fx: &crate::model::fixture::Fixture,
+    fs: &crate::solve::fixture::SolvedFixture,
+    height_mm: f64,
+    freqs: &[f64],
+    line_current: &dyn Fn(f64) -> crate::math::Cx,
+    r_port: f64,
+) -> Result<ElectricOnFixture, crate::error::Error> {
+    let q =
+        crate::physics::electrode::surface_coupling(&fs.line, height_mm, r.r_eff_m * 1e3, &[0.0])?;
+    let c_c = q[0].abs();
+    let line_z0 = fs.field_z0.unwrap_or(fs.solution.z0);
+    let mut s21 = Vec::new();
+    let mut line_voltage_db = Vec::new();
+    for &f in freqs {
+        let v_line = line_current(f) * crate::math::Cx::new(line_z0 / r_port, 0.0);
+        let s = electric_transfer(f, c_c, r.c_self, crate::physics::R_LOAD) * v_line;
+        s21.push((f, 20.0 * s.abs().log10(), s.im.atan2(s.re).to_degrees()));
+        line_voltage_db.push(20.0 * v_line.abs().log10());
+    }
+    Ok(ElectricOnFixture {
+        fixture: fx.name.clone(),
+        height_mm,
+        coupling_f: c_c,
+        e_per_volt: c_c / (crate::math::EPS0 * r.area_eff_m2),
+        line_z0,
+        s21,
+        line_voltage_db,
+    })
+}
+
+/// A predicted probe of either kind over a fixture.
+pub enum OnFixture {
+    /// A loop's.
+    Loop(Box<FixtureCoupling>),
+    /// An electric probe's.
+    Electric(Box<ElectricOnFixture>),
+}
+
+/// The coupling of a predicted probe of either kind to a solved fixture at `height_mm`, at the
+/// frequencies of its factor table, the line's current from the fixture's launch model.
+pub fn on_fixture(
+    x: &Predicted,
+    fx: &crate::model::fixture::Fixture,
+    fs: &crate::solve::fixture::SolvedFixture,
+    height_mm: f64,
+) -> Result<OnFixture, crate::error::Error> {
+    match &x.response {
+        crate::physics::predicted::ProbeResponse::Loop(_) => fixture_coupling(x, fx, fs, height_mm)
+            .map(|c| OnFixture::Loop(Box::new(c)))
+            .ok_or_else(|| crate::error::Error::Unsolvable("a loop without a response".into())),
+        crate::physics::predicted::ProbeResponse::Electric(r) => {
+            let secs = crate::solve::fixture::launch_sections(fx, fs).unwrap_or_default();
+            let beyond: Vec<_> = secs.iter().rev().copied().collect();
+            let r_port = crate::physics::R_LOAD;
+            let current =
+                |f: f64| crate::physics::coupling::launch_current(&secs, &beyond, r_port, f);
+            let freqs: Vec<f64> = r.factor.iter().map(|(f, _)| *f).collect();
+            electric_fixture_coupling(r, fx, fs, height_mm, &freqs, &current, r_port)
+                .map(|c| OnFixture::Electric(Box::new(c)))
+        }
+    }
+}

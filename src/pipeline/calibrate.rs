@@ -7,6 +7,10 @@ use crate::calib::touchstone;
 use crate::error::{Error, FieldError};
 use crate::physics::PredictOptions;
 
+use crate::spec::parse_toml;
+use crate::spec::probe::ProbeFileSpec;
+use std::path::{Path, PathBuf};
+
 /// The calibrated loop with its solved values and prediction.
 pub struct Chosen {
     /// The probe.
@@ -16,9 +20,6 @@ pub struct Chosen {
     /// Its response.
     pub response: crate::physics::Response,
 }
-use crate::spec::parse_toml;
-use crate::spec::probe::ProbeFileSpec;
-use std::path::{Path, PathBuf};
 
 /// What a calibration reads. Field errors name the command line's flags (`--height`, ...).
 #[derive(Debug, Clone)]
@@ -158,16 +159,8 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
             format!("name one of the spec's probes: {}", names.join(", ")),
         )]));
     };
-    if let Some(e) = probe.kind.electrode() {
-        return Err(Error::Invalid(vec![FieldError::new(
-            "probe",
-            probe.name.clone(),
-            format!(
-                "is an electric probe (Ø{} mm electrode): its calibration from the fixture's \
-                 line voltage is not built yet; calibrate a loop",
-                crate::model::probe::num(e.diameter)
-            ),
-        )]));
+    if probe.kind.electrode().is_some() {
+        return run_electric(a, probe, (line_port, probe_port), ports);
     }
     let solved = crate::solve::probe::solve(probe)?;
     let response = crate::physics::predict(probe, &solved, &PredictOptions::default())?;
@@ -488,4 +481,177 @@ fn launch_text(secs: &[crate::solve::network::Section]) -> String {
         last.z0(),
         last.eps_eff()
     )
+}
+
+/// An electric probe's calibration: its factor from the line voltage under it, checked by the
+/// gate's level, slope and ripple against the prediction (the loops' diagnosis of single causes
+/// is not run for it: the causes it names are a loop's).
+fn run_electric(
+    a: &Request,
+    probe: &crate::model::probe::Probe,
+    (line_port, probe_port): (usize, usize),
+    ports: usize,
+) -> Result<Calibrated, Error> {
+    let solved = crate::solve::probe::solve(probe)?;
+    let r = crate::physics::electric_probe::predict(probe, &solved, &PredictOptions::default())?;
+    let (fx, fs) = crate::pipeline::load_fixture(&a.fixture)?;
+    let ts_path = a.touchstone.display().to_string();
+    let net = touchstone::parse(&read(&a.touchstone)?, &ts_path, ports)?;
+    let (source, ratio) = line_current(a, &fx, &fs, &net)?;
+    let current = LineCurrent {
+        source,
+        ratio: &*ratio,
+    };
+    let cal = crate::calib::electric::calibrate_electric(
+        &r,
+        &fx,
+        &fs,
+        &net,
+        &ts_path,
+        (line_port, probe_port),
+        a.height,
+        &current,
+    )?;
+    let in_band: Vec<(f64, f64)> = cal
+        .points
+        .iter()
+        .filter(|p| p.in_band)
+        .map(|p| (p.f, p.diff_db()))
+        .collect();
+    let mut verdict = Verdict::new(gate::shape(&in_band), &[]);
+    if !verdict.passed() {
+        match (a.accept_deviation, verdict.shape) {
+            (Some(d), Some(s)) if s.largest_db <= d => verdict.accepted_db = Some(d),
+            _ => {
+                let mut text = format!(
+                    "the measured electric probe factor of {} at {} mm disagrees with the \
+                     prediction beyond the plausibility limits; nothing was written",
+                    probe.name, a.height
+                );
+                for l in verdict.lines() {
+                    text.push('\n');
+                    text.push_str(&l);
+                }
+                return Err(Error::Invalid(vec![FieldError::new(
+                    "touchstone",
+                    a.touchstone.display(),
+                    text,
+                )]));
+            }
+        }
+    }
+    let base_name = &probe.folder;
+    let source = a
+        .touchstone
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_default();
+    let band: Vec<f64> = in_band.iter().map(|p| p.0).collect();
+    let common = [
+        format!("probe: {} (electric)", probe.name),
+        "field reference: E normal to the probe's face averaged over the electrode's collecting \
+         area, the probe held flat; E[dBµV/m] = V_probe[dBµV] + ef_db_per_m"
+            .to_string(),
+        match (band.first(), band.last()) {
+            (Some(lo), Some(hi)) => crate::calib::band::band_line(
+                *lo,
+                *hi,
+                &format!(
+                    "measured points at or below the predicted upper usable frequency {:.6e} Hz",
+                    r.upper_hz
+                ),
+            ),
+            _ => "band: no measured point at or below the upper usable frequency".to_string(),
+        },
+    ];
+    let measured_src = format!(
+        "source: calibrated from {source} (S{probe_port}{line_port}), face {} mm above the line \
+         of {}, on {} by loopwright {}",
+        a.height,
+        fx.name,
+        crate::calib::band::date_utc(),
+        env!("CARGO_PKG_VERSION")
+    );
+    let head = |title: &str, src: &str, gate_lines: bool| {
+        let mut h = vec![title.to_string()];
+        h.extend(common.iter().cloned());
+        h.push(src.to_string());
+        if gate_lines {
+            h.extend(verdict.lines());
+        }
+        h
+    };
+    let predicted_src = format!(
+        "source: predicted by loopwright {} (docs/formulas.md §11) at the frequencies of {source}",
+        env!("CARGO_PKG_VERSION")
+    );
+    let mut files: Vec<(String, Vec<u8>)> = vec![
+        (
+            format!("{base_name}-ef-measured.csv"),
+            crate::emit::calibration::ef_csv(
+                &cal,
+                true,
+                &head(
+                    "loopwright electric probe factor, measured",
+                    &measured_src,
+                    true,
+                ),
+            )
+            .into_bytes(),
+        ),
+        (
+            format!("{base_name}-ef-predicted.csv"),
+            crate::emit::calibration::ef_csv(
+                &cal,
+                false,
+                &head(
+                    "loopwright electric probe factor, predicted",
+                    &predicted_src,
+                    false,
+                ),
+            )
+            .into_bytes(),
+        ),
+        (
+            format!("{base_name}-calibration.csv"),
+            crate::emit::calibration::ef_detail_csv(
+                &cal,
+                &head("loopwright calibration detail", &measured_src, true),
+            )
+            .into_bytes(),
+        ),
+        (
+            format!("{base_name}-calibration.svg"),
+            crate::emit::calibration::ef_plot(&probe.name, &cal, &r).into_bytes(),
+        ),
+    ];
+    let mut names: Vec<String> = files.iter().map(|(n, _)| n.clone()).collect();
+    let notes_name = format!("{base_name}-calibration.md");
+    names.push(notes_name.clone());
+    files.push((
+        notes_name,
+        crate::emit::calibration::ef_notes(probe, &r, &fx, &cal, &source, &names, &verdict)
+            .into_bytes(),
+    ));
+    let mut report = vec![format!(
+        "calibrated {} (electric) on {} at {} mm: {} points, C_c {:.2} fF, {:.1} V/m per line volt",
+        probe.name,
+        fx.name,
+        a.height,
+        cal.points.len(),
+        cal.on.coupling_f * 1e15,
+        cal.on.e_per_volt
+    )];
+    report.push(format!(
+        "line voltage under the probe: {}",
+        cal.current_source
+    ));
+    report.extend(verdict.lines());
+    Ok(Calibrated {
+        files: files
+            .into_iter()
+            .map(|(n, b)| (PathBuf::from(n), b))
+            .collect(),
+        report,
+    })
 }

@@ -8,7 +8,7 @@ use crate::solve::probe::solve;
 use crate::spec::probe::ProbeFileSpec;
 use std::path::Path;
 
-pub use crate::physics::on_fixture::{FixtureCoupling, fixture_coupling};
+pub use crate::physics::on_fixture::{FixtureCoupling, OnFixture, fixture_coupling, on_fixture};
 
 /// Loads a spec and predicts every probe.
 pub fn predict_spec(
