@@ -57,9 +57,45 @@ fn worked_budget_and_log_frequency_interpolation() {
     )
     .unwrap();
     let p = convert(&r, &f, &Gain::Fixed(20.0), 0.0, 0.0, false).unwrap();
-    assert!((p[0].h_dbua_per_m - 56.9897).abs() < 1e-3, "{p:?}");
-    assert!((p[0].h_a_per_m / 7.0674e-4 - 1.0).abs() < 1e-3);
-    assert!((p[0].b_dbpt - p[0].h_dbua_per_m - dbua_to_dbpt_offset()).abs() < 1e-12);
+    assert!((p[0].field_db - 56.9897).abs() < 1e-3, "{p:?}");
+    assert!((p[0].field / 7.0674e-4 - 1.0).abs() < 1e-3);
+    assert!((p[0].b_dbpt.unwrap() - p[0].field_db - dbua_to_dbpt_offset()).abs() < 1e-12);
+}
+
+// The same budget with an electric probe's factor (E[dBµV/m] = V[dBµV] + EF[dB(1/m)]): −50 dBm
+// with a 20 dB preamp, a 10 dB pad and 1.5 dB of cable, EF = 120 dB(1/m) at 100 MHz:
+// V = −50 + 106.99 − 20 + 10 + 1.5 = 48.49 dBµV, E = 168.49 dBµV/m = 265.6 V/m (hand
+// arithmetic); no B column, and the output names E.
+#[test]
+fn an_electric_factor_gives_the_electric_field() {
+    let r = parse_table("freq_hz,level_dbm\n1e8,-50\n", "r", &["level_dbm"]).unwrap();
+    let f = parse_table(
+        "freq_hz,ef_db_per_m\n1e7,140\n1e9,100\n",
+        "f",
+        &["pf_db_s_per_m", "ef_db_per_m"],
+    )
+    .unwrap();
+    let p = convert(&r, &f, &Gain::Fixed(20.0), 10.0, 1.5, false).unwrap();
+    assert!((p[0].field_db - 168.4897).abs() < 1e-3, "{p:?}");
+    assert!((p[0].field / 265.6 - 1.0).abs() < 1e-3, "{}", p[0].field);
+    assert!(p[0].b_dbpt.is_none());
+    let csv = loopwright::calib::convert::to_csv(&p);
+    assert!(
+        csv.starts_with("freq_hz,e_dbuv_per_m,e_v_per_m,v_probe_dbuv\n"),
+        "{csv}"
+    );
+    // A value no electric probe can have is refused with its line.
+    let e = parse_table(
+        "freq_hz,ef_db_per_m\n1e7,-20\n",
+        "f",
+        &["pf_db_s_per_m", "ef_db_per_m"],
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(
+        e.contains("line 2") && e.contains("0 to 350 dB(1/m)"),
+        "{e}"
+    );
 }
 
 // Common practice: a 10 dB attenuator after a 30 dB preamp reads the same as a 20 dB preamp.

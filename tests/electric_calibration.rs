@@ -118,6 +118,28 @@ fn the_predicted_s21_gives_back_the_predicted_factor() {
             .iter()
             .all(|d| d.abs() < 1e-3)
     );
+    // The measured table feeds `convert`, which gives E from it: at the table's 10th frequency a
+    // reading of −60 dBm with no preamp is E = −60 + 106.99 + EF dBµV/m.
+    let table = common::tmp_file("e2-ef-measured.csv", &file("-ef-measured.csv"));
+    let (f10, ef10) = (pts[10].0, measured[10]);
+    let readings = common::tmp_file(
+        "e2-readings.csv",
+        &format!("freq_hz,level_dbm\n{f10},-60\n"),
+    );
+    let out = table.with_file_name("e2-field.csv");
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .args(["convert", "--readings"])
+        .arg(&readings)
+        .arg("--factor")
+        .arg(&table)
+        .args(["--gain-db", "0", "--out"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let field = std::fs::read_to_string(&out).unwrap();
+    let e = column(&field, "e_dbuv_per_m");
+    assert!((e[0] - (-60.0 + 106.9897 + ef10)).abs() < 1e-3, "{field}");
     let notes = file("-calibration.md");
     assert!(notes.contains("E / V_probe") && notes.contains("SAFETY"));
     assert!(c.report[0].contains("FM-E2 (electric)"), "{:?}", c.report);

@@ -1,7 +1,8 @@
 //! Analyzer readings to field strength.
 //!
 //! V_probe[dBµV] = reading[dBµV] − preamp gain[dB] + attenuator[dB] + cable loss[dB];
-//! H[dBµA/m] = V_probe[dBµV] + PF[dB(S/m)]; B[dBpT] = H[dBµA/m] + 20·log10(μ0·10⁶ T·m/A / 10⁻⁶)
+//! H[dBµA/m] = V_probe[dBµV] + PF[dB(S/m)] with a loop's factor, E[dBµV/m] = V_probe[dBµV] +
+//! EF[dB(1/m)] with an electric probe's; B[dBpT] = H[dBµA/m] + 20·log10(μ0·10⁶ T·m/A / 10⁻⁶)
 //! = H + 1.98 dB; dBm → dBµV in 50 Ω: + 10·log10(50 Ω · 1 mW)·… = +106.99 dB.
 //! Tables (probe factor, gain) are interpolated linearly in log-frequency.
 
@@ -46,12 +47,16 @@ pub const FREQ_RANGE_HZ: (f64, f64) = (1.0, 1e12);
 ///   1 mm loop read at 1 Hz is about +224 dB(S/m) (the top of the frequency range, the
 ///   smallest loop); above the corner the factor flattens at L/(μ0·A·50 Ω), about −3 dB(S/m)
 ///   for a 100 mm loop. Printed probes lie well inside.
+/// - `ef_db_per_m`: 0 to +350 dB(1/m). Below its corner an electrode gives V = ω·ε0·A·R·E, so
+///   a 1 mm disc read at 1 Hz is about +313 dB(1/m); above the corner the factor flattens at
+///   C_self/(ε0·A), about +70 dB(1/m) for a 20 mm disc (docs/formulas.md §11).
 /// - `gain_db`: −100 to +100 dB, as `--gain-db`.
 pub fn column_range(column: &str) -> Option<(f64, f64, &'static str)> {
     match column {
         "level_dbm" => Some((-200.0, 60.0, "dBm")),
         "level_dbuv" => Some((-93.01, 166.99, "dBµV")),
         "pf_db_s_per_m" => Some((-100.0, 250.0, "dB(S/m)")),
+        "ef_db_per_m" => Some((0.0, 350.0, "dB(1/m)")),
         "gain_db" => Some((-100.0, 100.0, "dB")),
         _ => None,
     }
@@ -323,22 +328,77 @@ pub enum Gain {
     Table(Table),
 }
 
+/// What a factor table converts to, by its column: a loop's `pf_db_s_per_m` gives H, an
+/// electric probe's `ef_db_per_m` gives E.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Quantity {
+    /// H in dBµA/m (and B in dBpT).
+    Magnetic,
+    /// E in dBµV/m.
+    Electric,
+}
+
+impl Quantity {
+    /// The quantity a factor table's column gives.
+    pub fn of(column: &str) -> Quantity {
+        if column == "ef_db_per_m" {
+            Quantity::Electric
+        } else {
+            Quantity::Magnetic
+        }
+    }
+
+    /// The output's column names after `freq_hz` (without a trace suffix).
+    pub fn columns(self) -> &'static [&'static str] {
+        match self {
+            Quantity::Magnetic => &["h_dbua_per_m", "h_a_per_m", "b_dbpt", "v_probe_dbuv"],
+            Quantity::Electric => &["e_dbuv_per_m", "e_v_per_m", "v_probe_dbuv"],
+        }
+    }
+
+    /// The field's unit in dB, for plots.
+    pub fn db_label(self) -> &'static str {
+        match self {
+            Quantity::Magnetic => "H dBµA/m",
+            Quantity::Electric => "E dBµV/m",
+        }
+    }
+}
+
 /// One converted point.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FieldPoint {
     /// Hz.
     pub freq_hz: f64,
-    /// dBµA/m.
-    pub h_dbua_per_m: f64,
-    /// A/m.
-    pub h_a_per_m: f64,
-    /// dBpT.
-    pub b_dbpt: f64,
+    /// What the field is.
+    pub quantity: Quantity,
+    /// The field: dBµA/m (magnetic) or dBµV/m (electric).
+    pub field_db: f64,
+    /// The field: A/m (magnetic) or V/m (electric).
+    pub field: f64,
+    /// dBpT (magnetic only).
+    pub b_dbpt: Option<f64>,
     /// The voltage at the probe's connector, dBµV.
     pub v_probe_dbuv: f64,
 }
 
-/// Converts readings (dBm or dBµV, per the table's column) into field strength.
+impl FieldPoint {
+    /// The values of [`Quantity::columns`], in order, formatted.
+    fn cells(&self) -> Vec<String> {
+        let mut v = vec![
+            format!("{:.4}", self.field_db),
+            format!("{:.6e}", self.field),
+        ];
+        if let Some(b) = self.b_dbpt {
+            v.push(format!("{b:.4}"));
+        }
+        v.push(format!("{:.4}", self.v_probe_dbuv));
+        v
+    }
+}
+
+/// Converts readings (dBm or dBµV, per the table's column) into field strength: H with a
+/// loop's factor table, E with an electric probe's ([`Quantity::of`] its column).
 pub fn convert(
     readings: &Table,
     factor: &Table,
@@ -379,48 +439,48 @@ pub fn convert(
             level
         };
         let v_probe = dbuv - g + atten_db + cable_db;
-        let h = v_probe + pf;
+        let field = v_probe + pf;
+        let quantity = Quantity::of(&factor.column);
         out.push(FieldPoint {
             freq_hz: f,
-            h_dbua_per_m: h,
-            h_a_per_m: 10f64.powf(h / 20.0) * 1e-6,
-            b_dbpt: h + dbua_to_dbpt_offset(),
+            quantity,
+            field_db: field,
+            field: 10f64.powf(field / 20.0) * 1e-6,
+            b_dbpt: (quantity == Quantity::Magnetic).then(|| field + dbua_to_dbpt_offset()),
             v_probe_dbuv: v_probe,
         });
     }
     Ok(out)
 }
 
-/// The output CSV.
+/// The output CSV: `freq_hz` and the columns of the points' [`Quantity`].
 pub fn to_csv(points: &[FieldPoint]) -> String {
-    let mut s = String::from("freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv\n");
+    let q = points.first().map_or(Quantity::Magnetic, |p| p.quantity);
+    let mut s = format!("freq_hz,{}\n", q.columns().join(","));
     for p in points {
-        s.push_str(&format!(
-            "{},{:.4},{:.6e},{:.4},{:.4}\n",
-            p.freq_hz, p.h_dbua_per_m, p.h_a_per_m, p.b_dbpt, p.v_probe_dbuv
-        ));
+        s.push_str(&format!("{},{}\n", p.freq_hz, p.cells().join(",")));
     }
     s
 }
 
-/// The output CSV of several traces read at the same frequencies: `freq_hz`, then the four
-/// columns of [`to_csv`] for each trace with the suffix `_t1`, `_t2`...
+/// The output CSV of several traces read at the same frequencies: `freq_hz`, then the columns
+/// of [`to_csv`] for each trace with the suffix `_t1`, `_t2`...
 pub fn to_csv_traces(traces: &[Vec<FieldPoint>]) -> String {
+    let q = traces
+        .first()
+        .and_then(|t| t.first())
+        .map_or(Quantity::Magnetic, |p| p.quantity);
     let mut s = String::from("freq_hz");
     for k in 1..=traces.len() {
-        s.push_str(&format!(
-            ",h_dbua_per_m_t{k},h_a_per_m_t{k},b_dbpt_t{k},v_probe_dbuv_t{k}"
-        ));
+        for c in q.columns() {
+            s.push_str(&format!(",{c}_t{k}"));
+        }
     }
     s.push('\n');
     for (i, p0) in traces[0].iter().enumerate() {
         s.push_str(&format!("{}", p0.freq_hz));
         for t in traces {
-            let p = &t[i];
-            s.push_str(&format!(
-                ",{:.4},{:.6e},{:.4},{:.4}",
-                p.h_dbua_per_m, p.h_a_per_m, p.b_dbpt, p.v_probe_dbuv
-            ));
+            s.push_str(&format!(",{}", t[i].cells().join(",")));
         }
         s.push('\n');
     }

@@ -14,7 +14,9 @@ pub struct ConvertArgs {
     /// `;`, tab or `,` separators, decimal commas, several level columns; docs/file-formats.md).
     #[arg(long, value_name = "FILE.csv")]
     pub readings: PathBuf,
-    /// Probe factor: CSV with header `freq_hz,pf_db_s_per_m` (predicted or calibrated).
+    /// Probe factor: CSV with header `freq_hz,pf_db_s_per_m` (a loop's, predicted or
+    /// calibrated: the output is H) or `freq_hz,ef_db_per_m` (an electric probe's: the output
+    /// is E).
     #[arg(long, value_name = "FILE.csv")]
     pub factor: PathBuf,
     /// Preamplifier gain, dB (0 when there is none).
@@ -29,8 +31,9 @@ pub struct ConvertArgs {
     /// Cable loss, dB (added back).
     #[arg(long = "cable-db", value_name = "C", default_value_t = 0.0)]
     pub cable_db: f64,
-    /// Output CSV (`freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv`; with several level
-    /// columns, those four per trace with the suffix `_t1`, `_t2`...).
+    /// Output CSV (`freq_hz,h_dbua_per_m,h_a_per_m,b_dbpt,v_probe_dbuv` from a loop's factor,
+    /// `freq_hz,e_dbuv_per_m,e_v_per_m,v_probe_dbuv` from an electric probe's; with several
+    /// level columns, those per trace with the suffix `_t1`, `_t2`...).
     #[arg(long, value_name = "FILE.csv")]
     pub out: PathBuf,
     /// Also draw the field strength against frequency as an SVG plot.
@@ -101,7 +104,8 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
     }
     let export = crate::calib::export::read_readings(&a.readings)?;
     let readings = &export.traces[0];
-    let factor = read_table(&a.factor, &["pf_db_s_per_m"])?;
+    let factor = read_table(&a.factor, &["pf_db_s_per_m", "ef_db_per_m"])?;
+    let quantity = crate::calib::convert::Quantity::of(&factor.column);
     // The usable band the factor's comment lines state (calibrate writes it).
     let band = std::fs::read_to_string(&a.factor)
         .ok()
@@ -182,7 +186,7 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
                     format!("{label} (t{})", k + 1)
                 },
                 colour: crate::emit::report::COLOURS[k % crate::emit::report::COLOURS.len()],
-                points: pts.iter().map(|p| (p.freq_hz, p.h_dbua_per_m)).collect(),
+                points: pts.iter().map(|p| (p.freq_hz, p.field_db)).collect(),
                 corner_hz: None,
                 above_hz: band.map(|(_, hi)| hi),
             })
@@ -191,7 +195,7 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
             plot.clone(),
             crate::emit::plot::log_plot(
                 "Field strength from the analyzer readings",
-                "H dBµA/m",
+                quantity.db_label(),
                 "field-plot",
                 &series,
             ),
@@ -201,7 +205,7 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
     let max = traces
         .iter()
         .flatten()
-        .map(|p| p.h_dbua_per_m)
+        .map(|p| p.field_db)
         .fold(f64::NEG_INFINITY, f64::max);
     if let (Some((_, hi)), Some(lo), Some(top)) = (band, above.first(), above.last()) {
         eprintln!(
@@ -216,11 +220,15 @@ pub(super) fn run(a: &ConvertArgs) -> Result<(), Error> {
         outln!("read {}: {}", a.readings.display(), export.form);
     }
     outln!(
-        "{} points written to {}; highest field {:.2} dBµA/m. Near-field readings locate and rank \
+        "{} points written to {}; highest field {:.2} {}. Near-field readings locate and rank \
          sources; they do not predict a compliance result.",
         points.len(),
         a.out.display(),
-        max
+        max,
+        match quantity {
+            crate::calib::convert::Quantity::Magnetic => "dBµA/m",
+            crate::calib::convert::Quantity::Electric => "dBµV/m",
+        }
     );
     Ok(())
 }
