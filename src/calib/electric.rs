@@ -3,8 +3,9 @@
 //! Held flat over the fixture's line with its electrode centred, the probe's face `height` above
 //! the copper, the electrode sees the field E = C_c·V_line/(ε0·A_eff) averaged over its
 //! collecting area (Gauss's law; C_c the line-to-electrode capacitance of the fixture's own
-//! cross-section, A_eff the collecting area), and V_line = I·Z0 with I the line current per
-//! V_inc/R (the fixture's launch model, or V_inc/R on a uniform line). The measured |S21| =
+//! cross-section, A_eff the collecting area), and V_line the line voltage under the probe
+//! (the fixture's launch model: the current there times the impedance the rest of the line
+//! presents; or V_inc on a uniform matched line). The measured |S21| =
 //! |V_out/V_inc| then gives the factor E/V_out:
 //! EF = 20·log10(C_c/(ε0·A_eff)) + 20·log10|V_line/V_inc| − |S21|dB − 20·log10(|1 + jωR(C_s +
 //! C_c)|/|1 + jωR·C_s|), the last term taking off the fixture line's own loading of the
@@ -65,7 +66,8 @@ pub fn line_loading_db(f: f64, c_self: f64, c_c: f64) -> f64 {
 }
 
 /// Derives an electric probe's factor from a network measured on a fixture, with the checks
-/// every calibration makes ([`measured_transmission`]). `path` names the file in errors.
+/// every calibration makes ([`measured_transmission`]). `path` names the file in errors;
+/// `voltage.ratio` is the line voltage under the probe per V_inc.
 #[allow(clippy::too_many_arguments)]
 pub fn calibrate_electric(
     r: &ElectricResponse,
@@ -75,11 +77,11 @@ pub fn calibrate_electric(
     path: &str,
     ports: (usize, usize),
     height_mm: f64,
-    current: &LineCurrent,
+    voltage: &LineCurrent,
 ) -> Result<ElectricCalibration, Error> {
     let s21 = measured_transmission(net, path, ports, height_mm, fx.target_z0)?;
     let freqs: Vec<f64> = s21.iter().map(|p| p.0).collect();
-    let on = electric_fixture_coupling(r, fx, fs, height_mm, &freqs, current.ratio, net.r_ref)?;
+    let on = electric_fixture_coupling(r, fx, fs, height_mm, &freqs, voltage.ratio)?;
     let e_db = 20.0 * on.e_per_volt.log10();
     let points = s21
         .iter()
@@ -102,6 +104,6 @@ pub fn calibrate_electric(
         points,
         on,
         ports,
-        current_source: current.source.clone(),
+        current_source: voltage.source.clone(),
     })
 }

@@ -123,7 +123,7 @@ pub fn on_fixture_json(c: &OnFixture) -> Value {
             "coupling_capacitance_ff": c.coupling_f * 1e15,
             "e_per_volt_per_m": c.e_per_volt,
             "line_z0_ohms": c.line_z0,
-            "field_reference": "E normal to the face averaged over the electrode's collecting area, E = C_c·V_line/(ε0·A_eff); V_line = I·Z0 with I from the fixture's launch model",
+            "field_reference": "E normal to the face averaged over the electrode's collecting area, E = C_c·V_line/(ε0·A_eff); V_line the line voltage under the probe from the fixture's launch model",
             "s21": c.s21.iter().zip(&c.line_voltage_db).map(|((f, db, deg), v)| json!({"freq_hz": f, "db": db, "deg": deg, "line_voltage_db": v})).collect::<Vec<_>>(),
         }),
     }

@@ -194,6 +194,14 @@ pub fn launch_current(to_probe: &[Section], beyond: &[Section], r_port: f64, f: 
     current_ratio(&cascade(to_probe, f), z, r_port)
 }
 
+/// The line voltage at the probe per V_inc at `f` Hz (the same line as [`launch_current`]):
+/// the current there times the impedance the rest of the line presents, V = I·Z_beyond (1 at
+/// some phase on a matched uniform line; not I·Z0 where the line carries standing waves).
+pub fn launch_voltage(to_probe: &[Section], beyond: &[Section], r_port: f64, f: f64) -> super::Cx {
+    let z = cascade(beyond, f).z_in(super::Cx::new(r_port, 0.0));
+    current_ratio(&cascade(to_probe, f), z, r_port) * z * super::Cx::new(1.0 / r_port, 0.0)
+}
+
 #[cfg(test)]
 mod launch_tests {
     use super::*;
@@ -227,5 +235,38 @@ mod launch_tests {
         let k = launch_current(&[q], &[], 50.0, f);
         let g: f64 = 150.0 / 250.0;
         assert!((k.abs() - (1.0 - g * g).sqrt()).abs() < 1e-12, "{k:?}");
+        // The voltage at its far end, across the 50 Ω: the same power, so |V2|²/50 = P_in.
+        let v = launch_voltage(&[q], &[], 50.0, f);
+        assert!((v.abs() - (1.0 - g * g).sqrt()).abs() < 1e-12, "{v:?}");
+    }
+
+    #[test]
+    fn the_voltage_is_the_incident_one_at_dc_whatever_the_sections() {
+        // At DC a lossless line is a wire: the 50 Ω source into the 50 Ω load gives V = V_inc
+        // everywhere, whatever the sections' Z0 (circuit theory). Just above DC it is within
+        // (βl)² of it; the current ratio times Z0 (the wrong form) is Z0/R off.
+        let sec = |z0| Section::Line {
+            z0,
+            eps_eff: 3.0,
+            len_m: 0.02,
+        };
+        let v = launch_voltage(&[sec(93.0), sec(40.0)], &[sec(40.0), sec(93.0)], 50.0, 1e3);
+        assert!((v.abs() - 1.0).abs() < 1e-9, "{v:?}");
+        // At a frequency where the far part is a quarter wave of 93 Ω into 50 Ω, the probe sees
+        // 93²/50 = 173 Ω beyond it: the voltage is I·173 Ω, not I·Z0.
+        let f = 1e9;
+        let lq = super::super::C0 / (4.0 * f * 3f64.sqrt());
+        let q = Section::Line {
+            z0: 93.0,
+            eps_eff: 3.0,
+            len_m: lq,
+        };
+        let i = launch_current(&[], &[q], 50.0, f);
+        let v = launch_voltage(&[], &[q], 50.0, f);
+        // (V per V_inc, I per V_inc/50 Ω: their ratio is Z_beyond/50 Ω.)
+        assert!(
+            (v.abs() / i.abs() - 93.0 * 93.0 / 50.0 / 50.0).abs() < 1e-9,
+            "{v:?} {i:?}"
+        );
     }
 }

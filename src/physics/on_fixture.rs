@@ -90,7 +90,7 @@ pub struct ElectricOnFixture {
     /// The field normal to the face averaged over the collecting area, per volt on the line,
     /// 1/m: C_c/(ε0·A_eff) (Gauss's law).
     pub e_per_volt: f64,
-    /// Z0 of the fixture's line, Ω (the voltage under the probe is the line current times it).
+    /// Z0 of the fixture's line (its field solution), Ω, for the record.
     pub line_z0: f64,
     /// Predicted S21 (line input to probe output) at `freqs`: (Hz, dB, degrees).
     pub s21: Vec<(f64, f64, f64)>,
@@ -108,16 +108,15 @@ pub fn electric_transfer(f: f64, c_c: f64, c_self: f64, r_load: f64) -> crate::m
 }
 
 /// The coupling of a predicted electric probe to a solved fixture at `height_mm`, with the line
-/// voltage under the probe from `line_current` (the line current per V_inc/R at a frequency,
-/// R the port impedance): V_line = I·Z0, Z0 the line's solved impedance.
+/// voltage under the probe per V_inc from `line_voltage` (the fixture's launch model:
+/// `coupling::launch_voltage`; or 1 on a uniform matched line).
 pub fn electric_fixture_coupling(
     r: &crate::physics::electric_probe::ElectricResponse,
     fx: &crate::model::fixture::Fixture,
     fs: &crate::solve::fixture::SolvedFixture,
     height_mm: f64,
     freqs: &[f64],
-    line_current: &dyn Fn(f64) -> crate::math::Cx,
-    r_port: f64,
+    line_voltage: &dyn Fn(f64) -> crate::math::Cx,
 ) -> Result<ElectricOnFixture, crate::error::Error> {
     let q =
         crate::physics::electrode::surface_coupling(&fs.line, height_mm, r.r_eff_m * 1e3, &[0.0])?;
@@ -126,7 +125,7 @@ pub fn electric_fixture_coupling(
     let mut s21 = Vec::new();
     let mut line_voltage_db = Vec::new();
     for &f in freqs {
-        let v_line = line_current(f) * crate::math::Cx::new(line_z0 / r_port, 0.0);
+        let v_line = line_voltage(f);
         let s = electric_transfer(f, c_c, r.c_self, crate::physics::R_LOAD) * v_line;
         s21.push((f, 20.0 * s.abs().log10(), s.im.atan2(s.re).to_degrees()));
         line_voltage_db.push(20.0 * v_line.abs().log10());
@@ -166,10 +165,10 @@ pub fn on_fixture(
             let secs = crate::solve::fixture::launch_sections(fx, fs).unwrap_or_default();
             let beyond: Vec<_> = secs.iter().rev().copied().collect();
             let r_port = crate::physics::R_LOAD;
-            let current =
-                |f: f64| crate::physics::coupling::launch_current(&secs, &beyond, r_port, f);
+            let voltage =
+                |f: f64| crate::physics::coupling::launch_voltage(&secs, &beyond, r_port, f);
             let freqs: Vec<f64> = r.factor.iter().map(|(f, _)| *f).collect();
-            electric_fixture_coupling(r, fx, fs, height_mm, &freqs, &current, r_port)
+            electric_fixture_coupling(r, fx, fs, height_mm, &freqs, &voltage)
                 .map(|c| OnFixture::Electric(Box::new(c)))
         }
     }

@@ -175,7 +175,7 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     let ts_path = a.touchstone.display().to_string();
     let net = touchstone::parse(&read(&a.touchstone)?, &ts_path, ports)?;
     let line = fs.test_line(net.r_ref);
-    let (source, ratio) = line_current(a, &fx, &fs, &net)?;
+    let (source, ratio) = line_current(a, &fx, &fs, &net, false)?;
     let current = LineCurrent {
         source,
         ratio: &*ratio,
@@ -428,22 +428,30 @@ fn gate(
     )]))
 }
 
-/// The current under the probe per V_inc/R_ref, and what it rests on: a uniform matched line
-/// (`--uniform-line`) or the fixture's launch model.
+/// The current under the probe per V_inc/R_ref (or, with `voltage`, the line voltage there per
+/// V_inc), and what it rests on: a uniform matched line (`--uniform-line`) or the fixture's
+/// launch model.
 #[allow(clippy::type_complexity)]
 fn line_current(
     a: &Request,
     fx: &crate::model::fixture::Fixture,
     fs: &crate::solve::fixture::SolvedFixture,
     net: &touchstone::Network,
+    voltage: bool,
 ) -> Result<(String, Box<dyn Fn(f64) -> crate::math::Cx>), Error> {
-    use crate::physics::coupling::launch_current;
+    use crate::physics::coupling::{launch_current, launch_voltage};
     let r = net.r_ref;
     if a.uniform_line {
+        let what = if voltage {
+            "V = V_inc"
+        } else {
+            "I = V_inc/R_ref"
+        };
         return Ok((
-            "a uniform matched line, I = V_inc/R_ref (--uniform-line: the fixture's launches \
-             are ignored)"
-                .into(),
+            format!(
+                "a uniform matched line, {what} (--uniform-line: the fixture's launches are \
+                 ignored)"
+            ),
             Box::new(|_| crate::math::Cx::new(1.0, 0.0)),
         ));
     }
@@ -453,7 +461,11 @@ fn line_current(
     let text = launch_text(&secs);
     Ok((
         format!("the fixture's launch model: {text}"),
-        Box::new(move |f| launch_current(&secs, &beyond, r, f)),
+        if voltage {
+            Box::new(move |f| launch_voltage(&secs, &beyond, r, f))
+        } else {
+            Box::new(move |f| launch_current(&secs, &beyond, r, f))
+        },
     ))
 }
 
@@ -497,7 +509,7 @@ fn run_electric(
     let (fx, fs) = crate::pipeline::load_fixture(&a.fixture)?;
     let ts_path = a.touchstone.display().to_string();
     let net = touchstone::parse(&read(&a.touchstone)?, &ts_path, ports)?;
-    let (source, ratio) = line_current(a, &fx, &fs, &net)?;
+    let (source, ratio) = line_current(a, &fx, &fs, &net, true)?;
     let current = LineCurrent {
         source,
         ratio: &*ratio,
