@@ -244,6 +244,10 @@ fn electric_cases() -> Vec<Case<ProbeCase>> {
             // The mask left whole over the bottom face's electrode.
             c.art.mask_bottom.retain(|f| f.at.to_vec2().hypot() > 1e-6);
         }),
+        (Rule::ElectrodeExposed, |c| {
+            // A notch bitten out of the bottom face's electrode at its rim.
+            cut(&mut c.art, 4, square(Point::new(0.95, 0.0), 0.15));
+        }),
         (Rule::ElectrodeClearance, |c| {
             // A tongue of the inner shield (L3) reaching half way into the clearance.
             let e = c.p.kind.electrode().unwrap();

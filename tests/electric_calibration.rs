@@ -165,3 +165,48 @@ fn wrong_data_is_refused() {
         .to_string();
     assert!(err.contains("beyond the plausibility limits"), "{err}");
 }
+
+// The face rests over any fixture line a user can build: on a grounded coplanar line too (its
+// coplanar grounds on the surface under the face), the loops' predictions unaffected; a face
+// lower than the coated line's solder mask is refused naming --height.
+#[test]
+fn the_electric_probe_couples_to_a_coplanar_fixture_and_the_coat_bounds_the_height() {
+    let text = std::fs::read_to_string(demo("fenwick-marsh-fixture.toml"))
+        .unwrap()
+        .replace("structure = \"microstrip\"", "structure = \"cpwg\"");
+    assert!(text.contains("\"cpwg\""));
+    let cpwg = common::tmp_file("cpwg-fixture.toml", &text);
+    let predict = |fixture: &Path, height: &str| {
+        std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
+            .args([
+                "predict",
+                demo("fenwick-marsh-probes.toml").to_str().unwrap(),
+            ])
+            .arg("--fixture")
+            .arg(fixture)
+            .args(["--height", height, "--json"])
+            .output()
+            .unwrap()
+    };
+    let o = predict(&cpwg, "1");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    for p in v["probes"].as_array().unwrap() {
+        let c = &p["fixture_coupling"];
+        if p["kind"] == "electric" {
+            let cc = c["coupling_capacitance_ff"].as_f64().unwrap();
+            // Near the microstrip fixture's 36 fF: the coplanar grounds take some of the field.
+            assert!(cc > 10.0 && cc < 40.0, "{cc} fF");
+        } else {
+            assert!(c["mutual_ph"].as_f64().unwrap() > 0.0);
+        }
+    }
+    // The demo fixture's line is coated (the 2-layer stackup's mask, 0.02 mm over it).
+    let o = predict(&demo("fenwick-marsh-fixture.toml"), "0.01");
+    assert!(!o.status.success());
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("--height = 0.01") && err.contains("coat"),
+        "{err}"
+    );
+}

@@ -391,3 +391,44 @@ fn predict_gives_the_electric_probe_its_factor_coupling_and_band() {
     let res = j["resolution_mm"].as_f64().unwrap();
     assert!(res > 2.0 && res < 10.0, "{res} mm");
 }
+
+// Options a loop takes but the electric probe's scene cannot (its face on the copper or far
+// off, a trace too thin or too high for a 50 Ω microstrip) are refused naming the flag, the
+// value, the range and the probe.
+#[test]
+fn options_outside_the_electric_scene_are_refused_with_their_range() {
+    let spec: loopwright::spec::probe::ProbeFileSpec =
+        toml::from_str(loopwright::cli::DEMO_SPEC).unwrap();
+    let run = |height_mm: f64, trace_h_mm: f64| {
+        let o = loopwright::physics::PredictOptions {
+            height_mm,
+            trace_h_mm,
+            ..Default::default()
+        };
+        loopwright::pipeline::predict::predict_spec(&spec, std::path::Path::new("."), &o)
+            .err()
+            .map(|e| e.to_string())
+            .unwrap_or_default()
+    };
+    for (h, t, want) in [
+        (
+            0.0,
+            1.5,
+            "--height = 0: must be above 0 and at most 20 mm for the electric probe 'FM-E2'",
+        ),
+        (
+            30.0,
+            1.5,
+            "--height = 30: must be above 0 and at most 20 mm",
+        ),
+        (
+            1.0,
+            0.01,
+            "--trace-h = 0.01: must be from 0.05 to 20 mm for the electric probe 'FM-E2'",
+        ),
+    ] {
+        let e = run(h, t);
+        assert!(e.contains(want), "{e}");
+    }
+    assert_eq!(run(1.0, 1.5), "");
+}

@@ -84,7 +84,21 @@ fn electric_probe_fields_are_checked_and_loop_fields_refused() {
     );
     refused(
         &format!("{e}electrode_diameter_mm = 0.4\n"),
-        &["probe[1].electrode_diameter_mm = 0.4", "0.6", "20"],
+        &[
+            "probe[1].electrode_diameter_mm = 0.4",
+            "via pad (0.6 mm",
+            "20",
+        ],
+    );
+    // The clearance is held to 0.6 of the radius: the collecting radius r + c/2 is checked
+    // that far (tests/electrode.rs).
+    refused(
+        &format!("{e}electrode_diameter_mm = 1\nelectrode_clearance_mm = 0.5\n"),
+        &[
+            "probe[1].electrode_clearance_mm = 0.5",
+            "at most 0.3 mm",
+            "0.6 of",
+        ],
     );
     refused(
         &format!("{e}electrode_diameter_mm = 1\nelectrode_clearance_mm = 0.05\n"),

@@ -63,8 +63,9 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
         outln!("{l}");
     }
     outln!(
-        "wrote {} (field reference: uniform H normal to the loop)",
-        a.out.display()
+        "wrote {} (field reference: {})",
+        a.out.display(),
+        done.field_reference
     );
     outln!("\n{}", super::CAL_CAUTIONS);
     Ok(())

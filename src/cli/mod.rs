@@ -27,13 +27,14 @@ use clap::{Parser, Subcommand};
 
 pub use crate::emit::cautions::{CAL_CAUTIONS, CAUTIONS};
 
-/// loopwright: design printed-circuit shielded H-field loop probes for near-field EMC work.
+/// loopwright: design printed-circuit shielded near-field probes (H-field loops, electric-field
+/// probes) for EMC work.
 #[derive(Debug, Parser)]
 #[command(
     name = "loopwright",
     version,
-    about = "Design printed-circuit shielded H-field loop probes: trace impedance, \
-             board layout, predicted response and calibration.",
+    about = "Design printed-circuit shielded near-field probes (H-field loops, electric-field \
+             probes): trace impedance, board layout, predicted response and calibration.",
     after_help = CAUTIONS,
     allow_negative_numbers = true
 )]

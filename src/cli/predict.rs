@@ -17,7 +17,8 @@ use std::path::{Path, PathBuf};
 pub struct PredictArgs {
     /// The probe or family spec (TOML).
     pub spec: PathBuf,
-    /// Height of the probe's tip above the scanned trace, mm (resolution and coupling).
+    /// Height of the probe's tip above the scanned trace, mm (resolution and coupling; for an
+    /// electric probe, held flat, its face's height).
     #[arg(long, value_name = "MM", default_value_t = PredictOptions::default().height_mm)]
     pub height: f64,
     /// Height of the scanned trace above its ground plane, mm.
@@ -59,8 +60,23 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
     let couplings: Vec<OnFixture> = match &a.fixture {
         Some(path) => {
             let (fx, fs) = crate::pipeline::load_fixture(path)?;
+            // The height is this command's flag.
+            let flag = |e: Error| match e {
+                Error::Invalid(v) => Error::Invalid(
+                    v.into_iter()
+                        .map(|f| {
+                            if f.field == "height" {
+                                f.prefixed("--")
+                            } else {
+                                f
+                            }
+                        })
+                        .collect(),
+                ),
+                other => other,
+            };
             all.iter()
-                .map(|x| on_fixture(x, &fx, &fs, a.height))
+                .map(|x| on_fixture(x, &fx, &fs, a.height).map_err(flag))
                 .collect::<Result<_, _>>()?
         }
         None => Vec::new(),

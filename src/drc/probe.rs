@@ -82,10 +82,16 @@ fn electrode_rules(art: &Artwork, e: &crate::model::probe::Electrode) -> Vec<Vio
                 });
             }
         }
-        let shield_in = copper
-            .difference(&electrode_area)
-            .intersection(&keep)
-            .unsigned_area();
+        // The electrode's own copper on this layer: its disc on the outer layers, the line and
+        // the via's land on the signal layer, nothing on the others.
+        let own = if l.n == 1 || l.n == n_layers {
+            MultiPolygon(vec![circle(Point::ZERO, r + slack::GRID)])
+        } else if l.signal {
+            electrode_area.clone()
+        } else {
+            MultiPolygon(vec![])
+        };
+        let shield_in = copper.difference(&own).intersection(&keep).unsigned_area();
         if shield_in > slack::AREA {
             out.push(Violation {
                 rule: Rule::ElectrodeClearance,

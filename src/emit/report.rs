@@ -16,8 +16,9 @@ pub const COLOURS: [&str; 8] = [
 ];
 
 /// A drawing of the stackup's cross-section, thicknesses to scale (thin layers drawn at a
-/// minimum height so they stay visible), with each layer's role for the probe.
-pub fn stackup_svg(st: &Stackup, signal_layer: usize) -> String {
+/// minimum height so they stay visible), with each layer's role for the probe, the signal
+/// layer's being `signal_role`.
+pub fn stackup_svg(st: &Stackup, signal_layer: usize, signal_role: &str) -> String {
     let total: f64 = st.thickness_mm();
     let (w, h) = (560.0, 260.0);
     let (x0, bar) = (20.0, 240.0);
@@ -29,7 +30,7 @@ pub fn stackup_svg(st: &Stackup, signal_layer: usize) -> String {
             Layer::Copper(c) => {
                 n += 1;
                 let role = if n == signal_layer {
-                    "loop trace"
+                    signal_role
                 } else {
                     "shield"
                 };
@@ -349,7 +350,15 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
         let _ = writeln!(
             o,
             "<h2>Stackup</h2>\n<div class=\"stackup\">{}</div>",
-            stackup_svg(&first.probe.stackup, first.probe.signal_layer)
+            stackup_svg(
+                &first.probe.stackup,
+                first.probe.signal_layer,
+                match (loops.is_empty(), electric.is_empty()) {
+                    (false, true) => "loop trace",
+                    (true, false) => "line to the electrode",
+                    _ => "loop trace, or line to the electrode",
+                }
+            )
         );
     }
     o.push_str("<h2>Probes</h2>\n");

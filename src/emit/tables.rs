@@ -106,7 +106,7 @@ fn electric_table(o: &mut String, x: &Predicted, r: &ElectricResponse) {
 }
 
 /// The human-readable tables; `couplings` holds each probe's coupling to a fixture, in the
-/// same order (None: none asked, or an electric probe).
+/// same order (empty: none asked).
 pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
     let mut o = String::new();
     for (i, x) in all.iter().enumerate() {

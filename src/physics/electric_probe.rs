@@ -29,6 +29,13 @@ pub const SCENE_ER: f64 = 4.3;
 pub const SCENE_T: f64 = 0.035;
 /// Points of the coupling profile across the trace.
 const PROFILE_POINTS: usize = 61;
+/// The face's height over the scanned trace's copper an electric probe is predicted at, mm:
+/// above 0 (the face on the copper) and at most 20 (beyond, the 2-D section's domain holds no
+/// sound field; a near-field probe is not used that far off).
+pub const HEIGHT_RANGE_MM: (f64, f64) = (0.0, 20.0);
+/// The scanned trace's height over its plane, mm: a 50 Ω microstrip on εr 4.3 of 0.05 to 20 mm
+/// (0.1 to 38 mm wide: printed boards).
+pub const TRACE_H_RANGE_MM: (f64, f64) = (0.05, 20.0);
 
 /// What an electric probe measures.
 #[derive(Debug, Clone, PartialEq)]
@@ -74,13 +81,18 @@ impl ElectricResponse {
         factor_db(f, self.area_eff_m2, R_LOAD, self.c_self)
     }
 
-    /// |V_out/V_trace| at `f` Hz: the coupling capacitance into the load shunted by the
-    /// electrode's own and the coupling capacitance, ωC_c·R/|1 + jωR(C_self + C_c)|.
+    /// |V_out/V_trace| at `f` Hz ([`transfer`] into the 50 Ω load).
     pub fn per_volt(&self, f: f64) -> f64 {
-        let w = 2.0 * PI * f;
-        let c = self.c_self + self.coupling_f;
-        w * self.coupling_f * R_LOAD / (1.0 + (w * R_LOAD * c).powi(2)).sqrt()
+        transfer(f, self.coupling_f, self.c_self, R_LOAD).abs()
     }
+}
+
+/// V_out/V_line of an electric probe whose electrode couples `c_c` F to the line and `c_self` F
+/// to its face, into `r_load` Ω at `f` Hz: jωC_c·R/(1 + jωR(C_self + C_c)).
+pub fn transfer(f: f64, c_c: f64, c_self: f64, r_load: f64) -> crate::math::Cx {
+    let w = 2.0 * PI * f;
+    crate::math::Cx::new(0.0, w * c_c * r_load)
+        / crate::math::Cx::new(1.0, w * r_load * (c_self + c_c))
 }
 
 /// The scanned trace: a 50 Ω microstrip (Hammerstad–Jensen) on εr [`SCENE_ER`], `h` mm over
@@ -107,7 +119,33 @@ pub fn scene_trace(h: f64) -> Result<Microstrip, Error> {
 
 /// Predicts the response of an electric probe.
 pub fn predict(p: &Probe, _s: &SolvedProbe, o: &PredictOptions) -> Result<ElectricResponse, Error> {
-    let errs = o.validate();
+    let mut errs = o.validate();
+    if errs.is_empty() {
+        let (h0, h1) = HEIGHT_RANGE_MM;
+        if !(o.height_mm > h0 && o.height_mm <= h1) {
+            errs.push(FieldError::new(
+                "height",
+                o.height_mm,
+                format!(
+                    "must be above {h0} and at most {h1} mm for the electric probe '{}' (its face \
+                     over the trace)",
+                    p.name
+                ),
+            ));
+        }
+        let (t0, t1) = TRACE_H_RANGE_MM;
+        if !(o.trace_h_mm >= t0 && o.trace_h_mm <= t1) {
+            errs.push(FieldError::new(
+                "trace-h",
+                o.trace_h_mm,
+                format!(
+                    "must be from {t0} to {t1} mm for the electric probe '{}' (the scanned \
+                     trace is a 50 Ω microstrip that high over its plane)",
+                    p.name
+                ),
+            ));
+        }
+    }
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }

@@ -109,18 +109,22 @@ pub fn section_under_face(line: &crate::model::line::Microstrip, gap: f64) -> Cr
     cs
 }
 
-/// The cross-section of a surface line (microstrip, coated or not) with the probe's face `gap`
-/// mm above the trace's copper top, and the face's conductor index. A coated line's face must
-/// clear its coat; other lines (stripline, coplanar) are refused: the face cannot lie on them.
+/// The cross-section of a surface line (microstrip, coated or not, or grounded coplanar) with
+/// the probe's face `gap` mm above the trace's copper top, and the face's conductor index. A
+/// coated line's face must clear its coat; a stripline, buried under its upper plane, is
+/// refused.
 pub fn face_section(line: &Line, gap: f64) -> Result<(CrossSection, usize), Error> {
-    let (m, coat) = match line {
-        Line::Microstrip(m) => (m, 0.0),
-        Line::CoatedMicrostrip(c) => (&c.line, c.mask_t),
-        _ => {
-            return Err(Error::Unsolvable(
-                "an electric probe's face lies on a surface line (microstrip, coated or not)"
-                    .into(),
-            ));
+    let (h, t, coat) = match line {
+        Line::Microstrip(m) => (m.h, m.t, 0.0),
+        Line::CoatedMicrostrip(c) => (c.line.h, c.line.t, c.mask_t),
+        Line::Cpwg(c) => (c.h, c.t, 0.0),
+        Line::Stripline(_) => {
+            return Err(Error::Invalid(vec![crate::error::FieldError::new(
+                "fixture.structure",
+                "\"stripline\"",
+                "an electric probe's face rests over a surface line: \"microstrip\" (coated \
+                 or not) or \"cpwg\"",
+            )]));
         }
     };
     if gap <= coat {
@@ -134,7 +138,7 @@ pub fn face_section(line: &Line, gap: f64) -> Result<(CrossSection, usize), Erro
     }
     let mut cs = cross_section_for_line(line);
     cs.conductors
-        .push(crate::field::Conductor::plane(m.h + m.t + gap, 0.0));
+        .push(crate::field::Conductor::plane(h + t + gap, 0.0));
     let face = cs.conductors.len() - 1;
     Ok((cs, face))
 }

@@ -28,7 +28,7 @@ pub struct FixtureCoupling {
 }
 
 /// The coupling of a predicted loop to a solved fixture at `height_mm` (None for an electric
-/// probe: its coupling to the fixture is not built yet).
+/// probe: its coupling is [`electric_fixture_coupling`]).
 pub fn fixture_coupling(
     x: &Predicted,
     fx: &crate::model::fixture::Fixture,
@@ -99,13 +99,7 @@ pub struct ElectricOnFixture {
     pub line_voltage_db: Vec<f64>,
 }
 
-/// V_out/V_line of an electric probe whose electrode couples `c_c` F to the line and `c_self` F
-/// to its face, into `r_load` Ω at `f` Hz: jωC_c·R/(1 + jωR(C_self + C_c)).
-pub fn electric_transfer(f: f64, c_c: f64, c_self: f64, r_load: f64) -> crate::math::Cx {
-    let w = 2.0 * std::f64::consts::PI * f;
-    crate::math::Cx::new(0.0, w * c_c * r_load)
-        / crate::math::Cx::new(1.0, w * r_load * (c_self + c_c))
-}
+pub use crate::physics::electric_probe::transfer as electric_transfer;
 
 /// The coupling of a predicted electric probe to a solved fixture at `height_mm`, with the line
 /// voltage under the probe per V_inc from `line_voltage` (the fixture's launch model:

@@ -38,7 +38,8 @@ pub const ASSUMPTIONS: [&str; 7] = [
 /// The electric probe's modelling assumptions, stated with its predictions.
 pub const ELECTRIC_ASSUMPTIONS: [&str; 5] = [
     "quasi-static: the electrode and its face are small against the wavelength below the upper \
-     usable frequency; the line to the connector is matched, so the load is 50 Ω",
+     usable frequency; the line to the connector is matched, so the load is 50 Ω; the line's \
+     loss and the connector launch are left out (a loop's factor includes the feed's loss)",
     "the probe held flat: its outer copper is a grounded plane of unlimited width facing the \
      field, the electrode a disc set into it; the clearance widens the collecting radius by half \
      of itself (a full-wave check of a tip-sized face: 0.9 % above it at the tested geometry)",

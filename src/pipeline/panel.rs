@@ -51,7 +51,11 @@ fn probe_keep_outs(b: &BuiltProbe, router: f64) -> Vec<(Polygon<f64>, String)> {
     vec![
         (
             rect(x0, ring_bottom, x1, hi.y + router),
-            "the loop (its tip, its sides and inside it)".to_string(),
+            if b.probe.kind.electrode().is_some() {
+                "the face round the electrode (its tip and its sides)".to_string()
+            } else {
+                "the loop (its tip, its sides and inside it)".to_string()
+            },
         ),
         (
             rect(x0, b.board.edge_y - router, x1, b.board.edge_y + keep),

@@ -312,7 +312,12 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             ),
         ));
     }
-    let need_handle = 2.0 * (feed_offset + fence_offset + p.vias.pad / 2.0 + RING_RIM);
+    // A loop's feed runs off the axis by the feed offset; an electric probe's line on it.
+    let off_axis = match p.kind {
+        ProbeKind::Loop => feed_offset,
+        ProbeKind::Electric(_) => 0.0,
+    };
+    let need_handle = 2.0 * (off_axis + fence_offset + p.vias.pad / 2.0 + RING_RIM);
     if p.handle.width < need_handle {
         errs.push(FieldError::new(
             "handle.width_mm",

@@ -71,7 +71,9 @@ pub fn notes(
         let _ = writeln!(
             o,
             "- Solder mask both sides, covering everything but the connector pads and the \
-             electrode, which is bare copper on both faces (vias tented); silkscreen top"
+             electrode, which is bare copper on both faces; vias tented, but for the electrode's \
+             own via, which stands in the electrode's opening: fill and plate it over (IPC-4761 \
+             type VII, from memory) for a flat electrode, or leave it open; silkscreen top"
         );
     } else {
         let _ = writeln!(
