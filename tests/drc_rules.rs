@@ -93,7 +93,15 @@ fn poly(pts: &[(f64, f64)]) -> Polygon<f64> {
 /// edge).
 fn solid_l2(c: &ProbeCase) -> Point {
     use geo::BoundingRect;
-    let opening_bottom = c.b.interior.bounding_rect().unwrap().min().y;
+    let opening_bottom =
+        c.b.loop_head
+            .as_ref()
+            .unwrap()
+            .interior
+            .bounding_rect()
+            .unwrap()
+            .min()
+            .y;
     Point::new(2.0, 0.5 * (c.b.edge_y + opening_bottom))
 }
 

@@ -321,17 +321,22 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         .iter()
         .find(|v| v.role == ViaRole::Signal)
         .expect("a board always has its signal via");
-    let g2 = b.gap / 2.0;
+    // A loop's shield gap (x0, y0, x1, y1); an electric probe has none.
+    let gap_rect = b
+        .loop_head
+        .as_ref()
+        .map(|h| (-h.gap / 2.0, h.gap_y.0, h.gap / 2.0, h.gap_y.1));
     // An electric probe's electrode: a disc on both outer layers, its via in the middle.
     let electrode = p
         .kind
         .electrode()
         .map(|e| MultiPolygon(vec![circle(Point::ZERO, e.diameter / 2.0)]));
-    let gap = if electrode.is_some() {
-        MultiPolygon(vec![])
-    } else {
-        MultiPolygon(vec![rect(-g2, b.gap_y.0, g2, b.gap_y.1)])
-    };
+    let gap = MultiPolygon(
+        gap_rect
+            .map(|(x0, y0, x1, y1)| rect(x0, y0, x1, y1))
+            .into_iter()
+            .collect(),
+    );
     // The anti-pad clears the via pad and the ends of both lines that meet it.
     let antipad_r = sv.pad.max(b.trace_width).max(b.top_width) / 2.0 + c;
     let antipad = MultiPolygon(vec![circle(sv.at, antipad_r)]);
@@ -543,9 +548,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         silk_width: snap(p.fab.silk_width),
         profile,
         drills,
-        gap_rect: electrode
-            .is_none()
-            .then_some((-g2, b.gap_y.0, g2, b.gap_y.1)),
+        gap_rect,
         nets: match &electrode {
             None => Nets::one(NET),
             Some(disc) => electric_nets(p, b, disc, sv.at),

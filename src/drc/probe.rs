@@ -16,8 +16,8 @@ use kurbo::Point;
 /// inside the loop, the shield gap, via pitch and stitching rows). Returns the violations.
 pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
     let mut out = check_board(&p.fab, art);
-    if let Some(g) = art.gap_rect {
-        out.extend(loop_rules(p, b, art, g));
+    if let (Some(g), Some(head)) = (art.gap_rect, &b.loop_head) {
+        out.extend(loop_rules(p, b, head, art, g));
     }
     if let Some(e) = p.kind.electrode() {
         out.extend(electrode_rules(art, &e));
@@ -131,12 +131,18 @@ fn electrode_rules(art: &Artwork, e: &crate::model::probe::Electrode) -> Vec<Vio
 }
 
 /// A loop's own rules: no copper inside the loop, the shield gap holds only the trace and no
-/// via, the gap being `(x0, y0, x1, y1)`.
-fn loop_rules(p: &Probe, b: &Board, art: &Artwork, g: (f64, f64, f64, f64)) -> Vec<Violation> {
+/// via, the gap being `(x0, y0, x1, y1)` in the artwork.
+fn loop_rules(
+    p: &Probe,
+    b: &Board,
+    head: &crate::geom::LoopHead,
+    art: &Artwork,
+    g: (f64, f64, f64, f64),
+) -> Vec<Violation> {
     let mut out = Vec::new();
     let (gx0, gy0, gx1, gy1) = g;
     let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
-    let interior = MultiPolygon(vec![b.interior.clone()]);
+    let interior = MultiPolygon(vec![head.interior.clone()]);
     for l in &art.copper {
         let name = format!("L{}", l.n);
         let copper = layer_copper(&l.regions, &l.flashes);

@@ -13,7 +13,7 @@ use super::vias::*;
 use super::*;
 use crate::model::probe::{Electrode, Probe};
 use crate::solve::probe::{RING_RIM, SolvedProbe, VIA_WEB};
-use geo::{BooleanOps, LineString, MultiPolygon, Polygon};
+use geo::{BooleanOps, MultiPolygon};
 use kurbo::Point;
 
 /// Radius of the ring of ground vias round the electrode, mm: the clearance's edge, half a via
@@ -91,13 +91,11 @@ pub(super) fn build(p: &Probe, s: &SolvedProbe, e: Electrode) -> Board {
         stub_antipad_d: s.launch.stub_antipad_d,
         relief_layers: s.launch.relieved_layers().collect(),
         shield,
-        gap_y: (0.0, 0.0),
-        gap: 0.0,
+        loop_head: None,
         vias,
         pads,
         holes,
         outline,
-        interior: Polygon::new(LineString::new(vec![]), vec![]),
         silk_top,
         silk_bottom,
         edge_y,

@@ -99,6 +99,17 @@ pub struct Hole {
     pub pad: f64,
 }
 
+/// A loop's own parts of its board.
+#[derive(Debug, Clone)]
+pub struct LoopHead {
+    /// The shield gap: x from −gap/2 to +gap/2, y from `gap_y.0` to `gap_y.1`.
+    pub gap_y: (f64, f64),
+    /// Gap width, mm.
+    pub gap: f64,
+    /// Area inside the loop where no copper may be.
+    pub interior: Polygon<f64>,
+}
+
 /// The board model of one probe.
 #[derive(Debug, Clone)]
 pub struct Board {
@@ -128,10 +139,9 @@ pub struct Board {
     pub relief_layers: Vec<usize>,
     /// Shield outline (ring ∪ handle) before the gap and clearances, pulled back from the edge.
     pub shield: MultiPolygon<f64>,
-    /// The shield gap: x from −gap/2 to +gap/2, y from `gap_y.0` to `gap_y.1`.
-    pub gap_y: (f64, f64),
-    /// Gap width, mm.
-    pub gap: f64,
+    /// A loop's own parts (its shield gap and the opening inside it); None on an electric
+    /// probe, which has neither.
+    pub loop_head: Option<LoopHead>,
     /// Every via.
     pub vias: Vec<Via>,
     /// Connector pads.
@@ -140,8 +150,6 @@ pub struct Board {
     pub holes: Vec<Hole>,
     /// Board outline: exterior ring, and the milled interior if any (closed, counter-clockwise).
     pub outline: Polygon<f64>,
-    /// Area inside the loop where no copper may be.
-    pub interior: Polygon<f64>,
     /// Silkscreen strokes on the top side.
     pub silk_top: Vec<Vec<Point>>,
     /// Silkscreen strokes on the bottom side (as seen from the top).
