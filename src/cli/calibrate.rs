@@ -28,7 +28,8 @@ pub struct CalibrateArgs {
     /// The fixture spec the test line was built from.
     #[arg(long, value_name = "FIXTURE.toml")]
     pub fixture: PathBuf,
-    /// Height of the probe's tip above the line's copper, mm.
+    /// Height of the probe's tip above the line's copper, mm (an electric probe, held flat: its
+    /// face's).
     #[arg(long, value_name = "MM")]
     pub height: f64,
     /// Output folder (written whole or not at all).

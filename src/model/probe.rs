@@ -382,19 +382,18 @@ fn kind_from(
 /// An electric probe's stand-in shape: its electrode's disc (round, of the electrode's
 /// diameter), which names and sizes it in the outputs. Loop fields given to it are refused.
 fn electrode_shape(out: &mut Vec<FieldError>, p: &str, l: &LoopSpec, e: Electrode) -> LoopShape {
-    for (field, set) in [
-        ("shape", l.shape.as_ref().map(|_| 0.0)),
-        ("size_mm", l.size_mm),
-        ("width_mm", l.width_mm),
-        ("height_mm", l.height_mm),
-        ("corner_radius_mm", l.corner_radius_mm),
-    ] {
-        if set.is_some() {
-            let value = if field == "shape" {
-                format!("\"{}\"", l.shape.clone().unwrap_or_default())
-            } else {
-                crate::math::fmt_num(set.unwrap_or_default())
-            };
+    let given = [
+        ("shape", l.shape.as_ref().map(|s| format!("\"{s}\""))),
+        ("size_mm", l.size_mm.map(crate::math::fmt_num)),
+        ("width_mm", l.width_mm.map(crate::math::fmt_num)),
+        ("height_mm", l.height_mm.map(crate::math::fmt_num)),
+        (
+            "corner_radius_mm",
+            l.corner_radius_mm.map(crate::math::fmt_num),
+        ),
+    ];
+    for (field, set) in given {
+        if let Some(value) = set {
             out.push(FieldError::new(
                 format!("{p}.{field}"),
                 value,
