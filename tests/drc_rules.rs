@@ -55,6 +55,21 @@ fn electric_case() -> ProbeCase {
     ProbeCase { p, s, b, art }
 }
 
+/// A balanced loop on the demo's stackup: 12 mm round, its own 17 mm handle.
+fn balanced_case() -> ProbeCase {
+    let text = "stackup = \"common-4l-1.6\"\nsignal_layer = 3\n[[probe]]\nname = \"B12\"\n\
+                kind = \"balanced\"\nshape = \"round\"\nsize_mm = 12.0\nhandle_width_mm = 17.0\n";
+    let spec = loopwright::spec::parse_toml(text, "balanced").unwrap();
+    let p = family_from_spec(&spec, Path::new("."))
+        .unwrap()
+        .probes
+        .remove(0);
+    let s = loopwright::solve::probe::solve(&p).unwrap();
+    let b = loopwright::geom::build(&p, &s);
+    let art = loopwright::artwork::compose(&p, &b);
+    ProbeCase { p, s, b, art }
+}
+
 #[derive(Clone)]
 struct FixtureCase {
     f: Fixture,
@@ -200,7 +215,7 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
             add(&mut c.art, 2, square(Point::ZERO, 0.5));
         }),
         (Rule::GapFreeOfCopper, |c| {
-            let (x0, y0, x1, y1) = c.art.gap_rect.unwrap();
+            let (x0, y0, x1, y1) = c.art.gap_rects[0];
             let (ya, yb) = (y0 + 0.4 * (y1 - y0), y0 + 0.6 * (y1 - y0));
             add(
                 &mut c.art,
@@ -210,12 +225,12 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
         }),
         (Rule::GapHoldsOnlyTrace, |c| {
             // The trace cut away where it crosses the gap: the gap no longer holds it.
-            let (x0, y0, x1, y1) = c.art.gap_rect.unwrap();
+            let (x0, y0, x1, y1) = c.art.gap_rects[0];
             let n = c.p.signal_layer;
             cut(&mut c.art, n, loopwright::geom::rect(x0, y0, x1, y1));
         }),
         (Rule::ViaInGap, |c| {
-            let (x0, y0, x1, y1) = c.art.gap_rect.unwrap();
+            let (x0, y0, x1, y1) = c.art.gap_rects[0];
             // An unplated hole: no pads (which would be copper in the gap), no fab pitch.
             c.s.pitch_min = 0.0;
             c.p.fab.min_hole_gap = 0.0;
@@ -268,6 +283,54 @@ fn electric_cases() -> Vec<Case<ProbeCase>> {
         }),
         (Rule::StitchingRowPitch, |c| {
             c.b.vias.retain(|v| v.role != ViaRole::FaceRing);
+            c.art = loopwright::artwork::compose(&c.p, &c.b);
+        }),
+    ]
+}
+
+/// The balanced loop's own places: its right-hand gap (the mirror image the board does not
+/// draw itself), its second line's fences and the rows split by the gaps.
+fn balanced_cases() -> Vec<Case<ProbeCase>> {
+    vec![
+        (Rule::GapFreeOfCopper, |c| {
+            // A bridge across the ring's copper (the gap's rectangle reaches half a millimetre
+            // past the ring on both sides).
+            let (x0, y0, x1, y1) = c.art.gap_rects[1];
+            let (ya, yb) = (y0 + 0.4 * (y1 - y0), y0 + 0.6 * (y1 - y0));
+            add(
+                &mut c.art,
+                4,
+                loopwright::geom::rect(x0 + 0.6, ya, x1 - 0.6, yb),
+            );
+        }),
+        (Rule::GapHoldsOnlyTrace, |c| {
+            // The second line cut away where it crosses its gap.
+            let (x0, y0, x1, y1) = c.art.gap_rects[1];
+            let n = c.p.signal_layer;
+            cut(&mut c.art, n, loopwright::geom::rect(x0, y0, x1, y1));
+        }),
+        (Rule::ViaInGap, |c| {
+            let (x0, y0, x1, y1) = c.art.gap_rects[1];
+            c.s.pitch_min = 0.0;
+            c.p.fab.min_hole_gap = 0.0;
+            c.art.drills.push(Drill {
+                at: Point::new(0.5 * (x0 + x1), 0.5 * (y0 + y1)),
+                d: 0.3,
+                plated: false,
+                via: true,
+                mechanical: None,
+            });
+        }),
+        (Rule::StitchingRowPitch, |c| {
+            // The outer row's vias above the right-hand gap.
+            c.b.vias
+                .retain(|v| !(v.role == ViaRole::OuterRow && v.at.x > 0.0 && v.at.y > 0.0));
+            c.art = loopwright::artwork::compose(&c.p, &c.b);
+        }),
+        (Rule::StitchingRowPitch, |c| {
+            // The second line's fences up the handle.
+            c.b.vias
+                .retain(|v| !(v.role == ViaRole::Fence && v.at.x > 0.0 && v.at.y < -20.0));
             c.art = loopwright::artwork::compose(&c.p, &c.b);
         }),
     ]
@@ -326,6 +389,12 @@ fn every_rule_fires_alone() {
         clean.is_empty(),
         "the electric probe is not clean: {clean:?}"
     );
+    let bbase = balanced_case();
+    let clean = loopwright::drc::check(&bbase.p, &bbase.s, &bbase.b, &bbase.art);
+    assert!(
+        clean.is_empty(),
+        "the balanced loop is not clean: {clean:?}"
+    );
     let fbase = fixture_case();
     let clean = loopwright::drc::check_fixture(&fbase.f, &fbase.s, &fbase.b, &fbase.art);
     assert!(clean.is_empty(), "the demo fixture is not clean: {clean:?}");
@@ -342,6 +411,13 @@ fn every_rule_fires_alone() {
     run(
         &ebase,
         electric_cases(),
+        |c| loopwright::drc::check(&c.p, &c.s, &c.b, &c.art),
+        &mut covered,
+        &mut failures,
+    );
+    run(
+        &bbase,
+        balanced_cases(),
         |c| loopwright::drc::check(&c.p, &c.s, &c.b, &c.art),
         &mut covered,
         &mut failures,

@@ -39,16 +39,42 @@ fn negative_size_is_refused() {
 #[test]
 fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
     let probe = "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n";
+    // A balanced loop needs a handle that holds two connectors side by side: the family's 8 mm
+    // is refused naming the field, the width it needs and the probe's own field to set.
     refused(
         &format!("{probe}kind = \"balanced\"\n"),
-        &["probe[1].kind", "balanced", "not built yet", "\"loop\""],
+        &[
+            "handle.width_mm = 8",
+            "balanced loop",
+            "at least 16.101 mm",
+            "probe[1].handle_width_mm",
+        ],
     );
+    refused(
+        &format!("{probe}kind = \"balanced\"\nhandle_width_mm = 1\n"),
+        &["probe[1].handle_width_mm = 1"],
+    );
+    refused(
+        &format!("{probe}kind = \"balanced\"\nhandle_width_mm = 17\nelectrode_diameter_mm = 2\n"),
+        &["probe[1].electrode_diameter_mm = 2: applies only to kind = \"electric\""],
+    );
+    let s = spec(&format!(
+        "{BASE}{probe}kind = \"balanced\"\nhandle_width_mm = 17\n"
+    ));
+    let fam = loopwright::model::probe::family_from_spec(&s, Path::new(".")).unwrap();
+    assert_eq!(
+        fam.probes[0].kind,
+        loopwright::model::probe::ProbeKind::Balanced
+    );
+    assert_eq!(fam.probes[0].handle.width, 17.0);
     refused(
         &format!("{probe}kind = \"dipole\"\n"),
         &[
             "probe[1].kind",
             "dipole",
-            "must be \"loop\" or \"electric\"",
+            "must be \"loop\"",
+            "\"balanced\"",
+            "\"electric\"",
         ],
     );
     refused(

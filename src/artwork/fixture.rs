@@ -95,7 +95,7 @@ pub fn compose(f: &Fixture, b: &FixtureBoard) -> Artwork {
         silk_width: snap(f.fab.silk_width),
         profile: vec![ring_points(b.outline.exterior())],
         drills,
-        gap_rect: None,
+        gap_rects: Vec::new(),
         nets: Nets {
             default: Some(GND_NET.to_string()),
             areas: vec![(LINE_NET.to_string(), signal_area)],

@@ -200,8 +200,9 @@ pub struct Artwork {
     pub profile: Vec<Vec<Point>>,
     /// Holes.
     pub drills: Vec<Drill>,
-    /// A probe's shield gap rectangle (x0, y0, x1, y1), for checks; None on a fixture.
-    pub gap_rect: Option<(f64, f64, f64, f64)>,
+    /// A loop's shield gap rectangles (x0, y0, x1, y1), for checks: one at a singly-loaded
+    /// loop's apex, two at a balanced loop's sides; none on an electric probe or a fixture.
+    pub gap_rects: Vec<(f64, f64, f64, f64)>,
     /// Net names of the copper objects.
     pub nets: Nets,
     /// What the signal layer and the other copper layers carry, for legends.
@@ -312,39 +313,99 @@ pub(crate) fn mask_opening(pd: &Pad, exp: f64) -> Flash {
     }
 }
 
-/// Turns the board into layer artwork.
-pub fn compose(p: &Probe, b: &Board) -> Artwork {
-    let n_layers = p.stackup.copper_count();
-    let c = b.clearance;
-    let sv = b
+/// One line's launch as the artwork draws it: its signal via, the connector's centre pad, its
+/// centreline on the signal layer (to the loop's exit and whole) and its top link.
+struct Port {
+    sv: crate::geom::Via,
+    centre: Pad,
+    channel_path: Vec<Point>,
+    trace_path: Vec<Point>,
+    top_path: Vec<Point>,
+}
+
+/// The board's lines: the one it draws, and on a balanced loop its mirror image.
+fn ports(b: &Board) -> Vec<Port> {
+    use crate::geom::shape::mirror;
+    let sv = *b
         .vias
         .iter()
         .find(|v| v.role == ViaRole::Signal)
         .expect("a board always has its signal via");
-    // A loop's shield gap (x0, y0, x1, y1); an electric probe has none.
-    let gap_rect = b
+    // The line's own centre pad: the one on its side of the axis (on the axis for one line).
+    let centre = *b
+        .pads
+        .iter()
+        .filter(|pd| pd.centre)
+        .min_by(|a, c| {
+            (a.at.x - sv.at.x)
+                .abs()
+                .total_cmp(&(c.at.x - sv.at.x).abs())
+        })
+        .expect("centre pad");
+    let one = Port {
+        sv,
+        centre,
+        channel_path: b.trace_path[..=b.exit_index].to_vec(),
+        trace_path: b.trace_path.clone(),
+        top_path: b.top_path.clone(),
+    };
+    if !b.mirrored {
+        return vec![one];
+    }
+    let m = |v: &[Point]| v.iter().map(|q| mirror(*q)).collect::<Vec<_>>();
+    let other = Port {
+        sv: crate::geom::Via {
+            at: mirror(sv.at),
+            ..sv
+        },
+        centre: Pad {
+            at: mirror(centre.at),
+            ..centre
+        },
+        channel_path: m(&one.channel_path),
+        trace_path: m(&one.trace_path),
+        top_path: m(&one.top_path),
+    };
+    vec![one, other]
+}
+
+/// Turns the board into layer artwork.
+pub fn compose(p: &Probe, b: &Board) -> Artwork {
+    let n_layers = p.stackup.copper_count();
+    let c = b.clearance;
+    let ports = ports(b);
+    // A loop's shield gaps (x0, y0, x1, y1); an electric probe has none.
+    let gap_rects: Vec<(f64, f64, f64, f64)> = b
         .loop_head
         .as_ref()
-        .map(|h| (-h.gap / 2.0, h.gap_y.0, h.gap / 2.0, h.gap_y.1));
+        .map(|h| h.gaps.clone())
+        .unwrap_or_default();
     // An electric probe's electrode: a disc on both outer layers, its via in the middle.
     let electrode = p
         .kind
         .electrode()
         .map(|e| MultiPolygon(vec![circle(Point::ZERO, e.diameter / 2.0)]));
     let gap = MultiPolygon(
-        gap_rect
-            .map(|(x0, y0, x1, y1)| rect(x0, y0, x1, y1))
-            .into_iter()
+        gap_rects
+            .iter()
+            .map(|&(x0, y0, x1, y1)| rect(x0, y0, x1, y1))
             .collect(),
     );
     // The anti-pad clears the via pad and the ends of both lines that meet it.
-    let antipad_r = sv.pad.max(b.trace_width).max(b.top_width) / 2.0 + c;
-    let antipad = MultiPolygon(vec![circle(sv.at, antipad_r)]);
+    let sv_pad_d = ports[0].sv.pad;
+    let antipad_r = sv_pad_d.max(b.trace_width).max(b.top_width) / 2.0 + c;
+    let discs = |r: f64| -> Vec<MultiPolygon<f64>> {
+        ports
+            .iter()
+            .map(|pt| MultiPolygon(vec![circle(pt.sv.at, r)]))
+            .collect()
+    };
+    let antipad = discs(antipad_r);
     // Between layer 1 and the loop's layer the via is a coaxial barrel, below it a stub: their
     // antipads are the launch solve's.
-    let stub_antipad = MultiPolygon(vec![circle(sv.at, antipad_r.max(b.stub_antipad_d / 2.0))]);
-    let barrel_antipad = MultiPolygon(vec![circle(sv.at, antipad_r.max(b.barrel_antipad_d / 2.0))]);
-    let sv_pad = MultiPolygon(vec![circle(sv.at, sv.pad / 2.0)]);
+    let stub_antipad = discs(antipad_r.max(b.stub_antipad_d / 2.0));
+    let barrel_antipad = discs(antipad_r.max(b.barrel_antipad_d / 2.0));
+    let sv_pad = discs(sv_pad_d / 2.0);
     let shield_cut = b.shield.difference(&gap);
     // The signal via's antipad radius on layer n: the link's on L1, the barrel's down to the
     // loop's layer, the stub's below it.
@@ -361,16 +422,16 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     let sliver = 2.0 * p.fab.min_trace.max(p.fab.min_space);
     // The relief under the connector's centre pad, on the layers the launch solve chose: the
     // pad grown by its gap across, from beyond the board edge to the pad's inner end.
-    let relief = |n: usize| -> MultiPolygon<f64> {
-        let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
+    let relief = |n: usize, pt: &Port| -> MultiPolygon<f64> {
+        let centre = pt.centre;
         if !b.relief_layers.contains(&n) {
             return MultiPolygon(vec![]);
         }
         // Where the signal via's antipad on this layer comes within a sliver of the relief's
         // end, the relief runs on into the antipad (no copper sliver between them).
         let pad_end = centre.at.y + centre.h / 2.0;
-        let web = sv.at.y - antipad_r_on(n) - pad_end;
-        let top = if web < sliver { sv.at.y } else { pad_end };
+        let web = pt.sv.at.y - antipad_r_on(n) - pad_end;
+        let top = if web < sliver { pt.sv.at.y } else { pad_end };
         MultiPolygon(vec![rect(
             centre.at.x - centre.w / 2.0 - b.pad_gap,
             centre.at.y - centre.h / 2.0 - 1.0,
@@ -381,59 +442,78 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     // Where the signal via's antipad on an inner or bottom layer comes within a sliver of the
     // copper's pullback from the connector edge (a large copper-to-edge rule), the antipad runs
     // on to the edge as wide as itself: no copper neck narrower than a trace between them.
-    let edge_web = |n: usize| -> MultiPolygon<f64> {
+    let edge_web = |n: usize, pt: &Port| -> MultiPolygon<f64> {
         let r_n = antipad_r_on(n);
-        let web = sv.at.y - r_n - (b.edge_y + p.fab.copper_to_edge);
+        let web = pt.sv.at.y - r_n - (b.edge_y + p.fab.copper_to_edge);
         if n == 1 || n == p.signal_layer || web >= sliver {
             return MultiPolygon(vec![]);
         }
         MultiPolygon(vec![rect(
-            sv.at.x - r_n,
+            pt.sv.at.x - r_n,
             b.edge_y - 1.0,
-            sv.at.x + r_n,
-            sv.at.y,
+            pt.sv.at.x + r_n,
+            pt.sv.at.y,
         )])
+    };
+    // Each line's cuts taken one after the other, then its copper added: one line gives the
+    // same operations as before there were two.
+    let cut_all = |mut m: MultiPolygon<f64>, cuts: &[MultiPolygon<f64>]| {
+        for k in cuts {
+            m = m.difference(k);
+        }
+        m
+    };
+    let add_all = |mut m: MultiPolygon<f64>, adds: &[MultiPolygon<f64>]| {
+        for k in adds {
+            m = m.union(k);
+        }
+        m
     };
     let mut copper = Vec::new();
     for n in 1..=n_layers {
         let side = Side::of(n, n_layers);
         let signal = n == p.signal_layer;
         let mut regions = if signal {
-            let channel = stroke_butt(&b.trace_path[..=b.exit_index], b.trace_width / 2.0 + c);
-            let trace = stroke_butt(&b.trace_path, b.trace_width / 2.0);
-            shield_cut
-                .difference(&channel)
-                .difference(&antipad)
-                .difference(&relief(n))
-                .union(&trace)
-                .union(&sv_pad)
+            let mut m = shield_cut.clone();
+            for (i, pt) in ports.iter().enumerate() {
+                let channel = stroke_butt(&pt.channel_path, b.trace_width / 2.0 + c);
+                m = cut_all(m, &[channel, antipad[i].clone(), relief(n, pt)]);
+            }
+            for (i, pt) in ports.iter().enumerate() {
+                let trace = stroke_butt(&pt.trace_path, b.trace_width / 2.0);
+                m = add_all(m, &[trace, sv_pad[i].clone()]);
+            }
+            m
         } else if n == 1 {
-            let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
             let g = b.pad_gap;
-            let pad_clear = MultiPolygon(vec![rect(
-                centre.at.x - centre.w / 2.0 - g,
-                centre.at.y - centre.h / 2.0 - 1.0,
-                centre.at.x + centre.w / 2.0 + g,
-                centre.at.y + centre.h / 2.0 + c,
-            )]);
-            let channel = stroke_butt(&b.top_path, b.top_width / 2.0 + c);
-            let link = stroke_butt(&b.top_path, b.top_width / 2.0);
-            shield_cut
-                .difference(&channel)
-                .difference(&antipad)
-                .difference(&pad_clear)
-                .union(&link)
-                .union(&sv_pad)
-        } else if n > p.signal_layer {
-            shield_cut
-                .difference(&stub_antipad)
-                .difference(&relief(n))
-                .difference(&edge_web(n))
+            let mut m = shield_cut.clone();
+            for (i, pt) in ports.iter().enumerate() {
+                let centre = pt.centre;
+                let pad_clear = MultiPolygon(vec![rect(
+                    centre.at.x - centre.w / 2.0 - g,
+                    centre.at.y - centre.h / 2.0 - 1.0,
+                    centre.at.x + centre.w / 2.0 + g,
+                    centre.at.y + centre.h / 2.0 + c,
+                )]);
+                let channel = stroke_butt(&pt.top_path, b.top_width / 2.0 + c);
+                m = cut_all(m, &[channel, antipad[i].clone(), pad_clear]);
+            }
+            for (i, pt) in ports.iter().enumerate() {
+                let link = stroke_butt(&pt.top_path, b.top_width / 2.0);
+                m = add_all(m, &[link, sv_pad[i].clone()]);
+            }
+            m
         } else {
-            shield_cut
-                .difference(&barrel_antipad)
-                .difference(&relief(n))
-                .difference(&edge_web(n))
+            let mut m = shield_cut.clone();
+            for (i, pt) in ports.iter().enumerate() {
+                let a = if n > p.signal_layer {
+                    stub_antipad[i].clone()
+                } else {
+                    barrel_antipad[i].clone()
+                };
+                m = cut_all(m, &[a, relief(n, pt), edge_web(n, pt)]);
+            }
+            m
         };
         if let Some(disc) = &electrode
             && (n == 1 || n == n_layers)
@@ -548,10 +628,10 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         silk_width: snap(p.fab.silk_width),
         profile,
         drills,
-        gap_rect,
+        gap_rects,
         nets: match &electrode {
             None => Nets::one(NET),
-            Some(disc) => electric_nets(p, b, disc, sv.at),
+            Some(disc) => electric_nets(p, b, disc, ports[0].sv.at),
         },
         layer_roles: if electrode.is_some() {
             ("line to the electrode", "shield")

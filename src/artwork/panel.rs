@@ -55,7 +55,7 @@ pub fn compose(
         silk_width: snap(silk_width),
         profile: Vec::new(),
         drills: Vec::new(),
-        gap_rect: None,
+        gap_rects: Vec::new(),
         nets: Nets::one(""),
         layer_roles: ("signal and ground", "ground"),
     };

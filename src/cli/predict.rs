@@ -93,11 +93,17 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
                 v
             })
             .collect();
-        let v = json!({
+        let mut v = json!({
             "probes": probes,
             "assumptions": ASSUMPTIONS,
             "cautions": super::CAUTIONS,
         });
+        if all
+            .iter()
+            .any(|x| x.probe.kind == crate::model::probe::ProbeKind::Balanced)
+        {
+            v["assumptions_balanced"] = json!(crate::physics::predicted::BALANCED_ASSUMPTIONS);
+        }
         outln!("{}", serde_json::to_string_pretty(&v).expect("plain JSON"));
     } else {
         out!("{}", tables(&all, &couplings));

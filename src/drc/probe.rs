@@ -16,8 +16,10 @@ use kurbo::Point;
 /// inside the loop, the shield gap, via pitch and stitching rows). Returns the violations.
 pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
     let mut out = check_board(&p.fab, art);
-    if let (Some(g), Some(head)) = (art.gap_rect, &b.loop_head) {
-        out.extend(loop_rules(p, b, head, art, g));
+    if let Some(head) = &b.loop_head {
+        for &g in &art.gap_rects {
+            out.extend(loop_rules(p, b, head, art, g));
+        }
     }
     if let Some(e) = p.kind.electrode() {
         out.extend(electrode_rules(art, &e));
@@ -161,26 +163,19 @@ fn loop_rules(
         let in_gap = copper.intersection(&gap).unsigned_area();
         if l.signal {
             // The trace's own area in the gap: its width times the length of its centreline
-            // between the gap's edges (a curved loop crosses on a slant).
-            let half = (gx1 - gx0) / 2.0;
-            let mut len = 0.0;
-            for w in b.trace_path.windows(2) {
-                let (a, c) = (w[0], w[1]);
-                if a.y < gy0 || c.y < gy0 {
-                    continue;
-                }
-                let (lo, hi) = (a.x.min(c.x), a.x.max(c.x));
-                let inside = (hi.min(half) - lo.max(-half)).max(0.0);
-                if hi > lo {
-                    len += (c - a).hypot() * inside / (hi - lo);
-                }
-            }
+            // (both lines' on a balanced loop) inside the gap's rectangle (a curved loop
+            // crosses on a slant).
+            let len: f64 = line_paths(b)
+                .iter()
+                .flat_map(|path| path.windows(2))
+                .map(|w| clipped_length(w[0], w[1], g))
+                .sum();
             let allowed = b.trace_width * len * (1.0 + slack::GAP_AREA_SHARE) + slack::AREA;
             if in_gap > allowed || in_gap < 0.5 * allowed {
                 out.push(Violation {
                     rule: Rule::GapHoldsOnlyTrace,
                     layer: name.clone(),
-                    at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                    at: Point::new(0.5 * (gx0 + gx1), 0.5 * (gy0 + gy1)),
                     detail: format!(
                         "{in_gap:.5} mm² of copper in the gap; the trace alone is {:.5} mm²",
                         b.trace_width * len
@@ -191,14 +186,14 @@ fn loop_rules(
             out.push(Violation {
                 rule: Rule::GapFreeOfCopper,
                 layer: name.clone(),
-                at: Point::new(0.0, 0.5 * (gy0 + gy1)),
+                at: Point::new(0.5 * (gx0 + gx1), 0.5 * (gy0 + gy1)),
                 detail: format!("{in_gap:.6} mm² of copper in the shield gap"),
             });
         }
     }
     for d in &art.drills {
         if d.via {
-            let dx = (d.at.x.abs() - gx1).max(0.0);
+            let dx = (gx0 - d.at.x).max(d.at.x - gx1).max(0.0);
             let dy = (gy0 - d.at.y).max(d.at.y - gy1).max(0.0);
             if dx.hypot(dy) < p.vias.pad / 2.0 + slack::GRID {
                 out.push(Violation {
@@ -211,6 +206,48 @@ fn loop_rules(
         }
     }
     out
+}
+
+/// The board's line centrelines on the signal layer: its one line, and on a balanced loop the
+/// mirror image too.
+fn line_paths(b: &Board) -> Vec<Vec<Point>> {
+    let mut v = vec![b.trace_path.clone()];
+    if b.mirrored {
+        v.push(
+            b.trace_path
+                .iter()
+                .map(|q| crate::geom::shape::mirror(*q))
+                .collect(),
+        );
+    }
+    v
+}
+
+/// Length of the segment a–c inside the rectangle `(x0, y0, x1, y1)` (Liang–Barsky clipping).
+fn clipped_length(a: Point, c: Point, r: (f64, f64, f64, f64)) -> f64 {
+    let (x0, y0, x1, y1) = r;
+    let d = c - a;
+    let (mut t0, mut t1) = (0.0_f64, 1.0_f64);
+    for (pp, q) in [
+        (-d.x, a.x - x0),
+        (d.x, x1 - a.x),
+        (-d.y, a.y - y0),
+        (d.y, y1 - a.y),
+    ] {
+        if pp == 0.0 {
+            if q < 0.0 {
+                return 0.0;
+            }
+        } else {
+            let t = q / pp;
+            if pp < 0.0 {
+                t0 = t0.max(t);
+            } else {
+                t1 = t1.min(t);
+            }
+        }
+    }
+    if t1 > t0 { d.hypot() * (t1 - t0) } else { 0.0 }
 }
 
 /// A required row of vias: the path it follows and the stretches it may leave bare.
@@ -267,51 +304,111 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
     } else {
         vec![(-s.fence_offset, "inner"), (s.fence_offset, "outer")]
     };
-    for (off, label) in loop_rows {
-        let half = left_half(&p.shape, off);
-        let sl = arclengths(&half);
-        let from = row_start(&half, &sl, keep);
-        let to = *sl.last().unwrap();
-        let bottom = *half.last().unwrap();
-        for (side, sign) in [("left", 1.0), ("right", -1.0)] {
-            let path: Vec<Point> = half.iter().map(|q| Point::new(sign * q.x, q.y)).collect();
-            // The outer row is crossed by the feed and the short at the bottom of the loop.
+    let mirror_rows =
+        |rows: &mut Vec<Row>, label: &str, path: Vec<Point>, exempt: Vec<(Point, f64)>| {
+            let to = *arclengths(&path).last().unwrap();
+            for (side, sign) in [("left", 1.0), ("right", -1.0)] {
+                rows.push(Row {
+                    name: format!("{label}, {side} half"),
+                    path: path.iter().map(|q| Point::new(sign * q.x, q.y)).collect(),
+                    from: 0.0,
+                    to,
+                    exempt: exempt
+                        .iter()
+                        .map(|(c, r)| (Point::new(sign * c.x, c.y), *r))
+                        .collect(),
+                });
+            }
+        };
+    if p.kind == crate::model::probe::ProbeKind::Balanced {
+        // A balanced loop's rows, split by the side gaps: each upper part from where it clears
+        // the gap and the short vias to the top, each lower part from the gap to the bottom;
+        // the outer row is crossed by the line where it enters the ring.
+        let shorts: Vec<Point> = b
+            .vias
+            .iter()
+            .filter(|v| v.role == crate::geom::ViaRole::Short)
+            .map(|v| v.at)
+            .collect();
+        let join = b.trace_path[b.entry_index.min(b.trace_path.len() - 1)];
+        for (off, label) in loop_rows {
+            let [upper, lower] = crate::geom::balanced_row_parts(p, s, &p.shape, off, &shorts);
+            mirror_rows(
+                &mut rows,
+                &format!("{label} stitching row above the gap"),
+                upper,
+                vec![],
+            );
             let exempt = if off > 0.0 {
-                vec![(bottom, feed_zone)]
+                vec![(join, feed_zone)]
             } else {
-                Vec::new()
+                vec![]
             };
-            rows.push(Row {
-                name: format!("{label} stitching row, {side} half"),
-                path,
-                from,
-                to,
+            mirror_rows(
+                &mut rows,
+                &format!("{label} stitching row below the gap"),
+                lower,
                 exempt,
-            });
+            );
+        }
+    } else {
+        for (off, label) in loop_rows {
+            let half = left_half(&p.shape, off);
+            let sl = arclengths(&half);
+            let from = row_start(&half, &sl, keep);
+            let to = *sl.last().unwrap();
+            let bottom = *half.last().unwrap();
+            for (side, sign) in [("left", 1.0), ("right", -1.0)] {
+                let path: Vec<Point> = half.iter().map(|q| Point::new(sign * q.x, q.y)).collect();
+                // The outer row is crossed by the feed and the short at the bottom of the loop.
+                let exempt = if off > 0.0 {
+                    vec![(bottom, feed_zone)]
+                } else {
+                    Vec::new()
+                };
+                rows.push(Row {
+                    name: format!("{label} stitching row, {side} half"),
+                    path,
+                    from,
+                    to,
+                    exempt,
+                });
+            }
         }
     }
     let feed = &b.trace_path[..=b.entry_index.min(b.trace_path.len() - 1)];
     if feed.len() >= 2 {
-        let sv = feed[0];
         let ring =
             s.launch.antipad_d.max(s.launch.barrel_antipad_d) / 2.0 + p.vias.pad + s.pitch_max;
-        // Left and right as seen from the connector looking towards the loop (−x and +x).
-        for (side, sign) in [("right", -1.0), ("left", 1.0)] {
-            let path = crate::geom::offset_round(
-                feed,
-                sign * s.fence_offset,
-                crate::geom::offsets::OFFSET_FLATNESS,
-            );
-            let to = *arclengths(&path).last().unwrap();
-            // Where the feed joins the loop, the outer row's exemption zone continues.
-            let join = *feed.last().unwrap();
-            rows.push(Row {
-                name: format!("feed fence, {side} side"),
-                path,
-                from: 0.0,
-                to,
-                exempt: vec![(sv, ring), (join, feed_zone)],
-            });
+        let mut feeds = vec![("", feed.to_vec())];
+        if b.mirrored {
+            feeds.push((
+                "second line's ",
+                feed.iter()
+                    .map(|q| crate::geom::shape::mirror(*q))
+                    .collect(),
+            ));
+        }
+        for (which, feed) in feeds {
+            let sv = feed[0];
+            // Left and right as seen from the connector looking towards the loop (−x and +x).
+            for (side, sign) in [("right", -1.0), ("left", 1.0)] {
+                let path = crate::geom::offset_round(
+                    &feed,
+                    sign * s.fence_offset,
+                    crate::geom::offsets::OFFSET_FLATNESS,
+                );
+                let to = *arclengths(&path).last().unwrap();
+                // Where the feed joins the loop, the outer row's exemption zone continues.
+                let join = *feed.last().unwrap();
+                rows.push(Row {
+                    name: format!("{which}feed fence, {side} side"),
+                    path,
+                    from: 0.0,
+                    to,
+                    exempt: vec![(sv, ring), (join, feed_zone)],
+                });
+            }
         }
     }
     let mut out = Vec::new();

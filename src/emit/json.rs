@@ -73,7 +73,7 @@ fn loop_json(x: &Predicted, r: &Response) -> Value {
             "s11_db": l.s11.s11_db.iter().map(|(f, d)| json!({"freq_hz": f, "db": d})).collect::<Vec<_>>(),
         })
     });
-    json!({
+    let mut out = json!({
         "name": x.probe.name,
         "shape": x.probe.shape_name(),
         "size": x.probe.size_text(),
@@ -111,7 +111,26 @@ fn loop_json(x: &Predicted, r: &Response) -> Value {
         "probe_factor": r.probe_factor.iter().zip(&r.e_rejection).map(|((f, d), (_, e))| json!({"freq_hz": f, "db_s_per_m": d, "e_rejection_db": e, "above_band": *f > r.upper_hz})).collect::<Vec<_>>(),
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
         "launch": launch,
-    })
+    });
+    if let (Some(b), Some(o)) = (&r.balanced, out.as_object_mut()) {
+        // A balanced loop: the figures above are its outputs' difference through an ideal
+        // 180° hybrid; the sum's electric factor beside them.
+        o.insert("outputs".into(), json!("difference Δ = (a − b)/√2 (magnetic) and sum Σ = (a + b)/√2 (electric) through an ideal 180° hybrid; probe_factor is Δ's"));
+        o.insert("stub_mm".into(), json!(b.stub_m * 1e3));
+        o.insert("e_response_reference".into(), json!("uniform E along the loop's axis in its plane, Σ into 50 Ω: E[dBµV/m] = V_Σ[dBµV] + db_per_m"));
+        o.insert(
+            "e_response".into(),
+            json!(
+                b.e_factor
+                    .iter()
+                    .map(
+                        |(f, d)| json!({"freq_hz": f, "db_per_m": d, "above_band": *f > r.upper_hz})
+                    )
+                    .collect::<Vec<_>>()
+            ),
+        );
+    }
+    out
 }
 /// The JSON object of a probe's coupling to a fixture, by its kind.
 pub fn on_fixture_json(c: &OnFixture) -> Value {

@@ -72,6 +72,38 @@ pub fn stackup_svg(st: &Stackup, signal_layer: usize, signal_role: &str) -> Stri
     doc.to_string()
 }
 
+/// A loop's electric sentence in its section: the E-rejection and the error budget, or a
+/// balanced loop's two outputs and its sum's electric factor.
+fn electric_sentence(r: &crate::physics::Response) -> String {
+    if let Some(b) = &r.balanced {
+        let ef = |f: f64| {
+            b.e_factor
+                .iter()
+                .min_by(|x, y| (x.0 / f).ln().abs().total_cmp(&(y.0 / f).ln().abs()))
+                .map_or(f64::NAN, |x| x.1)
+        };
+        return format!(
+            "Balanced: two outputs through an ideal 180° hybrid, the figures above those of their \
+             difference Δ, which holds no electric pickup to first order; their sum Σ's electric \
+             factor (uniform E along the axis) {:.1} dB(1/m) near 100 MHz, {:.1} dB(1/m) at the \
+             upper usable frequency.",
+            ef(100e6),
+            ef(r.upper_hz)
+        );
+    }
+    format!(
+        "E-rejection (worst case: electric field across the loop's axis, E/H = η0) {:.1} dB at \
+         100 MHz, {:.1} dB at the upper usable frequency; error budget ({} dB) {}.",
+        r.e_rejection_db(100e6, crate::physics::electric::ETA0),
+        r.e_rejection_db(r.upper_hz, crate::physics::electric::ETA0),
+        crate::physics::electric::BUDGET_DB,
+        match r.budget_hz {
+            Some(b) => format!("reached at {:.0} MHz", b / 1e6),
+            None => "not reached below the first null".to_string(),
+        }
+    )
+}
+
 fn num(v: f64, d: usize) -> String {
     format!("{v:.d$}")
 }
@@ -99,7 +131,9 @@ const COMPARISON_NOTE: &str = "PF in dB(S/m), uniform field normal to the loop, 
      each probe's notes). Values above a probe's upper usable frequency are shown \
      for comparison only. A_eff: effective area of the shield's outer current. E-rej.: E-rejection \
      in the worst orientation (electric field across the loop's axis, E/H = η0). Resolution: −6 dB \
-     full width across a trace, at the stated height.";
+     full width across a trace, at the stated height. A balanced loop's figures are those of its \
+     outputs' difference Δ through an ideal 180° hybrid; its sum's electric factor is in its \
+     section below.";
 
 /// One probe's row of the comparison table, from the same numbers as `predict --json`.
 fn comparison_cells(x: &Predicted) -> [String; 12] {
@@ -107,7 +141,11 @@ fn comparison_cells(x: &Predicted) -> [String; 12] {
     let v = |k: &str, scale: f64, d: usize| num(j[k].as_f64().unwrap_or(f64::NAN) / scale, d);
     [
         x.probe.name.clone(),
-        x.probe.shape_name().to_string(),
+        if x.probe.kind == crate::model::probe::ProbeKind::Balanced {
+            format!("{} (balanced, Δ)", x.probe.shape_name())
+        } else {
+            x.probe.shape_name().to_string()
+        },
         x.probe.size_text(),
         v("inductance_nh", 1.0, 2),
         v("corner_hz", 1e6, 1),
@@ -116,12 +154,16 @@ fn comparison_cells(x: &Predicted) -> [String; 12] {
         v("pf_100mhz_db_s_per_m", 1.0, 2),
         v("pf_1ghz_db_s_per_m", 1.0, 2),
         v("effective_area_mm2", 1.0, 2),
-        num(
-            x.response.as_loop().map_or(f64::NAN, |r| {
-                r.e_rejection_db(100e6, crate::physics::electric::ETA0)
-            }),
-            1,
-        ),
+        match x.response.as_loop() {
+            // A balanced loop's difference holds no electric pickup to first order.
+            Some(r) if r.balanced.is_some() => "none (1st order)".to_string(),
+            r => num(
+                r.map_or(f64::NAN, |r| {
+                    r.e_rejection_db(100e6, crate::physics::electric::ETA0)
+                }),
+                1,
+            ),
+        },
         v("resolution_mm", 1.0, 2),
     ]
 }
@@ -373,9 +415,14 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
         };
         let _ = writeln!(
             o,
-            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's; {:.2} mm² with the handle's share of a uniform field); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>E-rejection (worst case: electric field across the loop's axis, E/H = η0) {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; error budget ({} dB) {}.<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
+            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{}{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's; {:.2} mm² with the handle's share of a uniform field); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>{}<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
             preview,
             xml(&x.probe.name),
+            if r.balanced.is_some() {
+                "balanced "
+            } else {
+                ""
+            },
             x.probe.shape_name(),
             xml(&x.probe.size_text()),
             x.solved.trace_width,
@@ -390,13 +437,7 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
             r.corner_hz / 1e6,
             r.upper_hz / 1e6,
             xml(r.upper_rule),
-            r.e_rejection_db(100e6, crate::physics::electric::ETA0),
-            r.e_rejection_db(r.upper_hz, crate::physics::electric::ETA0),
-            crate::physics::electric::BUDGET_DB,
-            match r.budget_hz {
-                Some(b) => format!("reached at {:.0} MHz", b / 1e6),
-                None => "not reached below the first null".to_string(),
-            },
+            xml(&electric_sentence(r)),
             r.resolution_m * 1e3,
             r.options.trace_h_mm,
             r.options.height_mm,
@@ -410,6 +451,14 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
     o.push_str("<h2>Modelling assumptions</h2>\n<ul>\n");
     for a in ASSUMPTIONS {
         let _ = writeln!(o, "<li>{}</li>", xml(a));
+    }
+    if all
+        .iter()
+        .any(|x| x.probe.kind == crate::model::probe::ProbeKind::Balanced)
+    {
+        for a in crate::physics::predicted::BALANCED_ASSUMPTIONS {
+            let _ = writeln!(o, "<li>{}</li>", xml(a));
+        }
     }
     o.push_str("</ul>\n");
     let data = serde_json::json!({ "probes": all.iter().map(probe_json).collect::<Vec<_>>() });

@@ -122,11 +122,22 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
             }
         };
         o.push_str(&format!(
-            "{} — {} loop, {}\n",
+            "{} — {}{} loop, {}\n",
             x.probe.name,
+            if r.balanced.is_some() {
+                "balanced "
+            } else {
+                ""
+            },
             x.probe.shape_name(),
             x.probe.size_text()
         ));
+        if r.balanced.is_some() {
+            o.push_str(
+                "  two outputs, read through an ideal 180° hybrid: the difference Δ = (a − b)/√2 \
+                 (magnetic; the figures below) and the sum Σ = (a + b)/√2 (electric)\n",
+            );
+        }
         let line = |o: &mut String, k: &str, v: String| o.push_str(&format!("  {k:<22} {v}\n"));
         line(&mut o, "loop area", format!("{:.2} mm²", r.area_m2 * 1e6));
         line(
@@ -152,10 +163,15 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
             &mut o,
             "inductance",
             format!(
-                "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH)",
+                "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH{})",
                 r.l_total * 1e9,
                 r.l_outer * 1e9,
-                r.l_stub * 1e9
+                r.l_stub * 1e9,
+                if r.balanced.is_some() {
+                    ", one at each of the two gaps"
+                } else {
+                    ""
+                }
             ),
         );
         line(&mut o, "low-frequency corner", hz_label(r.corner_hz));
@@ -217,13 +233,36 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
                 ),
             );
         }
-        o.push_str(
-            "  probe factor (dB(S/m), uniform H, 50 Ω) and E-rejection (dB, worst case: E across \
-             the axis, E/H = η0):\n",
-        );
+        if let Some(bal) = &r.balanced {
+            o.push_str(
+                "  probe factor of Δ (dB(S/m), uniform H, 50 Ω) and electric factor of Σ (dB(1/m), \
+                 uniform E along the axis, 50 Ω; Δ holds no electric pickup to first order):\n",
+            );
+            let step = (r.probe_factor.len() / 10).max(1);
+            for (i, ((f, d), (_, e))) in r.probe_factor.iter().zip(&bal.e_factor).enumerate() {
+                if i % step == 0 || i + 1 == r.probe_factor.len() {
+                    o.push_str(&format!(
+                        "    {:>12} {:>7.2}  {e:>7.2}{}\n",
+                        crate::math::hz_label(*f),
+                        d,
+                        if *f > r.upper_hz {
+                            "  above the usable band"
+                        } else {
+                            ""
+                        }
+                    ));
+                }
+            }
+        }
+        if r.balanced.is_none() {
+            o.push_str(
+                "  probe factor (dB(S/m), uniform H, 50 Ω) and E-rejection (dB, worst case: E \
+                 across the axis, E/H = η0):\n",
+            );
+        }
         let step = (r.probe_factor.len() / 10).max(1);
         for (i, ((f, d), (_, e))) in r.probe_factor.iter().zip(&r.e_rejection).enumerate() {
-            if i % step == 0 || i + 1 == r.probe_factor.len() {
+            if r.balanced.is_none() && (i % step == 0 || i + 1 == r.probe_factor.len()) {
                 o.push_str(&format!(
                     "    {:>12} {:>7.2}  {e:>6.1}{}\n",
                     crate::math::hz_label(*f),
@@ -278,6 +317,14 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
     o.push_str("Assumptions:\n");
     for a in ASSUMPTIONS {
         o.push_str(&format!("  - {a}\n"));
+    }
+    if all
+        .iter()
+        .any(|x| x.probe.kind == crate::model::probe::ProbeKind::Balanced)
+    {
+        for a in crate::physics::predicted::BALANCED_ASSUMPTIONS {
+            o.push_str(&format!("  - {a}\n"));
+        }
     }
     o.push_str(&format!("\n{}\n", crate::emit::cautions::CAUTIONS));
     o

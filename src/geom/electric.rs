@@ -92,6 +92,7 @@ pub(super) fn build(p: &Probe, s: &SolvedProbe, e: Electrode) -> Board {
         relief_layers: s.launch.relieved_layers().collect(),
         shield,
         loop_head: None,
+        mirrored: false,
         vias,
         pads,
         holes,

@@ -8,6 +8,7 @@
 //! via fences and the short vias). The shield copper itself stays symmetric: vias sit inside
 //! the pour, and the signal via is on the axis.
 
+mod balanced;
 mod electric;
 pub mod fixture;
 pub mod font;
@@ -20,14 +21,17 @@ mod vias;
 
 /// The loop centreline and its offsets (owned by the model; kept here under its old name).
 pub use crate::model::centreline as shape;
+pub use balanced::left_gap;
 pub use electric::electrode_ring_radius;
 pub(crate) use path::offset_round;
+pub use vias::balanced_row_parts;
 
 /// Builds the board of a probe, whatever its kind.
 pub fn build(p: &crate::model::probe::Probe, s: &crate::solve::probe::SolvedProbe) -> Board {
     match p.kind {
         crate::model::probe::ProbeKind::Loop => probe::build(p, s),
         crate::model::probe::ProbeKind::Electric(e) => electric::build(p, s, e),
+        crate::model::probe::ProbeKind::Balanced => balanced::build(p, s),
     }
 }
 pub use region::{circle, polygon, rect, round_buffer, stroke_butt, stroke_round, symmetrise};
@@ -102,10 +106,9 @@ pub struct Hole {
 /// A loop's own parts of its board.
 #[derive(Debug, Clone)]
 pub struct LoopHead {
-    /// The shield gap: x from −gap/2 to +gap/2, y from `gap_y.0` to `gap_y.1`.
-    pub gap_y: (f64, f64),
-    /// Gap width, mm.
-    pub gap: f64,
+    /// The shield gaps, each `(x0, y0, x1, y1)`: a singly-loaded loop's one at the apex, a
+    /// balanced loop's two at the sides (left first).
+    pub gaps: Vec<(f64, f64, f64, f64)>,
     /// Area inside the loop where no copper may be.
     pub interior: Polygon<f64>,
 }
@@ -142,6 +145,10 @@ pub struct Board {
     /// A loop's own parts (its shield gap and the opening inside it); None on an electric
     /// probe, which has neither.
     pub loop_head: Option<LoopHead>,
+    /// A balanced loop: the line (`trace_path`, `top_path`), its signal via's place and its
+    /// connector stand on the left, and the board carries their mirror image too (the second
+    /// line); the artwork and the checks draw and test both.
+    pub mirrored: bool,
     /// Every via.
     pub vias: Vec<Via>,
     /// Connector pads.

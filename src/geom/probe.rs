@@ -142,10 +142,10 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         relief_layers: s.launch.relieved_layers().collect(),
         shield,
         loop_head: Some(LoopHead {
-            gap_y,
-            gap: p.gap,
+            gaps: vec![(-p.gap / 2.0, gap_y.0, p.gap / 2.0, gap_y.1)],
             interior,
         }),
+        mirrored: false,
         vias,
         pads,
         holes,

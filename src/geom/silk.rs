@@ -19,6 +19,7 @@ pub(super) fn silk(
     let h = p.fab.silk_text_height;
     let (kind, letter) = match p.kind {
         crate::model::probe::ProbeKind::Loop => (p.shape.kind().to_uppercase(), "H"),
+        crate::model::probe::ProbeKind::Balanced => ("BALANCED".to_string(), "H"),
         crate::model::probe::ProbeKind::Electric(_) => ("ELECTRIC".to_string(), "E"),
     };
     let right = format!("{} {kind} {}", p.name, p.shape.size_tag());

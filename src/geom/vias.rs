@@ -18,6 +18,11 @@ pub(super) struct ViaPlacer<'a> {
     pub(super) shield: MultiPolygon<f64>,
     pub(super) pads: Vec<Pad>,
     pub(super) sv: Point,
+    /// A balanced loop: the line, its top link and signal via have a mirror image to keep
+    /// clear too.
+    pub(super) mirrored: bool,
+    /// A balanced loop's side gaps `(x0, y0, x1, y1)` (empty: the loop's apex gap, or none).
+    pub(super) gaps: Vec<(f64, f64, f64, f64)>,
 }
 
 impl<'a> ViaPlacer<'a> {
@@ -46,12 +51,29 @@ impl<'a> ViaPlacer<'a> {
             shield: shield.clone(),
             pads: pads.to_vec(),
             sv,
+            mirrored: false,
+            gaps: Vec::new(),
         }
+    }
+
+    /// Makes this the placer of a balanced loop: the line has a mirror image, and the shield
+    /// has the given gaps instead of the apex gap.
+    pub(super) fn mirror_lines(&mut self, gaps: Vec<(f64, f64, f64, f64)>) {
+        self.mirrored = true;
+        self.gaps = gaps;
     }
 
     /// True when a via at `q` keeps every construction rule.
     pub(super) fn ok(&self, q: Point) -> bool {
-        use geo::{Contains, Distance, Euclidean};
+        // A balanced loop's second line is the mirror image of the first: a via is clear of it
+        // when its mirror image is clear of the first.
+        self.clear_of_line(q)
+            && (!self.mirrored || self.clear_of_line(mirror(q)))
+            && self.ok_elsewhere(q)
+    }
+
+    /// Clear of the line's channel, its top link's channel and its signal via's antipad.
+    fn clear_of_line(&self, q: Point) -> bool {
         let pad = self.p.vias.pad;
         let f = self.s.fence_offset;
         let c = self.p.clearance;
@@ -65,15 +87,28 @@ impl<'a> ViaPlacer<'a> {
         }
         let l = &self.s.launch;
         let antipad = l.antipad_d.max(l.barrel_antipad_d).max(l.stub_antipad_d) / 2.0;
-        if (q - self.sv).hypot() < antipad + pad / 2.0 + VIA_WEB - TOL {
-            return false;
-        }
+        (q - self.sv).hypot() >= antipad + pad / 2.0 + VIA_WEB - TOL
+    }
+
+    /// Clear of the gaps and the connector's pads, inside the shield with a rim, and the fab's
+    /// least pitch from every via placed.
+    fn ok_elsewhere(&self, q: Point) -> bool {
+        use geo::{Contains, Distance, Euclidean};
+        let pad = self.p.vias.pad;
         // Clear of the gap (a loop's; an electric probe's shield has none).
         if self.p.kind == ProbeKind::Loop
             && q.y > 0.0
             && q.x.abs() < self.p.gap / 2.0 + pad / 2.0 + 0.1
         {
             return false;
+        }
+        // Clear of a balanced loop's side gaps, by the same keep.
+        for &(x0, y0, x1, y1) in &self.gaps {
+            let dx = (x0 - q.x).max(q.x - x1).max(0.0);
+            let dy = (y0 - q.y).max(q.y - y1).max(0.0);
+            if dx.hypot(dy) < pad / 2.0 + 0.1 {
+                return false;
+            }
         }
         // Clear of the connector pads (the centre pad with its gap, which is also the
         // relief's extent on the layers below; that clearance runs one trace clearance past
@@ -282,29 +317,7 @@ impl<'a> ViaPlacer<'a> {
         // one more (shortened) step ends on the axis. No ceiling on the count; should a
         // strange path need more, the next counts are tried, and the design-rule check's row
         // coverage refuses a row left with gaps.
-        let d_max = offsets::PITCH_MAX_SHARE * self.s.pitch_max;
-        let fit = walk(&half, &s, s0, d_max, usize::MAX).len() - 1;
-        let positions = (fit.max(1)..=2 * fit + 8)
-            .find_map(|n| {
-                let d = steps_to_end(&half, &s, s0, n)?;
-                (d <= d_max).then_some((n, d))
-            })
-            .map(|(n, d)| walk(&half, &s, s0, d, n))
-            .unwrap_or_else(|| vec![s0]);
-        for t in positions {
-            let (q, _) = point_at(&half, &s, t);
-            if q.x.abs() < 1e-6 {
-                let q = Point::new(0.0, q.y);
-                self.try_add(q, role);
-                continue;
-            }
-            if self.ok(q) && self.ok(mirror(q)) {
-                self.try_add(q, role);
-                if !self.try_add(mirror(q), role) {
-                    self.vias.pop();
-                }
-            }
-        }
+        self.walk_row(&half, &s, s0, role);
     }
 
     /// Fences on both sides of the feed line, up to where it joins the loop. Each side walks
@@ -327,11 +340,161 @@ impl<'a> ViaPlacer<'a> {
             let mut t = 0.0;
             while t <= total + 1e-9 {
                 let (q, _) = point_at(&path, &s, t.min(total));
-                if last.is_none_or(|l| (q - l).hypot() >= step) && self.try_add(q, ViaRole::Fence) {
-                    last = Some(q);
+                // A balanced loop's fence via goes with its mirror image beside the other line.
+                if last.is_none_or(|l| (q - l).hypot() >= step)
+                    && (!self.mirrored || self.ok(mirror(q)))
+                    && self.try_add(q, ViaRole::Fence)
+                {
+                    if !self.mirrored || self.try_add(mirror(q), ViaRole::Fence) {
+                        last = Some(q);
+                    } else {
+                        self.vias.pop();
+                    }
                 }
                 t += dt;
             }
         }
     }
+
+    /// A balanced loop's stitching rows at offset `off`: the left half of the ring split by
+    /// its side gap into an upper part (from the gap's keep-out, or from where the row clears
+    /// the short vias, to the top of the axis) and a lower part (from the gap's keep-out to
+    /// the bottom of the axis), each walked in equal steps within the pitch limit and placed
+    /// with its mirror image.
+    pub(super) fn split_rows(
+        &mut self,
+        shape: &LoopShape,
+        off: f64,
+        role: ViaRole,
+        shorts: &[Point],
+    ) {
+        for part in balanced_row_parts(self.p, self.s, shape, off, shorts) {
+            let s = arclengths(&part);
+            self.walk_row(&part, &s, 0.0, role);
+        }
+    }
+
+    /// Equal straight-line steps from `s0` to the end of `half` (the fewest within the pitch
+    /// limit), each via placed with its mirror image; one on the axis alone.
+    fn walk_row(&mut self, half: &[Point], s: &[f64], s0: f64, role: ViaRole) {
+        let d_max = offsets::PITCH_MAX_SHARE * self.s.pitch_max;
+        let fit = walk(half, s, s0, d_max, usize::MAX).len() - 1;
+        let positions = (fit.max(1)..=2 * fit + 8)
+            .find_map(|n| {
+                let d = steps_to_end(half, s, s0, n)?;
+                (d <= d_max).then_some((n, d))
+            })
+            .map(|(n, d)| walk(half, s, s0, d, n))
+            .unwrap_or_else(|| vec![s0]);
+        for t in positions {
+            let (q, _) = point_at(half, s, t);
+            if q.x.abs() < 1e-6 {
+                self.try_add(Point::new(0.0, q.y), role);
+                continue;
+            }
+            if self.ok(q) && self.ok(mirror(q)) {
+                self.try_add(q, role);
+                if !self.try_add(mirror(q), role) {
+                    self.vias.pop();
+                }
+            }
+        }
+    }
+
+    /// A balanced loop's rings of ground vias round its two signal vias: a walk once round the
+    /// left one (radius `rg`), a via wherever it stands the fab's least pitch from the last,
+    /// each with its mirror image round the right one.
+    pub(super) fn signal_ring_pair(&mut self, rg: f64) {
+        let spacing = self.s.pitch_min + offsets::PITCH_MARGIN;
+        let steps = 1440;
+        let mut last: Option<Point> = None;
+        let mut first: Option<Point> = None;
+        for i in 0..steps {
+            let phi = std::f64::consts::TAU * i as f64 / steps as f64;
+            let q = self.sv + Vec2::new(phi.sin(), -phi.cos()) * rg;
+            if last.is_some_and(|l| (q - l).hypot() < spacing)
+                || first.is_some_and(|f| (q - f).hypot() < spacing)
+            {
+                continue;
+            }
+            if self.ok(q) && self.ok(mirror(q)) {
+                self.try_add(q, ViaRole::SignalGround);
+                if self.try_add(mirror(q), ViaRole::SignalGround) {
+                    last = Some(q);
+                    first = first.or(Some(q));
+                } else {
+                    self.vias.pop();
+                }
+            }
+        }
+    }
+}
+
+/// A balanced loop's row at offset `off` as the parts its vias are walked along (left half):
+/// the upper part from its gap end to the top of the axis, the lower part from its gap end to
+/// the bottom of the axis. The upper part begins past the short vias (`shorts`, on the
+/// centreline past the gap, which join the shield's layers there), where the row stands the
+/// fab's least pitch from them and clear of the gap's keep-out; the lower where it leaves the
+/// gap's keep-out. Shared with the design-rule check.
+pub fn balanced_row_parts(
+    p: &Probe,
+    s: &SolvedProbe,
+    shape: &LoopShape,
+    off: f64,
+    shorts: &[Point],
+) -> [Vec<Point>; 2] {
+    let half = left_half(shape, off);
+    let sl = arclengths(&half);
+    let total = *sl.last().unwrap();
+    let keep = shape::gap_keep(p.gap, p.vias.pad);
+    let clear_of_shorts = |q: Point| {
+        shorts
+            .iter()
+            .all(|v| (q - *v).hypot() >= s.pitch_min + offsets::PITCH_MARGIN)
+    };
+    let step = offsets::SEARCH_STEP;
+    // Upper part: from the gap, or from beside the short via nearest the top, towards the top.
+    let beside = |v: Point| {
+        (0..half.len())
+            .min_by(|&i, &j| (half[i] - v).hypot().total_cmp(&(half[j] - v).hypot()))
+            .map(|i| sl[i])
+            .unwrap_or(0.5 * total)
+    };
+    let mut t_up = shorts
+        .iter()
+        .filter(|v| v.x < 0.0)
+        .map(|v| beside(*v))
+        .fold(0.5 * total, f64::min);
+    while t_up > 0.0 {
+        let q = point_at(&half, &sl, t_up).0;
+        if q.y >= keep && clear_of_shorts(q) {
+            break;
+        }
+        t_up -= step;
+    }
+    let mut t_lo = 0.5 * total;
+    while t_lo < total {
+        let q = point_at(&half, &sl, t_lo).0;
+        if q.y <= -keep {
+            break;
+        }
+        t_lo += step;
+    }
+    let cut = |from: f64, to: f64| -> Vec<Point> {
+        // The part of `half` from arc position `from` to `to` (either way round).
+        let (lo, hi) = (from.min(to), from.max(to));
+        let mut v = vec![point_at(&half, &sl, lo).0];
+        v.extend(
+            (0..half.len())
+                .filter(|&i| sl[i] > lo + 1e-9 && sl[i] < hi - 1e-9)
+                .map(|i| half[i]),
+        );
+        v.push(point_at(&half, &sl, hi).0);
+        if from > to {
+            v.reverse();
+        }
+        v.dedup_by(|a, b| (*a - *b).hypot() < offsets::SAME_POINT);
+        v
+    };
+    [cut(t_up.max(0.0), 0.0), cut(t_lo.min(total), total)]
 }

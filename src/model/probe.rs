@@ -64,6 +64,14 @@ impl LoopShape {
         }
     }
 
+    /// Half the centreline's width across the axis, mm: where a balanced loop's side gaps sit.
+    pub fn half_width(&self) -> f64 {
+        match *self {
+            LoopShape::Round { diameter } => diameter / 2.0,
+            LoopShape::Rect { width, .. } => width / 2.0,
+        }
+    }
+
     /// Smallest centreline dimension, mm.
     pub fn min_dimension(&self) -> f64 {
         match *self {
@@ -160,6 +168,28 @@ impl Connector {
         return_loss_limit_db: defaults::RETURN_LOSS_LIMIT_DB,
         refuse_above_limit: false,
     };
+
+    /// Least distance between the centres of a balanced loop's two connectors, mm: room for
+    /// two coupling nuts side by side (an SMA nut is 5/16 in, 7.94 mm, across its flats: from
+    /// memory; 9 mm leaves a finger's play, common practice with no source).
+    pub const PAIR_PITCH_MIN: f64 = 9.0;
+
+    /// Half the distance between a balanced loop's two connector centres, mm: the footprints
+    /// side by side with the fab's least space between their ground pads, and never nearer
+    /// than [`Self::PAIR_PITCH_MIN`].
+    pub fn pair_half_pitch(&self, min_space: f64) -> f64 {
+        0.5 * Self::PAIR_PITCH_MIN
+            .max(2.0 * (self.ground_pad_offset + self.ground_pad_width / 2.0) + min_space)
+    }
+
+    /// The least handle width that holds a balanced loop's two connectors side by side inside
+    /// the copper-to-edge pullback, mm.
+    pub fn pair_handle_width(&self, fab: &FabProfile) -> f64 {
+        2.0 * (self.pair_half_pitch(fab.min_space)
+            + self.ground_pad_offset
+            + self.ground_pad_width / 2.0
+            + fab.copper_to_edge)
+    }
 }
 
 /// What sets the loop trace's width.
@@ -199,6 +229,12 @@ pub enum ProbeKind {
     /// layer stands a clearance back from it. Held flat, the face round the electrode is the
     /// grounded plane of `physics::electrode`.
     Electric(Electrode),
+    /// A doubly-loaded (balanced) shielded loop: the shield is split at both sides of the loop,
+    /// midway along each half-turn (mirror images about the axis), and each gap has its own
+    /// shielded 50 Ω line, shorted just past its gap, down the handle to its own connector;
+    /// the two connectors stand side by side. The difference of the two outputs carries the
+    /// magnetic response, their sum the electric one (`physics::balanced`).
+    Balanced,
 }
 
 /// The electrode of an electric-field probe (mm).
@@ -216,14 +252,20 @@ impl ProbeKind {
         match self {
             ProbeKind::Loop => "loop",
             ProbeKind::Electric(_) => "electric",
+            ProbeKind::Balanced => "balanced",
         }
+    }
+
+    /// True for the kinds that are loops (a shield ring round an opening).
+    pub fn is_loop(self) -> bool {
+        matches!(self, ProbeKind::Loop | ProbeKind::Balanced)
     }
 
     /// The electrode, for an electric probe.
     pub fn electrode(self) -> Option<Electrode> {
         match self {
             ProbeKind::Electric(e) => Some(e),
-            ProbeKind::Loop => None,
+            ProbeKind::Loop | ProbeKind::Balanced => None,
         }
     }
 }
@@ -258,7 +300,7 @@ fn kind_from(
         ("electrode_clearance_mm", l.electrode_clearance_mm),
     ];
     let kind = match l.kind.as_deref() {
-        None | Some("loop") => {
+        k @ (None | Some("loop") | Some("balanced")) => {
             for (field, v) in electrode_fields {
                 if let Some(v) = v {
                     out.push(FieldError::new(
@@ -268,7 +310,11 @@ fn kind_from(
                     ));
                 }
             }
-            ProbeKind::Loop
+            if k == Some("balanced") {
+                ProbeKind::Balanced
+            } else {
+                ProbeKind::Loop
+            }
         }
         Some("electric") => {
             let diameter = match l.electrode_diameter_mm {
@@ -330,20 +376,12 @@ fn kind_from(
                 clearance,
             })
         }
-        Some(k @ "balanced") => {
-            out.push(FieldError::new(
-                format!("{p}.kind"),
-                format!("\"{k}\""),
-                "is not built yet: this version builds \"loop\" (a singly-loaded shielded loop) \
-                 and \"electric\" (an electric-field probe)",
-            ));
-            ProbeKind::Loop
-        }
         Some(k) => {
             out.push(FieldError::new(
                 format!("{p}.kind"),
                 format!("\"{k}\""),
-                "must be \"loop\" or \"electric\" (\"balanced\" is planned)",
+                "must be \"loop\" (a singly-loaded shielded loop), \"balanced\" (a doubly-loaded \
+                 loop with two outputs) or \"electric\" (an electric-field probe)",
             ));
             ProbeKind::Loop
         }
@@ -452,7 +490,7 @@ impl Probe {
     /// `disc` for an electric probe's electrode.
     pub fn shape_name(&self) -> &'static str {
         match self.kind {
-            ProbeKind::Loop => self.shape.kind(),
+            ProbeKind::Loop | ProbeKind::Balanced => self.shape.kind(),
             ProbeKind::Electric(_) => "disc",
         }
     }
@@ -460,7 +498,7 @@ impl Probe {
     /// The size as printed: the loop's, or the electrode's diameter and clearance.
     pub fn size_text(&self) -> String {
         match self.kind {
-            ProbeKind::Loop => self.shape.size_text(),
+            ProbeKind::Loop | ProbeKind::Balanced => self.shape.size_text(),
             ProbeKind::Electric(e) => format!(
                 "Ø{} mm disc, {} mm clearance",
                 num(e.diameter),
@@ -905,10 +943,10 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         let before = out.len();
         let shape = match kind {
             ProbeKind::Electric(e) => electrode_shape(&mut out, &p, l, e),
-            ProbeKind::Loop => shape_from(&mut out, &p, l),
+            ProbeKind::Loop | ProbeKind::Balanced => shape_from(&mut out, &p, l),
         };
         // The gap's limit follows from the loop's size: checked only when the size is sound.
-        if kind == ProbeKind::Loop && out.len() == before && gap >= 0.5 * shape.min_dimension() {
+        if kind.is_loop() && out.len() == before && gap >= 0.5 * shape.min_dimension() {
             out.push(FieldError::new(
                 "gap_mm",
                 gap,
@@ -924,6 +962,42 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                 format!("{p}.silk_text"),
                 format!("\"{silk_text}\""),
                 "at most 40 characters",
+            ));
+        }
+        // A probe's own handle width, where it needs another than the family's (a balanced
+        // loop's two connectors side by side).
+        let mut handle = handle;
+        if let Some(w) = l.handle_width_mm {
+            let field = format!("{p}.handle_width_mm");
+            let least = 2.0 * connector.ground_pad_offset + connector.ground_pad_width;
+            check_range(&mut out, &field, w, 2.0, 100.0);
+            if w < least {
+                out.push(FieldError::new(
+                    field,
+                    crate::math::fmt_num(w),
+                    format!("must hold the connector's ground pads: at least {least:.3} mm"),
+                ));
+            }
+            handle.width = w;
+        }
+        if kind == ProbeKind::Balanced && handle.width < connector.pair_handle_width(&fab) - 1e-9 {
+            out.push(FieldError::new(
+                if l.handle_width_mm.is_some() {
+                    format!("{p}.handle_width_mm")
+                } else {
+                    "handle.width_mm".to_string()
+                },
+                crate::math::fmt_num(handle.width),
+                format!(
+                    "is too narrow for {p}, a balanced loop: its two connectors stand side by side \
+                     {} mm apart, which needs a handle at least {} mm wide (set \
+                     {p}.handle_width_mm)",
+                    crate::math::sig_fig(2.0 * connector.pair_half_pitch(fab.min_space), 4),
+                    crate::math::trimmed(
+                        (connector.pair_handle_width(&fab) * 1000.0).ceil() / 1000.0,
+                        3
+                    )
+                ),
             ));
         }
         if let Some(st) = &stackup {

@@ -14,6 +14,7 @@
 //!   under the tip does not reach: for that field's average over the loop's own effective area,
 //!   add 20·log10(A_uniform/A_eff) ([`Response::local_field_db`]).
 
+pub mod balanced;
 pub mod coupling;
 pub mod electric;
 pub mod electric_probe;
@@ -192,6 +193,10 @@ pub struct Response {
     /// The connector launch's budget: its return loss to f_max and its effect on the probe
     /// factor (module [`launch`]).
     pub launch: Option<launch::ProbeLaunch>,
+    /// A balanced loop's own numbers (its stub, its sum's electric factor): the other fields
+    /// then describe its outputs' difference (module [`balanced`]); None for a singly-loaded
+    /// loop.
+    pub balanced: Option<balanced::Balanced>,
     /// The options used.
     pub options: PredictOptions,
 }
@@ -243,12 +248,19 @@ impl Response {
         let g = self.gamma(f);
         let z_in = Cx::new(R_LOAD, 0.0)
             + Cx::new(self.z0_line, 0.0) * Cx::new(g.re * self.l2_m, g.im * self.l2_m).tanh();
-        let den = z_in
+        // A balanced loop has two such loads in the turn, and its difference is read through
+        // an ideal hybrid (√2 of one output; module [`balanced`]).
+        let (loads, gain) = if self.balanced.is_some() {
+            (2.0, std::f64::consts::SQRT_2)
+        } else {
+            (1.0, 1.0)
+        };
+        let den = z_in * Cx::new(loads, 0.0)
             + Cx::new(0.0, w * self.l_outer)
             + z_in * Cx::new(-w * w * self.l_outer * self.c_gap, 0.0);
         // The run's loss; its delay is left out, so phases stay referred to the gap.
         let run = (-g.re * self.l1_m).exp();
-        Cx::new(R_LOAD * run, 0.0) / den
+        Cx::new(gain * R_LOAD * run, 0.0) / den
     }
 
     /// The factor a test line's (or a trace's) field under the apex takes off the gap transfer,
@@ -309,7 +321,20 @@ impl Response {
     /// |V_E/V_H| at `f` Hz for a field of wave impedance `z_w` Ω lying across the loop's axis
     /// ([`electric::e_to_h`]).
     pub fn e_to_h(&self, f: f64, z_w: f64) -> f64 {
+        if self.balanced.is_some() {
+            // The difference of a balanced loop's outputs holds no electric response to first
+            // order (module [`balanced`]): not predicted, shown as unbounded.
+            return 0.0;
+        }
         electric::e_to_h(f, self.e_radius_m, z_w)
+    }
+
+    /// The inner line seen from the gap at `f` Hz: the matched run in series with the shorted
+    /// stub, R_L + Z0·tanh(γ·l2), Ω.
+    pub fn z_in(&self, f: f64) -> Cx {
+        let g = self.gamma(f);
+        Cx::new(R_LOAD, 0.0)
+            + Cx::new(self.z0_line, 0.0) * Cx::new(g.re * self.l2_m, g.im * self.l2_m).tanh()
     }
 
     /// E-rejection at `f` Hz, dB, for a field of wave impedance `z_w` Ω across the axis.
@@ -355,7 +380,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }
-    if p.kind != crate::model::probe::ProbeKind::Loop {
+    if !p.kind.is_loop() {
         return Err(Error::Invalid(vec![FieldError::new(
             "kind",
             format!("\"{}\"", p.kind.name()),
@@ -372,15 +397,30 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let pts = centreline_m(shape);
     let l_outer_gmd = neumann_loop(&pts, g);
     let sc = shield_current(p, s)?;
-    let gap = gap_current(p, s, &sc)?;
+    let mut gap = gap_current(p, s, &sc)?;
+    let two = p.kind == crate::model::probe::ProbeKind::Balanced;
+    if two {
+        // Two gaps, each its correction; the gaps sit at the sides, away from a trace under
+        // the apex, whose flux takes the filaments alone.
+        gap.dl_outer *= 2.0;
+        gap.d_area *= 2.0;
+        gap.points.clear();
+    }
     let l_outer = sc.l_outer + gap.dl_outer;
     let circumference = shape.circumference() * 1e-3;
-    let l2 = circumference / 2.0;
+    // The stub: a singly-loaded loop's runs the half-turn past the apex gap to the short; a
+    // balanced loop's from each side gap to its short vias.
+    let l2 = if two {
+        crate::solve::probe::balanced_stub(p, s.trace_width) * 1e-3
+    } else {
+        circumference / 2.0
+    };
     let eps_eff = s.solution.eps_eff;
     let z0_line = p.target_z0;
     let l_stub = z0_line * eps_eff.sqrt() * l2 / C0;
-    let l_total = l_outer + l_stub;
-    let corner = R_LOAD / (2.0 * PI * l_total);
+    let loads = if two { 2.0 } else { 1.0 };
+    let l_total = l_outer + loads * l_stub;
+    let corner = loads * R_LOAD / (2.0 * PI * l_total);
     let f_small = C0 / (10.0 * circumference);
     let f_null = C0 / (4.0 * l2 * eps_eff.sqrt());
     let c_gap = gap_capacitance(p, s)?;
@@ -399,7 +439,9 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         z0_line,
         eps_eff,
         l2_m: l2,
-        l1_m: l2 + p.handle.length * 1e-3,
+        // The run from the gap to the connector: a half-turn and the handle, or a balanced
+        // loop's quarter-turn and the handle.
+        l1_m: if two { circumference / 4.0 } else { l2 } + p.handle.length * 1e-3,
         alpha_c_1ghz: alpha_c_1ghz(s),
         alpha_dc: RHO_CU / (s.trace_width * 1e-3 * trace_thickness_m(p)) / (2.0 * z0_line),
         tan_d,
@@ -424,13 +466,34 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         gap_points: gap.points,
         gap_radius_m: shield_radius_m(shape),
         launch: None,
+        balanced: two.then(|| {
+            let a = (area / PI).sqrt();
+            // The ring's electrostatic equivalent radius: a quarter of its cross-section's
+            // width plus thickness (module [`balanced`]).
+            let b = (2.0 * s.ring_half_width + p.stackup.thickness_mm()) * 1e-3 / 4.0;
+            balanced::Balanced {
+                stub_m: l2,
+                b_m: b,
+                lambda1: balanced::lambda1(a, b),
+                e_factor: Vec::new(),
+            }
+        }),
         options: *o,
     };
-    r.budget_hz = budget_frequency(&r, corner / 10.0, f_null);
+    r.budget_hz = if two {
+        None
+    } else {
+        budget_frequency(&r, corner / 10.0, f_null)
+    };
     (r.upper_hz, r.upper_rule) = match r.budget_hz {
         Some(b) if b < f_small => (
             b,
             "error budget: electric pickup (20° tilt, E/H = η0) and a ±5 % stub length reach 1 dB",
+        ),
+        _ if two => (
+            f_small,
+            "small loop: circumference ≤ λ0/10 (the outputs' difference holds no electric \
+             pickup to first order; no stub null)",
         ),
         _ => (f_small, "small loop: circumference ≤ λ0/10"),
     };
@@ -461,6 +524,14 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         let w = 2.0 * PI * f;
         let v_per_a = w * r.mutual * r.line_transfer(f).abs();
         r.output_per_amp.push((f, 20.0 * v_per_a.log10()));
+        if let Some(bal) = &r.balanced {
+            let run = (-r.gamma(f).re * r.l1_m).exp();
+            let t = balanced::sum_transfer(f, r.e_radius_m, bal.b_m, r.z_in(f), r.c_gap, run);
+            let db = -20.0 * t.log10();
+            if let Some(b) = r.balanced.as_mut() {
+                b.e_factor.push((f, db));
+            }
+        }
     }
     r.launch = Some(launch::probe_launch(p, s, &r));
     Ok(r)

@@ -164,6 +164,17 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     if probe.kind.electrode().is_some() {
         return run_electric(a, probe, (line_port, probe_port), ports);
     }
+    if probe.kind == crate::model::probe::ProbeKind::Balanced {
+        // Its outputs' difference and sum need a 3-port file (line in, both outputs): not
+        // built yet; a 2-port of one output is neither.
+        return Err(Error::Invalid(vec![FieldError::new(
+            "probe",
+            format!("\"{}\"", probe.name),
+            "is a balanced loop: its calibration from a 3-port file (line in, both outputs, \
+             difference and sum formed) is not built yet, and one output's 2-port file is \
+             neither its difference nor its sum",
+        )]));
+    }
     let solved = crate::solve::probe::solve(probe)?;
     let response = crate::physics::predict(probe, &solved, &PredictOptions::default())?;
     let x = Chosen {

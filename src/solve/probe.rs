@@ -134,6 +134,40 @@ pub fn cross_section(
     }
 }
 
+/// Largest entry offset of a balanced loop's lines against the loop's half-width: the entry
+/// stays on the ring's lower part, well below the side gap (our construction rule).
+pub const BALANCED_ENTRY_MAX: f64 = 0.6;
+
+/// The least entry offset of a balanced loop's lines from the axis, mm: each line's inner fence
+/// (a fence offset in from it) half the fab's via pitch and 0.05 mm from the axis, so that the
+/// two lines' inner fences stand the pitch apart.
+pub fn balanced_entry_least(fence_offset: f64, pitch_min: f64) -> f64 {
+    fence_offset + pitch_min / 2.0 + 0.05
+}
+
+/// Where a balanced loop's two lines enter its ring: x = ∓ this (mm), straight up from their
+/// connectors where the loop is wide enough, else half the loop's half-width, never under
+/// [`balanced_entry_least`].
+pub fn balanced_entry(p: &Probe, s: &SolvedProbe) -> f64 {
+    let x_c = p.connector.pair_half_pitch(p.fab.min_space);
+    x_c.min(0.5 * p.shape.half_width())
+        .max(balanced_entry_least(s.fence_offset, s.pitch_min))
+}
+
+/// Distance from a balanced loop's gap centre along its line to the end of the line's channel,
+/// mm: past the gap's edge by a clearance and half a trace, so that the line crosses the gap
+/// inside its channel.
+pub fn channel_past_gap(p: &Probe, w: f64) -> f64 {
+    p.gap / 2.0 + p.clearance + w / 2.0
+}
+
+/// A balanced loop's stub, mm: from the gap's centre along the line to its first short via
+/// (the channel's end, then half a trace, a clearance, half a via pad and a web into solid
+/// shield; `geom`).
+pub fn balanced_stub(p: &Probe, w: f64) -> f64 {
+    channel_past_gap(p, w) + w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB
+}
+
 /// Solves a probe's trace width and via pitch window.
 pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     let mut errs = Vec::new();
@@ -198,7 +232,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     // A loop's width is set on its arm; an electric probe has no arm, its line runs up the
     // handle only.
     let own = match p.kind {
-        ProbeKind::Loop => Section::Arm,
+        ProbeKind::Loop | ProbeKind::Balanced => Section::Arm,
         ProbeKind::Electric(_) => Section::Handle,
     };
     let arm_cf = field_z(closed_form.0, own).map_err(field_err)?;
@@ -292,7 +326,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     } else {
         2.0 * ring_half_width + 1.0
     };
-    if p.kind == ProbeKind::Loop && p.shape.min_dimension() < min_size {
+    if p.kind.is_loop() && p.shape.min_dimension() < min_size {
         errs.push(FieldError::new(
             "size_mm",
             crate::model::probe::num(p.shape.min_dimension()),
@@ -312,11 +346,36 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             ),
         ));
     }
-    // A loop's feed runs off the axis by the feed offset; an electric probe's line on it.
+    // A loop's feed runs off the axis by the feed offset; an electric probe's line on it; a
+    // balanced loop's two lines up from their connectors, side by side.
     let off_axis = match p.kind {
         ProbeKind::Loop => feed_offset,
         ProbeKind::Electric(_) => 0.0,
+        ProbeKind::Balanced => p.connector.pair_half_pitch(p.fab.min_space),
     };
+    if p.kind == ProbeKind::Balanced {
+        let least = balanced_entry_least(fence_offset, pitch_min);
+        let a = p.shape.half_width();
+        if least > BALANCED_ENTRY_MAX * a {
+            errs.push(FieldError::new(
+                "size_mm",
+                crate::model::probe::num(2.0 * a),
+                format!(
+                    "probe '{}' is too narrow for a balanced loop: its two lines enter the ring \
+                     at least {least:.3} mm either side of the axis (fences {:.3} mm off each \
+                     line, the fab's via pitch between them), which must be within {} of the \
+                     loop's half-width: the loop must be at least {} mm wide",
+                    p.name,
+                    fence_offset,
+                    BALANCED_ENTRY_MAX,
+                    crate::math::trimmed(
+                        (2.0 * least / BALANCED_ENTRY_MAX * 1000.0).ceil() / 1000.0,
+                        3
+                    )
+                ),
+            ));
+        }
+    }
     let need_handle = 2.0 * (off_axis + fence_offset + p.vias.pad / 2.0 + RING_RIM);
     if p.handle.width < need_handle {
         errs.push(FieldError::new(

@@ -58,10 +58,13 @@ pub struct LoopSpec {
     pub corner_radius_mm: Option<f64>,
     /// Extra silkscreen text (default: none).
     pub silk_text: Option<String>,
-    /// What the probe is: `loop` (the default: a singly-loaded shielded loop) or `electric` (an
-    /// electric-field probe: a disc electrode at the tip). The balanced (doubly-loaded) loop is
-    /// planned and refused for now.
+    /// What the probe is: `loop` (the default: a singly-loaded shielded loop), `balanced` (a
+    /// doubly-loaded loop: a gap at each side, two lines, two connectors) or `electric` (an
+    /// electric-field probe: a disc electrode at the tip).
     pub kind: Option<String>,
+    /// This probe's handle width, mm, where it needs another than the family's `handle.width_mm`
+    /// (a balanced loop's two connectors side by side).
+    pub handle_width_mm: Option<f64>,
     /// Turns of the loop (default 1; more turns are planned and refused for now).
     pub turns: Option<i64>,
     /// Electric probe: diameter of the disc electrode on the outer layers, mm.

@@ -104,9 +104,16 @@ pub fn notes(
         );
         let _ = writeln!(
             o,
-            "- **One net.** The loop trace is shorted to the shield at its far end, so the \
-             connector's centre pad is continuous with the shield at DC. This is intended: \
-             electrical test must expect it.\n"
+            "{}",
+            if b.mirrored {
+                "- **One net.** Each of the two lines is shorted to the shield just past its gap, \
+                 so both connectors' centre pads are continuous with the shield (and with each \
+                 other) at DC. This is intended: electrical test must expect it.\n"
+            } else {
+                "- **One net.** The loop trace is shorted to the shield at its far end, so the \
+                 connector's centre pad is continuous with the shield at DC. This is intended: \
+                 electrical test must expect it.\n"
+            }
         );
     }
     o.push_str(&stackup_table(&p.stackup, |n| {
@@ -238,19 +245,36 @@ pub fn notes(
         let _ = writeln!(o, "\n## Cautions\n\n{CAUTIONS}");
         return o;
     }
-    let _ = writeln!(
-        o,
-        "- Shield gap {:.3} mm wide on every shield layer and the coplanar ground, centred on the \
-         axis at the loop's apex (the electrical midpoint of the turn); the trace crosses it uncut.",
-        p.gap
-    );
-    let _ = writeln!(
-        o,
-        "- Not mirror-symmetric, by design: the feed enters the loop at x = −{e:.3} mm and the \
-         short ties the trace to the shield at x = +{e:.3} mm; the feed's via fences and the two \
-         short vias follow them. Shield copper, gap and loop stitching rows are symmetric.",
-        e = s.feed_offset
-    );
+    if b.mirrored {
+        let a = p.shape.half_width();
+        let _ = writeln!(
+            o,
+            "- Balanced loop: two shield gaps {:.3} mm wide on every shield layer and the \
+             coplanar ground, centred at x = ±{a:.3} mm, y = 0 (the loop's widest points, midway \
+             along each half-turn); each line crosses its own gap uncut and is tied to the shield \
+             by two short vias just past it.\n- Two edge-launch connectors side by side, centres \
+             at x = ±{:.3} mm; the board is mirror-symmetric about x = 0 in every layer, both \
+             lines, both connectors and every via included.",
+            p.gap,
+            p.connector.pair_half_pitch(p.fab.min_space)
+        );
+    } else {
+        let _ = writeln!(
+            o,
+            "- Shield gap {:.3} mm wide on every shield layer and the coplanar ground, centred on \
+             the axis at the loop's apex (the electrical midpoint of the turn); the trace crosses \
+             it uncut.",
+            p.gap
+        );
+        let _ = writeln!(
+            o,
+            "- Not mirror-symmetric, by design: the feed enters the loop at x = −{e:.3} mm and the \
+             short ties the trace to the shield at x = +{e:.3} mm; the feed's via fences and the \
+             two short vias follow them. Shield copper, gap and loop stitching rows are \
+             symmetric.",
+            e = s.feed_offset
+        );
+    }
     let _ = writeln!(
         o,
         "- Coordinates in mm, origin at the loop centre, tip towards +y, connector at the bottom \
@@ -443,6 +467,11 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     let _ = writeln!(o, "- Assumptions:");
     for a in crate::physics::predicted::ASSUMPTIONS {
         let _ = writeln!(o, "  - {a}");
+    }
+    if r.balanced.is_some() {
+        for a in crate::physics::predicted::BALANCED_ASSUMPTIONS {
+            let _ = writeln!(o, "  - {a}");
+        }
     }
     o
 }
