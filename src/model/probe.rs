@@ -694,6 +694,28 @@ pub fn edge_rule_fits_connector(
             ),
         ));
     }
+    // A ground-leg hole's land is flashed on every layer, the inner ones too, where no pad
+    // exempts it: it must keep the rule from the connector edge (the land as `geom` draws it).
+    if connector.ground_hole_drill > 0.0 {
+        let land = (fab.ring_hole(connector.ground_hole_drill, true)
+            + 2.0 * fab.min_annular_ring.max(0.15))
+        .min(connector.ground_pad_width);
+        let room = (connector.ground_pad_length - land) / 2.0;
+        if fab.copper_to_edge > room + 1e-9 {
+            out.push(FieldError::new(
+                "fab.copper_to_edge_mm",
+                crate::math::fmt_num(fab.copper_to_edge),
+                format!(
+                    "at most {} mm with ground-leg holes: their {} mm lands, centred on the {} mm \
+                     ground pads, are flashed on the inner layers too and must keep the rule \
+                     from the connector edge (or leave out connector.ground_hole_drill_mm)",
+                    crate::math::sig_fig(room.max(0.0), 3),
+                    crate::math::sig_fig(land, 3),
+                    crate::math::fmt_num(connector.ground_pad_length)
+                ),
+            ));
+        }
+    }
     let line_from = connector.centre_pad_length - 1e-3;
     if fab.copper_to_edge > line_from + 1e-9 {
         out.push(FieldError::new(
