@@ -629,7 +629,7 @@ fn predict_json_has_the_documented_keys() {
     );
     let v = json(&["predict", spec, "--json"]);
     let probes = v["probes"].as_array().unwrap();
-    assert_eq!(probes.len(), 5);
+    assert_eq!(probes.len(), 6);
     for p in probes {
         for k in ["name", "shape"] {
             assert!(p[k].is_string(), "{k}");
@@ -653,9 +653,27 @@ fn predict_json_has_the_documented_keys() {
             }
             continue;
         }
+        if p["name"] == "FM-B20" {
+            // The balanced loop: a loop's keys (its outputs' difference) and the sum's
+            // electric factor per point, on the probe factor's frequencies; its difference's
+            // E-rejection is not predicted (null: no electric pickup to first order).
+            assert_eq!(p["kind"], "balanced");
+            let pf = p["probe_factor"].as_array().unwrap();
+            let er = p["e_response"].as_array().unwrap();
+            assert_eq!(er.len(), pf.len());
+            for (a, b) in er.iter().zip(pf) {
+                assert_eq!(a["freq_hz"], b["freq_hz"]);
+                assert!(a["db_per_m"].as_f64().unwrap() > 0.0);
+                assert!(b["e_rejection_db"].is_null());
+            }
+            assert!(p["outputs"].as_str().unwrap().contains("hybrid"));
+            assert!(p["stub_mm"].as_f64().unwrap() > 0.0);
+            continue;
+        }
         // The loops give neither: today's meaning, a single-turn singly-loaded loop.
         assert_eq!(p["kind"], "loop");
         assert_eq!(p["turns"], 1);
+        assert!(p.get("e_response").is_none());
         for k in [
             "loop_area_mm2",
             "inductance_nh",

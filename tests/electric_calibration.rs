@@ -11,35 +11,13 @@ use std::path::{Path, PathBuf};
 const HEIGHT_MM: f64 = 1.0;
 
 fn demo(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("data/demo")
-        .join(name)
+    common::demo_data(name)
 }
 
 /// The predicted S21 of the demo's electric probe over the demo's fixture at 1 mm, from
 /// `predict --fixture` (its JSON): (Hz, dB, degrees), with the predicted factor.
 fn predicted() -> Vec<(f64, f64, f64, f64)> {
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
-        .args([
-            "predict",
-            demo("fenwick-marsh-probes.toml").to_str().unwrap(),
-            "--fixture",
-            demo("fenwick-marsh-fixture.toml").to_str().unwrap(),
-            "--height",
-            &HEIGHT_MM.to_string(),
-            "--json",
-        ])
-        .output()
-        .unwrap();
-    assert!(out.status.success());
-    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    let p = v["probes"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .find(|p| p["name"] == "FM-E2")
-        .unwrap()
-        .clone();
+    let p = common::demo_probe_on_fixture("FM-E2", HEIGHT_MM);
     let ef = p["electric_factor"].as_array().unwrap();
     p["fixture_coupling"]["s21"]
         .as_array()
@@ -81,17 +59,13 @@ fn request(touchstone: PathBuf) -> Request {
         fixture: demo("fenwick-marsh-fixture.toml"),
         height: HEIGHT_MM,
         uniform_line: false,
+        second_port: None,
         accept_deviation: None,
     }
 }
 
 fn column(text: &str, name: &str) -> Vec<f64> {
-    let mut lines = text.lines().filter(|l| !l.starts_with('#'));
-    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
-    let k = head.iter().position(|h| *h == name).unwrap();
-    lines
-        .map(|l| l.split(',').nth(k).unwrap().parse().unwrap())
-        .collect()
+    common::csv_column(text, name)
 }
 
 #[test]

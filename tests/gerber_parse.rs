@@ -14,9 +14,9 @@ fn every_gerber_parses_without_errors() {
         assert!(errors.is_empty(), "{}: {errors:#?}", f.display());
         n += 1;
     }
-    // 5 probes × (4 copper + 2 mask + 2 legend + 1 profile), the panel's (the same nine) and
+    // 6 probes × (4 copper + 2 mask + 2 legend + 1 profile), the panel's (the same nine) and
     // its four-layer fixture's (4 copper + 2 mask + top legend + profile).
-    assert_eq!(n, 45 + 9 + 8);
+    assert_eq!(n, 54 + 9 + 8);
 }
 
 /// Coordinates of a Gerber operation line (`X..Y..D0n*`, format 4.6 in mm, modal), in mm.

@@ -114,7 +114,8 @@ fn edge_frame(mut j: Value) -> Value {
 /// probe shares the pad, the link, the signal via and its antipads, but not the rest: its line
 /// runs on the axis (so its fence vias stand elsewhere) and is solved on the handle's section
 /// (0.214 mm, not the loops' 0.216 mm): no full-wave run stands for its launch, and its
-/// line-section model's worst return loss is within 0.1 dB of the loops'.
+/// line-section model's worst return loss is within 0.1 dB of the loops'. Nor does one stand
+/// for the balanced loop's two launches side by side (the same bound on its model).
 #[test]
 fn one_transition_stands_for_the_demo_family() {
     let reference = edge_frame(launch_json::probe_json("FM-R10", None, None));
@@ -129,7 +130,27 @@ fn one_transition_stands_for_the_demo_family() {
         .filter(|p| p.kind.as_deref() == Some("electric"))
         .filter_map(|p| p.name.as_ref())
         .collect();
+    let balanced: Vec<&String> = spec
+        .probe
+        .iter()
+        .filter(|p| p.kind.as_deref() == Some("balanced"))
+        .filter_map(|p| p.name.as_ref())
+        .collect();
+    let worst = |n: &str| {
+        launch_json::probe_json(n, None, None)["model"]["worst_s11_db"]
+            .as_f64()
+            .unwrap()
+    };
     for name in &names {
+        if balanced.contains(&name) {
+            // A balanced loop's launch is the same footprint moved off the axis beside its
+            // mirror image: no full-wave run stands for it (its neighbour 9 mm away is not in
+            // the FDTD); its line-section model's worst return loss is within 0.1 dB of the
+            // loops' (its handle is wider, so its line's impedance differs a little).
+            let gap = (worst(name) - worst("FM-R10")).abs();
+            assert!(gap < 0.1, "{name}: {gap} dB from the loops' launch");
+            continue;
+        }
         let mut d = Vec::new();
         json_diff(
             &edge_frame(launch_json::probe_json(name, None, None)),
@@ -150,11 +171,6 @@ fn one_transition_stands_for_the_demo_family() {
                 .filter(|l| !allowed.iter().any(|a| l.starts_with(a)))
                 .collect();
             assert!(other.is_empty(), "{name}: {other:?}");
-            let worst = |n: &str| {
-                launch_json::probe_json(n, None, None)["model"]["worst_s11_db"]
-                    .as_f64()
-                    .unwrap()
-            };
             let gap = (worst(name) - worst("FM-R10")).abs();
             assert!(gap < 0.1, "{name}: {gap} dB from the loops' launch");
             continue;

@@ -19,6 +19,11 @@ pub struct CalibrateArgs {
     /// VNA port on the probe's output (default 2 for a two-port file).
     #[arg(long = "probe-port", value_name = "N")]
     pub probe_port: Option<usize>,
+    /// A balanced loop's second output: its VNA port in a 3-port file (default: the port that
+    /// is neither --line-port nor --probe-port; a balanced loop's defaults are 1, 2 and 3).
+    /// Its outputs' difference, (S(probe, line) − S(second, line))/√2, is calibrated.
+    #[arg(long = "second-port", value_name = "N")]
+    pub second_port: Option<usize>,
     /// The probe or family spec the probe was built from.
     #[arg(long, value_name = "SPEC.toml")]
     pub probes: PathBuf,
@@ -57,6 +62,7 @@ pub(super) fn run(a: &CalibrateArgs) -> Result<(), Error> {
         fixture: a.fixture.clone(),
         height: a.height,
         uniform_line: a.uniform_line,
+        second_port: a.second_port,
         accept_deviation: a.accept_deviation,
     })?;
     crate::pipeline::write_atomically(&a.out, &done.files)?;

@@ -76,12 +76,7 @@ pub fn stackup_svg(st: &Stackup, signal_layer: usize, signal_role: &str) -> Stri
 /// balanced loop's two outputs and its sum's electric factor.
 fn electric_sentence(r: &crate::physics::Response) -> String {
     if let Some(b) = &r.balanced {
-        let ef = |f: f64| {
-            b.e_factor
-                .iter()
-                .min_by(|x, y| (x.0 / f).ln().abs().total_cmp(&(y.0 / f).ln().abs()))
-                .map_or(f64::NAN, |x| x.1)
-        };
+        let ef = |f: f64| b.e_factor_near(f);
         return format!(
             "Balanced: two outputs through an ideal 180° hybrid, the figures above those of their \
              difference Δ, which holds no electric pickup to first order; their sum Σ's electric \

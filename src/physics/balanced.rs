@@ -67,6 +67,16 @@ pub struct Balanced {
     pub e_factor: Vec<(f64, f64)>,
 }
 
+impl Balanced {
+    /// The sum's electric factor at the tabulated frequency nearest `f` (in log), dB(1/m).
+    pub fn e_factor_near(&self, f: f64) -> f64 {
+        self.e_factor
+            .iter()
+            .min_by(|x, y| (x.0 / f).ln().abs().total_cmp(&(y.0 / f).ln().abs()))
+            .map_or(f64::NAN, |x| x.1)
+    }
+}
+
 /// The thin ring's mode-1 potential factor, ln(8a/b) − 2 (from memory; checked against NEC-2
 /// through the sum it sets, tests/balanced.rs).
 pub fn lambda1(a_m: f64, b_m: f64) -> f64 {

@@ -40,6 +40,8 @@ pub struct Request {
     pub height: f64,
     /// Take the line current as V_inc/R_ref, ignoring the fixture's launches.
     pub uniform_line: bool,
+    /// A balanced loop's second output's port (default: a 3-port file's remaining port).
+    pub second_port: Option<usize>,
     /// Write a calibration that fails the plausibility gate when its largest in-band
     /// |measured − predicted| is at most this many dB.
     pub accept_deviation: Option<f64>,
@@ -86,10 +88,11 @@ fn ports_of(path: &Path) -> Result<usize, Error> {
 }
 
 /// The command line's flags that a calibration's field errors name.
-const FLAGS: [&str; 9] = [
+const FLAGS: [&str; 10] = [
     "touchstone",
     "line-port",
     "probe-port",
+    "second-port",
     "probes",
     "probe",
     "fixture",
@@ -119,20 +122,26 @@ pub fn run(a: &Request) -> Result<Calibrated, Error> {
 
 fn run_request(a: &Request) -> Result<Calibrated, Error> {
     let ports = ports_of(&a.touchstone)?;
+    let ports_needed = || {
+        Error::Invalid(vec![FieldError::new(
+            "line-port",
+            a.line_port
+                .map(|v| v.to_string())
+                .unwrap_or("(missing)".into()),
+            format!("a {ports}-port file needs both --line-port and --probe-port (1 to {ports})"),
+        )])
+    };
+    // A 3-port file of a balanced loop has defaults too (line 1, outputs 2 and 3): known only
+    // once the probe is read, so the loop's refusal waits for it.
+    let mut defaulted = false;
     let (line_port, probe_port) = match (a.line_port, a.probe_port, ports) {
         (l, p, 2) => (l.unwrap_or(1), p.unwrap_or(2)),
         (Some(l), Some(p), _) => (l, p),
-        _ => {
-            return Err(Error::Invalid(vec![FieldError::new(
-                "line-port",
-                a.line_port
-                    .map(|v| v.to_string())
-                    .unwrap_or("(missing)".into()),
-                format!(
-                    "a {ports}-port file needs both --line-port and --probe-port (1 to {ports})"
-                ),
-            )]));
+        (l, p, 3) => {
+            defaulted = true;
+            (l.unwrap_or(1), p.unwrap_or(2))
         }
+        _ => return Err(ports_needed()),
     };
     let mut errs = crate::calib::calibrate::check_ports(ports, line_port, probe_port);
     crate::error::check_range(&mut errs, "height", a.height, 0.0, 100.0);
@@ -164,17 +173,27 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     if probe.kind.electrode().is_some() {
         return run_electric(a, probe, (line_port, probe_port), ports);
     }
-    if probe.kind == crate::model::probe::ProbeKind::Balanced {
-        // Its outputs' difference and sum need a 3-port file (line in, both outputs): not
-        // built yet; a 2-port of one output is neither.
-        return Err(Error::Invalid(vec![FieldError::new(
-            "probe",
-            format!("\"{}\"", probe.name),
-            "is a balanced loop: its calibration from a 3-port file (line in, both outputs, \
-             difference and sum formed) is not built yet, and one output's 2-port file is \
-             neither its difference nor its sum",
-        )]));
+    let balanced = probe.kind == crate::model::probe::ProbeKind::Balanced;
+    if defaulted && !balanced {
+        return Err(ports_needed());
     }
+    // A balanced loop's outputs a (--probe-port) and b (--second-port): their difference is
+    // calibrated as the probe's output.
+    let outputs = if balanced {
+        Some(balanced_ports(a, ports, line_port, probe_port)?)
+    } else if let Some(b) = a.second_port {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "second-port",
+            b,
+            format!(
+                "applies only to a balanced loop's second output; '{}' is a {} probe",
+                probe.name,
+                probe.kind.name()
+            ),
+        )]));
+    } else {
+        None
+    };
     let solved = crate::solve::probe::solve(probe)?;
     let response = crate::physics::predict(probe, &solved, &PredictOptions::default())?;
     let x = Chosen {
@@ -187,6 +206,14 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     // The measurement.
     let ts_path = a.touchstone.display().to_string();
     let net = touchstone::parse(&read(&a.touchstone)?, &ts_path, ports)?;
+    // A balanced loop: the 3-port file becomes the 2-port of its difference (line 1, Δ 2).
+    let (net, (line_port, probe_port), separation) = match outputs {
+        Some((l, pa, pb)) => {
+            let (d, sep) = difference_network(&net, l, pa, pb);
+            (d, (1, 2), Some((l, pa, pb, sep)))
+        }
+        None => (net, (line_port, probe_port), None),
+    };
     let line = fs.test_line(net.r_ref);
     let (source, ratio) = line_current(a, &fx, &fs, &net, false)?;
     let current = LineCurrent {
@@ -249,10 +276,13 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
         ),
     ];
     let measured_src = format!(
-        "source: calibrated from {source} (S{}{}), tip {} mm above the line of {}, on {} by \
+        "source: calibrated from {source} ({}), tip {} mm above the line of {}, on {} by \
          loopwright {}",
-        probe_port,
-        line_port,
+        match separation {
+            Some((l, pa, pb, _)) =>
+                format!("Δ = (S{pa}{l} − S{pb}{l})/√2, a balanced loop's outputs' difference"),
+            None => format!("S{probe_port}{line_port}"),
+        },
         a.height,
         fx.name,
         crate::calib::band::date_utc(),
@@ -271,6 +301,14 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     let mut detail_head = vec!["loopwright calibration detail".to_string()];
     detail_head.extend(common.iter().cloned());
     detail_head.push(measured_src);
+    let sep_line = separation.map(|(_, _, _, sep)| {
+        format!(
+            "balanced loop: the sum Σ = (S(a) + S(b))/√2 over the difference Δ on the line, \
+             median {sep:.1} dB (the electric share of the line's coupling; Σ's response to the \
+             line is not predicted)"
+        )
+    });
+    detail_head.extend(sep_line.clone());
     detail_head.extend(verdict.lines());
     let (pf_svg, diff_svg) = crate::emit::calibration::plots(&x.probe.name, &cal, &x.response);
     let mut files: Vec<(String, Vec<u8>)> = vec![
@@ -332,13 +370,18 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
              largest {max:.2} dB"
         ));
     }
+    report.extend(sep_line);
     for l in verdict.lines() {
         report.push(l);
     }
     Ok(Calibrated {
         files: entries,
         report,
-        field_reference: "uniform H normal to the loop",
+        field_reference: if separation.is_some() {
+            "uniform H normal to the loop, at the outputs' difference Δ = (a − b)/√2"
+        } else {
+            "uniform H normal to the loop"
+        },
     })
 }
 
@@ -491,6 +534,83 @@ fn line_current(
             Box::new(move |f| launch_current(&secs, &beyond, r, f))
         },
     ))
+}
+
+/// A balanced loop's ports in a 3-port file: (line, output a, output b), output b the
+/// `--second-port` or the one port left.
+fn balanced_ports(
+    a: &Request,
+    ports: usize,
+    line_port: usize,
+    probe_port: usize,
+) -> Result<(usize, usize, usize), Error> {
+    if ports != 3 {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "touchstone",
+            a.touchstone.display(),
+            format!(
+                "is a {ports}-port file; a balanced loop is calibrated from a 3-port file (.s3p): \
+                 the line's input and both outputs (--line-port, --probe-port, --second-port; \
+                 default 1, 2, 3)"
+            ),
+        )]));
+    }
+    let second = a.second_port.unwrap_or_else(|| 6 - line_port - probe_port);
+    if !(1..=3).contains(&second) || second == line_port || second == probe_port {
+        return Err(Error::Invalid(vec![FieldError::new(
+            "second-port",
+            second,
+            format!(
+                "must be the file's third port, neither --line-port ({line_port}) nor \
+                 --probe-port ({probe_port})"
+            ),
+        )]));
+    }
+    Ok((line_port, probe_port, second))
+}
+
+/// The 2-port network of a balanced loop's outputs' difference through an ideal 180° hybrid:
+/// port 1 the line (its own reflection kept), port 2 Δ = (S(a, l) − S(b, l))/√2 (both ways),
+/// and the median over the file of |Σ/Δ| in dB, Σ = (S(a, l) + S(b, l))/√2: how much of the
+/// line's coupling the sum took (the electric share; the model predicts Σ's response to a
+/// uniform field only, not to the line's).
+fn difference_network(
+    net: &touchstone::Network,
+    l: usize,
+    pa: usize,
+    pb: usize,
+) -> (touchstone::Network, f64) {
+    let k = std::f64::consts::FRAC_1_SQRT_2;
+    let (sa, sb, sal, sbl, sll) = (
+        net.param(pa, l),
+        net.param(pb, l),
+        net.param(l, pa),
+        net.param(l, pb),
+        net.param(l, l),
+    );
+    let mut ratios = Vec::new();
+    let s = (0..net.freqs.len())
+        .map(|i| {
+            let d = ((sa[i].0 - sb[i].0) * k, (sa[i].1 - sb[i].1) * k);
+            let d_rev = ((sal[i].0 - sbl[i].0) * k, (sal[i].1 - sbl[i].1) * k);
+            let sum = ((sa[i].0 + sb[i].0) * k, (sa[i].1 + sb[i].1) * k);
+            let dm = d.0.hypot(d.1);
+            if dm > 0.0 && sum.0.hypot(sum.1) > 0.0 {
+                ratios.push(20.0 * (sum.0.hypot(sum.1) / dm).log10());
+            }
+            vec![sll[i], d_rev, d, (0.0, 0.0)]
+        })
+        .collect();
+    ratios.sort_by(f64::total_cmp);
+    let median = ratios.get(ratios.len() / 2).copied().unwrap_or(f64::NAN);
+    (
+        touchstone::Network {
+            ports: 2,
+            s,
+            ..net.clone()
+        },
+        median,
+    )
 }
 
 /// The launch sections in words.

@@ -427,3 +427,49 @@ pub fn job_listing(
         .collect();
     (listed, in_folder)
 }
+
+/// A file of the built-in demo's data folder.
+#[allow(dead_code)]
+pub fn demo_data(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("data/demo")
+        .join(name)
+}
+
+/// A column of a CSV text whose comment lines start with `#`, parsed as numbers.
+#[allow(dead_code)]
+pub fn csv_column(text: &str, name: &str) -> Vec<f64> {
+    let mut lines = text.lines().filter(|l| !l.starts_with('#'));
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let k = head.iter().position(|h| *h == name).unwrap();
+    lines
+        .map(|l| l.split(',').nth(k).unwrap().parse().unwrap())
+        .collect()
+}
+
+/// A demo probe's object from `predict` of the demo spec over the demo's fixture at
+/// `height_mm` (`--json`).
+#[allow(dead_code)]
+pub fn demo_probe_on_fixture(name: &str, height_mm: f64) -> serde_json::Value {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
+        .args([
+            "predict",
+            demo_data("fenwick-marsh-probes.toml").to_str().unwrap(),
+            "--fixture",
+            demo_data("fenwick-marsh-fixture.toml").to_str().unwrap(),
+            "--height",
+            &height_mm.to_string(),
+            "--json",
+        ])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    v["probes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|p| p["name"] == name)
+        .unwrap_or_else(|| panic!("no demo probe {name}"))
+        .clone()
+}

@@ -414,6 +414,11 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         crate::physics::electric::BUDGET_DB,
         match r.budget_hz {
             Some(b) => format!("at {}", hz_label(b)),
+            None if r.balanced.is_some() => {
+                "nowhere it is evaluated (a balanced loop's Δ: no first-order electric pickup, no \
+                 stub null in the band)"
+                    .to_string()
+            }
             None => "nowhere below the first null".to_string(),
         },
         r.quoted_limits
@@ -424,17 +429,38 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         hz_label(p.vias.f_max_hz)
     );
     let erej = |f: f64| r.e_rejection_db(f, crate::physics::electric::ETA0);
-    let _ = writeln!(
-        o,
-        "- E-rejection (worst case: electric field across the loop's axis, in its plane, E/H = \
-         η0): {:.1} dB at 10 MHz, {:.1} dB at 100 MHz, {:.1} dB at the upper usable frequency; \
-         it falls 20 dB per decade. An electric field along the axis (a trace's field, probe \
-         upright over it) is ideally rejected by symmetry (the residual is not predicted). The \
-         budget assumes E/H = η0: near high-impedance sources the electric pickup is larger.",
-        erej(10e6),
-        erej(100e6),
-        erej(r.upper_hz)
-    );
+    if let Some(bal) = &r.balanced {
+        let ef = |f: f64| bal.e_factor_near(f);
+        let _ = writeln!(
+            o,
+            "- Balanced loop: two outputs, read through an ideal 180° hybrid (its own loss \
+             entered with the cable loss when readings are converted). The difference Δ = \
+             (a − b)/√2 carries the magnetic response (the probe factor below) and, to first \
+             order, no electric one (a field across the axis has its current nodes at the gaps; \
+             one along the axis or normal to the board is even under the board's mirror). The sum \
+             Σ = (a + b)/√2 carries the electric field along the axis and no magnetic one: its \
+             electric factor (uniform E along the axis, 50 Ω) is {:.1} dB(1/m) at 10 MHz, {:.1} \
+             at 100 MHz, {:.1} at the upper usable frequency, E[dBµV/m] = V_Σ[dBµV] + factor. \
+             The stub from each gap to its short is {:.2} mm: no stub null in the band.",
+            ef(10e6),
+            ef(100e6),
+            ef(r.upper_hz),
+            bal.stub_m * 1e3
+        );
+    } else {
+        let _ = writeln!(
+            o,
+            "- E-rejection (worst case: electric field across the loop's axis, in its plane, E/H = \
+             η0): {:.1} dB at 10 MHz, {:.1} dB at 100 MHz, {:.1} dB at the upper usable \
+             frequency; it falls 20 dB per decade. An electric field along the axis (a trace's \
+             field, probe upright over it) is ideally rejected by symmetry (the residual is not \
+             predicted). The budget assumes E/H = η0: near high-impedance sources the electric \
+             pickup is larger.",
+            erej(10e6),
+            erej(100e6),
+            erej(r.upper_hz)
+        );
+    }
     let _ = writeln!(
         o,
         "- Probe factor (uniform H, 50 Ω): {:.2} dB(S/m) at 10 MHz, {:.2} at 100 MHz, {:.2} at \
