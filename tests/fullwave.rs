@@ -641,6 +641,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
             shape: x.probe.shape,
             ring_half_width: hr,
             gap: x.probe.gap,
+            side_gaps: false,
             handle: Some((4.0, -(r_mm + hr + len), -r_mm)),
         })
         .unwrap()
@@ -649,6 +650,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
         shape: x.probe.shape,
         ring_half_width: hr,
         gap: x.probe.gap,
+        side_gaps: false,
         handle: Some((hr + 0.3, -(r_mm + hr + 0.3), -r_mm)),
     })
     .unwrap();
@@ -709,6 +711,7 @@ fn gap_circuit_and_uniform_field_against_the_fdtd_gap_port() {
         shape: x10.probe.shape,
         ring_half_width: x10.solved.ring_half_width,
         gap: x10.probe.gap,
+        side_gaps: false,
         handle,
     };
     let (r10_mm, hr10) = (5.0, x10.solved.ring_half_width);

@@ -45,6 +45,9 @@ pub struct Outline {
     pub ring_half_width: f64,
     /// The gap's width across the axis.
     pub gap: f64,
+    /// A balanced loop's two gaps at the sides (across the ring at y = 0) instead of the one at
+    /// the apex.
+    pub side_gaps: bool,
     /// The handle's copper: half width, and its y range (lower, upper); None for the ring alone.
     pub handle: Option<(f64, f64, f64)>,
 }
@@ -175,7 +178,11 @@ pub fn aperture_flux(o: &Outline, h: f64) -> Result<SheetFlux, Error> {
         );
         for i in 0..nx {
             let x = x0 + i as f64 * h;
-            let in_gap = x.abs() < o.gap / 2.0 && y > 0.0;
+            let in_gap = if o.side_gaps {
+                y.abs() < o.gap / 2.0 && x.abs() > 0.5 * o.shape.half_width()
+            } else {
+                x.abs() < o.gap / 2.0 && y > 0.0
+            };
             let ring = !in_gap && odd_left(&xo, x) && !odd_left(&xi, x);
             let hand = o
                 .handle
@@ -368,6 +375,7 @@ pub fn handle_ratio(p: &Probe, s: &SolvedProbe) -> Result<f64, Error> {
         shape: p.shape,
         ring_half_width: s.ring_half_width,
         gap: p.gap,
+        side_gaps: p.kind == crate::model::probe::ProbeKind::Balanced,
         handle: Some(probe_handle(p, s)),
     };
     ratio_of(&with)
@@ -432,7 +440,11 @@ fn outline_key(o: &Outline) -> Vec<u64> {
             corner_radius.to_bits(),
         ],
     };
-    k.extend([o.ring_half_width.to_bits(), o.gap.to_bits()]);
+    k.extend([
+        o.ring_half_width.to_bits(),
+        o.gap.to_bits(),
+        u64::from(o.side_gaps),
+    ]);
     if let Some((a, b, c)) = o.handle {
         k.extend([a.to_bits(), b.to_bits(), c.to_bits()]);
     }
@@ -449,6 +461,7 @@ mod tests {
             shape: LoopShape::Round { diameter: d },
             ring_half_width: 1.108,
             gap: 0.4,
+            side_gaps: false,
             handle,
         }
     }
@@ -468,6 +481,7 @@ mod tests {
             shape: LoopShape::Round { diameter: 1.0 },
             ring_half_width: 0.5,
             gap: 0.0,
+            side_gaps: false,
             handle: None,
         };
         let m = aperture_flux(&disc, 1.0 / 40.0).unwrap().moment_mm3;
@@ -508,6 +522,7 @@ mod tests {
                 },
                 ring_half_width: f(c, "ring_half_width_mm"),
                 gap: f(c, "gap_mm"),
+                side_gaps: false,
                 handle,
             };
             let s = aperture_flux(&o, f(c, "cell_mm")).unwrap();

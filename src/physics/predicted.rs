@@ -46,7 +46,8 @@ pub const BALANCED_ASSUMPTIONS: [&str; 3] = [
     "balanced loop, Σ: the thin ring's mode-1 charge with the ring's equivalent radius taken as \
      a quarter of its width plus the board's thickness (NEC-2 reads 0.4–0.9 dB above it on the \
      demo's shield in the band); the shield's correction at a gap taken once per gap, solved for \
-     an apex gap; the handle's share of a uniform field solved with the gap at the apex",
+     an apex gap; the handle's share of a uniform field solved on the sheet with the two side \
+     gaps (no full-wave check of it on a balanced loop)",
     "balanced loop, calibration: from a 3-port file (line in, both outputs), the outputs' \
      difference (S(a, l) − S(b, l))/√2 is calibrated as the probe's output against Δ's \
      prediction; the sum's share of the line's coupling is reported, not predicted",
