@@ -8,11 +8,13 @@
 //! currents; the output voltage of each side is 50 Ω times its load current, and through the
 //! ideal hybrid the difference and the sum are √2 times the circulating and the even parts.
 //!
-//! What holds: the difference (magnetic, H normal to the loop) within 0.5 dB from 100 MHz to
-//! 2 GHz on the 20 and 10 mm loops; the sum (electric, E along the axis) within 0.1 dB on the
-//! thin ring to 1 GHz (which checks Λ1 = ln(8a/b) − 2, from memory) and within 1 dB on the
-//! demo's shield from 100 MHz to each loop's upper usable frequency (the model reads low there,
-//! 0.4–0.9 dB: the ring's equivalent radius is an approximation, `physics::balanced`); a
+//! What holds (the model's line loss divided out: NEC's loads are lossless): the difference
+//! (magnetic, H normal to the loop) within 0.5 dB from 100 MHz to each loop's upper usable
+//! frequency on the 20 and 10 mm loops (−0.16 to +0.35 dB) and within 1 dB to 2 GHz (the 10 mm
+//! loop +0.86 dB there, above its band); the sum (electric, E along the axis) within 0.1 dB on
+//! the thin ring to 1 GHz (which checks Λ1 = ln(8a/b) − 2, from memory) and within 1 dB on the
+//! demo's shield from 100 MHz to each loop's upper usable frequency (the model reads 0.35–0.55
+//! dB low there: the ring's equivalent radius is an approximation, `physics::balanced`); a
 //! field across the axis leaves both outputs 70 dB or more below the magnetic response at
 //! every frequency (NEC's own symmetry noise; the model predicts none).
 
@@ -96,24 +98,27 @@ fn difference_and_sum_of_the_demo_shield_match_nec2() {
         let x = case(&top, nec, "e_cross");
         for (i, f) in arr(h, "freq_hz").into_iter().enumerate() {
             let run = (-r.gamma(f).re * r.l1_m).exp();
-            // The difference: the loop's own area (NEC has no handle), H = 1/η0.
-            let v_d = 2.0 * PI * f * MU0 * r.area_eff_m2 * r.gap_transfer(f).abs() / ETA0;
+            // The difference: the loop's own area (NEC has no handle), H = 1/η0, the line's
+            // loss divided out (NEC's loads are lossless).
+            let v_d = 2.0 * PI * f * MU0 * r.area_eff_m2 * r.gap_transfer(f).abs() / ETA0 / run;
             let d = db(v_d, SQRT_2 * 50.0 * arr(h, "diff_abs")[i]);
+            let tol = if f <= r.upper_hz { 0.5 } else { 1.0 };
             assert!(
-                d.abs() < 0.5,
+                d.abs() < tol,
                 "{} difference at {f:.3e} Hz: {d:.3} dB",
                 p.name
             );
             seen.0 += 1;
             // The sum, E = 1 V/m along the axis, within the band.
             if f <= r.upper_hz {
+                // (No line loss: NEC's loads are lossless.)
                 let v_s = loopwright::physics::balanced::sum_transfer(
                     f,
                     r.e_radius_m,
                     bal.b_m,
                     r.z_in(f),
                     r.c_gap,
-                    run,
+                    1.0,
                 );
                 let d = db(v_s, SQRT_2 * 50.0 * arr(e, "sum_abs")[i]);
                 assert!(d.abs() < 1.0, "{} sum at {f:.3e} Hz: {d:.3} dB", p.name);

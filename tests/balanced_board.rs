@@ -256,6 +256,44 @@ fn a_balanced_loop_needs_room_for_two_connectors() {
         "{msg}"
     );
     assert!(msg.contains("12") && msg.contains("16.1"), "{msg}");
+    // Room round the side gaps and in the handle: a gap whose keep-out leaves the inner row no
+    // room (3.6 mm loop, 1.6 mm gap) and a handle too short for the lines' jogs are refused
+    // naming the field and the least value, never built into a failing board.
+    for (extra, want) in [
+        (
+            "gap_mm = 1.6
+",
+            "gap_mm = 1.6: is too wide",
+        ),
+        (
+            "[handle]
+length_mm = 8
+",
+            "handle.length_mm = 8: is too short",
+        ),
+    ] {
+        let (top, shape) = if extra.starts_with("gap") {
+            (extra, "size_mm = 3.6")
+        } else {
+            ("", "size_mm = 6.0")
+        };
+        let text = format!(
+            "stackup = \"common-4l-1.6\"\nsignal_layer = 3\n{top}{}[[probe]]\nname = \"B\"\n\
+             kind = \"balanced\"\nshape = \"round\"\n{shape}\nhandle_width_mm = 17.0\n",
+            if top.is_empty() { extra } else { "" }
+        );
+        let spec: loopwright::spec::probe::ProbeFileSpec = toml::from_str(&text).unwrap();
+        let err = loopwright::pipeline::build_to_dir(
+            &spec,
+            Path::new("."),
+            &std::env::temp_dir().join(format!("loopwright-bal-room-{}", std::process::id())),
+            false,
+            Vec::new(),
+        )
+        .expect_err("refused");
+        let msg = err.to_string();
+        assert!(msg.contains(want) && msg.contains("at least"), "{msg}");
+    }
     // And a loop of kind "loop" keeps today's meaning with the same spec fields.
     let ok = text.replace("kind = \"balanced\"", "kind = \"loop\"");
     let spec: loopwright::spec::probe::ProbeFileSpec = toml::from_str(&ok).unwrap();

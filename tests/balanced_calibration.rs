@@ -128,6 +128,14 @@ fn wrong_files_for_a_balanced_loop_are_refused() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("non-zero transmission"), "{e}");
+    // Any other probe's 3-port file still needs its ports named (no balanced defaults).
+    let mut r = request(s3p(&pts, None, "e2-3port.s3p"));
+    r.probe = Some("FM-E2".into());
+    let e = run(&r).unwrap_err().to_string();
+    assert!(
+        e.contains("--line-port") && e.contains("3-port file needs both"),
+        "{e}"
+    );
     // A singly-loaded loop refuses --second-port.
     let mut r = request(s3p(&pts, None, "b20-loop.s3p"));
     r.probe = Some("FM-R20".into());

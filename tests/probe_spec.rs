@@ -409,7 +409,8 @@ proptest! {
     #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
 
     // Random specs within the documented ranges (shape, stackup, layer, gap, clearance, vias,
-    // stitching limit, handle, connector holes, fab profile, silk text): either every probe is
+    // stitching limit, handle, connector holes, fab profile, silk text, a singly-loaded or a
+    // balanced loop): either every probe is
     // built, passes the design-rule check and writes Gerber files that gerber_parser reads
     // without error, or the spec is refused with field errors that each name a field, a value
     // and what is allowed; never a panic, never a design-rule failure. (The spec census runs
@@ -427,15 +428,18 @@ proptest! {
         handle_w in 6.6f64..14.0,
         target in 35.0f64..55.0,
         mill in any::<bool>(),
-        holes in prop_oneof![Just(0.0f64), 0.3f64..0.8],
+        holes_kind in (prop_oneof![Just(0.0f64), 0.3f64..0.8], any::<bool>()),
         vfs in via_fab_silk(),
     ) {
         let (via_extra, fab, silk) = vfs;
+        // A balanced loop on its own handle, wide enough for two connectors.
+        let (holes, balanced) = holes_kind;
+        let kind = if balanced { "kind = \"balanced\"\nhandle_width_mm = 17.5\n" } else { "" };
         let text = format!(
             "stackup = \"{}\"\nsignal_layer = {}\ntarget_z0_ohms = {target:.2}\nclearance_mm = {clearance:.3}\ngap_mm = {gap:.3}\nmill_interior = {mill}\n\
              [via]\ndrill_mm = {drill:.3}\npad_mm = {:.3}\n{via_extra}[handle]\nlength_mm = {handle_len:.2}\nwidth_mm = {handle_w:.2}\n\
              [connector]\nground_hole_drill_mm = {holes:.3}\n{fab}\
-             [[probe]]\nname = \"p\"\n{silk}{shape}",
+             [[probe]]\nname = \"p\"\n{silk}{kind}{shape}",
             if slim { "slim-4l-0.8" } else { "common-4l-1.6" },
             if layer3 { 3 } else { 2 },
             drill + 2.0 * ring,

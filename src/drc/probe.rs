@@ -17,8 +17,8 @@ use kurbo::Point;
 pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
     let mut out = check_board(&p.fab, art);
     if let Some(head) = &b.loop_head {
-        for &g in &art.gap_rects {
-            out.extend(loop_rules(p, b, head, art, g));
+        for (k, &g) in art.gap_rects.iter().enumerate() {
+            out.extend(loop_rules(p, b, head, art, g, k == 0));
         }
     }
     if let Some(e) = p.kind.electrode() {
@@ -132,14 +132,16 @@ fn electrode_rules(art: &Artwork, e: &crate::model::probe::Electrode) -> Vec<Vio
     out
 }
 
-/// A loop's own rules: no copper inside the loop, the shield gap holds only the trace and no
-/// via, the gap being `(x0, y0, x1, y1)` in the artwork.
+/// A loop's own rules: no copper inside the loop (when `interior_too`: once per board), the
+/// shield gap holds only the trace and no via, the gap being `(x0, y0, x1, y1)` in the
+/// artwork.
 fn loop_rules(
     p: &Probe,
     b: &Board,
     head: &crate::geom::LoopHead,
     art: &Artwork,
     g: (f64, f64, f64, f64),
+    interior_too: bool,
 ) -> Vec<Violation> {
     let mut out = Vec::new();
     let (gx0, gy0, gx1, gy1) = g;
@@ -149,8 +151,12 @@ fn loop_rules(
         let name = format!("L{}", l.n);
         let copper = layer_copper(&l.regions, &l.flashes);
         let body = body_copper(l);
-        // No copper inside the loop.
-        let inside = body.intersection(&interior).unsigned_area();
+        // No copper inside the loop (checked once, with the first gap).
+        let inside = if interior_too {
+            body.intersection(&interior).unsigned_area()
+        } else {
+            0.0
+        };
         if inside > slack::AREA {
             out.push(Violation {
                 rule: Rule::CopperInsideLoop,

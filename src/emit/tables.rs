@@ -188,6 +188,9 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
                     "reached at {} (electric pickup at 20° tilt + stub length ±5 %)",
                     hz_label(b)
                 ),
+                None if r.balanced.is_some() => {
+                    "not evaluated (Δ: no first-order electric pickup, no stub null)".to_string()
+                }
                 None => "not reached below the first null".to_string(),
             },
         );
@@ -305,8 +308,14 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
             ));
             for (j, ((f, db, deg), e)) in c.s21.iter().zip(&c.e_rejection_db).enumerate() {
                 if j % step == 0 || j + 1 == c.s21.len() {
+                    // (A balanced loop's difference: no E-rejection predicted.)
+                    let e = if e.is_finite() {
+                        format!("{e:>6.1}")
+                    } else {
+                        format!("{:>6}", "—")
+                    };
                     o.push_str(&format!(
-                        "    {:>12} {db:>7.2}  {deg:>7.1}  {e:>6.1}\n",
+                        "    {:>12} {db:>7.2}  {deg:>7.1}  {e}\n",
                         hz_label(*f)
                     ));
                 }

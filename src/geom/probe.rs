@@ -229,9 +229,7 @@ pub(super) fn connector_pads(p: &Probe, edge_y: f64) -> (Vec<Pad>, Vec<Hole>) {
                     edge_y + con.ground_pad_length / 2.0,
                 ),
                 drill: con.ground_hole_drill,
-                pad: (p.fab.ring_hole(con.ground_hole_drill, true)
-                    + 2.0 * p.fab.min_annular_ring.max(0.15))
-                .min(con.ground_pad_width),
+                pad: con.ground_hole_land(&p.fab),
             });
         }
     }

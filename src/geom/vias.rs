@@ -369,6 +369,9 @@ impl<'a> ViaPlacer<'a> {
         shorts: &[Point],
     ) {
         for part in balanced_row_parts(self.p, self.s, shape, off, shorts) {
+            if part.len() < 2 {
+                continue;
+            }
             let s = arclengths(&part);
             self.walk_row(&part, &s, 0.0, role);
         }

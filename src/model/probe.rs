@@ -169,6 +169,13 @@ impl Connector {
         refuse_above_limit: false,
     };
 
+    /// The land round a ground-leg hole, mm: the ring rule's least pad with at least a 0.15 mm
+    /// ring, never wider than the ground pad (the geometry flashes it on every layer).
+    pub fn ground_hole_land(&self, fab: &FabProfile) -> f64 {
+        (fab.ring_hole(self.ground_hole_drill, true) + 2.0 * fab.min_annular_ring.max(0.15))
+            .min(self.ground_pad_width)
+    }
+
     /// Least distance between the centres of a balanced loop's two connectors, mm: room for
     /// two coupling nuts side by side (an SMA nut is 5/16 in, 7.94 mm, across its flats: from
     /// memory; 9 mm leaves a finger's play, common practice with no source).
@@ -697,9 +704,7 @@ pub fn edge_rule_fits_connector(
     // A ground-leg hole's land is flashed on every layer, the inner ones too, where no pad
     // exempts it: it must keep the rule from the connector edge (the land as `geom` draws it).
     if connector.ground_hole_drill > 0.0 {
-        let land = (fab.ring_hole(connector.ground_hole_drill, true)
-            + 2.0 * fab.min_annular_ring.max(0.15))
-        .min(connector.ground_pad_width);
+        let land = connector.ground_hole_land(fab);
         let room = (connector.ground_pad_length - land) / 2.0;
         if fab.copper_to_edge > room + 1e-9 {
             out.push(FieldError::new(

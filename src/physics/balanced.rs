@@ -35,7 +35,7 @@
 //! strip has exactly the capacitance of a round wire of a quarter of its width (conformal
 //! mapping; from memory), and adding the thickness is our approximation, which NEC-2 checks
 //! (tests/balanced.rs: the GMD 0.2235·(w + t) that sets the inductance read 0.8–1.1 dB low on
-//! the demo's shield; (w + t)/4 reads 0.4–0.9 dB low in the band). The electric factor of the
+//! the demo's shield; (w + t)/4 reads 0.35–0.55 dB low in the band). The electric factor of the
 //! sum is E/V_Σ, dB(1/m): E[dBµV/m] = V_Σ[dBµV] + factor.
 //!
 //! **Rejection.** A field across the axis drives mode 1 with its current nodes at the gaps:

@@ -23,8 +23,10 @@ pub fn transfer_with(r: &Response, sections: &[Section], f: f64) -> Cx {
     let z_run = run.z_in(load);
     let stub = Cx::new(r.z0_line, 0.0) * Cx::new(g.re * r.l2_m, g.im * r.l2_m).tanh();
     let z_in = z_run + stub;
-    let den =
-        z_in + Cx::new(0.0, w * r.l_outer) + z_in * Cx::new(-w * w * r.l_outer * r.c_gap, 0.0);
+    // (A balanced loop: two such loads in the turn, the launch on each.)
+    let den = z_in * Cx::new(r.loads(), 0.0)
+        + Cx::new(0.0, w * r.l_outer)
+        + z_in * Cx::new(-w * w * r.l_outer * r.c_gap, 0.0);
     let i = Cx::new(1.0, 0.0) / den;
     let v_run = i * z_run;
     // V at the run's input = (A + B/R_L)·V_out for the whole chain, run then launch.

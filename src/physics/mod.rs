@@ -251,7 +251,7 @@ impl Response {
         // A balanced loop has two such loads in the turn, and its difference is read through
         // an ideal hybrid (√2 of one output; module [`balanced`]).
         let (loads, gain) = if self.balanced.is_some() {
-            (2.0, std::f64::consts::SQRT_2)
+            (self.loads(), std::f64::consts::SQRT_2)
         } else {
             (1.0, 1.0)
         };
@@ -273,7 +273,13 @@ impl Response {
     /// (f_gap_res_hz, 3–3.7 times the upper usable frequency on the demo's probes) the factor
     /// is held at ±0.05 instead of reaching zero, so tables asked for above the band stay
     /// finite.
+    /// A balanced loop's line under the apex induces its EMF between its two gaps, far from
+    /// both, as a uniform field does: the factor is 1 there (its gap circuit rings as
+    /// [`Self::gap_transfer`] says).
     pub fn line_factor(&self, f: f64) -> f64 {
+        if self.balanced.is_some() {
+            return 1.0;
+        }
         let w = 2.0 * PI * f;
         let k = 1.0 - w * w * self.l_outer * self.c_gap;
         if k.abs() < 0.05 {
@@ -327,6 +333,11 @@ impl Response {
             return 0.0;
         }
         electric::e_to_h(f, self.e_radius_m, z_w)
+    }
+
+    /// Gap loads in the turn: 2 on a balanced loop, else 1.
+    pub fn loads(&self) -> f64 {
+        if self.balanced.is_some() { 2.0 } else { 1.0 }
     }
 
     /// The inner line seen from the gap at `f` Hz: the matched run in series with the shorted
@@ -448,7 +459,8 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         corner_hz: corner,
         f_small_loop_hz: f_small,
         f_null_hz: f_null,
-        f_gap_res_hz: 1.0 / (2.0 * PI * (l_outer * c_gap).sqrt()),
+        // A balanced loop's two gap capacitances are in series round the turn.
+        f_gap_res_hz: 1.0 / (2.0 * PI * (l_outer * c_gap / loads).sqrt()),
         upper_hz: f_small,
         upper_rule: "",
         budget_hz: None,

@@ -39,12 +39,13 @@ pub const ASSUMPTIONS: [&str; 7] = [
 pub const BALANCED_ASSUMPTIONS: [&str; 3] = [
     "balanced loop: two gaps, at the sides, each loaded by its own line (a stub of about a \
      millimetre to its short, a matched run to its output); its two outputs read through an \
-     ideal 180° hybrid, Δ = (a − b)/√2 (its probe factor and E-rejection) and Σ = (a + b)/√2 \
+     ideal 180° hybrid, Δ = (a − b)/√2 (its probe factor; its E-rejection is not predicted, \
+     null in the JSON) and Σ = (a + b)/√2 \
      (its electric factor, for a uniform field along the axis); Δ holds no electric pickup to \
      first order and Σ no magnetic one (NEC-2: both loads 70 dB or more below the magnetic \
      response in a field across the axis)",
     "balanced loop, Σ: the thin ring's mode-1 charge with the ring's equivalent radius taken as \
-     a quarter of its width plus the board's thickness (NEC-2 reads 0.4–0.9 dB above it on the \
+     a quarter of its width plus the board's thickness (NEC-2 reads 0.35–0.55 dB above it on the \
      demo's shield in the band); the shield's correction at a gap taken once per gap, solved for \
      an apex gap; the handle's share of a uniform field solved on the sheet with the two side \
      gaps (no full-wave check of it on a balanced loop)",

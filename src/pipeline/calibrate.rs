@@ -170,9 +170,6 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
             format!("name one of the spec's probes: {}", names.join(", ")),
         )]));
     };
-    if probe.kind.electrode().is_some() {
-        return run_electric(a, probe, (line_port, probe_port), ports);
-    }
     let balanced = probe.kind == crate::model::probe::ProbeKind::Balanced;
     if defaulted && !balanced {
         return Err(ports_needed());
@@ -194,6 +191,9 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
     } else {
         None
     };
+    if probe.kind.electrode().is_some() {
+        return run_electric(a, probe, (line_port, probe_port), ports);
+    }
     let solved = crate::solve::probe::solve(probe)?;
     let response = crate::physics::predict(probe, &solved, &PredictOptions::default())?;
     let x = Chosen {
@@ -544,25 +544,25 @@ fn balanced_ports(
     line_port: usize,
     probe_port: usize,
 ) -> Result<(usize, usize, usize), Error> {
-    if ports != 3 {
+    if ports < 3 || (ports > 3 && a.second_port.is_none()) {
         return Err(Error::Invalid(vec![FieldError::new(
             "touchstone",
             a.touchstone.display(),
             format!(
-                "is a {ports}-port file; a balanced loop is calibrated from a 3-port file (.s3p): \
-                 the line's input and both outputs (--line-port, --probe-port, --second-port; \
-                 default 1, 2, 3)"
+                "is a {ports}-port file; a balanced loop is calibrated from the line's input and \
+                 both its outputs: a 3-port file (.s3p; --line-port, --probe-port, \
+                 --second-port, default 1, 2, 3) or a 4-port file with all three named"
             ),
         )]));
     }
     let second = a.second_port.unwrap_or_else(|| 6 - line_port - probe_port);
-    if !(1..=3).contains(&second) || second == line_port || second == probe_port {
+    if !(1..=ports).contains(&second) || second == line_port || second == probe_port {
         return Err(Error::Invalid(vec![FieldError::new(
             "second-port",
             second,
             format!(
-                "must be the file's third port, neither --line-port ({line_port}) nor \
-                 --probe-port ({probe_port})"
+                "must be one of the file's ports 1 to {ports}, neither --line-port ({line_port}) \
+                 nor --probe-port ({probe_port})"
             ),
         )]));
     }

@@ -168,6 +168,63 @@ pub fn balanced_stub(p: &Probe, w: f64) -> f64 {
     channel_past_gap(p, w) + w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB
 }
 
+/// A balanced loop's room (our construction rules, `geom::balanced`): above and below each side
+/// gap the ring's inner stitching row (the loop's half-height less a fence offset) must reach a
+/// via pitch beyond the gap's keep-out; and the handle must hold the launch, the line's 45° jog from its connector to where
+/// it enters the ring, and the jog's clearances.
+fn balanced_room(
+    p: &Probe,
+    f: f64,
+    pitch_min: f64,
+    launch: &crate::solve::launch::SolvedLaunch,
+    errs: &mut Vec<FieldError>,
+) {
+    let half_height = match p.shape {
+        crate::model::probe::LoopShape::Round { diameter } => diameter / 2.0,
+        crate::model::probe::LoopShape::Rect { height, .. } => height / 2.0,
+    };
+    let keep = crate::model::centreline::gap_keep(p.gap, p.vias.pad);
+    let need = keep + pitch_min + f;
+    if half_height < need {
+        errs.push(FieldError::new(
+            "gap_mm",
+            crate::model::probe::num(p.gap),
+            format!(
+                "is too wide for '{}', a balanced loop {} mm high: the ring's inner row of vias \
+                 must reach a via pitch beyond each side gap's keep-out ({:.3} mm either side of \
+                 it): the loop must be at least {:.3} mm high, or the gap narrower",
+                p.name,
+                crate::model::probe::num(2.0 * half_height),
+                keep,
+                2.0 * need
+            ),
+        ));
+    }
+    let a = p.shape.half_width();
+    let x_c = p.connector.pair_half_pitch(p.fab.min_space);
+    let e_b = x_c.min(0.5 * a).max(balanced_entry_least(f, pitch_min));
+    let least = p.connector.centre_pad_length
+        + launch.link_length
+        + 2.5 * p.vias.pad
+        + p.clearance
+        + (x_c - e_b)
+        + 2.0 * f
+        + 1.0;
+    if p.handle.length < least {
+        errs.push(FieldError::new(
+            "handle.length_mm",
+            crate::model::probe::num(p.handle.length),
+            format!(
+                "is too short for '{}', a balanced loop: its lines' launches and their jogs \
+                 from the connectors ({} mm apart) to the ring need at least {} mm",
+                p.name,
+                crate::math::sig_fig(2.0 * x_c, 4),
+                crate::math::trimmed((least * 1000.0).ceil() / 1000.0, 3)
+            ),
+        ));
+    }
+}
+
 /// Solves a probe's trace width and via pitch window.
 pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     let mut errs = Vec::new();
@@ -357,13 +414,17 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         let least = balanced_entry_least(fence_offset, pitch_min);
         let a = p.shape.half_width();
         if least > BALANCED_ENTRY_MAX * a {
+            let field = match p.shape {
+                crate::model::probe::LoopShape::Rect { square: false, .. } => "width_mm",
+                _ => "size_mm",
+            };
             errs.push(FieldError::new(
-                "size_mm",
+                field,
                 crate::model::probe::num(2.0 * a),
                 format!(
                     "probe '{}' is too narrow for a balanced loop: its two lines enter the ring \
                      at least {least:.3} mm either side of the axis (fences {:.3} mm off each \
-                     line, the fab's via pitch between them), which must be within {} of the \
+                     line, the fab's via pitch between them), which must be at most {} of the \
                      loop's half-width: the loop must be at least {} mm wide",
                     p.name,
                     fence_offset,
@@ -383,6 +444,9 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             p.handle.width,
             format!("must hold the line and its via fences: at least {need_handle:.3} mm"),
         ));
+    }
+    if p.kind == ProbeKind::Balanced {
+        balanced_room(p, fence_offset, pitch_min, &launch, &mut errs);
     }
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));

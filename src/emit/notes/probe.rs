@@ -374,10 +374,10 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     let _ = writeln!(
         o,
         "- Loop area {:.2} mm² (centreline); effective area {:.2} mm² ({:.3} of it: the shield's \
-         outer current crowds to the ring's inner edge, and gathers to the centreline at the gap, \
-         which adds {:.3} mm²); in a uniform field the handle's shield adds {:.3} mm² more \
+         outer current crowds to the ring's inner edge, and gathers to the centreline at the \
+         {gap}, which adds {:.3} mm²); in a uniform field the handle's shield adds {:.3} mm² more \
          ({:+.2} dB, in the probe factor); inductance {:.2} nH (outer loop {:.2} nH, of which \
-         {:.3} nH at the gap; inner stub {:.2} nH).",
+         {:.3} nH at the {gap}; inner stub {:.2} nH{each}).",
         r.area_m2 * 1e6,
         r.area_eff_m2 * 1e6,
         r.area_eff_m2 / r.area_m2,
@@ -387,7 +387,17 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         r.l_total * 1e9,
         r.l_outer * 1e9,
         r.gap_l_outer * 1e9,
-        r.l_stub * 1e9
+        r.l_stub * 1e9,
+        gap = if r.balanced.is_some() {
+            "two gaps together"
+        } else {
+            "gap"
+        },
+        each = if r.balanced.is_some() {
+            ", one at each gap"
+        } else {
+            ""
+        }
     );
     let _ = writeln!(
         o,
