@@ -123,6 +123,16 @@ fn wrong_files_for_a_balanced_loop_are_refused() {
     r.second_port = Some(1);
     let e = run(&r).unwrap_err().to_string();
     assert!(e.contains("--second-port = 1"), "{e}");
+    // The line on port 2 alone named: the outputs default to the other two ports, and the file
+    // (whose line is on port 1) then reads as no probe's: refused by the checks or the gate,
+    // not for a port the user never named.
+    let mut r = request(s3p(&pts, None, "b20-line2.s3p"));
+    r.line_port = Some(2);
+    let e = run(&r).unwrap_err().to_string();
+    assert!(
+        !e.contains("--probe-port = 2") && e.contains("disagrees with the prediction"),
+        "{e}"
+    );
     // Both outputs alike: no difference at all.
     let e = run(&request(s3p(&pts, Some(1000.0), "b20-alike.s3p")))
         .unwrap_err()

@@ -139,7 +139,9 @@ fn run_request(a: &Request) -> Result<Calibrated, Error> {
         (Some(l), Some(p), _) => (l, p),
         (l, p, 3) => {
             defaulted = true;
-            (l.unwrap_or(1), p.unwrap_or(2))
+            // The probe's output: the lowest port that is not the line's.
+            let l = l.unwrap_or(1);
+            (l, p.unwrap_or(if l == 1 { 2 } else { 1 }))
         }
         _ => return Err(ports_needed()),
     };
