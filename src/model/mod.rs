@@ -6,6 +6,7 @@
 pub mod centreline;
 pub mod fab;
 pub mod fixture;
+pub mod kind;
 pub mod line;
 pub mod panel;
 pub mod probe;
