@@ -2,6 +2,7 @@
 //! fixture (with its plausibility gate), reading frequency tables and converting analyzer
 //! readings into field strength.
 
+pub mod balanced;
 pub mod band;
 pub mod calibrate;
 pub mod convert;
