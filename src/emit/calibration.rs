@@ -23,11 +23,21 @@ pub fn comments(header: &[String]) -> String {
 /// The probe-factor table `freq_hz,pf_db_s_per_m`: measured (`measured`) or predicted at the
 /// measured frequencies, after `header` as comment lines.
 pub fn pf_csv(c: &Calibration, measured: bool, header: &[String]) -> String {
+    factor_csv(
+        header,
+        "pf_db_s_per_m",
+        c.points
+            .iter()
+            .map(|p| (p.f, if measured { p.pf_db } else { p.pf_pred_db })),
+    )
+}
+
+/// A factor table, `freq_hz,<column>`, after `header` as comment lines.
+fn factor_csv(header: &[String], column: &str, rows: impl Iterator<Item = (f64, f64)>) -> String {
     let mut o = comments(header);
-    o.push_str("freq_hz,pf_db_s_per_m\n");
-    for p in &c.points {
-        let v = if measured { p.pf_db } else { p.pf_pred_db };
-        let _ = writeln!(o, "{},{v:.4}", p.f);
+    let _ = writeln!(o, "freq_hz,{column}");
+    for (f, v) in rows {
+        let _ = writeln!(o, "{f},{v:.4}");
     }
     o
 }
@@ -299,13 +309,13 @@ pub fn ef_csv(
     measured: bool,
     header: &[String],
 ) -> String {
-    let mut o = comments(header);
-    o.push_str("freq_hz,ef_db_per_m\n");
-    for p in &c.points {
-        let v = if measured { p.ef_db } else { p.ef_pred_db };
-        let _ = writeln!(o, "{},{v:.4}", p.f);
-    }
-    o
+    factor_csv(
+        header,
+        "ef_db_per_m",
+        c.points
+            .iter()
+            .map(|p| (p.f, if measured { p.ef_db } else { p.ef_pred_db })),
+    )
 }
 
 /// An electric probe's detail table: both S21, both factors, their difference, the band flag

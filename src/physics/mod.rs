@@ -246,16 +246,15 @@ impl Response {
     pub fn gap_transfer(&self, f: f64) -> Cx {
         let w = 2.0 * PI * f;
         let g = self.gamma(f);
-        let z_in = Cx::new(R_LOAD, 0.0)
-            + Cx::new(self.z0_line, 0.0) * Cx::new(g.re * self.l2_m, g.im * self.l2_m).tanh();
+        let z_in = self.z_in(f);
         // A balanced loop has two such loads in the turn, and its difference is read through
         // an ideal hybrid (√2 of one output; module [`balanced`]).
-        let (loads, gain) = if self.balanced.is_some() {
-            (self.loads(), std::f64::consts::SQRT_2)
+        let gain = if self.balanced.is_some() {
+            std::f64::consts::SQRT_2
         } else {
-            (1.0, 1.0)
+            1.0
         };
-        let den = z_in * Cx::new(loads, 0.0)
+        let den = z_in * Cx::new(self.loads(), 0.0)
             + Cx::new(0.0, w * self.l_outer)
             + z_in * Cx::new(-w * w * self.l_outer * self.c_gap, 0.0);
         // The run's loss; its delay is left out, so phases stay referred to the gap.
