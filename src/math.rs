@@ -26,6 +26,20 @@ impl std::ops::Add for Cx {
     }
 }
 
+impl std::ops::Sub for Cx {
+    type Output = Cx;
+    fn sub(self, o: Cx) -> Cx {
+        Cx::new(self.re - o.re, self.im - o.im)
+    }
+}
+
+impl std::ops::Neg for Cx {
+    type Output = Cx;
+    fn neg(self) -> Cx {
+        Cx::new(-self.re, -self.im)
+    }
+}
+
 impl std::ops::Mul for Cx {
     type Output = Cx;
     fn mul(self, o: Cx) -> Cx {
@@ -61,6 +75,20 @@ impl Cx {
         let (a, b) = (2.0 * self.re, 2.0 * self.im);
         let d = a.cosh() + b.cos();
         Cx::new(a.sinh() / d, b.sin() / d)
+    }
+    /// cosh(a + jb) = cosh a·cos b + j·sinh a·sin b.
+    pub fn cosh(self) -> Cx {
+        Cx::new(
+            self.re.cosh() * self.im.cos(),
+            self.re.sinh() * self.im.sin(),
+        )
+    }
+    /// sinh(a + jb) = sinh a·cos b + j·cosh a·sin b.
+    pub fn sinh(self) -> Cx {
+        Cx::new(
+            self.re.sinh() * self.im.cos(),
+            self.re.cosh() * self.im.sin(),
+        )
     }
 }
 

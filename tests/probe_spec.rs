@@ -37,7 +37,7 @@ fn negative_size_is_refused() {
 }
 
 #[test]
-fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
+fn kinds_and_turn_counts_are_checked_and_refused_with_the_reason() {
     let probe = "[[probe]]\nname = \"a\"\nshape = \"round\"\nsize_mm = 10\n";
     // A balanced loop needs a handle that holds two connectors side by side: the family's 8 mm
     // is refused naming the field, the width it needs and the probe's own field to set.
@@ -77,10 +77,15 @@ fn kinds_and_turn_counts_not_built_yet_are_refused_with_the_reason() {
             "\"electric\"",
         ],
     );
+    // A balanced loop has one turn; 2 and 3 turns are built on a singly-loaded loop
+    // (tests/multiturn.rs).
     refused(
-        &format!("{probe}turns = 2\n"),
-        &["probe[1].turns = 2: is not built yet", "turns = 1"],
+        &format!("{probe}kind = \"balanced\"\nhandle_width_mm = 17\nturns = 2\n"),
+        &["probe[1].turns = 2: must be 1 on a balanced loop"],
     );
+    let s = spec(&format!("{BASE}{probe}turns = 2\n"));
+    let fam = loopwright::model::probe::family_from_spec(&s, Path::new(".")).unwrap();
+    assert_eq!(fam.probes[0].turns, 2);
     for n in ["0", "-1", "4"] {
         refused(
             &format!("{probe}turns = {n}\n"),

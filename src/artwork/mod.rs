@@ -469,15 +469,40 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         }
         m
     };
+    // A multi-turn loop's join vias: an antipad (the pad and a clearance) on every layer; their
+    // lands are flashed where they join and on the outer layers.
+    let join_antipads = MultiPolygon(
+        b.joins
+            .iter()
+            .map(|j| circle(j.at, p.vias.pad / 2.0 + c))
+            .collect(),
+    );
     let mut copper = Vec::new();
     for n in 1..=n_layers {
         let side = Side::of(n, n_layers);
-        let signal = n == p.signal_layer;
-        let mut regions = if signal {
+        let turn = b.turns.iter().find(|t| t.layer == n);
+        let signal = n == p.signal_layer || turn.is_some();
+        let mut regions = if let Some(t) = turn {
+            // A later turn of a multi-turn loop: its channel cut from the shield as the first
+            // turn's is, the signal via's stub antipad and the joins' antipads, then its trace.
+            let mut m = shield_cut.clone();
+            for (i, pt) in ports.iter().enumerate() {
+                m = cut_all(
+                    m,
+                    &[stub_antipad[i].clone(), relief(n, pt), edge_web(n, pt)],
+                );
+            }
+            let channel = stroke_butt(&t.path[..=t.channel_end], t.width / 2.0 + c);
+            m = cut_all(m, &[channel, join_antipads.clone()]);
+            add_all(m, &[stroke_butt(&t.path, t.width / 2.0)])
+        } else if n == p.signal_layer {
             let mut m = shield_cut.clone();
             for (i, pt) in ports.iter().enumerate() {
                 let channel = stroke_butt(&pt.channel_path, b.trace_width / 2.0 + c);
                 m = cut_all(m, &[channel, antipad[i].clone(), relief(n, pt)]);
+            }
+            if !b.joins.is_empty() {
+                m = m.difference(&join_antipads);
             }
             for (i, pt) in ports.iter().enumerate() {
                 let trace = stroke_butt(&pt.trace_path, b.trace_width / 2.0);
@@ -498,6 +523,9 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
                 let channel = stroke_butt(&pt.top_path, b.top_width / 2.0 + c);
                 m = cut_all(m, &[channel, antipad[i].clone(), pad_clear]);
             }
+            if !b.joins.is_empty() {
+                m = m.difference(&join_antipads);
+            }
             for (i, pt) in ports.iter().enumerate() {
                 let link = stroke_butt(&pt.top_path, b.top_width / 2.0);
                 m = add_all(m, &[link, sv_pad[i].clone()]);
@@ -513,6 +541,9 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
                 };
                 m = cut_all(m, &[a, relief(n, pt), edge_web(n, pt)]);
             }
+            if !b.joins.is_empty() {
+                m = m.difference(&join_antipads);
+            }
             m
         };
         if let Some(disc) = &electrode
@@ -526,7 +557,16 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
             // land on the bottom layer, so both outer layers carry a pad around the hole; the
             // electrode's via has lands where it joins (the discs, the line's end).
             let lands_only = matches!(v.role, ViaRole::Signal | ViaRole::Electrode);
-            let joins = !lands_only || n == 1 || signal || n == n_layers;
+            let joins = if v.role == ViaRole::Join {
+                // A join via lands on its two turns' layers and, isolated, on the outer layers.
+                n == 1
+                    || n == n_layers
+                    || b.joins
+                        .iter()
+                        .any(|j| (j.at - v.at).hypot() < 1e-9 && (j.upper == n || j.lower == n))
+            } else {
+                !lands_only || n == 1 || n == p.signal_layer || n == n_layers
+            };
             if joins {
                 flashes.push(Flash {
                     at: snap_pt(v.at),

@@ -104,6 +104,9 @@ pub(super) fn run(a: &PredictArgs) -> Result<(), Error> {
         {
             v["assumptions_balanced"] = json!(crate::physics::predicted::BALANCED_ASSUMPTIONS);
         }
+        if all.iter().any(|x| x.probe.turns > 1) {
+            v["assumptions_multi_turn"] = json!(crate::physics::predicted::WINDING_ASSUMPTIONS);
+        }
         outln!("{}", serde_json::to_string_pretty(&v).expect("plain JSON"));
     } else {
         out!("{}", tables(&all, &couplings));

@@ -171,12 +171,17 @@ fn loop_rules(
             // The trace's own area in the gap: its width times the length of its centreline
             // (both lines' on a balanced loop) inside the gap's rectangle (a curved loop
             // crosses on a slant).
-            let len: f64 = line_paths(b)
+            // A multi-turn loop's later turn crosses the gap on its own layer.
+            let (paths, width) = match b.turns.iter().find(|t| t.layer == l.n) {
+                Some(t) => (vec![t.path.clone()], t.width),
+                None => (line_paths(b), b.trace_width),
+            };
+            let len: f64 = paths
                 .iter()
                 .flat_map(|path| path.windows(2))
                 .map(|w| clipped_length(w[0], w[1], g))
                 .sum();
-            let allowed = b.trace_width * len * (1.0 + slack::GAP_AREA_SHARE) + slack::AREA;
+            let allowed = width * len * (1.0 + slack::GAP_AREA_SHARE) + slack::AREA;
             if in_gap > allowed || in_gap < 0.5 * allowed {
                 out.push(Violation {
                     rule: Rule::GapHoldsOnlyTrace,
@@ -184,7 +189,7 @@ fn loop_rules(
                     at: Point::new(0.5 * (gx0 + gx1), 0.5 * (gy0 + gy1)),
                     detail: format!(
                         "{in_gap:.5} mm² of copper in the gap; the trace alone is {:.5} mm²",
-                        b.trace_width * len
+                        width * len
                     ),
                 });
             }
@@ -280,7 +285,9 @@ fn row_coverage(p: &Probe, s: &SolvedProbe, b: &Board, vias: &[Point]) -> Vec<Vi
     use crate::geom::shape::{arclengths, gap_keep, left_half, point_at, row_start};
     let mut rows = Vec::new();
     let keep = gap_keep(p.gap, p.vias.pad);
-    let mut feed_zone = s.feed_offset + 2.0 * s.fence_offset + s.pitch_max;
+    // Where the feed joins the loop (and a multi-turn loop's turns leave the ring and are
+    // joined, two fence offsets apart per turn), rows and fences may leave gaps.
+    let mut feed_zone = s.feed_offset + 2.0 * s.fence_offset * p.turns.max(1) as f64 + s.pitch_max;
     if let Some(e) = p.kind.electrode() {
         // An electric probe: the ring round the electrode's clearance, each half from the top
         // down to where the line's channel crosses it at the bottom (where the feed's fences

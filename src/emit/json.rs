@@ -112,6 +112,26 @@ fn loop_json(x: &Predicted, r: &Response) -> Value {
         "output_per_amp": r.output_per_amp.iter().map(|(f, d)| json!({"freq_hz": f, "db_ohm": d})).collect::<Vec<_>>(),
         "launch": launch,
     });
+    if let (Some(wd), Some(sw), Some(o)) = (&r.winding, &x.solved.winding, out.as_object_mut()) {
+        // A multi-turn loop: its winding; gap_resonance_hz is its self-resonance.
+        let widths: Vec<f64> = std::iter::once(x.solved.trace_width)
+            .chain(sw.lines.iter().map(|l| l.width))
+            .collect();
+        o.insert("self_resonance_hz".into(), json!(wd.self_resonance_hz));
+        o.insert(
+            "winding".into(),
+            json!({
+                "layers": x.probe.turn_layers().collect::<Vec<_>>(),
+                "widths_mm": widths,
+                "z_common_ohms": wd.z_common,
+                "eps_common": wd.eps_common,
+                "turn_capacitance_pf": wd.c_turns * 1e12,
+                "line_mm": wd.line_m() * 1e3,
+                "outer_inductance_times_turns_squared_nh": wd.n() * wd.n() * r.l_outer * 1e9,
+                "joins_mm": sw.junction.joins.iter().map(|q| [q.x, q.y]).collect::<Vec<_>>(),
+            }),
+        );
+    }
     if let (Some(b), Some(o)) = (&r.balanced, out.as_object_mut()) {
         // A balanced loop: the figures above are its outputs' difference through an ideal
         // 180° hybrid; the sum's electric factor beside them.

@@ -455,6 +455,11 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
             let _ = writeln!(o, "<li>{}</li>", xml(a));
         }
     }
+    if all.iter().any(|x| x.probe.turns > 1) {
+        for a in crate::physics::predicted::WINDING_ASSUMPTIONS {
+            let _ = writeln!(o, "<li>{}</li>", xml(a));
+        }
+    }
     o.push_str("</ul>\n");
     let data = serde_json::json!({ "probes": all.iter().map(probe_json).collect::<Vec<_>>() });
     let _ = writeln!(

@@ -125,9 +125,11 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
             "{} — {}{} loop, {}\n",
             x.probe.name,
             if r.balanced.is_some() {
-                "balanced "
+                "balanced ".to_string()
+            } else if x.probe.turns > 1 {
+                format!("{}-turn ", x.probe.turns)
             } else {
-                ""
+                String::new()
             },
             x.probe.shape_name(),
             x.probe.size_text()
@@ -159,21 +161,49 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
                 r.local_field_db()
             ),
         );
-        line(
-            &mut o,
-            "inductance",
-            format!(
-                "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH{})",
-                r.l_total * 1e9,
-                r.l_outer * 1e9,
-                r.l_stub * 1e9,
-                if r.balanced.is_some() {
-                    ", one at each of the two gaps"
-                } else {
-                    ""
-                }
-            ),
-        );
+        if let Some(wd) = &r.winding {
+            line(
+                &mut o,
+                "inductance",
+                format!(
+                    "{:.2} nH ({}² × outer loop {:.2} nH + the winding's line {:.2} nH)",
+                    r.l_total * 1e9,
+                    wd.turns,
+                    r.l_outer * 1e9,
+                    r.l_stub * 1e9
+                ),
+            );
+            line(
+                &mut o,
+                "winding",
+                format!(
+                    "{} turns on L{}–L{}, {:.1} Ω per turn together (common mode), {:.3} pF \
+                     between neighbouring turns; self-resonance {}",
+                    wd.turns,
+                    x.probe.signal_layer,
+                    x.probe.signal_layer + wd.turns as usize - 1,
+                    wd.z_common,
+                    wd.c_turns * 1e12,
+                    hz_label(wd.self_resonance_hz)
+                ),
+            );
+        } else {
+            line(
+                &mut o,
+                "inductance",
+                format!(
+                    "{:.2} nH (outer loop {:.2} nH + inner stub {:.2} nH{})",
+                    r.l_total * 1e9,
+                    r.l_outer * 1e9,
+                    r.l_stub * 1e9,
+                    if r.balanced.is_some() {
+                        ", one at each of the two gaps"
+                    } else {
+                        ""
+                    }
+                ),
+            );
+        }
         line(&mut o, "low-frequency corner", hz_label(r.corner_hz));
         line(
             &mut o,
@@ -184,6 +214,11 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
             &mut o,
             "error budget (1 dB)",
             match r.budget_hz {
+                Some(b) if r.winding.is_some() => format!(
+                    "reached at {} (electric pickup at 20° tilt + winding length ±5 % + \
+                     turn-to-turn capacitance ±10 %)",
+                    hz_label(b)
+                ),
                 Some(b) => format!(
                     "reached at {} (electric pickup at 20° tilt + stub length ±5 %)",
                     hz_label(b)
@@ -332,6 +367,11 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
         .any(|x| x.probe.kind == crate::model::probe::ProbeKind::Balanced)
     {
         for a in crate::physics::predicted::BALANCED_ASSUMPTIONS {
+            o.push_str(&format!("  - {a}\n"));
+        }
+    }
+    if all.iter().any(|x| x.probe.turns > 1) {
+        for a in crate::physics::predicted::WINDING_ASSUMPTIONS {
             o.push_str(&format!("  - {a}\n"));
         }
     }

@@ -59,13 +59,8 @@ pub(super) fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let sl = arclengths(&left);
     let total = *sl.last().unwrap();
     let s_gap = 0.5 * total;
-    let k = (0..left.len() - 1)
-        .rev()
-        .find(|&i| left[i].x <= -e_b && left[i + 1].x > -e_b)
+    let (k, t, e_in) = super::shape::crossing_down(&left, e_b)
         .expect("the loop is wider than the entry offset (checked in solve)");
-    let (pa, pb) = (left[k], left[k + 1]);
-    let t = (-e_b - pa.x) / (pb.x - pa.x);
-    let e_in = Point::new(-e_b, pa.y + t * (pb.y - pa.y));
     let s_in = sl[k] + t * (sl[k + 1] - sl[k]);
     let s_exit = s_gap - channel_past_gap(p, w);
     let stub = w / 2.0 + c + 2.0 * pad;
@@ -220,6 +215,8 @@ pub(super) fn build(p: &Probe, s: &SolvedProbe) -> Board {
         shield,
         loop_head: Some(LoopHead { gaps, interior }),
         mirrored: true,
+        turns: Vec::new(),
+        joins: Vec::new(),
         vias,
         pads,
         holes,

@@ -93,6 +93,8 @@ pub(super) fn build(p: &Probe, s: &SolvedProbe, e: Electrode) -> Board {
         shield,
         loop_head: None,
         mirrored: false,
+        turns: Vec::new(),
+        joins: Vec::new(),
         vias,
         pads,
         holes,

@@ -12,6 +12,7 @@ mod balanced;
 mod electric;
 pub mod fixture;
 pub mod font;
+mod multiturn;
 pub mod panel;
 mod path;
 mod probe;
@@ -62,6 +63,36 @@ pub enum ViaRole {
     /// An electric probe's ground via in the face round the electrode's clearance, joining the
     /// shield layers at the face's inner edge.
     FaceRing,
+    /// A multi-turn loop's join via: ends one turn and starts the next on the layer below
+    /// (`Board::joins` names its layers); isolated lands on the outer layers, antipads on the
+    /// others.
+    Join,
+}
+
+/// A multi-turn loop's turn after the first, on its own layer.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Turn {
+    /// Copper layer, 1 = top.
+    pub layer: usize,
+    /// Centreline: from the join via it starts at, across the handle, round the loop, to the
+    /// next join via (or, on the last turn, into solid shield past its exit).
+    pub path: Vec<Point>,
+    /// Index in `path` where the channel round the trace ends (the last turn's exit; the
+    /// path's end otherwise).
+    pub channel_end: usize,
+    /// Trace width, mm.
+    pub width: f64,
+}
+
+/// A multi-turn loop's join via and the two layers it joins (upper, lower).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Join {
+    /// Centre, mm.
+    pub at: Point,
+    /// The layer whose turn ends here.
+    pub upper: usize,
+    /// The layer whose turn starts here.
+    pub lower: usize,
 }
 
 /// A plated via (through all layers).
@@ -149,6 +180,10 @@ pub struct Board {
     /// connector stand on the left, and the board carries their mirror image too (the second
     /// line); the artwork and the checks draw and test both.
     pub mirrored: bool,
+    /// A multi-turn loop's turns after the first (empty otherwise).
+    pub turns: Vec<Turn>,
+    /// A multi-turn loop's join vias (empty otherwise).
+    pub joins: Vec<Join>,
     /// Every via.
     pub vias: Vec<Via>,
     /// Connector pads.

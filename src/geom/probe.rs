@@ -26,13 +26,8 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let left = left_half(shape, 0.0);
     // The last segment (from the top) where the left half crosses x = −e on its way back to the
     // axis at the bottom.
-    let k = (0..left.len() - 1)
-        .rev()
-        .find(|&i| left[i].x <= -e && left[i + 1].x > -e)
+    let (k, _, e_in) = super::shape::crossing_down(&left, e)
         .expect("the loop is wider than the feed offset (checked in solve)");
-    let (a, b) = (left[k], left[k + 1]);
-    let t = (-e - a.x) / (b.x - a.x);
-    let e_in = Point::new(-e, a.y + t * (b.y - a.y));
     // Flattened-curve points very close to the entry or exit would make segments too short to
     // have a direction (the offset of such a segment is noise): skip them.
     let far = |q: &Point| (*q - e_in).hypot() > offsets::MIN_SEGMENT;
@@ -52,11 +47,27 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     let feed = vec![sv, Point::new(0.0, jog_y), Point::new(-e, jog_y + e), e_in];
     let mut trace_path = feed.clone();
     let entry_index = trace_path.len() - 1;
+    // A multi-turn loop's first turn leaves the ring at its own exit (`solve::winding`).
+    let loop_part = match &s.winding {
+        Some(wd) => super::multiturn::ring_part(&left, e, wd.junction.exits[0]),
+        None => loop_part,
+    };
     trace_path.extend(loop_part.iter().skip(1).copied());
-    let exit_index = trace_path.len() - 1;
+    let mut exit_index = trace_path.len() - 1;
     let e_out = *trace_path.last().unwrap();
-    let stub_end = Point::new(e, e_out.y - (w / 2.0 + c + 2.0 * pad));
-    trace_path.push(stub_end);
+    // A multi-turn loop: the first turn goes on down to its join via, where the next begins on
+    // the layer below; the last turn is shorted.
+    let wound = s
+        .winding
+        .as_ref()
+        .map(|wd| super::multiturn::turns(p, s, wd));
+    if let Some(x) = &wound {
+        trace_path.push(x.joins[0].at);
+        exit_index = trace_path.len() - 1;
+    } else {
+        let stub_end = Point::new(e, e_out.y - (w / 2.0 + c + 2.0 * pad));
+        trace_path.push(stub_end);
+    }
 
     // --- Top-layer link: from the centre pad's inner end to the signal via.
     let top_path = vec![
@@ -103,12 +114,30 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         &pads,
         sv,
     );
-    // Short vias on the stub, in solid ground below the channel.
+    // Short vias on the stub, in solid ground below the channel (a multi-turn loop's on its
+    // last turn's), and a multi-turn loop's join vias; the other turns are kept clear of.
     let short1 = Point::new(e, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
-    for q in [
+    let mut shorts = [
         short1,
         Point::new(e, short1.y - s.pitch_min - offsets::PITCH_MARGIN),
-    ] {
+    ];
+    if let Some(x) = &wound {
+        shorts = x.shorts;
+        placer.others = x
+            .turns
+            .iter()
+            .map(|t| t.path[..=t.channel_end].to_vec())
+            .collect();
+        for jn in &x.joins {
+            placer.vias.push(Via {
+                at: jn.at,
+                drill: p.vias.drill,
+                pad,
+                role: ViaRole::Join,
+            });
+        }
+    }
+    for q in shorts {
         placer.vias.push(Via {
             at: q,
             drill: p.vias.drill,
@@ -146,6 +175,8 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
             interior,
         }),
         mirrored: false,
+        turns: wound.as_ref().map(|x| x.turns.clone()).unwrap_or_default(),
+        joins: wound.as_ref().map(|x| x.joins.clone()).unwrap_or_default(),
         vias,
         pads,
         holes,

@@ -23,6 +23,9 @@ pub(super) struct ViaPlacer<'a> {
     pub(super) mirrored: bool,
     /// A balanced loop's side gaps `(x0, y0, x1, y1)` (empty: the loop's apex gap, or none).
     pub(super) gaps: Vec<(f64, f64, f64, f64)>,
+    /// A multi-turn loop's other turns (their channelled parts), on other layers: every via
+    /// goes through them too.
+    pub(super) others: Vec<Vec<Point>>,
 }
 
 impl<'a> ViaPlacer<'a> {
@@ -53,6 +56,7 @@ impl<'a> ViaPlacer<'a> {
             sv,
             mirrored: false,
             gaps: Vec::new(),
+            others: Vec::new(),
         }
     }
 
@@ -79,6 +83,9 @@ impl<'a> ViaPlacer<'a> {
         let c = self.p.clearance;
         // Clear of the loop trace and its channel, and of the top link's channel.
         if dist_to_polyline(q, &self.trace) < f - TOL {
+            return false;
+        }
+        if self.others.iter().any(|t| dist_to_polyline(q, t) < f - TOL) {
             return false;
         }
         let f_top = self.s.top_width / 2.0 + c + pad / 2.0 + VIA_WEB;
@@ -148,10 +155,13 @@ impl<'a> ViaPlacer<'a> {
         if edge < pad / 2.0 + VIA_WEB - TOL {
             return false;
         }
-        // Fab via pitch.
-        self.vias
-            .iter()
-            .all(|v| (v.at - q).hypot() >= self.s.pitch_min + offsets::PITCH_CHECK_SLACK)
+        // Fab via pitch; a join via's antipad (its pad and a clearance) and a web beyond it.
+        let antipad = pad / 2.0 + self.p.clearance + pad / 2.0 + VIA_WEB;
+        self.vias.iter().all(|v| {
+            let d = (v.at - q).hypot();
+            d >= self.s.pitch_min + offsets::PITCH_CHECK_SLACK
+                && (v.role != ViaRole::Join || d >= antipad - TOL)
+        })
     }
 
     pub(super) fn try_add(&mut self, q: Point, role: ViaRole) -> bool {

@@ -70,6 +70,18 @@ pub fn left_half(shape: &LoopShape, off: f64) -> Vec<Point> {
     v
 }
 
+/// Where the left half (from the top, [`left_half`]) crosses x = −`x` on its way back to the
+/// axis at the bottom: the index of the segment it crosses in, the fraction along it, and the
+/// point. None when the half never reaches that far from the axis.
+pub fn crossing_down(left: &[Point], x: f64) -> Option<(usize, f64, Point)> {
+    let k = (0..left.len().saturating_sub(1))
+        .rev()
+        .find(|&i| left[i].x <= -x && left[i + 1].x > -x)?;
+    let (a, b) = (left[k], left[k + 1]);
+    let t = (-x - a.x) / (b.x - a.x);
+    Some((k, t, Point::new(-x, a.y + t * (b.y - a.y))))
+}
+
 /// Mirror about the axis.
 pub fn mirror(p: Point) -> Point {
     Point::new(-p.x, p.y)

@@ -186,19 +186,21 @@ pub(super) fn kind_from(
             ));
             1
         }
-        Some(n @ (2 | 3)) => {
+        Some(n @ (2 | 3)) if kind == ProbeKind::Balanced => {
             out.push(FieldError::new(
                 format!("{p}.turns"),
                 n,
-                "is not built yet: this version builds single-turn loops (turns = 1)",
+                "must be 1 on a balanced loop (its two gaps and lines are built on one turn); \
+                 2 or 3 turns are built on a singly-loaded loop (kind = \"loop\")",
             ));
             1
         }
+        Some(n @ (2 | 3)) => n as u32,
         Some(n) => {
             out.push(FieldError::new(
                 format!("{p}.turns"),
                 n,
-                "must be 1 (2 and 3 are planned)",
+                "must be 1, 2 or 3 (the turns stand on successive inner layers from signal_layer)",
             ));
             1
         }

@@ -75,6 +75,15 @@ impl LoopShape {
         }
     }
 
+    /// The spec field that sets the loop's width across the axis (`width_mm` for a rectangle,
+    /// `size_mm` for the others): what a refusal of too narrow a loop names.
+    pub fn width_field(&self) -> &'static str {
+        match self {
+            LoopShape::Rect { square: false, .. } => "width_mm",
+            _ => "size_mm",
+        }
+    }
+
     /// Smallest centreline dimension, mm.
     pub fn min_dimension(&self) -> f64 {
         match *self {
@@ -269,6 +278,17 @@ pub struct Probe {
 }
 
 impl Probe {
+    /// The copper layers the loop's turns stand on, first (the signal layer, which the feed
+    /// reaches) to last; one layer for a single turn and for other kinds.
+    pub fn turn_layers(&self) -> std::ops::RangeInclusive<usize> {
+        self.signal_layer..=self.signal_layer + self.turns.max(1) as usize - 1
+    }
+
+    /// The copper layer under the last turn: the winding's lower shield.
+    pub fn shield_below(&self) -> usize {
+        self.signal_layer + self.turns.max(1) as usize
+    }
+
     /// The shape of what senses, as printed: the loop's (`round`, `square`, `rectangle`), or
     /// `disc` for an electric probe's electrode.
     pub fn shape_name(&self) -> &'static str {
@@ -756,6 +776,27 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
                 format!(
                     "is too wide for {p} ({}): must be less than half the loop's smallest size",
                     shape.size_text()
+                ),
+            ));
+        }
+        // A multi-turn loop's turns stand on successive inner layers from the signal layer, with
+        // a shield layer below the last.
+        if let Some(st) = &stackup
+            && turns > 1
+            && signal_layer >= 2
+            && signal_layer + turns as usize > st.copper_count()
+        {
+            let n = st.copper_count();
+            out.push(FieldError::new(
+                format!("{p}.turns"),
+                turns,
+                format!(
+                    "needs {turns} successive inner layers from signal_layer = {signal_layer} and a \
+                     shield layer below the last: '{}' has {n} copper layers, so at most {} turns \
+                     from layer {signal_layer} (a stackup with more layers, e.g. the built-in \
+                     common-6l-1.6, takes 3)",
+                    st.name(),
+                    (n as i64 - signal_layer as i64).max(0)
                 ),
             ));
         }

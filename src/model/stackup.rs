@@ -85,7 +85,7 @@ pub mod limits {
 }
 
 /// Names of the built-in stackups, with their file text.
-const BUILTINS: [(&str, &str); 3] = [
+const BUILTINS: [(&str, &str); 4] = [
     (
         "common-4l-1.6",
         include_str!("../../data/stackups/common-4l-1.6.toml"),
@@ -97,6 +97,10 @@ const BUILTINS: [(&str, &str); 3] = [
     (
         "common-2l-1.6",
         include_str!("../../data/stackups/common-2l-1.6.toml"),
+    ),
+    (
+        "common-6l-1.6",
+        include_str!("../../data/stackups/common-6l-1.6.toml"),
     ),
 ];
 
@@ -593,6 +597,9 @@ mod tests {
         assert!((a.thickness_mm() - 1.59).abs() < 1e-9);
         let b = builtin("slim-4l-0.8").unwrap();
         assert!((b.thickness_mm() - 0.8).abs() < 1e-9);
+        let c = builtin("common-6l-1.6").unwrap();
+        assert_eq!(c.copper_count(), 6);
+        assert!((c.thickness_mm() - 1.6).abs() < 1e-9);
     }
 
     // Physical lower bounds: copper of 3 µm and dielectric of 10 µm build; thinner (a unit slip,

@@ -21,6 +21,12 @@ pub fn transfer_with(r: &Response, sections: &[Section], f: f64) -> Cx {
     let load = cascade(&rev, f).z_in(Cx::new(R_LOAD, 0.0));
     let run = lossy_line(r.z0_line, g, r.l1_m);
     let z_run = run.z_in(load);
+    if let Some(wd) = &r.winding {
+        // A multi-turn loop: the winding's chain (module [`super::winding`]).
+        let v_run = wd.run_drive(f, g, z_run, r.l_outer, r.c_gap);
+        let m = run.then(cascade(sections, f));
+        return v_run / (m.a + m.b / Cx::new(R_LOAD, 0.0));
+    }
     let stub = Cx::new(r.z0_line, 0.0) * Cx::new(g.re * r.l2_m, g.im * r.l2_m).tanh();
     let z_in = z_run + stub;
     // (A balanced loop: two such loads in the turn, the launch on each.)

@@ -29,6 +29,7 @@ pub mod predicted;
 pub mod shield;
 pub mod shield_gap;
 pub mod toroidal;
+pub mod winding;
 
 use crate::error::{Error, FieldError, check_range};
 use crate::model::probe::{LoopShape, Probe};
@@ -197,6 +198,10 @@ pub struct Response {
     /// then describe its outputs' difference (module [`balanced`]); None for a singly-loaded
     /// loop.
     pub balanced: Option<balanced::Balanced>,
+    /// A multi-turn loop's winding (module [`winding`]): `l2_m` is then its line from the first
+    /// pass to the short, `l_stub` that line's inductance, `f_gap_res_hz` the self-resonance;
+    /// None for one turn.
+    pub winding: Option<winding::WindingResponse>,
     /// The options used.
     pub options: PredictOptions,
 }
@@ -246,6 +251,13 @@ impl Response {
     pub fn gap_transfer(&self, f: f64) -> Cx {
         let w = 2.0 * PI * f;
         let g = self.gamma(f);
+        if let Some(wd) = &self.winding {
+            // N turns: the winding's chain of lines with a source at each pass (module
+            // [`winding`]).
+            let run = (-g.re * self.l1_m).exp();
+            let v = wd.run_drive(f, g, Cx::new(R_LOAD, 0.0), self.l_outer, self.c_gap);
+            return v * Cx::new(run, 0.0);
+        }
         let z_in = self.z_in(f);
         // A balanced loop has two such loads in the turn, and its difference is read through
         // an ideal hybrid (√2 of one output; module [`balanced`]).
@@ -343,6 +355,9 @@ impl Response {
     /// stub, R_L + Z0·tanh(γ·l2), Ω.
     pub fn z_in(&self, f: f64) -> Cx {
         let g = self.gamma(f);
+        if let Some(wd) = &self.winding {
+            return wd.z_gap(g, Cx::new(R_LOAD, 0.0));
+        }
         Cx::new(R_LOAD, 0.0)
             + Cx::new(self.z0_line, 0.0) * Cx::new(g.re * self.l2_m, g.im * self.l2_m).tanh()
     }
@@ -367,10 +382,27 @@ impl Response {
         .map(|k| {
             let mut q = self.clone();
             q.l2_m *= k;
+            if let Some(wd) = q.winding.as_mut() {
+                wd.scale_lengths(*k);
+            }
             (20.0 * (q.gap_transfer(f).abs() / t0).log10()).abs()
         })
         .fold(0.0, f64::max);
-        e + stub
+        // A multi-turn loop: and the turns' capacitance off by ±10 %.
+        let turns = match &self.winding {
+            None => 0.0,
+            Some(_) => [1.0 - winding::C_TURNS_TOL, 1.0 + winding::C_TURNS_TOL]
+                .iter()
+                .map(|k| {
+                    let mut q = self.clone();
+                    if let Some(wd) = q.winding.as_mut() {
+                        wd.c_turns *= k;
+                    }
+                    (20.0 * (q.gap_transfer(f).abs() / t0).log10()).abs()
+                })
+                .fold(0.0, f64::max),
+        };
+        e + stub + turns
     }
 }
 
@@ -477,6 +509,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         gap_points: gap.points,
         gap_radius_m: shield_radius_m(shape),
         launch: None,
+        winding: None,
         balanced: two.then(|| {
             let a = (area / PI).sqrt();
             // The ring's electrostatic equivalent radius: a quarter of its cross-section's
@@ -491,12 +524,67 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         }),
         options: *o,
     };
+    if let Some(wd) = &s.winding {
+        // A multi-turn loop: the winding's line, inductance, corner, null and self-resonance
+        // (module [`winding`]).
+        let j = &wd.junction;
+        let sections: Option<Vec<f64>> = (1..p.turns as usize)
+            .map(|k| crate::solve::winding::turn_section(p, j, k))
+            .collect();
+        let last = crate::solve::winding::last_stub(
+            p,
+            j,
+            wd.lines.last().map_or(s.trace_width, |l| l.width),
+        );
+        let (Some(sections), Some(last)) = (sections, last) else {
+            return Err(Error::Unsolvable(format!(
+                "probe '{}': the winding's junction does not meet the loop",
+                p.name
+            )));
+        };
+        let mut w = winding::WindingResponse::new(
+            p.turns,
+            wd.z_common,
+            wd.eps_common,
+            &wd.c_adjacent,
+            circumference,
+            sections.iter().map(|x| x * 1e-3).collect(),
+            last * 1e-3,
+        );
+        let line_m = w.line_m();
+        r.l2_m = line_m;
+        r.l_stub = w.l_inner;
+        r.l_total = w.l_total(l_outer);
+        r.corner_hz = R_LOAD / (2.0 * PI * r.l_total);
+        r.f_null_hz = C0 / (4.0 * line_m * wd.eps_common.sqrt());
+        // The self-resonance (module [`winding`]).
+        let lumped = 1.0 / (2.0 * PI * (l_outer * (c_gap + w.c_turns)).sqrt());
+        w.self_resonance_hz = w
+            .find_self_resonance(|f| r.gamma(f), r.corner_hz, 2.0 * lumped, l_outer, c_gap)
+            .unwrap_or(lumped);
+        r.f_gap_res_hz = w.self_resonance_hz;
+        r.winding = Some(w);
+    }
+    let corner = r.corner_hz;
+    // The budget's search stops at the first null; a multi-turn loop's self-resonance may come
+    // first.
+    // (A multi-turn loop's band ends at its self-resonance or the small-loop limit, whichever
+    // is lower, below; its budget is searched as far as the latter.)
+    let search_to = match &r.winding {
+        Some(_) => f_small,
+        None => r.f_null_hz,
+    };
     r.budget_hz = if two {
         None
     } else {
-        budget_frequency(&r, corner / 10.0, f_null)
+        budget_frequency(&r, corner / 10.0, search_to)
     };
     (r.upper_hz, r.upper_rule) = match r.budget_hz {
+        Some(b) if b < f_small && r.winding.is_some() => (
+            b,
+            "error budget: electric pickup (20° tilt, E/H = η0), a ±5 % winding length and a \
+             ±10 % turn-to-turn capacitance reach 1 dB",
+        ),
         Some(b) if b < f_small => (
             b,
             "error budget: electric pickup (20° tilt, E/H = η0) and a ±5 % stub length reach 1 dB",
@@ -508,6 +596,13 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         ),
         _ => (f_small, "small loop: circumference ≤ λ0/10"),
     };
+    if let Some(w) = &r.winding
+        && w.self_resonance_hz < r.upper_hz
+    {
+        r.upper_hz = w.self_resonance_hz;
+        r.upper_rule = "self-resonance: the probe's impedance seen from its output turns from \
+                        inductive to capacitive";
+    }
     let upper = r.upper_hz;
     let f_lo = o.f_min_hz.unwrap_or(SCAN_FROM_HZ.min(corner / 10.0));
     let freqs = log_frequencies(f_lo, o.f_max_hz.unwrap_or(upper), o.per_decade)?;

@@ -54,6 +54,24 @@ pub const BALANCED_ASSUMPTIONS: [&str; 3] = [
      prediction; the sum's share of the line's coupling is reported, not predicted",
 ];
 
+/// What differs for a multi-turn loop, stated after [`ASSUMPTIONS`] wherever one is predicted.
+pub const WINDING_ASSUMPTIONS: [&str; 3] = [
+    "multi-turn loop: the turns stacked on successive inner layers inside the one shield, each \
+     passing the one gap; each pass sees the gap's voltage in series and the shield's outer \
+     current is the passes' sum (a 1 : N transformer at low frequency: N times a single turn's \
+     output below the corner, 1/N above it, the corner N² lower); the winding is a chain of \
+     lines of the stacked turns' common-mode impedance per turn (2-D field solution of the \
+     ring's cross-section), a source at each pass, the run to the output matched",
+    "multi-turn loop: neighbouring turns stand one gap voltage apart all along the ring, so \
+     their capacitance (2-D field solution, the turns stacked over the whole ring) sits across \
+     the gap beside the gap's own; the self-resonance is where the probe's impedance seen from \
+     its output turns capacitive; the error budget adds a ±5 % winding length and a ±10 % \
+     turn-to-turn capacitance (our estimate) to the electric pickup",
+    "multi-turn loop: no full-wave check of a multi-turn board yet; the run's part on the ring \
+     stacked over the other turns, and the differential modes between turns beyond their \
+     capacitance, are left out",
+];
+
 /// The electric probe's modelling assumptions, stated with its predictions.
 pub const ELECTRIC_ASSUMPTIONS: [&str; 5] = [
     "quasi-static: the electrode and its face are small against the wavelength below the upper \

@@ -120,12 +120,13 @@ pub fn launch_over_limit(p: &Probe, s: &SolvedProbe) -> Option<String> {
         return None;
     }
     let n = p.stackup.copper_count();
-    let hint = if p.signal_layer + 1 < n {
+    // The lowest signal layer that still leaves room for every turn and a shield below.
+    let lowest = n - p.turns.max(1) as usize;
+    let hint = if p.signal_layer < lowest {
         format!(
             "; the signal via's open stub runs from L{} to L{n}: a signal layer nearer the bottom \
-             (signal_layer = {}) shortens it",
+             (signal_layer = {lowest}) shortens it",
             p.signal_layer,
-            n - 1
         )
     } else {
         String::new()

@@ -7,3 +7,4 @@ pub mod launch;
 pub mod network;
 pub mod probe;
 pub mod roots;
+pub mod winding;

@@ -57,6 +57,9 @@ pub struct SolvedProbe {
     pub handle_z0: Option<f64>,
     /// What set the width.
     pub width_source: WidthFrom,
+    /// A multi-turn loop's winding: its other turns' widths, the stacked turns' field
+    /// solution, where the turns are joined (None for one turn).
+    pub winding: Option<crate::solve::winding::Winding>,
 }
 
 /// Which of the probe's own cross-sections.
@@ -107,13 +110,29 @@ pub fn cross_section(
         half - w / 2.0 - p.clearance,
         st.t,
     );
-    let mut conductors = vec![
+    let conductors = vec![
         Conductor::finite_plane(-half, half, 0.0, 0.0),
         Conductor::trace(0.0, st.h2, w, st.t, 0.0),
         Conductor::finite_plane(-half, half, top, 0.0),
         left,
         right,
     ];
+    with_via_rows(p, layers, conductors, f, half, top, pitch)
+}
+
+/// A probe's cross-section closed with its via rows at ±`f` from the trace, `pitch` apart, from
+/// the bottom plane to the top one at `top` (as fences, or a solid wall when the posts are
+/// closer than two diameters), the board's edge at the copper-to-edge distance beyond the
+/// shield's half-width `half`, air beyond.
+pub(crate) fn with_via_rows(
+    p: &Probe,
+    layers: Vec<Dielectric>,
+    mut conductors: Vec<Conductor>,
+    f: f64,
+    half: f64,
+    top: f64,
+    pitch: f64,
+) -> CrossSection {
     let d = p.vias.drill;
     let fences = if pitch >= 2.0 * d {
         Fence::pair(f, d, pitch, 0.0, top).to_vec()
@@ -366,7 +385,14 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
             ),
         ));
     }
-    let fence_offset = fence_offset(p, w);
+    // A multi-turn loop's other turns: their widths on their own layers, the stacked turns'
+    // field solution; the rows and fences keep clear of the widest.
+    let winding = if p.turns > 1 && p.kind == ProbeKind::Loop {
+        Some(crate::solve::winding::solve(p, w, pitch_max, pitch_min)?)
+    } else {
+        None
+    };
+    let fence_offset = fence_offset(p, winding.as_ref().map_or(w, |x| x.width_max));
     let ring_half_width = fence_offset + p.vias.pad / 2.0 + RING_RIM;
     let feed_offset = fence_offset / 2.0;
     // The ring must leave an opening inside the loop; a milled interior must leave a cut at
@@ -406,6 +432,7 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     // A loop's feed runs off the axis by the feed offset; an electric probe's line on it; a
     // balanced loop's two lines up from their connectors, side by side.
     let off_axis = match p.kind {
+        ProbeKind::Loop if winding.is_some() => 0.0,
         ProbeKind::Loop => feed_offset,
         ProbeKind::Electric(_) => 0.0,
         ProbeKind::Balanced => p.connector.pair_half_pitch(p.fab.min_space),
@@ -414,12 +441,8 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         let least = balanced_entry_least(fence_offset, pitch_min);
         let a = p.shape.half_width();
         if least > BALANCED_ENTRY_MAX * a {
-            let field = match p.shape {
-                crate::model::probe::LoopShape::Rect { square: false, .. } => "width_mm",
-                _ => "size_mm",
-            };
             errs.push(FieldError::new(
-                field,
+                p.shape.width_field(),
                 crate::model::probe::num(2.0 * a),
                 format!(
                     "probe '{}' is too narrow for a balanced loop: its two lines enter the ring \
@@ -448,6 +471,14 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
     if p.kind == ProbeKind::Balanced {
         balanced_room(p, fence_offset, pitch_min, &launch, &mut errs);
     }
+    if let Some(wd) = &winding {
+        // The feed's jog from the signal via, and the ring of ground vias round it, above the
+        // connector edge (`geom`).
+        let base = p.connector.centre_pad_length + launch.link_length;
+        let jog_top = (base + 1.5 * p.vias.pad + p.clearance + feed_offset)
+            .max(base + crate::solve::launch::signal_ring_radius(p, &launch));
+        crate::solve::winding::room(p, &wd.junction, fence_offset, w, jog_top, &mut errs);
+    }
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));
     }
@@ -469,5 +500,6 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         arm_z0,
         handle_z0,
         width_source,
+        winding,
     })
 }

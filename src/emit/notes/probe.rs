@@ -116,8 +116,41 @@ pub fn notes(
             }
         );
     }
+    if let Some(wd) = &s.winding {
+        let j = &wd.junction;
+        let _ = writeln!(
+            o,
+            "- **{} turns, stacked on L{}–L{}** inside the one shield (L{} above, L{} below), \
+             each crossing the one gap at the apex. Every turn enters the ring from the handle \
+             {:.3} mm left of the axis; turn k leaves it {} mm right of the axis and goes down \
+             to its join via, a plated through via with lands on its two layers and isolated \
+             lands in clearances on the outer layers (antipads on the others), at {}; the next \
+             turn starts there on the layer below. The last turn is shorted to the shield just \
+             below its exit by two vias.\n",
+            p.turns,
+            p.signal_layer,
+            p.signal_layer + p.turns as usize - 1,
+            p.signal_layer - 1,
+            p.shield_below(),
+            j.entry,
+            j.exits
+                .iter()
+                .map(|x| format!("{x:.3}"))
+                .collect::<Vec<_>>()
+                .join(", "),
+            j.joins
+                .iter()
+                .map(|q| format!("({:.3}, {:.3}) mm", q.x, q.y))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+    }
     o.push_str(&stackup_table(&p.stackup, |n| {
-        if n == p.signal_layer { role } else { "shield" }
+        if n == p.signal_layer || (p.turn_layers().contains(&n)) {
+            role
+        } else {
+            "shield"
+        }
     }));
     let _ = writeln!(o, "\n## Impedance requirement\n");
     let (above, below) = (p.signal_layer - 1, p.signal_layer + 1);
@@ -184,11 +217,54 @@ pub fn notes(
             "- At the chosen width, field solutions: loop arm {a:.2} Ω, handle {h:.2} Ω."
         );
     }
+    if let Some(wd) = &s.winding {
+        for t in &wd.lines {
+            let (up, down) = (t.layer - 1, t.layer + 1);
+            let _ = writeln!(
+                o,
+                "- **L{}, w = {:.3} mm, {} Ω ± 10 %, referenced to L{up} and L{down}** (turn {} of \
+                 the winding; its width solved on its own layer's stripline, {}; closed form \
+                 w = {:.3} mm).",
+                t.layer,
+                t.width,
+                crate::model::probe::num(p.target_z0),
+                t.layer - p.signal_layer + 1,
+                match t.width_source {
+                    crate::model::probe::WidthFrom::Field =>
+                        "set by the 2-D field solution of its loop arm",
+                    _ => "by the closed form",
+                },
+                t.closed_form_width
+            );
+        }
+        let _ = writeln!(
+            o,
+            "- The turns stand over one another on the ring, so that the inner layers next to a \
+             turn carry the other turns rather than plane there: the stacked turns' field solution \
+             gives {:.1} Ω per turn together (common mode) and {} between neighbouring turns; the \
+             response model uses these, the fab's test coupons the per-layer values above.",
+            wd.z_common,
+            wd.c_adjacent
+                .iter()
+                .map(|c| format!("{:.2} pF/m", c * 1e12))
+                .collect::<Vec<_>>()
+                .join(" and ")
+        );
+    }
     let _ = writeln!(
         o,
         "- Coplanar ground clearance on L{}: {:.3} mm. The fab may adjust the width to meet the \
          impedance on its own process.",
-        p.signal_layer, p.clearance
+        if p.turns > 1 {
+            format!(
+                "{}–L{}",
+                p.signal_layer,
+                p.signal_layer + p.turns as usize - 1
+            )
+        } else {
+            p.signal_layer.to_string()
+        },
+        p.clearance
     );
     let l = &s.launch;
     let relief = if l.relief_depth == 0 {
@@ -506,6 +582,11 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     }
     if r.balanced.is_some() {
         for a in crate::physics::predicted::BALANCED_ASSUMPTIONS {
+            let _ = writeln!(o, "  - {a}");
+        }
+    }
+    if r.winding.is_some() {
+        for a in crate::physics::predicted::WINDING_ASSUMPTIONS {
             let _ = writeln!(o, "  - {a}");
         }
     }
