@@ -414,8 +414,8 @@ proptest! {
     #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
 
     // Random specs within the documented ranges (shape, stackup, layer, gap, clearance, vias,
-    // stitching limit, handle, connector holes, fab profile, silk text, a singly-loaded or a
-    // balanced loop): either every probe is
+    // stitching limit, handle, connector holes, fab profile, silk text, a singly-loaded loop of
+    // one, two or three turns or a balanced loop): either every probe is
     // built, passes the design-rule check and writes Gerber files that gerber_parser reads
     // without error, or the spec is refused with field errors that each name a field, a value
     // and what is allowed; never a panic, never a design-rule failure. (The spec census runs
@@ -433,19 +433,25 @@ proptest! {
         handle_w in 6.6f64..14.0,
         target in 35.0f64..55.0,
         mill in any::<bool>(),
-        holes_kind in (prop_oneof![Just(0.0f64), 0.3f64..0.8], any::<bool>()),
+        holes_kind in (prop_oneof![Just(0.0f64), 0.3f64..0.8], 0u8..4),
         vfs in via_fab_silk(),
     ) {
         let (via_extra, fab, silk) = vfs;
-        // A balanced loop on its own handle, wide enough for two connectors.
-        let (holes, balanced) = holes_kind;
-        let kind = if balanced { "kind = \"balanced\"\nhandle_width_mm = 17.5\n" } else { "" };
+        // A balanced loop on its own handle, wide enough for two connectors; a loop of two
+        // turns, or of three on the six-layer stackup.
+        let (holes, kind_n) = holes_kind;
+        let kind = match kind_n {
+            1 => "kind = \"balanced\"\nhandle_width_mm = 17.5\n",
+            2 => "turns = 2\n",
+            3 => "turns = 3\n",
+            _ => "",
+        };
         let text = format!(
             "stackup = \"{}\"\nsignal_layer = {}\ntarget_z0_ohms = {target:.2}\nclearance_mm = {clearance:.3}\ngap_mm = {gap:.3}\nmill_interior = {mill}\n\
              [via]\ndrill_mm = {drill:.3}\npad_mm = {:.3}\n{via_extra}[handle]\nlength_mm = {handle_len:.2}\nwidth_mm = {handle_w:.2}\n\
              [connector]\nground_hole_drill_mm = {holes:.3}\n{fab}\
              [[probe]]\nname = \"p\"\n{silk}{kind}{shape}",
-            if slim { "slim-4l-0.8" } else { "common-4l-1.6" },
+            if kind_n == 3 { "common-6l-1.6" } else if slim { "slim-4l-0.8" } else { "common-4l-1.6" },
             if layer3 { 3 } else { 2 },
             drill + 2.0 * ring,
         );

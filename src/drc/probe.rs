@@ -29,13 +29,35 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
     // neighbour within the limit.
     let electrode_via =
         |q: Point| p.kind.electrode().is_some() && q.to_vec2().hypot() < slack::GRID;
+    // A multi-turn loop's join vias are the winding's: they stitch nothing either (and are no
+    // ground neighbour), but keep the fab's least pitch from every other via.
+    let join_via = |q: Point| {
+        b.joins
+            .iter()
+            .any(|j| (j.at - q).hypot() < 2.0 * slack::GRID)
+    };
     let vias: Vec<Point> = art
         .drills
         .iter()
-        .filter(|d| d.via && !electrode_via(d.at))
+        .filter(|d| d.via && !electrode_via(d.at) && !join_via(d.at))
         .map(|d| d.at)
         .collect();
-    for (v, nn) in nearest_neighbours(&vias, s.pitch_max, &mut out) {
+    let mut nearest = nearest_neighbours(&vias, s.pitch_max, &mut out);
+    nearest.extend(
+        art.drills
+            .iter()
+            .filter(|d| d.via && join_via(d.at))
+            .map(|d| {
+                let nn = art
+                    .drills
+                    .iter()
+                    .filter(|o| o.via && (o.at - d.at).hypot() > 2.0 * slack::GRID)
+                    .map(|o| (o.at - d.at).hypot())
+                    .fold(f64::INFINITY, f64::min);
+                (d.at, nn)
+            }),
+    );
+    for (v, nn) in nearest {
         // 10 nm: what snapping both vias to the 1 nm grid can take off their distance.
         if nn < s.pitch_min - slack::PITCH {
             out.push(Violation {

@@ -52,7 +52,7 @@ pub(super) fn ring_part(left: &[Point], e_in: f64, e_out: f64) -> Vec<Point> {
 pub(super) fn turns(p: &Probe, s: &SolvedProbe, wd: &Winding) -> Wound {
     let left = left_half(&p.shape, 0.0);
     let j = &wd.junction;
-    let (c, pad) = (p.clearance, p.vias.pad);
+    let pad = p.vias.pad;
     let layers: Vec<usize> = p.turn_layers().collect();
     let n = layers.len();
     let joins: Vec<Join> = j
@@ -83,8 +83,15 @@ pub(super) fn turns(p: &Probe, s: &SolvedProbe, wd: &Winding) -> Wound {
             // a single turn's end is).
             let e_out = *path.last().unwrap();
             channel_end = path.len() - 1;
-            path.push(Point::new(e_out.x, e_out.y - (w / 2.0 + c + 2.0 * pad)));
-            let first = Point::new(e_out.x, e_out.y - (w / 2.0 + c + pad / 2.0 + VIA_WEB));
+            // The first short as far down as the other turns, on along the ring on their own
+            // layers, leave room for (`solve::winding::short_drop`); the stub on past it as a
+            // single turn's.
+            let drop = crate::solve::winding::short_drop(p, e_out.x, w, s.fence_offset);
+            let first = Point::new(e_out.x, e_out.y - drop);
+            path.push(Point::new(
+                e_out.x,
+                first.y - (1.5 * pad - VIA_WEB).max(pad / 2.0),
+            ));
             shorts = [
                 first,
                 Point::new(e_out.x, first.y - s.pitch_min - offsets::PITCH_MARGIN),

@@ -242,10 +242,31 @@ pub fn turn_section(p: &Probe, j: &Junction, k: usize) -> Option<f64> {
     Some(s_out + (y_out - v.y) + (j.exits[k - 1] + j.entry) + (y_in - v.y) + s_in)
 }
 
+/// How far below its exit (on the ring's centreline at x = `x`) the last turn's first short via
+/// stands, mm: a trace's half-width, a clearance, half a via pad and a web into solid shield, as
+/// a single turn's, and further down the handle where that would come within a fence offset
+/// `f` of the other turns, which run on along the ring past the exit on their own layers.
+pub fn short_drop(p: &Probe, x: f64, w: f64, f: f64) -> f64 {
+    let least = w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB;
+    let Some((y, _)) = crossing(p, x) else {
+        return least;
+    };
+    let ring = crate::model::centreline::closed(&p.shape, 0.0);
+    let clear = |d: f64| {
+        crate::model::centreline::dist_to_polyline(Point::new(x, y - d), &ring) >= f + 1e-3
+    };
+    let mut d = least;
+    while !clear(d) && d < least + 4.0 * f {
+        d += 0.005;
+    }
+    d
+}
+
 /// The last turn's stub from its pass across the gap to its first short via, mm.
 pub fn last_stub(p: &Probe, j: &Junction, w: f64) -> Option<f64> {
-    let (_, s_out) = crossing(p, *j.exits.last()?)?;
-    Some(s_out + w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB)
+    let x = *j.exits.last()?;
+    let (_, s_out) = crossing(p, x)?;
+    Some(s_out + short_drop(p, x, w, j.step / 2.0))
 }
 
 /// Solves a multi-turn loop's winding: every turn's width, the stacked turns' field solutions,
@@ -344,7 +365,8 @@ pub fn room(p: &Probe, j: &Junction, f: f64, w: f64, jog_top: f64, errs: &mut Ve
     // short via (its exit is at least as low as the bottom).
     let lowest_join = j.joins.last().map(|v| v.y).unwrap_or(0.0);
     let bottom = left_half(&p.shape, 0.0).last().map(|q| q.y).unwrap_or(0.0);
-    let shorts = bottom - (w / 2.0 + p.clearance + p.vias.pad / 2.0 + VIA_WEB) - j.step;
+    let y_exit = crossing(p, last).map_or(bottom, |(y, _)| y);
+    let shorts = y_exit - short_drop(p, last, w, f) - j.step;
     let low = lowest_join.min(shorts) - f;
     // `jog_top` is the feed's jog top above the connector edge; the connector edge stands the
     // handle's length below the ring's outer edge (half the ring below the bottom).
