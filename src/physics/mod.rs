@@ -597,11 +597,12 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         _ => (f_small, "small loop: circumference ≤ λ0/10"),
     };
     if let Some(w) = &r.winding
-        && w.self_resonance_hz < r.upper_hz
+        && w.self_resonance_hz / winding::SELF_RESONANCE_MARGIN < r.upper_hz
     {
-        r.upper_hz = w.self_resonance_hz;
-        r.upper_rule = "self-resonance: the probe's impedance seen from its output turns from \
-                        inductive to capacitive";
+        r.upper_hz = w.self_resonance_hz / winding::SELF_RESONANCE_MARGIN;
+        r.upper_rule = "self-resonance, less its margin: the probe's impedance seen from its \
+                        output turns from inductive to capacitive at 1.2 times this (the model's \
+                        first resonance read 15–16 % high in a full-wave check)";
     }
     let upper = r.upper_hz;
     let f_lo = o.f_min_hz.unwrap_or(SCAN_FROM_HZ.min(corner / 10.0));

@@ -67,9 +67,11 @@ pub const WINDING_ASSUMPTIONS: [&str; 3] = [
      the gap beside the gap's own; the self-resonance is where the probe's impedance seen from \
      its output turns capacitive; the error budget adds a ±5 % winding length and a ±10 % \
      turn-to-turn capacitance (our estimate) to the electric pickup",
-    "multi-turn loop: no full-wave check of a multi-turn board yet; the run's part on the ring \
-     stacked over the other turns, and the differential modes between turns beyond their \
-     capacitance, are left out",
+    "multi-turn loop: a full-wave check (FDTD, a 10 mm loop with one turn and with two) finds \
+     the inductance at the output 3 % low and the first resonance 15–16 % high for both, the \
+     two turns' change from one within 1 %: the band ends 1.2 times below the predicted \
+     self-resonance; the run's part on the ring stacked over the other turns, and the \
+     differential modes between turns beyond their capacitance, are left out",
 ];
 
 /// The electric probe's modelling assumptions, stated with its predictions.
