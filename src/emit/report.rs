@@ -94,6 +94,7 @@ fn electric_sentence(r: &crate::physics::Response) -> String {
         crate::physics::electric::BUDGET_DB,
         match r.budget_hz {
             Some(b) => format!("reached at {:.0} MHz", b / 1e6),
+            None if r.winding.is_some() => "not reached below the small-loop limit".to_string(),
             None => "not reached below the first null".to_string(),
         }
     )
@@ -414,9 +415,11 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
             preview,
             xml(&x.probe.name),
             if r.balanced.is_some() {
-                "balanced "
+                "balanced ".to_string()
+            } else if x.probe.turns > 1 {
+                format!("{}-turn ", x.probe.turns)
             } else {
-                ""
+                String::new()
             },
             x.probe.shape_name(),
             xml(&x.probe.size_text()),

@@ -178,7 +178,7 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
                 "winding",
                 format!(
                     "{} turns on L{}–L{}, {:.1} Ω per turn together (common mode), {:.3} pF \
-                     between neighbouring turns; self-resonance {}",
+                     between neighbouring turns (all pairs); self-resonance at the output {}",
                     wd.turns,
                     x.probe.signal_layer,
                     x.probe.signal_layer + wd.turns as usize - 1,

@@ -148,7 +148,7 @@ pub struct LoopHead {
 #[derive(Debug, Clone)]
 pub struct Board {
     /// Signal-layer trace centreline: from the signal via, through the feed, around the loop, to
-    /// the end of the short stub.
+    /// the end of the short stub (a multi-turn loop's first turn: to its join via).
     pub trace_path: Vec<Point>,
     /// Index in `trace_path` of the loop exit E_out (the channel around the trace ends there).
     pub exit_index: usize,

@@ -151,6 +151,9 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
     placer.signal_ring(crate::solve::launch::signal_ring_radius(p, &s.launch));
     placer.pad_vias();
     placer.fences(&feed);
+    if wound.is_some() {
+        placer.drop_lonely();
+    }
     let vias = placer.vias;
 
     // --- Silkscreen.

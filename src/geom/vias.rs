@@ -405,12 +405,37 @@ impl<'a> ViaPlacer<'a> {
                 self.try_add(Point::new(0.0, q.y), role);
                 continue;
             }
-            if self.ok(q) && self.ok(mirror(q)) {
+            if !self.others.is_empty() {
+                // A multi-turn loop's board is not symmetric at its junction: each side's via
+                // goes where that side allows.
+                self.try_add(q, role);
+                self.try_add(mirror(q), role);
+            } else if self.ok(q) && self.ok(mirror(q)) {
                 self.try_add(q, role);
                 if !self.try_add(mirror(q), role) {
                     self.vias.pop();
                 }
             }
+        }
+    }
+
+    /// A multi-turn loop: drops every ground via left alone by the lines at the junction
+    /// (none of the shield's vias within the stitching limit: it stitches nothing), until none
+    /// is left. Vias that carry or end a line stay.
+    pub(super) fn drop_lonely(&mut self) {
+        let ground = |r: ViaRole| !matches!(r, ViaRole::Signal | ViaRole::Join | ViaRole::Short);
+        loop {
+            let lonely = self.vias.iter().position(|v| {
+                ground(v.role)
+                    && self
+                        .vias
+                        .iter()
+                        .filter(|o| ground(o.role) || o.role == ViaRole::Short)
+                        .filter(|o| (o.at - v.at).hypot() > offsets::SAME_POINT)
+                        .all(|o| (o.at - v.at).hypot() > self.s.pitch_max)
+            });
+            let Some(i) = lonely else { break };
+            self.vias.remove(i);
         }
     }
 

@@ -784,21 +784,36 @@ pub fn family_from_spec(spec: &ProbeFileSpec, base: &Path) -> Result<Family, Err
         if let Some(st) = &stackup
             && turns > 1
             && signal_layer >= 2
+            && signal_layer < st.copper_count()
             && signal_layer + turns as usize > st.copper_count()
         {
             let n = st.copper_count();
+            let most = n - signal_layer;
             out.push(FieldError::new(
-                format!("{p}.turns"),
-                turns,
-                format!(
-                    "needs {turns} successive inner layers from signal_layer = {signal_layer} and a \
-                     shield layer below the last: '{}' has {n} copper layers, so at most {} turns \
-                     from layer {signal_layer} (a stackup with more layers, e.g. the built-in \
-                     common-6l-1.6, takes 3)",
-                    st.name(),
-                    (n as i64 - signal_layer as i64).max(0)
-                ),
-            ));
+            format!("{p}.turns"),
+            turns,
+            format!(
+                "needs {turns} successive inner layers from signal_layer = {signal_layer} and a \
+                 shield layer below the last: '{}' has {n} copper layers, so {} from layer \
+                 {signal_layer}{}",
+                st.name(),
+                if most == 1 {
+                    "one turn".to_string()
+                } else {
+                    format!("at most {most} turns")
+                },
+                if n >= turns as usize + 2 {
+                    format!(
+                        " (signal_layer = 2 to {} takes {turns})",
+                        n - turns as usize
+                    )
+                } else {
+                    " (a stackup with more copper layers, such as the built-in common-6l-1.6, \
+                     takes up to 3)"
+                        .to_string()
+                }
+            ),
+        ));
         }
         let silk_text = l.silk_text.clone().unwrap_or_default();
         if silk_text.chars().count() > 40 {

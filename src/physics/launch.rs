@@ -23,7 +23,7 @@ pub fn transfer_with(r: &Response, sections: &[Section], f: f64) -> Cx {
     let z_run = run.z_in(load);
     if let Some(wd) = &r.winding {
         // A multi-turn loop: the winding's chain (module [`super::winding`]).
-        let v_run = wd.run_drive(f, g, z_run, r.l_outer, r.c_gap);
+        let v_run = wd.run_drive(f, wd.gamma(g, r.eps_eff), z_run, r.l_outer, r.c_gap);
         let m = run.then(cascade(sections, f));
         return v_run / (m.a + m.b / Cx::new(R_LOAD, 0.0));
     }

@@ -199,8 +199,7 @@ pub struct Response {
     /// loop.
     pub balanced: Option<balanced::Balanced>,
     /// A multi-turn loop's winding (module [`winding`]): `l2_m` is then its line from the first
-    /// pass to the short, `l_stub` that line's inductance, `f_gap_res_hz` the self-resonance;
-    /// None for one turn.
+    /// pass to the short, `l_stub` that line's inductance; None for one turn.
     pub winding: Option<winding::WindingResponse>,
     /// The options used.
     pub options: PredictOptions,
@@ -253,9 +252,10 @@ impl Response {
         let g = self.gamma(f);
         if let Some(wd) = &self.winding {
             // N turns: the winding's chain of lines with a source at each pass (module
-            // [`winding`]).
+            // [`winding`]), on the stacked turns' permittivity.
             let run = (-g.re * self.l1_m).exp();
-            let v = wd.run_drive(f, g, Cx::new(R_LOAD, 0.0), self.l_outer, self.c_gap);
+            let gw = wd.gamma(g, self.eps_eff);
+            let v = wd.run_drive(f, gw, Cx::new(R_LOAD, 0.0), self.l_outer, self.c_gap);
             return v * Cx::new(run, 0.0);
         }
         let z_in = self.z_in(f);
@@ -292,7 +292,9 @@ impl Response {
             return 1.0;
         }
         let w = 2.0 * PI * f;
-        let k = 1.0 - w * w * self.l_outer * self.c_gap;
+        // A multi-turn loop's turns add their capacitance across the gap (module [`winding`]).
+        let c = self.c_gap + self.winding.as_ref().map_or(0.0, |wd| wd.c_turns);
+        let k = 1.0 - w * w * self.l_outer * c;
         if k.abs() < 0.05 {
             0.05_f64.copysign(k)
         } else {
@@ -356,7 +358,7 @@ impl Response {
     pub fn z_in(&self, f: f64) -> Cx {
         let g = self.gamma(f);
         if let Some(wd) = &self.winding {
-            return wd.z_gap(g, Cx::new(R_LOAD, 0.0));
+            return wd.z_gap(wd.gamma(g, self.eps_eff), Cx::new(R_LOAD, 0.0));
         }
         Cx::new(R_LOAD, 0.0)
             + Cx::new(self.z0_line, 0.0) * Cx::new(g.re * self.l2_m, g.im * self.l2_m).tanh()
@@ -557,12 +559,23 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         r.l_total = w.l_total(l_outer);
         r.corner_hz = R_LOAD / (2.0 * PI * r.l_total);
         r.f_null_hz = C0 / (4.0 * line_m * wd.eps_common.sqrt());
-        // The self-resonance (module [`winding`]).
+        // The self-resonance at the connector, the run from the first pass included (module
+        // [`winding`]); the lumped L_out with the gap's and the turns' capacitance bounds the
+        // search.
         let lumped = 1.0 / (2.0 * PI * (l_outer * (c_gap + w.c_turns)).sqrt());
+        let (z0, l1) = (r.z0_line, r.l1_m);
         w.self_resonance_hz = w
-            .find_self_resonance(|f| r.gamma(f), r.corner_hz, 2.0 * lumped, l_outer, c_gap)
+            .find_self_resonance(
+                |f| r.gamma(f),
+                r.eps_eff,
+                r.corner_hz,
+                2.0 * lumped,
+                l_outer,
+                c_gap,
+                z0,
+                l1,
+            )
             .unwrap_or(lumped);
-        r.f_gap_res_hz = w.self_resonance_hz;
         r.winding = Some(w);
     }
     let corner = r.corner_hz;
@@ -600,9 +613,9 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
         && w.self_resonance_hz / winding::SELF_RESONANCE_MARGIN < r.upper_hz
     {
         r.upper_hz = w.self_resonance_hz / winding::SELF_RESONANCE_MARGIN;
-        r.upper_rule = "self-resonance, less its margin: the probe's impedance seen from its \
-                        output turns from inductive to capacitive at 1.2 times this (the model's \
-                        first resonance read 15–16 % high in a full-wave check)";
+        r.upper_rule = "self-resonance, less its margin: the probe's impedance at its connector \
+                        turns from inductive to capacitive at 1.2 times this (the model's first \
+                        resonance there read 15–16 % high in a full-wave check)";
     }
     let upper = r.upper_hz;
     let f_lo = o.f_min_hz.unwrap_or(SCAN_FROM_HZ.min(corner / 10.0));

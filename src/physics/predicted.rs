@@ -59,13 +59,15 @@ pub const WINDING_ASSUMPTIONS: [&str; 3] = [
     "multi-turn loop: the turns stacked on successive inner layers inside the one shield, each \
      passing the one gap; each pass sees the gap's voltage in series and the shield's outer \
      current is the passes' sum (a 1 : N transformer at low frequency: N times a single turn's \
-     output below the corner, 1/N above it, the corner N² lower); the winding is a chain of \
+     output below the corner, 1/N above it, the corner about N² lower); in place of the single \
+     stub above, the winding is a chain of \
      lines of the stacked turns' common-mode impedance per turn (2-D field solution of the \
      ring's cross-section), a source at each pass, the run to the output matched",
     "multi-turn loop: neighbouring turns stand one gap voltage apart all along the ring, so \
      their capacitance (2-D field solution, the turns stacked over the whole ring) sits across \
-     the gap beside the gap's own; the self-resonance is where the probe's impedance seen from \
-     its output turns capacitive; the error budget adds a ±5 % winding length and a ±10 % \
+     the gap beside the gap's own; the self-resonance is where the probe's impedance at its \
+     connector (through the run and handle) turns capacitive, which is conservative for a long \
+     handle (a matched run does not itself limit the response into 50 Ω); the error budget adds a ±5 % winding length and a ±10 % \
      turn-to-turn capacitance (our estimate) to the electric pickup",
     "multi-turn loop: a full-wave check (FDTD, a 10 mm loop with one turn and with two) finds \
      the inductance at the output 3 % low and the first resonance 15–16 % high for both, the \

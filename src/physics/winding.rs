@@ -51,8 +51,9 @@ pub struct WindingResponse {
     /// The chain's inductance at low frequency, Z_cm·√εcm·(Σ sections + stub)/c0, H.
     pub l_inner: f64,
     /// The self-resonance: the lowest frequency above the corner at which the probe's impedance
-    /// seen from its output turns from inductive to capacitive (parallel resonance), Hz (set
-    /// by `predict`; the lumped L_out with C where none is found below twice that).
+    /// at its output (the connector: the chain seen through the run) turns from inductive to
+    /// capacitive (parallel resonance), Hz (set by `predict`; the lumped L_out with C where none
+    /// is found below twice that).
     pub self_resonance_hz: f64,
 }
 
@@ -91,6 +92,12 @@ impl WindingResponse {
             l_inner,
             self_resonance_hz: f64::NAN,
         }
+    }
+
+    /// The line's propagation constant `g` (found on permittivity `eps`) moved to the stacked
+    /// turns' permittivity: the phase scaled by √(εcm/ε), the loss kept.
+    pub fn gamma(&self, g: Cx, eps: f64) -> Cx {
+        Cx::new(g.re, g.im * (self.eps_common / eps).sqrt())
     }
 
     /// Turns as a number.
@@ -186,17 +193,45 @@ impl WindingResponse {
         Cx::new(1.0, 0.0) / self.drive(g, z_run).0
     }
 
-    /// The self-resonance between `lo` and `hi` Hz at the line's γ(f) `gamma`: where Im Z_out
-    /// first turns from positive to negative.
+    /// The probe's impedance at its output at `f` Hz: [`Self::z_out`] seen through the run from
+    /// the first pass to the connector, `l1` m of line of impedance `z0` at the line's γ `g`
+    /// (the winding's own lines at the stacked turns' permittivity, `eps` the run's), Ω.
+    #[allow(clippy::too_many_arguments)]
+    pub fn z_at_output(
+        &self,
+        f: f64,
+        g: Cx,
+        eps: f64,
+        l_outer: f64,
+        c_gap: f64,
+        z0: f64,
+        l1: f64,
+    ) -> Cx {
+        let z = self.z_out(f, self.gamma(g, eps), l_outer, c_gap);
+        let t = Cx::new(g.re * l1, g.im * l1).tanh();
+        let z0 = Cx::new(z0, 0.0);
+        z0 * (z + z0 * t) / (z0 + z * t)
+    }
+
+    /// The self-resonance between `lo` and `hi` Hz at the run's γ(f) `gamma` (found on
+    /// permittivity `eps`): where Im Z at the output, through the run (`z0`, `l1`), first turns
+    /// from positive to negative.
+    #[allow(clippy::too_many_arguments)]
     pub fn find_self_resonance(
         &self,
         gamma: impl Fn(f64) -> Cx,
+        eps: f64,
         lo: f64,
         hi: f64,
         l_outer: f64,
         c_gap: f64,
+        z0: f64,
+        l1: f64,
     ) -> Option<f64> {
-        let im = |f: f64| self.z_out(f, gamma(f), l_outer, c_gap).im;
+        let im = |f: f64| {
+            self.z_at_output(f, gamma(f), eps, l_outer, c_gap, z0, l1)
+                .im
+        };
         let n = ((hi / lo).log10() * 400.0).ceil().max(2.0) as usize;
         let fs: Vec<f64> = (0..=n)
             .map(|i| lo * (hi / lo).powf(i as f64 / n as f64))

@@ -477,7 +477,8 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         let base = p.connector.centre_pad_length + launch.link_length;
         let jog_top = (base + 1.5 * p.vias.pad + p.clearance + feed_offset)
             .max(base + crate::solve::launch::signal_ring_radius(p, &launch));
-        crate::solve::winding::room(p, &wd.junction, fence_offset, w, jog_top, &mut errs);
+        let w_last = wd.lines.last().map_or(w, |l| l.width);
+        crate::solve::winding::room(p, &wd.junction, fence_offset, w_last, jog_top, &mut errs);
     }
     if !errs.is_empty() {
         return Err(Error::Invalid(errs));

@@ -326,8 +326,9 @@ pub fn solve(p: &Probe, w1_width: f64, pitch_max: f64, pitch_min: f64) -> Result
 
 /// A multi-turn loop's room (our construction rules): the loop must be wide enough for the
 /// last turn's exit and its fence; the handle wide enough for it, its fences and the ring's
-/// rim; long enough that the lowest join via and the last turn's shorts stand clear above the
-/// feed's jog from the signal via.
+/// rim; long enough that the lowest join via and the last turn's shorts (`w` the last turn's
+/// width; the second short taken at least two fence offsets and two pads below the first)
+/// stand clear above the feed's jog from the signal via.
 pub fn room(p: &Probe, j: &Junction, f: f64, w: f64, jog_top: f64, errs: &mut Vec<FieldError>) {
     let last = *j.exits.last().unwrap_or(&j.entry);
     let a = p.shape.half_width();
@@ -366,7 +367,7 @@ pub fn room(p: &Probe, j: &Junction, f: f64, w: f64, jog_top: f64, errs: &mut Ve
     let lowest_join = j.joins.last().map(|v| v.y).unwrap_or(0.0);
     let bottom = left_half(&p.shape, 0.0).last().map(|q| q.y).unwrap_or(0.0);
     let y_exit = crossing(p, last).map_or(bottom, |(y, _)| y);
-    let shorts = y_exit - short_drop(p, last, w, f) - j.step;
+    let shorts = y_exit - short_drop(p, last, w, f) - j.step.max(2.0 * p.vias.pad);
     let low = lowest_join.min(shorts) - f;
     // `jog_top` is the feed's jog top above the connector edge; the connector edge stands the
     // handle's length below the ring's outer edge (half the ring below the bottom).

@@ -61,12 +61,23 @@ pub fn notes(
         hi.y - lo.y,
         p.stackup.thickness_mm()
     );
-    let _ = writeln!(
-        o,
-        "- {} copper layers; {role} on L{}, every other layer is shield",
-        p.stackup.copper_count(),
-        p.signal_layer
-    );
+    if p.turns > 1 {
+        let _ = writeln!(
+            o,
+            "- {} copper layers; the loop's {} turns on L{}–L{}, every other layer is shield",
+            p.stackup.copper_count(),
+            p.turns,
+            p.signal_layer,
+            p.shield_below() - 1
+        );
+    } else {
+        let _ = writeln!(
+            o,
+            "- {} copper layers; {role} on L{}, every other layer is shield",
+            p.stackup.copper_count(),
+            p.signal_layer
+        );
+    }
     if electrode.is_some() {
         let _ = writeln!(
             o,
@@ -342,14 +353,25 @@ pub fn notes(
              it uncut.",
             p.gap
         );
-        let _ = writeln!(
-            o,
-            "- Not mirror-symmetric, by design: the feed enters the loop at x = −{e:.3} mm and the \
-             short ties the trace to the shield at x = +{e:.3} mm; the feed's via fences and the \
-             two short vias follow them. Shield copper, gap and loop stitching rows are \
-             symmetric.",
-            e = s.feed_offset
-        );
+        if let Some(wd) = &s.winding {
+            let _ = writeln!(
+                o,
+                "- Not mirror-symmetric, by design: every turn enters the loop at x = −{:.3} mm; \
+                 the turns leave it, and are joined or (the last) shorted, right of the axis (the \
+                 winding above); the vias follow them. Shield copper, gap and the rows' spacing \
+                 are symmetric away from that junction.",
+                wd.junction.entry
+            );
+        } else {
+            let _ = writeln!(
+                o,
+                "- Not mirror-symmetric, by design: the feed enters the loop at x = −{e:.3} mm and \
+                 the short ties the trace to the shield at x = +{e:.3} mm; the feed's via fences \
+                 and the two short vias follow them. Shield copper, gap and loop stitching rows \
+                 are symmetric.",
+                e = s.feed_offset
+            );
+        }
     }
     let _ = writeln!(
         o,
@@ -453,7 +475,7 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
          outer current crowds to the ring's inner edge, and gathers to the centreline at the \
          {gap}, which adds {:.3} mm²); in a uniform field the handle's shield adds {:.3} mm² more \
          ({:+.2} dB, in the probe factor); inductance {:.2} nH (outer loop {:.2} nH, of which \
-         {:.3} nH at the {gap}; inner stub {:.2} nH{each}).",
+         {:.3} nH at the {gap}; {inner} {:.2} nH{each}).",
         r.area_m2 * 1e6,
         r.area_eff_m2 * 1e6,
         r.area_eff_m2 / r.area_m2,
@@ -473,6 +495,11 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
             ", one at each gap"
         } else {
             ""
+        },
+        inner = if r.winding.is_some() {
+            "the turns' square times it, and the winding's line"
+        } else {
+            "inner stub"
         }
     );
     let _ = writeln!(
@@ -487,8 +514,8 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
     let _ = writeln!(
         o,
         "- Low-frequency corner {}; upper usable frequency {} ({}). Error budget: \
-         electric pickup (probe tilted 20° in its plane, E/H = η0) plus a ±5 % error in the stub's \
-         electrical length reach {} dB {}. Quoted beside it: {}.\n- The usable band and f_max are \
+         electric pickup (probe tilted 20° in its plane, E/H = η0) plus a ±5 % error in the {}'s \
+         electrical length{} reach {} dB {}. Quoted beside it: {}.\n- The usable band and f_max are \
          different things: f_max ({}) is the highest frequency the board's construction is \
          designed for (via pitch, launch); the probe factor is stood behind only up to the upper \
          usable frequency. `predict` tabulates from 150 kHz (where emission scans begin) to the \
@@ -497,6 +524,16 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
         hz_label(r.corner_hz),
         hz_label(r.upper_hz),
         r.upper_rule,
+        if r.winding.is_some() {
+            "winding"
+        } else {
+            "stub"
+        },
+        if r.winding.is_some() {
+            " and a ±10 % error in the turns' capacitance"
+        } else {
+            ""
+        },
         crate::physics::electric::BUDGET_DB,
         match r.budget_hz {
             Some(b) => format!("at {}", hz_label(b)),
@@ -505,6 +542,7 @@ pub fn predictions(p: &Probe, s: &SolvedProbe, r: &crate::physics::Response) -> 
                  stub null in the band)"
                     .to_string()
             }
+            None if r.winding.is_some() => "nowhere below the small-loop limit".to_string(),
             None => "nowhere below the first null".to_string(),
         },
         r.quoted_limits
