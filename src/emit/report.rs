@@ -411,16 +411,10 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
         };
         let _ = writeln!(
             o,
-            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{}{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's; {:.2} mm² with the handle's share of a uniform field); inductance {:.2} nH (outer {:.2} + stub {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>{}<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
+            "<div class=\"probe\"><div class=\"preview\">{}</div><div><h3>{}</h3><p>{}{} loop, {}; trace w = {:.3} mm ({} Ω target).<br>Effective area {:.2} mm² ({:.3} of the centreline's; {:.2} mm² with the handle's share of a uniform field); inductance {:.2} nH ({}outer {:.2} + {} {:.2}); gap {:.3} pF; corner {:.1} MHz; upper usable {:.0} MHz ({}).<br>{}<br>Resolution {:.2} mm across a trace {} mm over its plane, tip {} mm above it; mutual {:.3} nH.</p><div class=\"plot\">{}</div></div></div>",
             preview,
             xml(&x.probe.name),
-            if r.balanced.is_some() {
-                "balanced ".to_string()
-            } else if x.probe.turns > 1 {
-                format!("{}-turn ", x.probe.turns)
-            } else {
-                String::new()
-            },
+            x.probe.loop_label(),
             x.probe.shape_name(),
             xml(&x.probe.size_text()),
             x.solved.trace_width,
@@ -429,7 +423,15 @@ pub fn html(family: &str, all: &[Predicted], previews: &[String]) -> String {
             r.area_eff_m2 / r.area_m2,
             r.area_uniform_m2() * 1e6,
             r.l_total * 1e9,
+            r.winding
+                .as_ref()
+                .map_or(String::new(), |w| format!("{}² × ", w.turns)),
             r.l_outer * 1e9,
+            if r.winding.is_some() {
+                "winding's line"
+            } else {
+                "stub"
+            },
             r.l_stub * 1e9,
             r.c_gap * 1e12,
             r.corner_hz / 1e6,

@@ -124,13 +124,7 @@ pub fn tables(all: &[Predicted], couplings: &[OnFixture]) -> String {
         o.push_str(&format!(
             "{} — {}{} loop, {}\n",
             x.probe.name,
-            if r.balanced.is_some() {
-                "balanced ".to_string()
-            } else if x.probe.turns > 1 {
-                format!("{}-turn ", x.probe.turns)
-            } else {
-                String::new()
-            },
+            x.probe.loop_label(),
             x.probe.shape_name(),
             x.probe.size_text()
         ));

@@ -289,6 +289,18 @@ impl Probe {
         self.signal_layer + self.turns.max(1) as usize
     }
 
+    /// What a loop is, as printed before its shape: `balanced `, `2-turn `, or nothing for a
+    /// single-turn, singly-loaded loop.
+    pub fn loop_label(&self) -> String {
+        if self.kind == ProbeKind::Balanced {
+            "balanced ".to_string()
+        } else if self.turns > 1 {
+            format!("{}-turn ", self.turns)
+        } else {
+            String::new()
+        }
+    }
+
     /// The shape of what senses, as printed: the loop's (`round`, `square`, `rectangle`), or
     /// `disc` for an electric probe's electrode.
     pub fn shape_name(&self) -> &'static str {
