@@ -372,7 +372,7 @@ fn ports(b: &Board) -> Vec<Port> {
 /// Turns the board into layer artwork.
 pub fn compose(p: &Probe, b: &Board) -> Artwork {
     let n_layers = p.stackup.copper_count();
-    let c = b.clearance;
+    let c = b.launch.clearance;
     let ports = ports(b);
     // A loop's shield gaps (x0, y0, x1, y1); an electric probe has none.
     let gap_rects: Vec<(f64, f64, f64, f64)> = b
@@ -393,7 +393,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     );
     // The anti-pad clears the via pad and the ends of both lines that meet it.
     let sv_pad_d = ports[0].sv.pad;
-    let antipad_r = sv_pad_d.max(b.trace_width).max(b.top_width) / 2.0 + c;
+    let antipad_r = sv_pad_d.max(b.trace_width).max(b.launch.top_width) / 2.0 + c;
     let discs = |r: f64| -> Vec<MultiPolygon<f64>> {
         ports
             .iter()
@@ -403,17 +403,17 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     let antipad = discs(antipad_r);
     // Between layer 1 and the loop's layer the via is a coaxial barrel, below it a stub: their
     // antipads are the launch solve's.
-    let stub_antipad = discs(antipad_r.max(b.stub_antipad_d / 2.0));
-    let barrel_antipad = discs(antipad_r.max(b.barrel_antipad_d / 2.0));
+    let stub_antipad = discs(antipad_r.max(b.launch.stub_antipad_d / 2.0));
+    let barrel_antipad = discs(antipad_r.max(b.launch.barrel_antipad_d / 2.0));
     let sv_pad = discs(sv_pad_d / 2.0);
     let shield_cut = b.shield.difference(&gap);
     // The signal via's antipad radius on layer n: the link's on L1, the barrel's down to the
     // loop's layer, the stub's below it.
     let antipad_r_on = |n: usize| {
         if n > p.signal_layer {
-            antipad_r.max(b.stub_antipad_d / 2.0)
+            antipad_r.max(b.launch.stub_antipad_d / 2.0)
         } else if n > 1 {
-            antipad_r.max(b.barrel_antipad_d / 2.0)
+            antipad_r.max(b.launch.barrel_antipad_d / 2.0)
         } else {
             antipad_r
         }
@@ -424,7 +424,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
     // pad grown by its gap across, from beyond the board edge to the pad's inner end.
     let relief = |n: usize, pt: &Port| -> MultiPolygon<f64> {
         let centre = pt.centre;
-        if !b.relief_layers.contains(&n) {
+        if !b.launch.relief_layers.contains(&n) {
             return MultiPolygon(vec![]);
         }
         // Where the signal via's antipad on this layer comes within a sliver of the relief's
@@ -433,9 +433,9 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
         let web = pt.sv.at.y - antipad_r_on(n) - pad_end;
         let top = if web < sliver { pt.sv.at.y } else { pad_end };
         MultiPolygon(vec![rect(
-            centre.at.x - centre.w / 2.0 - b.pad_gap,
+            centre.at.x - centre.w / 2.0 - b.launch.pad_gap,
             centre.at.y - centre.h / 2.0 - 1.0,
-            centre.at.x + centre.w / 2.0 + b.pad_gap,
+            centre.at.x + centre.w / 2.0 + b.launch.pad_gap,
             top,
         )])
     };
@@ -510,7 +510,7 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
             }
             m
         } else if n == 1 {
-            let g = b.pad_gap;
+            let g = b.launch.pad_gap;
             let mut m = shield_cut.clone();
             for (i, pt) in ports.iter().enumerate() {
                 let centre = pt.centre;
@@ -520,14 +520,14 @@ pub fn compose(p: &Probe, b: &Board) -> Artwork {
                     centre.at.x + centre.w / 2.0 + g,
                     centre.at.y + centre.h / 2.0 + c,
                 )]);
-                let channel = stroke_butt(&pt.top_path, b.top_width / 2.0 + c);
+                let channel = stroke_butt(&pt.top_path, b.launch.top_width / 2.0 + c);
                 m = cut_all(m, &[channel, antipad[i].clone(), pad_clear]);
             }
             if !b.joins.is_empty() {
                 m = m.difference(&join_antipads);
             }
             for (i, pt) in ports.iter().enumerate() {
-                let link = stroke_butt(&pt.top_path, b.top_width / 2.0);
+                let link = stroke_butt(&pt.top_path, b.launch.top_width / 2.0);
                 m = add_all(m, &[link, sv_pad[i].clone()]);
             }
             m
@@ -690,7 +690,7 @@ fn electric_nets(p: &Probe, b: &Board, disc: &MultiPolygon<f64>, sv: Point) -> N
     let centre = b.pads.iter().find(|pd| pd.centre).expect("centre pad");
     let signal = disc
         .union(&stroke_butt(&b.trace_path, b.trace_width / 2.0))
-        .union(&stroke_butt(&b.top_path, b.top_width / 2.0))
+        .union(&stroke_butt(&b.top_path, b.launch.top_width / 2.0))
         .union(&MultiPolygon(vec![circle(sv, pad)]))
         .union(&MultiPolygon(vec![circle(Point::ZERO, pad)]))
         .union(&MultiPolygon(vec![rect(

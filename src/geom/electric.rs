@@ -31,7 +31,6 @@ pub fn face_radius(p: &Probe, e: &Electrode) -> f64 {
 /// Builds the board of an electric probe.
 pub(super) fn build(p: &Probe, s: &SolvedProbe, e: Electrode) -> Board {
     let w = s.trace_width;
-    let c = p.clearance;
     let pad = p.vias.pad;
     let hw = p.handle.width / 2.0;
     let r_clear = e.diameter / 2.0 + e.clearance;
@@ -84,12 +83,7 @@ pub(super) fn build(p: &Probe, s: &SolvedProbe, e: Electrode) -> Board {
         trace_path,
         trace_width: w,
         top_path,
-        top_width: s.top_width,
-        clearance: c,
-        pad_gap: s.launch.pad_gap,
-        barrel_antipad_d: s.launch.barrel_antipad_d,
-        stub_antipad_d: s.launch.stub_antipad_d,
-        relief_layers: s.launch.relieved_layers().collect(),
+        launch: LaunchCuts::of(p, s),
         shield,
         loop_head: None,
         mirrored: false,

@@ -69,6 +69,39 @@ pub enum ViaRole {
     Join,
 }
 
+/// The line's clearances and the connector launch's cuts and widths, as the artwork draws them:
+/// the probe's clearance and its solved launch, the same for every kind of board.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LaunchCuts {
+    /// Top-layer link width, mm.
+    pub top_width: f64,
+    /// Clearance from traces to coplanar ground, mm.
+    pub clearance: f64,
+    /// Gap from the connector's centre pad to the top-layer ground, mm.
+    pub pad_gap: f64,
+    /// Antipad diameter of the signal via's barrel, between layer 1 and the loop's layer, mm.
+    pub barrel_antipad_d: f64,
+    /// Antipad diameter of the signal via's stub below the loop's layer, mm.
+    pub stub_antipad_d: f64,
+    /// Copper layers with a relief under the centre pad (the pad grown by `pad_gap` across,
+    /// from the board edge to the pad's inner end).
+    pub relief_layers: Vec<usize>,
+}
+
+impl LaunchCuts {
+    /// A probe's, from its clearance and its solved launch.
+    pub fn of(p: &crate::model::probe::Probe, s: &crate::solve::probe::SolvedProbe) -> Self {
+        LaunchCuts {
+            top_width: s.top_width,
+            clearance: p.clearance,
+            pad_gap: s.launch.pad_gap,
+            barrel_antipad_d: s.launch.barrel_antipad_d,
+            stub_antipad_d: s.launch.stub_antipad_d,
+            relief_layers: s.launch.relieved_layers().collect(),
+        }
+    }
+}
+
 /// A multi-turn loop's turn after the first, on its own layer.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Turn {
@@ -158,19 +191,8 @@ pub struct Board {
     pub trace_width: f64,
     /// Top-layer link centreline from the connector's centre pad to the signal via.
     pub top_path: Vec<Point>,
-    /// Top-layer link width, mm.
-    pub top_width: f64,
-    /// Clearance from traces to coplanar ground, mm.
-    pub clearance: f64,
-    /// Gap from the connector's centre pad to the top-layer ground, mm.
-    pub pad_gap: f64,
-    /// Antipad diameter of the signal via's barrel, between layer 1 and the loop's layer, mm.
-    pub barrel_antipad_d: f64,
-    /// Antipad diameter of the signal via's stub below the loop's layer, mm.
-    pub stub_antipad_d: f64,
-    /// Copper layers with a relief under the centre pad (the pad grown by `pad_gap` across,
-    /// from the board edge to the pad's inner end).
-    pub relief_layers: Vec<usize>,
+    /// The line's clearances and the connector launch's cuts, as every builder takes them.
+    pub launch: LaunchCuts,
     /// Shield outline (ring ∪ handle) before the gap and clearances, pulled back from the edge.
     pub shield: MultiPolygon<f64>,
     /// A loop's own parts (its shield gap and the opening inside it); None on an electric

@@ -166,12 +166,7 @@ pub fn build(p: &Probe, s: &SolvedProbe) -> Board {
         entry_index,
         trace_width: w,
         top_path,
-        top_width: s.top_width,
-        clearance: c,
-        pad_gap: s.launch.pad_gap,
-        barrel_antipad_d: s.launch.barrel_antipad_d,
-        stub_antipad_d: s.launch.stub_antipad_d,
-        relief_layers: s.launch.relieved_layers().collect(),
+        launch: LaunchCuts::of(p, s),
         shield,
         loop_head: Some(LoopHead {
             gaps: vec![(-p.gap / 2.0, gap_y.0, p.gap / 2.0, gap_y.1)],

@@ -167,7 +167,7 @@ pub fn probe_json(name: &str, stackup: Option<&str>, layer: Option<&str>) -> ser
         "centre_pad": {"x": centre.at.x, "y": centre.at.y, "w": centre.w, "h": centre.h},
         "ground_pads": ground_pads,
         "pad_gap": l.pad_gap,
-        "relief_layers": board.relief_layers,
+        "relief_layers": board.launch.relief_layers,
         "link": {"width": l.link_width, "gap": p.clearance, "from_y": centre.at.y + centre.h / 2.0, "to_y": sv.y},
         "signal_via": {"x": sv.x, "y": sv.y, "drill": p.vias.drill, "pad": p.vias.pad,
                         "antipad_d": l.antipad_d, "barrel_antipad_d": l.barrel_antipad_d,
