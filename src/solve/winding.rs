@@ -17,7 +17,6 @@
 use crate::error::{Error, FieldError};
 use crate::field::{Conductor, CrossSection, Dielectric, Role};
 use crate::model::centreline::{arclengths, left_half};
-use crate::model::line::Stripline;
 use crate::model::probe::{Probe, WidthFrom};
 use crate::solve::impedance::{
     Accuracy, Line, Method, Solution, SolveLimits, Structure, Warning, solve_width,
@@ -269,9 +268,8 @@ pub fn last_stub(p: &Probe, j: &Junction, w: f64) -> Option<f64> {
     Some(s_out + short_drop(p, x, w, j.step / 2.0))
 }
 
-/// Solves a multi-turn loop's winding: every turn's width, the stacked turns' field solutions,
-/// the junction; refuses a loop or handle too small for it, naming the field and the least
-/// value.
+/// Solves a multi-turn loop's winding: every later turn's width, the stacked turns' field
+/// solutions, the junction (a loop or handle too small for it is refused by [`room`]).
 pub fn solve(p: &Probe, w1_width: f64, pitch_max: f64, pitch_min: f64) -> Result<Winding, Error> {
     let mut lines = Vec::new();
     for n in p.turn_layers().skip(1) {
@@ -387,13 +385,5 @@ pub fn room(p: &Probe, j: &Junction, f: f64, w: f64, jog_top: f64, errs: &mut Ve
                 crate::math::trimmed((least * 1000.0).ceil() / 1000.0, 3)
             ),
         ));
-    }
-}
-
-/// The stripline of layer `n` a turn's width was solved on (for the notes).
-pub fn layer_line(p: &Probe, n: usize, w: f64) -> Option<Stripline> {
-    match p.stackup.line_for_layer(n, Structure::Stripline, w, None) {
-        Ok(Line::Stripline(s)) => Some(s),
-        _ => None,
     }
 }
