@@ -58,7 +58,9 @@ fn demo_launch_is_the_recorded_one_and_meets_the_limit() {
         "section count: record the reference again"
     );
     for (a, b) in live.iter().zip(&rec) {
-        let close = |x: f64, y: f64| (x / y - 1.0).abs() < 1e-6;
+        // To the width search's own tolerance (1 mΩ in 50 Ω): two equally good searches may
+        // land that far apart, far below what changes |S11| in its recorded digits.
+        let close = |x: f64, y: f64| (x / y - 1.0).abs() < 2e-5;
         let ok = match (a, b) {
             (
                 Section::Line { z0, eps_eff, len_m },
@@ -85,7 +87,7 @@ fn demo_launch_is_the_recorded_one_and_meets_the_limit() {
     }
     // Same load the recorded case used.
     let zl = s.handle_z0.unwrap();
-    assert!((zl / f(case, "z_load") - 1.0).abs() < 1e-6);
+    assert!((zl / f(case, "z_load") - 1.0).abs() < 2e-5);
     assert!(
         f(case, "worst_s11_db") <= DEFAULT_LIMIT_DB,
         "scikit-rf: the demo's launch reaches {} dB",

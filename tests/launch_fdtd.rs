@@ -29,7 +29,7 @@ fn json_diff(a: &Value, b: &Value, path: &str, out: &mut Vec<String>) {
     match (a, b) {
         (Value::Number(x), Value::Number(y)) => {
             let (x, y) = (x.as_f64().unwrap(), y.as_f64().unwrap());
-            if (x - y).abs() > 1e-9 + 1e-6 * x.abs().max(y.abs()) {
+            if (x - y).abs() > GEOMETRY_ABS + GEOMETRY_REL * x.abs().max(y.abs()) {
                 out.push(format!("{path}: {x} now, {y} recorded"));
             }
         }
@@ -66,9 +66,18 @@ fn json_diff(a: &Value, b: &Value, path: &str, out: &mut Vec<String>) {
     }
 }
 
-/// The recorded geometry is the one the library builds today, to 1e-6: the FDTD results
-/// belong to the current design (probe FM-R10 on the demo stackup, loop on L3; the demo
-/// fixture). Includes the line-section model the scripts compare against.
+/// What "the same design" allows: 0.1 µm on a length (the FDTD's cells are 150 µm; lengths are
+/// in mm) and 2e-5 on a value (Ω, εr): the field solution's width search stops within 1 mΩ of
+/// 50 Ω (2e-5), so two equally good searches (the rough-then-polished one and the one the
+/// records were made with) may differ by that much, and every via placed from the width by a
+/// few nm.
+const GEOMETRY_ABS: f64 = 1e-4;
+const GEOMETRY_REL: f64 = 2e-5;
+
+/// The recorded geometry is the one the library builds today, to [`GEOMETRY_ABS`] and
+/// [`GEOMETRY_REL`]: the FDTD results belong to the current design (probe FM-R10 on the demo
+/// stackup, loop on L3; the demo fixture). Includes the line-section model the scripts compare
+/// against.
 #[test]
 fn recorded_geometry_is_todays_design() {
     for (now, file) in [

@@ -175,6 +175,9 @@ pub fn solve(
     Ok(l)
 }
 
+/// The pad gap's tolerance in ln g (0.1 %; the gap is rounded to a µm).
+const GAP_XTOL: f64 = 1e-3;
+
 fn solve_uncached(
     p: &Probe,
     trace_width: f64,
@@ -198,61 +201,87 @@ fn solve_uncached(
             .map(|s| (s.z0_ohms, s.eps_eff))
             .map_err(|e| field_err("connector's centre pad", e))
     };
+    // The search runs on the rough field solution (`field::rough_z0`, a small fraction of the
+    // work); the gap it finds is then polished on the full solution by secant steps that
+    // start with the rough slope, usually two solutions (`roots::polish`); should they not
+    // settle, the search runs again on the full solution.
+    let rough = |g: f64, depth: usize| -> Result<f64, Error> {
+        crate::field::rough_z0(&pad_cross_section(p, g, depth))
+            .map_err(|e| field_err("connector's centre pad", e))
+    };
     let (g_lo, g_hi) = pad_gap_range(p);
+    let (x_lo, x_hi) = (g_lo.ln(), g_hi.ln());
+    let search = |z_of: &dyn Fn(f64) -> Result<f64, Error>| -> Result<f64, Error> {
+        // Z rises with the gap, close to linearly in ln g: Brent's method in ln g finds the
+        // gap in three to five field solutions (the ends are kept solutions) where bisection
+        // took ten. The gap is wanted to 0.1 %, well below the µm it is rounded to.
+        let mut failed = None;
+        // The bracket's ends map back to the very gaps solved before (kept solutions).
+        let gap_at = |x: f64| match x {
+            _ if x == x_lo => g_lo,
+            _ if x == x_hi => g_hi,
+            _ => x.exp(),
+        };
+        let root = crate::solve::roots::brent(
+            |x| match z_of(gap_at(x)) {
+                Ok(zz) => zz - target,
+                Err(e) => {
+                    failed.get_or_insert(e);
+                    f64::NAN
+                }
+            },
+            x_lo,
+            x_hi,
+            GAP_XTOL,
+        );
+        if let Some(e) = failed {
+            return Err(e);
+        }
+        let x = root.map_err(|e| {
+            field_err(
+                "connector's centre pad",
+                Error::Unsolvable(format!("the pad gap search failed: {e:?}")),
+            )
+        })?;
+        Ok(gap_at(x))
+    };
     // Deepest relief: the reference must be a copper layer.
     let max_depth = p.stackup.copper_count().saturating_sub(2);
-    let mut best: Option<(f64, usize, f64, f64)> = None; // (|Z − target|, depth, gap, …)
+    let mut best: Option<(f64, usize, f64)> = None; // (rough |Z − target|, depth, gap)
     let mut chosen = None;
     for depth in 0..=max_depth {
-        let (z_lo, _) = z(g_lo, depth)?;
-        let (z_hi, _) = z(g_hi, depth)?;
+        let (z_lo, z_hi) = (rough(g_lo, depth)?, rough(g_hi, depth)?);
         for (g, zz) in [(g_lo, z_lo), (g_hi, z_hi)] {
             let miss = (zz - target).abs();
             if best.is_none_or(|b| miss < b.0) {
-                best = Some((miss, depth, g, zz));
+                best = Some((miss, depth, g));
             }
         }
         if z_lo <= target && target <= z_hi {
-            // Z rises with the gap, close to linearly in ln g: Brent's method in ln g finds
-            // the gap in three to five field solutions (the ends are kept solutions) where
-            // bisection took ten. The gap is wanted to 0.1 %, well below the µm it is rounded to.
-            let mut failed = None;
-            // The bracket's ends map back to the very gaps solved above (kept solutions).
-            let (x_lo, x_hi) = (g_lo.ln(), g_hi.ln());
-            let gap_at = |x: f64| match x {
-                _ if x == x_lo => g_lo,
-                _ if x == x_hi => g_hi,
-                _ => x.exp(),
+            let x = search(&|g| rough(g, depth))?.ln();
+            // The rough slope at its root, in ln g (one more rough solution).
+            let h = 0.02_f64.copysign(x_hi - x);
+            let slope = (rough((x + h).exp(), depth)? - rough(x.exp(), depth)?) / h;
+            let polished = crate::solve::roots::polish(
+                |x| z(x.exp(), depth).map(|(zz, _)| zz - target),
+                x,
+                slope,
+                (x_lo, x_hi),
+                (GAP_XTOL, 0.0),
+                4,
+            )?;
+            let g = match polished {
+                Some(x) => x.exp(),
+                None => search(&|g| z(g, depth).map(|(zz, _)| zz))?,
             };
-            let root = crate::solve::roots::brent(
-                |x| match z(gap_at(x), depth) {
-                    Ok((zz, _)) => zz - target,
-                    Err(e) => {
-                        failed.get_or_insert(e);
-                        f64::NAN
-                    }
-                },
-                x_lo,
-                x_hi,
-                1e-3,
-            );
-            if let Some(e) = failed {
-                return Err(e);
-            }
-            let x = root.map_err(|e| {
-                field_err(
-                    "connector's centre pad",
-                    Error::Unsolvable(format!("the pad gap search failed: {e:?}")),
-                )
-            })?;
-            chosen = Some((depth, gap_at(x)));
+            chosen = Some((depth, g));
             break;
         }
     }
     let (relief_depth, pad_gap) = match chosen {
         Some(c) => c,
         None => {
-            let (_, d, g, _) = best.expect("at least one depth is tried");
+            let (_, d, g) = best.expect("at least one depth is tried");
             (d, g)
         }
     };

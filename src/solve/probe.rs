@@ -5,7 +5,7 @@ use crate::field::{Boundary, Conductor, CrossSection, Dielectric, Fence};
 use crate::model::probe::{Probe, ProbeKind, WidthFrom};
 use crate::solve::impedance::{
     Accuracy, Line, Method, Solution, SolveLimits, Stripline, Structure, solve_width,
-    solve_width_near,
+    solve_width_polished,
 };
 
 /// Speed of light in vacuum, m/s (exact).
@@ -319,8 +319,18 @@ pub fn solve(p: &Probe) -> Result<SolvedProbe, Error> {
         WidthFrom::Auto => differs,
     };
     let (w, solution, width_source) = if use_field {
-        let w =
-            solve_width_near(|w| field_z(w, own), closed_form.0, p.target_z0).map_err(field_err)?;
+        let rough = |w: f64| {
+            crate::field::rough_z0(&cross_section(
+                p,
+                &st,
+                w,
+                own,
+                pitch_max,
+                pitch_min.min(pitch_max),
+            ))
+        };
+        let w = solve_width_polished(|w| field_z(w, own), rough, closed_form.0, p.target_z0)
+            .map_err(field_err)?;
         let z = field_z(w, own).map_err(field_err)?;
         let sol = Solution {
             z0: z,

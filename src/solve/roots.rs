@@ -95,9 +95,92 @@ pub fn brent(mut f: impl FnMut(f64) -> f64, a: f64, b: f64, xtol: f64) -> Result
     Ok(b)
 }
 
+/// Polishes a root of an expensive function `f` from `x0`, the root of a cheaper approximation
+/// of it whose slope there is `slope`: secant steps on `f`, the first with that slope, each kept
+/// within `[lo, hi]`. Done when |f(x)| ≤ `ftol` (x returned), or when a step is at most `xtol`
+/// (the step's end returned unevaluated: its error is the step times the slope's relative
+/// error, far below `xtol`). `Ok(None)` when it has not settled within `max_evals` evaluations
+/// or a slope is not of the sign of `slope` (the caller then searches with `f` alone).
+///
+/// The approximation is a coarser field solution of the same cross-section: its error is
+/// smooth in x, so the two roots are close and the slopes nearly equal, and one or two
+/// evaluations of `f` replace the four to eight a bracketed search of `f` takes.
+pub fn polish<E>(
+    mut f: impl FnMut(f64) -> Result<f64, E>,
+    x0: f64,
+    slope: f64,
+    (lo, hi): (f64, f64),
+    (xtol, ftol): (f64, f64),
+    max_evals: usize,
+) -> Result<Option<f64>, E> {
+    if !(slope.is_finite() && slope != 0.0) {
+        return Ok(None);
+    }
+    let (mut x, mut s) = (x0.clamp(lo, hi), slope);
+    let mut last: Option<(f64, f64)> = None;
+    for _ in 0..max_evals {
+        let fx = f(x)?;
+        if !fx.is_finite() {
+            return Ok(None);
+        }
+        if fx.abs() <= ftol {
+            return Ok(Some(x));
+        }
+        if let Some((xp, fp)) = last {
+            if x != xp {
+                s = (fx - fp) / (x - xp);
+            }
+            if !(s.is_finite() && s * slope > 0.0) {
+                return Ok(None);
+            }
+        }
+        let next = (x - fx / s).clamp(lo, hi);
+        if (next - x).abs() <= xtol {
+            return Ok(Some(next));
+        }
+        last = Some((x, fx));
+        x = next;
+    }
+    Ok(None)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // An approximation off by a smooth offset (x³ − 2 against x³ − 2.01): the polished root is
+    // 2^(1/3) (arithmetic fact) to the tolerance, in a few evaluations.
+    #[test]
+    fn polishes_an_approximate_root() {
+        let approx_root = 2.01_f64.cbrt();
+        let slope = 3.0 * approx_root * approx_root;
+        let mut evals = 0;
+        let r = polish(
+            |x: f64| -> Result<f64, ()> {
+                evals += 1;
+                Ok(x * x * x - 2.0)
+            },
+            approx_root,
+            slope,
+            (1.0, 2.0),
+            (0.0, 1e-12),
+            8,
+        )
+        .unwrap()
+        .unwrap();
+        assert!((r - 2.0_f64.cbrt()).abs() < 1e-12);
+        assert!(evals <= 4, "{evals} evaluations");
+        // A slope of the wrong sign is refused, not followed.
+        let wrong = polish(
+            |x: f64| -> Result<f64, ()> { Ok(2.0 - x * x * x) },
+            approx_root,
+            slope,
+            (1.0, 2.0),
+            (0.0, 1e-12),
+            8,
+        );
+        assert_eq!(wrong, Ok(None));
+    }
 
     // √2 is the positive root of x² − 2 (arithmetic fact).
     #[test]

@@ -20,7 +20,7 @@ use crate::model::centreline::{arclengths, left_half};
 use crate::model::probe::{Probe, WidthFrom};
 use crate::solve::impedance::{
     Accuracy, Line, Method, Solution, SolveLimits, Structure, Warning, solve_width,
-    solve_width_near,
+    solve_width_polished,
 };
 use crate::solve::probe::{RING_RIM, Section, VIA_WEB, cross_section, fence_offset, with_via_rows};
 use kurbo::Point;
@@ -171,7 +171,12 @@ fn turn_line(p: &Probe, n: usize, pitch_max: f64, pitch_min: f64) -> Result<Turn
         WidthFrom::Auto => (closed.z0 / z_cf - 1.0).abs() > WidthFrom::AUTO_THRESHOLD,
     };
     let (width, solution, width_source) = if use_field {
-        let w = solve_width_near(field_z, w_cf, p.target_z0).map_err(|e| refuse(e.to_string()))?;
+        let rough = |w: f64| {
+            let cs = cross_section(p, &st, w, Section::Arm, pitch_max, pitch_min.min(pitch_max));
+            crate::field::rough_z0(&cs)
+        };
+        let w = solve_width_polished(field_z, rough, w_cf, p.target_z0)
+            .map_err(|e| refuse(e.to_string()))?;
         let z = field_z(w).map_err(|e| refuse(e.to_string()))?;
         let sol = Solution {
             z0: z,

@@ -17,7 +17,7 @@ mod stripline;
 mod width;
 
 pub use spread::{Spread, Tolerances, spread, spread_with};
-pub use width::{SolveLimits, solve_width, solve_width_near};
+pub use width::{SolveLimits, solve_width, solve_width_near, solve_width_polished};
 
 use crate::error::FieldError;
 pub use crate::field::Accuracy;
