@@ -114,21 +114,168 @@ pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
 /// The outline `exterior` with every internal corner filleted to at least the router bit's
 /// radius `r` (a closing: grown, then shrunk, by `r`), never inside the original and mirror
 /// symmetric; convex corners and straight edges are kept.
+///
+/// The closing is computed in a window round each cluster of reflex corners
+/// ([`local_fillets`]), not on the whole outline, whose flattened arcs made it the dearest step
+/// of a build; where a corner is too sharp or a fillet reaches its window's edge, on the whole
+/// outline as before.
 pub fn fillet_internal(exterior: &Polygon<f64>, r: f64) -> Polygon<f64> {
+    let p = Polygon::new(exterior.exterior().clone(), vec![]);
+    let fillets = local_fillets(&p, r).unwrap_or_else(|| closing_fillets(&p, r));
+    largest(&symmetrise(&MultiPolygon(vec![p]).union(&fillets)))
+}
+
+/// What a closing by `r` adds to `p`: the fillets, without the slivers of a few nm² where it
+/// merely re-flattens `p`'s own arcs (their union would notch the outline).
+fn closing_fillets(p: &Polygon<f64>, r: f64) -> MultiPolygon<f64> {
     use geo::Area;
-    let m = MultiPolygon(vec![Polygon::new(exterior.exterior().clone(), vec![])]);
+    let m = MultiPolygon(vec![p.clone()]);
     let closed = round_buffer(&round_buffer(&m, r), -r);
-    // Only the fillets are added: where the closing merely re-flattens the original's own
-    // arcs it leaves slivers of a few nm², whose union would notch the outline.
-    let fillets = MultiPolygon(
+    MultiPolygon(
         closed
             .difference(&m)
             .0
             .into_iter()
-            .filter(|p| p.unsigned_area() > 1e-4 * r * r)
+            .filter(|q| q.unsigned_area() > 1e-4 * r * r)
             .collect(),
-    );
-    largest(&symmetrise(&m.union(&fillets)))
+    )
+}
+
+/// [`closing_fillets`] computed in windows: a closing by `r` at a point depends only on the
+/// region within 2r of it, so in a box W it is the closing of `p` clipped to W grown by 2r,
+/// clipped back to W. A polygon's closing adds to it only where it has reflex corners: each
+/// reflex corner gets a box reaching r·(3 + tan(δ/2)) from it (δ its turn; a fillet touches
+/// the edges of a straight corner r·tan(δ/2) from it), overlapping boxes are merged, and every
+/// piece the closing adds must lie strictly inside its box: a piece that reaches the box's edge
+/// may go on beyond it (a notch narrower than 2r), and then `None` asks for the closing of the
+/// whole. `None` too for a corner sharper than tan(δ/2) = 8.
+fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
+    use geo::{Area, BoundingRect};
+    let ring = &p.exterior().0;
+    let pts = &ring[..ring.len().saturating_sub(1)];
+    let n = pts.len();
+    if n < 3 || r <= 0.0 {
+        return None;
+    }
+    let ccw = p.signed_area() > 0.0;
+    let mut boxes: Vec<[f64; 4]> = Vec::new();
+    for i in 0..n {
+        let (a, b, c) = (pts[(i + n - 1) % n], pts[i], pts[(i + 1) % n]);
+        let (u, v) = (b - a, c - b);
+        let turn = (u.x * v.y - u.y * v.x).atan2(u.x * v.x + u.y * v.y);
+        let reflex = if ccw { -turn } else { turn };
+        if reflex <= 1e-12 {
+            continue;
+        }
+        let t = (reflex / 2.0).tan();
+        if !(0.0..=8.0).contains(&t) {
+            return None;
+        }
+        let h = r * (3.0 + t);
+        boxes.push([b.x - h, b.y - h, b.x + h, b.y + h]);
+    }
+    // Merge overlapping boxes until none overlap.
+    let overlap = |a: &[f64; 4], b: &[f64; 4]| a[0] <= b[2] && b[0] <= a[2] && a[1] <= b[3] && b[1] <= a[3];
+    let mut merged = true;
+    while merged {
+        merged = false;
+        'pairs: for i in 0..boxes.len() {
+            for j in i + 1..boxes.len() {
+                if overlap(&boxes[i], &boxes[j]) {
+                    let b = boxes.swap_remove(j);
+                    let a = &mut boxes[i];
+                    *a = [a[0].min(b[0]), a[1].min(b[1]), a[2].max(b[2]), a[3].max(b[3])];
+                    merged = true;
+                    break 'pairs;
+                }
+            }
+        }
+    }
+    let m = MultiPolygon(vec![p.clone()]);
+    let mut pieces = Vec::new();
+    for w in boxes {
+        let g = 2.1 * r;
+        let local = m.intersection(&MultiPolygon(vec![rect(
+            w[0] - g,
+            w[1] - g,
+            w[2] + g,
+            w[3] + g,
+        )]));
+        let closed = round_buffer(&round_buffer(&local, r), -r);
+        let added = closed
+            .difference(&local)
+            .intersection(&MultiPolygon(vec![rect(w[0], w[1], w[2], w[3])]));
+        let edge = 1e-3 * r;
+        for q in added.0 {
+            if q.unsigned_area() <= 1e-4 * r * r {
+                continue;
+            }
+            let bb = q.bounding_rect()?;
+            if bb.min().x <= w[0] + edge
+                || bb.min().y <= w[1] + edge
+                || bb.max().x >= w[2] - edge
+                || bb.max().y >= w[3] - edge
+            {
+                return None;
+            }
+            pieces.push(q);
+        }
+    }
+    Some(MultiPolygon(pieces))
+}
+
+#[cfg(test)]
+mod fillet_tests {
+    use super::*;
+    use geo::Area;
+
+    /// The windowed closing against the closing of the whole outline (the construction it
+    /// replaces) on a ring-and-handle outline, a T and a slot narrower than the bit (which
+    /// must fall back to the whole): the same fillets, to a few µm² of area.
+    #[test]
+    fn windowed_fillets_match_the_whole_closing() {
+        let r = 0.5;
+        let ring = circle(Point::new(0.0, 10.0), 6.0);
+        let handle = rect(-2.0, -20.0, 2.0, 5.0);
+        let outlines = [
+            largest(&MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle]))),
+            // A T: the stem meets the bar in two right-angled internal corners.
+            polygon(&[
+                Point::new(-2.0, -10.0),
+                Point::new(2.0, -10.0),
+                Point::new(2.0, 5.0),
+                Point::new(8.0, 5.0),
+                Point::new(8.0, 8.0),
+                Point::new(-8.0, 8.0),
+                Point::new(-8.0, 5.0),
+                Point::new(-2.0, 5.0),
+            ]),
+            // A slot 0.6 mm wide and 8 mm deep: the closing fills all of it.
+            polygon(&[
+                Point::new(-5.0, 0.0),
+                Point::new(5.0, 0.0),
+                Point::new(5.0, 10.0),
+                Point::new(0.3, 10.0),
+                Point::new(0.3, 2.0),
+                Point::new(-0.3, 2.0),
+                Point::new(-0.3, 10.0),
+                Point::new(-5.0, 10.0),
+            ]),
+        ];
+        for (k, o) in outlines.iter().enumerate() {
+            let whole = closing_fillets(o, r).unsigned_area();
+            let local = local_fillets(o, r).map(|f| f.unsigned_area());
+            assert!(whole > 1e-3, "outline {k}: the closing adds fillets");
+            if k == 2 {
+                assert_eq!(local, None, "the slot reaches beyond its window");
+            } else {
+                let local = local.expect("windowed");
+                assert!((local - whole).abs() < 1e-5, "outline {k}: {local} vs {whole} mm²");
+            }
+            let a = fillet_internal(o, r).unsigned_area();
+            assert!((a - o.unsigned_area() - whole).abs() < 1e-5, "outline {k}");
+        }
+    }
 }
 
 /// A cut-out `hole` with every corner rounded to at least the router bit's radius `r` (an

@@ -386,22 +386,36 @@ pub fn solve(
     // Samples: each element's midpoint, at evenly spaced angles.
     let mut points = Vec::new();
     let dth = 2.0 * PI / mesh.angles as f64;
+    // cos(mθ) for every sample angle and mode, once (the same values the loop would compute).
+    let cos_mt: Vec<Vec<f64>> = (0..mesh.angles)
+        .map(|t| {
+            let th = t as f64 * dth;
+            (0..coef.len()).map(|m| (m as f64 * th).cos()).collect()
+        })
+        .collect();
     for (pi, p) in plates.iter().enumerate() {
         let x = &nodes[pi];
         for e in 0..x.len() - 1 {
             let mid = 0.5 * (x[e] + x[e + 1]);
             let h = x[e + 1] - x[e];
-            for t in 0..mesh.angles {
-                let th = t as f64 * dth;
-                let mut v = 0.0;
-                for (m, cm) in coef.iter().enumerate() {
+            // Each mode's coefficient at the element's midpoint.
+            let a_m: Vec<f64> = coef
+                .iter()
+                .map(|cm| {
                     let mut a = 0.0;
                     for k in [e, e + 1] {
                         if let Some(u) = index[pi][k] {
                             a += 0.5 * cm[u];
                         }
                     }
-                    v += a * (m as f64 * th).cos();
+                    a
+                })
+                .collect();
+            for (t, cos_m) in cos_mt.iter().enumerate() {
+                let th = t as f64 * dth;
+                let mut v = 0.0;
+                for (a, c) in a_m.iter().zip(cos_m) {
+                    v += a * c;
                 }
                 points.push(GapPoint {
                     d: mid,
