@@ -199,31 +199,9 @@ impl System {
         dinv
     }
 
-    /// The couplings scaled by the inverse pivots, for [`System::precondition`].
+    /// The preconditioner of the inverse pivots `dinv`.
     fn factor(&self, dinv: Vec<f64>) -> Factor {
-        let nx = self.nx;
-        let n = dinv.len();
-        let mut west = vec![0.0; n];
-        let mut south = vec![0.0; n];
-        let mut east = vec![0.0; n];
-        let mut north = vec![0.0; n];
-        for k in 0..n {
-            if k >= 1 {
-                west[k] = self.ax[k - 1] * dinv[k];
-            }
-            if k >= nx {
-                south[k] = self.ay[k - nx] * dinv[k];
-            }
-            east[k] = self.ax[k] * dinv[k];
-            north[k] = self.ay[k] * dinv[k];
-        }
-        Factor {
-            dinv,
-            west,
-            south,
-            east,
-            north,
-        }
+        Factor { dinv }
     }
 
     /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A). Each sweep
@@ -234,6 +212,9 @@ impl System {
         let n = r.len();
         let rows = n / nx;
         let mut ch = Chains::new(nx);
+        // The row's couplings over the pivots (the factor's L·D⁻¹, formed row by row rather
+        // than stored: four arrays of the mesh's size fewer).
+        let mut coupling = vec![0.0; nx];
         // Forward: (D + L)·u = r.
         for j in 0..rows {
             let o = j * nx;
@@ -246,12 +227,18 @@ impl System {
             }
             if j > 0 {
                 let s = &done[o - nx..o];
-                let gs = &f.south[o..o + nx];
+                let ay = &self.ay[o - nx..o];
                 for i in 0..nx {
-                    ch.t[i] += gs[i] * s[i];
+                    ch.t[i] += ay[i] * di[i] * s[i];
                 }
             }
-            ch.forward(&f.west[o..o + nx], row);
+            // West couplings over the pivots (none across the row's start).
+            coupling[0] = 0.0;
+            let ax = &self.ax[o..o + nx];
+            for i in 1..nx {
+                coupling[i] = ax[i - 1] * di[i];
+            }
+            ch.forward(&coupling, row);
         }
         // Backward: (D + L)ᵀ·z = D·u.
         for j in (0..rows).rev() {
@@ -259,14 +246,19 @@ impl System {
             let (head, above) = z.split_at_mut(o + nx);
             let row = &mut head[o..];
             ch.t.copy_from_slice(row);
+            let di = &f.dinv[o..o + nx];
             if j + 1 < rows {
                 let nn = &above[..nx];
-                let gn = &f.north[o..o + nx];
+                let ay = &self.ay[o..o + nx];
                 for i in 0..nx {
-                    ch.t[i] += gn[i] * nn[i];
+                    ch.t[i] += ay[i] * di[i] * nn[i];
                 }
             }
-            ch.backward(&f.east[o..o + nx], row);
+            let ax = &self.ax[o..o + nx];
+            for i in 0..nx {
+                coupling[i] = ax[i] * di[i];
+            }
+            ch.backward(&coupling, row);
         }
     }
 
@@ -290,13 +282,12 @@ impl System {
         }
         let dinv = self.factor(self.mic_inverse(0.97));
         let mut z = vec![0.0; n];
+        // Stop on the preconditioned residual relative to the right-hand side's.
+        self.precondition(&dinv, &self.rhs, &mut z);
+        let scale = dot(&self.rhs, &z).max(f64::MIN_POSITIVE);
         self.precondition(&dinv, &r, &mut z);
         let mut p = z.clone();
         let mut rz: f64 = dot(&r, &z);
-        // Stop on the preconditioned residual relative to the right-hand side's.
-        let mut zb = vec![0.0; n];
-        self.precondition(&dinv, &self.rhs, &mut zb);
-        let scale = dot(&self.rhs, &zb).max(f64::MIN_POSITIVE);
         let mut q = vec![0.0; n];
         let mut iters = 0;
         let max_iter = 20 * (n as f64).sqrt() as usize + 200;
@@ -363,13 +354,10 @@ impl System {
     }
 }
 
-/// The preconditioner: inverse pivots and couplings divided by the pivots.
+/// The preconditioner: the inverse pivots (the couplings are the system's, scaled by them as
+/// the sweeps go).
 struct Factor {
     dinv: Vec<f64>,
-    west: Vec<f64>,
-    south: Vec<f64>,
-    east: Vec<f64>,
-    north: Vec<f64>,
 }
 
 /// The row recursion of a triangular sweep, out_i = t_i + g_i·out_(i−1) (forward; backward

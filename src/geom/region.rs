@@ -175,7 +175,8 @@ fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
         boxes.push([b.x - h, b.y - h, b.x + h, b.y + h]);
     }
     // Merge overlapping boxes until none overlap.
-    let overlap = |a: &[f64; 4], b: &[f64; 4]| a[0] <= b[2] && b[0] <= a[2] && a[1] <= b[3] && b[1] <= a[3];
+    let overlap =
+        |a: &[f64; 4], b: &[f64; 4]| a[0] <= b[2] && b[0] <= a[2] && a[1] <= b[3] && b[1] <= a[3];
     let mut merged = true;
     while merged {
         merged = false;
@@ -184,7 +185,12 @@ fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
                 if overlap(&boxes[i], &boxes[j]) {
                     let b = boxes.swap_remove(j);
                     let a = &mut boxes[i];
-                    *a = [a[0].min(b[0]), a[1].min(b[1]), a[2].max(b[2]), a[3].max(b[3])];
+                    *a = [
+                        a[0].min(b[0]),
+                        a[1].min(b[1]),
+                        a[2].max(b[2]),
+                        a[3].max(b[3]),
+                    ];
                     merged = true;
                     break 'pairs;
                 }
@@ -270,7 +276,10 @@ mod fillet_tests {
                 assert_eq!(local, None, "the slot reaches beyond its window");
             } else {
                 let local = local.expect("windowed");
-                assert!((local - whole).abs() < 1e-5, "outline {k}: {local} vs {whole} mm²");
+                assert!(
+                    (local - whole).abs() < 1e-5,
+                    "outline {k}: {local} vs {whole} mm²"
+                );
             }
             let a = fillet_internal(o, r).unsigned_area();
             assert!((a - o.unsigned_area() - whole).abs() < 1e-5, "outline {k}");
