@@ -164,22 +164,49 @@ fn plate_nodes(p: &Plate, n: usize, wf: f64) -> Vec<f64> {
 }
 
 /// Inverts a symmetric positive-definite matrix (row-major, n × n). `None` when it is not.
+///
+/// The n right-hand sides of the identity are substituted together, row by row (each row of the
+/// result is a combination of earlier rows, which vectorises), in the very order of operations
+/// a column-by-column substitution ([`cholesky_substitute`]) takes for each element: the same
+/// bits, several times faster.
 fn spd_inverse(a: &[f64], n: usize) -> Option<Vec<f64>> {
     let mut l = a.to_vec();
     if !cholesky_factor(&mut l, n) {
         return None;
     }
-    let mut inv = vec![0.0; n * n];
-    let mut col = vec![0.0; n];
-    for c in 0..n {
-        col.iter_mut().for_each(|v| *v = 0.0);
-        col[c] = 1.0;
-        cholesky_substitute(&l, n, &mut col);
-        for i in 0..n {
-            inv[i * n + c] = col[i];
-        }
+    let mut b = vec![0.0; n * n];
+    for i in 0..n {
+        b[i * n + i] = 1.0;
     }
-    Some(inv)
+    // Forward: L·Y = I, Y's row i from rows 0..i.
+    for i in 0..n {
+        let (done, rest) = b.split_at_mut(i * n);
+        let row = &mut rest[..n];
+        for k in 0..i {
+            let lik = l[i * n + k];
+            let rk = &done[k * n..k * n + n];
+            for (x, y) in row.iter_mut().zip(rk) {
+                *x -= lik * y;
+            }
+        }
+        let d = l[i * n + i];
+        row.iter_mut().for_each(|x| *x /= d);
+    }
+    // Backward: Lᵀ·X = Y, X's row i from rows i+1..n.
+    for i in (0..n).rev() {
+        let (head, later) = b.split_at_mut((i + 1) * n);
+        let row = &mut head[i * n..];
+        for k in i + 1..n {
+            let lki = l[k * n + i];
+            let rk = &later[(k - i - 1) * n..(k - i) * n];
+            for (x, y) in row.iter_mut().zip(rk) {
+                *x -= lki * y;
+            }
+        }
+        let d = l[i * n + i];
+        row.iter_mut().for_each(|x| *x /= d);
+    }
+    Some(b)
 }
 
 /// The least energy of δψ with the modes whose inverse matrices are `inv`, taking the values
@@ -300,8 +327,13 @@ pub fn solve(
         }
     }
     let nm = mesh.modes;
-    let mut k_m = vec![vec![0.0; nu * nu]; nm + 1];
+    // Every mode's matrix element side by side (element-major: a cell pair's contributions
+    // to one element, mode by mode, are contiguous), then taken apart mode by mode.
+    let modes = nm + 1;
+    let mut k_all = vec![0.0; nu * nu * modes];
     let mut q = Vec::with_capacity(nm + 2);
+    let (mut cos_part, mut sin_part) = (vec![0.0; modes], vec![0.0; modes]);
+    let mut v = vec![0.0; modes];
     for (ci, a) in cells.iter().enumerate() {
         for b in &cells[ci..] {
             let same = std::ptr::eq(a, b);
@@ -320,6 +352,11 @@ pub fn solve(
                 toroidal(ra, rb, dz, nm + 1, &mut q);
                 avg + rho2.ln() / sq
             };
+            // The pair's angular factors, shared by its node pairs.
+            for m in 1..modes {
+                cos_part[m] = 0.5 * (q[m - 1] + q[m + 1]) + corr;
+                sin_part[m] = 0.5 * (q[m - 1] - q[m + 1]);
+            }
             let ww = wa * wb;
             for (ia, fa, sa) in a.nodes {
                 let Some(ia) = ia else { continue };
@@ -328,25 +365,31 @@ pub fn solve(
                     let rr_ss = ra * rb * sa * sb;
                     let ff = fa * fb;
                     let cross = ra * sa * fb + rb * fa * sb;
-                    for (m, km) in k_m.iter_mut().enumerate() {
-                        let v = if m == 0 {
-                            2.0 * PI * ww * rr_ss * (q[1] + corr)
-                        } else {
-                            let mf = m as f64;
-                            let c = 0.5 * (q[m - 1] + q[m + 1]) + corr;
-                            let s = 0.5 * (q[m - 1] - q[m + 1]);
-                            PI * ww * ((rr_ss + mf * mf * ff) * c + mf * cross * s)
-                        };
-                        let v = v * MU0 / (4.0 * PI);
-                        km[ia * nu + ib] += v;
-                        if !same {
-                            km[ib * nu + ia] += v;
+                    v[0] = 2.0 * PI * ww * rr_ss * (q[1] + corr) * MU0 / (4.0 * PI);
+                    for m in 1..modes {
+                        let mf = m as f64;
+                        let (c, s) = (cos_part[m], sin_part[m]);
+                        v[m] = PI * ww * ((rr_ss + mf * mf * ff) * c + mf * cross * s) * MU0
+                            / (4.0 * PI);
+                    }
+                    let at = (ia * nu + ib) * modes;
+                    for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
+                        *k += x;
+                    }
+                    if !same {
+                        let at = (ib * nu + ia) * modes;
+                        for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
+                            *k += x;
                         }
                     }
                 }
             }
         }
     }
+    let k_m: Vec<Vec<f64>> = (0..modes)
+        .map(|m| (0..nu * nu).map(|e| k_all[e * modes + m]).collect())
+        .collect();
+    drop(k_all);
     // On a very small loop the highest modes vary faster across a cell than the cells'
     // centres sample (the plate's inner radius over m against the cell width) and their
     // matrices stop being positive definite: M is then lowered to the modes that are.
