@@ -178,6 +178,11 @@ pub fn solve(
 /// The pad gap's tolerance in ln g (0.1 %; the gap is rounded to a µm).
 const GAP_XTOL: f64 = 1e-3;
 
+/// A length rounded to a µm, as the artwork draws the pad's gap.
+fn round_um(mm: f64) -> f64 {
+    (mm * 1e3).round() / 1e3
+}
+
 fn solve_uncached(
     p: &Probe,
     trace_width: f64,
@@ -202,9 +207,9 @@ fn solve_uncached(
             .map_err(|e| field_err("connector's centre pad", e))
     };
     // The search runs on the rough field solution (`field::rough_z0`, a small fraction of the
-    // work); the gap it finds is then polished on the full solution by secant steps that
-    // start with the rough slope, usually two solutions (`roots::polish`); should they not
-    // settle, the search runs again on the full solution.
+    // work); the gap it finds is then polished on the full solution by secant steps on the µm
+    // grid that start with the rough slope, usually two solutions, the second of them the
+    // rounded gap's own; should they not settle, the search runs again on the full solution.
     let rough = |g: f64, depth: usize| -> Result<f64, Error> {
         crate::field::rough_z0(&pad_cross_section(p, g, depth))
             .map_err(|e| field_err("connector's centre pad", e))
@@ -262,16 +267,30 @@ fn solve_uncached(
             // The rough slope at its root, in ln g (one more rough solution).
             let h = 0.02_f64.copysign(x_hi - x);
             let slope = (rough((x + h).exp(), depth)? - rough(x.exp(), depth)?) / h;
-            let polished = crate::solve::roots::polish(
-                |x| z(x.exp(), depth).map(|(zz, _)| zz - target),
-                x,
-                slope,
-                (x_lo, x_hi),
-                (GAP_XTOL, 0.0),
-                4,
-            )?;
-            let g = match polished {
-                Some(x) => x.exp(),
+            // Secant steps on the µm grid the gap is rounded to, the first with the rough
+            // slope: done when a step lands on a gap already solved (the root's rounding, its
+            // solution kept), usually the second.
+            let on_grid = |x: f64| round_um(x.exp().clamp(g_lo, g_hi));
+            let mut tried: Vec<(f64, f64)> = Vec::new(); // (gap, Z − target)
+            let (mut g, mut s) = (on_grid(x), slope);
+            let mut landed = None;
+            for _ in 0..5 {
+                if tried.iter().any(|t| t.0 == g) {
+                    landed = Some(g);
+                    break;
+                }
+                let f = z(g, depth)?.0 - target;
+                if let Some(&(gp, fp)) = tried.last() {
+                    let secant = (f - fp) / (g.ln() - gp.ln());
+                    if secant.is_finite() && secant * slope > 0.0 {
+                        s = secant;
+                    }
+                }
+                tried.push((g, f));
+                g = on_grid(g.ln() - f / s);
+            }
+            let g = match landed {
+                Some(g) => g,
                 None => search(&|g| z(g, depth).map(|(zz, _)| zz))?,
             };
             chosen = Some((depth, g));
@@ -286,7 +305,7 @@ fn solve_uncached(
         }
     };
     // Round the gap to a µm, as the artwork will.
-    let pad_gap = (pad_gap * 1e3).round() / 1e3;
+    let pad_gap = round_um(pad_gap);
     let (pad_z0, pad_eps_eff) = z(pad_gap, relief_depth)?;
 
     let template = p
