@@ -110,7 +110,7 @@ pub fn solve_width_near(
 /// [`solve_width_near`] for an expensive `z_of` (a full field solution) with a cheap
 /// approximation `rough` of it (the rough field solution of the same cross-section,
 /// [`crate::field::rough_z0`]): the search runs on `rough`, and its width is polished on `z_of`
-/// by secant steps starting with the rough slope (`roots::polish`), usually two full solutions
+/// by secant steps starting with the rough slope (`roots::polish`), two or three full solutions
 /// where the search on `z_of` alone takes three to five. Should the polish not settle, the
 /// search runs on `z_of` from the rough width. Stops within 1 mΩ of `z_of`.
 pub fn solve_width_polished(
