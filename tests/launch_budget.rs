@@ -58,9 +58,10 @@ fn demo_launch_is_the_recorded_one_and_meets_the_limit() {
         "section count: record the reference again"
     );
     for (a, b) in live.iter().zip(&rec) {
-        // To the width search's own tolerance (1 mΩ in 50 Ω): two equally good searches may
-        // land that far apart, far below what changes |S11| in its recorded digits.
-        let close = |x: f64, y: f64| (x / y - 1.0).abs() < 2e-5;
+        // To the width search's own tolerance (each within 1 mΩ of 50 Ω): two equally good
+        // searches may land 2 mΩ (4e-5) apart, far below what changes |S11| in its recorded
+        // digits; a µm of pad gap or a design change moves these by far more.
+        let close = |x: f64, y: f64| (x / y - 1.0).abs() < 4e-5;
         let ok = match (a, b) {
             (
                 Section::Line { z0, eps_eff, len_m },
@@ -87,7 +88,7 @@ fn demo_launch_is_the_recorded_one_and_meets_the_limit() {
     }
     // Same load the recorded case used.
     let zl = s.handle_z0.unwrap();
-    assert!((zl / f(case, "z_load") - 1.0).abs() < 2e-5);
+    assert!((zl / f(case, "z_load") - 1.0).abs() < 4e-5);
     assert!(
         f(case, "worst_s11_db") <= DEFAULT_LIMIT_DB,
         "scikit-rf: the demo's launch reaches {} dB",

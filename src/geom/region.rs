@@ -143,9 +143,13 @@ fn closing_fillets(p: &Polygon<f64>, r: f64) -> MultiPolygon<f64> {
 
 /// [`closing_fillets`] computed in windows: a closing by `r` at a point depends only on the
 /// region within 2r of it, so in a box W it is the closing of `p` clipped to W grown by 2r,
-/// clipped back to W. A polygon's closing adds to it only where it has reflex corners: each
-/// reflex corner gets a box reaching r·(3 + tan(δ/2)) from it (δ its turn; a fillet touches
-/// the edges of a straight corner r·tan(δ/2) from it), overlapping boxes are merged, and every
+/// clipped back to W. The outline of a union of convex parts grown by a distance (every
+/// probe's: a convex head and a handle, closed and grown by the copper-to-edge rule) gains
+/// from a closing only at its reflex corners, where the parts meet. (In general a closing also
+/// fills a neck narrower than 2r between convex stretches, a C's mouth, with no reflex corner
+/// near: such an outline is outside this function's use.) Each reflex corner gets a box
+/// reaching r·(1.2 + 1.1·tan(δ/2)) from it (δ its turn; a fillet touches the edges of a
+/// straight corner r·tan(δ/2) from it), overlapping boxes are merged, and every
 /// piece the closing adds must lie strictly inside its box: a piece that reaches the box's edge
 /// may go on beyond it (a notch narrower than 2r), and then `None` asks for the closing of the
 /// whole. `None` too for a corner sharper than tan(δ/2) = 8.
@@ -159,8 +163,9 @@ fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
     }
     let ccw = p.signed_area() > 0.0;
     // Every arc here is flattened to `ARC_TOLERANCE`, so a concave arc of radius ρ turns by
-    // 2·acos(1 − tol/ρ) ≈ 2·√(2·tol/ρ) at each vertex: one of radius up to 16r (a closing by r
-    // fills only those up to r) by at least this much. A lone smaller turn (where two arcs meet
+    // 2·acos(1 − tol/ρ) ≈ 2·√(2·tol/ρ) at each vertex (more where its sweep is split into
+    // whole steps): one of radius up to 4r (a closing by r fills only those up to r) by at
+    // least twice this much. A lone smaller turn (where two arcs meet
     // nearly tangent, or the rounding of a mirror image) would add at most r²·δ³/24, far below
     // the sliver filter.
     let min_turn = 0.5 * (2.0 * shape::ARC_TOLERANCE / r).sqrt();
@@ -219,18 +224,22 @@ fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
             .intersection(&MultiPolygon(vec![rect(w[0], w[1], w[2], w[3])]));
         let edge = 1e-3 * r;
         for q in added.0 {
-            if q.unsigned_area() <= 1e-4 * r * r {
-                continue;
-            }
+            let area = q.unsigned_area();
             let bb = q.bounding_rect()?;
-            if bb.min().x <= w[0] + edge
+            let at_edge = bb.min().x <= w[0] + edge
                 || bb.min().y <= w[1] + edge
                 || bb.max().x >= w[2] - edge
-                || bb.max().y >= w[3] - edge
-            {
+                || bb.max().y >= w[3] - edge;
+            // What reaches the box's edge may go on beyond it, however small its part inside:
+            // unless it is a sliver where the closing re-flattens an arc (thinner on average
+            // than 1e-3·r, 1 µm for a 2 mm bit; the flattening's own tolerance is 0.5 µm).
+            let thickness = area / bb.width().max(bb.height()).max(f64::MIN_POSITIVE);
+            if at_edge && (area > 1e-4 * r * r || thickness > 1e-3 * r) {
                 return None;
             }
-            pieces.push(q);
+            if area > 1e-4 * r * r {
+                pieces.push(q);
+            }
         }
     }
     Some(MultiPolygon(pieces))
@@ -254,9 +263,11 @@ pub fn router_cut(hole: &Polygon<f64>, r: f64) -> Option<Polygon<f64>> {
 /// Grown with sharp (mitred) corners, not round ones: the shrink that follows takes sharp
 /// convex corners back to the original's, where a round grow's arcs (of the very radius the
 /// shrink takes off) collapse to points, the dearest case of the offset's overlay (a hundred
-/// times the work). Between the flattened arcs' chords the mitred grow stands out beyond the
-/// round one by at most r·δ²/8 (δ the chord's turn: 0.5 µm for the fillets of a 2 mm bit,
-/// 10 nm for the copper extent's), so the closing can only come out that much larger.
+/// times the work). Between a flattened arc's chords the mitred grow stands out beyond the
+/// round one by at most r·δ²/8 = r·tol/ρ (δ the chord's turn, ρ the arc's radius, tol the
+/// flattening's): about 1.7 µm for the fillets of a 2 mm bit on an outline's 0.3 mm corner
+/// arcs. The closing can only come out that much larger, which keeps the board further from
+/// its copper and the fillet no tighter than the bit.
 pub fn closing(m: &MultiPolygon<f64>, r: f64) -> MultiPolygon<f64> {
     round_buffer(&miter_buffer(m, r), -r)
 }

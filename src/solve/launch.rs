@@ -210,9 +210,11 @@ fn solve_uncached(
     // work); the gap it finds is then polished on the full solution by secant steps on the µm
     // grid that start with the rough slope, usually two solutions, the second of them the
     // rounded gap's own; should they not settle, the search runs again on the full solution.
+    // Where the rough solution fails (a coarser mesh of the same section), the full one stands
+    // in for it.
     let rough = |g: f64, depth: usize| -> Result<f64, Error> {
         crate::field::rough_z0(&pad_cross_section(p, g, depth))
-            .map_err(|e| field_err("connector's centre pad", e))
+            .or_else(|_| z(g, depth).map(|s| s.0))
     };
     let (g_lo, g_hi) = pad_gap_range(p);
     let (x_lo, x_hi) = (g_lo.ln(), g_hi.ln());
@@ -252,10 +254,21 @@ fn solve_uncached(
     };
     // Deepest relief: the reference must be a copper layer.
     let max_depth = p.stackup.copper_count().saturating_sub(2);
-    let mut best: Option<(f64, usize, f64)> = None; // (rough |Z − target|, depth, gap)
+    let mut best: Option<(f64, usize, f64)> = None; // (|Z − target| at an end, depth, gap)
     let mut chosen = None;
     for depth in 0..=max_depth {
-        let (z_lo, z_hi) = (rough(g_lo, depth)?, rough(g_hi, depth)?);
+        // The bracket's ends: rough, but full where the rough value is within 5 % of the target
+        // (the rough solution is a few per cent off, so only the full one may decide a bracket
+        // that close).
+        let end = |g: f64| -> Result<f64, Error> {
+            let zr = rough(g, depth)?;
+            if (zr / target - 1.0).abs() < 0.05 {
+                Ok(z(g, depth)?.0)
+            } else {
+                Ok(zr)
+            }
+        };
+        let (z_lo, z_hi) = (end(g_lo)?, end(g_hi)?);
         for (g, zz) in [(g_lo, z_lo), (g_hi, z_hi)] {
             let miss = (zz - target).abs();
             if best.is_none_or(|b| miss < b.0) {
@@ -263,31 +276,45 @@ fn solve_uncached(
             }
         }
         if z_lo <= target && target <= z_hi {
-            let x = search(&|g| rough(g, depth))?.ln();
-            // The rough slope at its root, in ln g (one more rough solution).
-            let h = 0.02_f64.copysign(x_hi - x);
-            let slope = (rough((x + h).exp(), depth)? - rough(x.exp(), depth)?) / h;
+            // The rough search between those ends, and the rough slope at its root, in ln g
+            // (one more rough solution); any failure, or a slope that is not positive (Z rises
+            // with the gap), leaves the search to the full solution.
+            let rough_root = search(&|g| match g {
+                _ if g == g_lo => Ok(z_lo),
+                _ if g == g_hi => Ok(z_hi),
+                _ => rough(g, depth),
+            })
+            .and_then(|g| {
+                let x = g.ln();
+                let h = if x + 0.02 <= x_hi { 0.02 } else { -0.02 };
+                let slope = (rough((x + h).exp(), depth)? - rough(g, depth)?) / h;
+                Ok((x, slope))
+            })
+            .ok()
+            .filter(|(_, slope)| slope.is_finite() && *slope > 0.0);
             // Secant steps on the µm grid the gap is rounded to, the first with the rough
             // slope: done when a step lands on a gap already solved (the root's rounding, its
             // solution kept), usually the second.
-            let on_grid = |x: f64| round_um(x.exp().clamp(g_lo, g_hi));
-            let mut tried: Vec<(f64, f64)> = Vec::new(); // (gap, Z − target)
-            let (mut g, mut s) = (on_grid(x), slope);
             let mut landed = None;
-            for _ in 0..5 {
-                if tried.iter().any(|t| t.0 == g) {
-                    landed = Some(g);
-                    break;
-                }
-                let f = z(g, depth)?.0 - target;
-                if let Some(&(gp, fp)) = tried.last() {
-                    let secant = (f - fp) / (g.ln() - gp.ln());
-                    if secant.is_finite() && secant * slope > 0.0 {
-                        s = secant;
+            if let Some((x, slope)) = rough_root {
+                let on_grid = |x: f64| round_um(x.exp().clamp(g_lo, g_hi));
+                let mut tried: Vec<(f64, f64)> = Vec::new(); // (gap, Z − target)
+                let (mut g, mut s) = (on_grid(x), slope);
+                for _ in 0..5 {
+                    if tried.iter().any(|t| t.0 == g) {
+                        landed = Some(g);
+                        break;
                     }
+                    let f = z(g, depth)?.0 - target;
+                    if let Some(&(gp, fp)) = tried.last() {
+                        let secant = (f - fp) / (g.ln() - gp.ln());
+                        if secant.is_finite() && secant > 0.0 {
+                            s = secant;
+                        }
+                    }
+                    tried.push((g, f));
+                    g = on_grid(g.ln() - f / s);
                 }
-                tried.push((g, f));
-                g = on_grid(g.ln() - f / s);
             }
             let g = match landed {
                 Some(g) => g,

@@ -99,8 +99,9 @@ pub fn brent(mut f: impl FnMut(f64) -> f64, a: f64, b: f64, xtol: f64) -> Result
 /// of it whose slope there is `slope`: secant steps on `f`, the first with that slope, each kept
 /// within `[lo, hi]`. Done when |f(x)| ≤ `ftol` (x returned), or when a step is at most `xtol`
 /// (the step's end returned unevaluated: its error is the step times the slope's relative
-/// error, far below `xtol`). `Ok(None)` when it has not settled within `max_evals` evaluations
-/// or a slope is not of the sign of `slope` (the caller then searches with `f` alone).
+/// error, far below `xtol`). `Ok(None)` when it has not settled within `max_evals` evaluations,
+/// a slope is not of the sign of `slope`, or the root lies beyond the bounds (the caller then
+/// searches with `f` alone).
 ///
 /// The approximation is a coarser field solution of the same cross-section: its error varies
 /// slowly in x, so the two roots are close and the slopes near (within about 6 % on the demo's
@@ -135,9 +136,11 @@ pub fn polish<E>(
                 return Ok(None);
             }
         }
-        let next = (x - fx / s).clamp(lo, hi);
+        let step_end = x - fx / s;
+        let next = step_end.clamp(lo, hi);
         if (next - x).abs() <= xtol {
-            return Ok(Some(next));
+            // A step cut short by the bounds has not found the root: it lies beyond them.
+            return Ok((next == step_end).then_some(next));
         }
         last = Some((x, fx));
         x = next;
@@ -181,6 +184,16 @@ mod tests {
             8,
         );
         assert_eq!(wrong, Ok(None));
+        // A root beyond the bounds is not reported at the bound (f = x − 10 on [−1, 1]).
+        let beyond = polish(
+            |x: f64| -> Result<f64, ()> { Ok(x - 10.0) },
+            0.0,
+            1.0,
+            (-1.0, 1.0),
+            (0.0, 1e-12),
+            8,
+        );
+        assert_eq!(beyond, Ok(None));
     }
 
     // √2 is the positive root of x² − 2 (arithmetic fact).

@@ -112,16 +112,24 @@ pub fn solve_width_near(
 /// [`crate::field::rough_z0`]): the search runs on `rough`, and its width is polished on `z_of`
 /// by secant steps starting with the rough slope (`roots::polish`), two or three full solutions
 /// where the search on `z_of` alone takes three to five. Should the polish not settle, the
-/// search runs on `z_of` from the rough width. Stops within 1 mΩ of `z_of`.
+/// search runs on `z_of` from the rough width (from `guess` if the rough solution fails). Stops
+/// within 1 mΩ of `z_of`.
 pub fn solve_width_polished(
     mut z_of: impl FnMut(f64) -> Result<f64, Error>,
     mut rough: impl FnMut(f64) -> Result<f64, Error>,
     guess: f64,
     target: f64,
 ) -> Result<f64, Error> {
-    let w = solve_width_near(&mut rough, guess, target)?;
+    // The rough search and its slope; should the rough solution fail anywhere (it is a
+    // coarser mesh of the same section), the search runs on `z_of` alone.
     let h = 0.02;
-    let slope = (rough(w * f64::exp(h))? - rough(w)?) / h;
+    let rough_root = solve_width_near(&mut rough, guess, target).and_then(|w| {
+        let slope = (rough(w * f64::exp(h))? - rough(w)?) / h;
+        Ok((w, slope))
+    });
+    let Ok((w, slope)) = rough_root else {
+        return solve_width_near(z_of, guess, target);
+    };
     let x = w.ln();
     let polished = crate::solve::roots::polish(
         |x: f64| z_of(x.exp()).map(|z| z - target),
