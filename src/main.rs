@@ -28,8 +28,8 @@ fn main() -> ExitCode {
 
 /// The field solver allocates and frees buffers of a few MB per solution (tens of them in a
 /// run). glibc's default gives each back to the system (by `munmap`, or by trimming the heap
-/// above 128 kB), so every solution's buffers are page-faulted and zeroed afresh: about a
-/// quarter of a second of system time in `demo` (docs/architecture.md, "Performance"). Kept
+/// above 128 kB), so every solution's buffers are page-faulted and zeroed afresh: 0.4–0.7 s of
+/// system time in `demo` (docs/architecture.md, "Performance"). Kept
 /// up to 32 MB, and in one arena rather than one per thread (which keeps the peak below the
 /// default's), they are reused instead. The library leaves its host's allocator alone.
 fn keep_freed_memory() {
