@@ -52,6 +52,7 @@ pub use line::{cross_section_for_line, solve_line};
 pub use solver::EPS0;
 
 use crate::error::{Error, FieldError};
+use geometry::Resolved;
 use mesh::MeshParams;
 use solver::System;
 
@@ -248,6 +249,16 @@ pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error>
 /// The two nested meshes of `acc` (the second with every cell of the first halved), and
 /// whether they cover the half `x ≥ 0` only (a mirror-symmetric section).
 fn grids(cs: &CrossSection, acc: Accuracy) -> Result<(bool, mesh::Grid, mesh::Grid), Error> {
+    let (r, coarse) = base_grid(cs, acc)?;
+    let fine_xs = mesh::subdivide(&coarse.xs, 2);
+    let fine_ys = mesh::subdivide(&coarse.ys, 2);
+    let fine = mesh::fill(&r, fine_xs, fine_ys);
+    Ok((r.symmetric, coarse, fine))
+}
+
+/// The coarser of [`grids`]' two meshes and the resolved section it fills, refused (as
+/// [`grids`] is) when the finer mesh would pass [`MAX_NODES`].
+fn base_grid(cs: &CrossSection, acc: Accuracy) -> Result<(Resolved, mesh::Grid), Error> {
     let (params, m) = acc.mesh();
     if m == 0 || m > MAX_REFINEMENT {
         return Err(Error::Invalid(vec![FieldError::new(
@@ -257,8 +268,7 @@ fn grids(cs: &CrossSection, acc: Accuracy) -> Result<(bool, mesh::Grid, mesh::Gr
         )]));
     }
     let r = cs.resolve().map_err(Error::Invalid)?;
-    let half = r.symmetric;
-    let plan = mesh::plan(&r, half);
+    let plan = mesh::plan(&r, r.symmetric);
     let coarse = mesh::build(&r, &plan, &params, m as usize);
     let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
     if fine_nodes > MAX_NODES {
@@ -271,10 +281,7 @@ fn grids(cs: &CrossSection, acc: Accuracy) -> Result<(bool, mesh::Grid, mesh::Gr
             ),
         )]));
     }
-    let fine_xs = mesh::subdivide(&coarse.xs, 2);
-    let fine_ys = mesh::subdivide(&coarse.ys, 2);
-    let fine = mesh::fill(&r, fine_xs, fine_ys);
-    Ok((half, coarse, fine))
+    Ok((r, coarse))
 }
 
 /// One node column's share of a ground conductor's charge (see [`ground_charge`]).
@@ -405,41 +412,19 @@ pub fn ground_charge(
 /// Kept as [`solve`]'s are.
 pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
     kept_or(format!("rough|{cs:?}"), || {
-        let (params, _) = Accuracy::Draft.mesh();
-        let r = cs.resolve().map_err(Error::Invalid)?;
-        let half = r.symmetric;
-        let g = mesh::build(&r, &mesh::plan(&r, half), &params, 1);
-        let sys = System::new(&g, &g.eps);
-        let (phi, iterations, ok) = sys.solve(None, CG_TOL);
-        let c = sys.energy(&phi);
+        let (r, g) = base_grid(cs, Accuracy::Draft)?;
+        let factor = if r.symmetric { 2.0 } else { 1.0 } * EPS0;
         let homogeneous = g.eps.iter().all(|&e| e == g.eps[0]);
-        let (c0, ok0) = if homogeneous {
-            (c / g.eps[0], true)
-        } else {
-            let sys0 = System::new(&g, &vec![1.0; g.eps.len()]);
-            let (phi0, _, ok0) = sys0.solve(Some(&phi), CG_TOL);
-            (sys0.energy(&phi0), ok0)
-        };
-        check(ok && ok0)?;
-        let factor = if half { 2.0 } else { 1.0 } * EPS0;
-        let (c, c0) = (factor * c, factor * c0);
-        let z0 = 1.0 / (C0 * (c * c0).sqrt());
-        let result = MeshResult {
-            level: 1,
-            size: [g.nx(), g.ny()],
-            c_per_m: c,
-            c0_per_m: c0,
-            z0_ohms: z0,
-            iterations,
-        };
+        let run = run_mesh(&g, None, factor, homogeneous, true)?;
+        let result = run.result(1, &g);
         Ok(FieldSolution {
-            z0_ohms: z0,
-            eps_eff: c / c0,
-            c_per_m: c,
-            c0_per_m: c0,
+            z0_ohms: result.z0_ohms,
+            eps_eff: run.c / run.c0,
+            c_per_m: run.c,
+            c0_per_m: run.c0,
             nodes: g.nx() * g.ny(),
             estimated_error: f64::NAN,
-            half_domain: half,
+            half_domain: r.symmetric,
             meshes: [result, result],
         })
     })
@@ -454,32 +439,7 @@ fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSol
 
     // One permittivity everywhere (a homogeneous stripline): C0 = C/εr exactly, one solve.
     let homogeneous = coarse.eps.iter().all(|&e| e == coarse.eps[0]);
-    let run = |g: &mesh::Grid, guess: Option<(&[f64], &[f64])>| -> Result<Run, Error> {
-        let sys = System::new(g, &g.eps);
-        let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), CG_TOL);
-        let c = factor * sys.energy(&phi);
-        if homogeneous || !vacuum {
-            let c0 = if vacuum { c / g.eps[0] } else { f64::NAN };
-            return check(ok1).map(|_| Run {
-                c,
-                c0,
-                iterations: it1,
-                phi0: if vacuum { phi.clone() } else { Vec::new() },
-                phi,
-            });
-        }
-        let ones = vec![1.0; g.eps.len()];
-        let sys0 = System::new(g, &ones);
-        let (phi0, it0, ok0) = sys0.solve(Some(guess.map_or(&phi, |p| p.1)), CG_TOL);
-        let c0 = factor * sys0.energy(&phi0);
-        check(ok1 && ok0).map(|_| Run {
-            c,
-            c0,
-            iterations: it1 + it0,
-            phi,
-            phi0,
-        })
-    };
+    let run = |g, guess| run_mesh(g, guess, factor, homogeneous, vacuum);
     let rc = run(&coarse, None)?;
     let pf = solver::prolong(&rc.phi, coarse.nx(), coarse.ny());
     let pf0 = if vacuum {
@@ -488,41 +448,20 @@ fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSol
         Vec::new()
     };
     let rf = run(&fine, Some((&pf, &pf0)))?;
-    let (cc, cc0, itc) = (rc.c, rc.c0, rc.iterations);
-    let (cf, cf0, itf) = (rf.c, rf.c0, rf.iterations);
-
-    let z = |c: f64, c0: f64| 1.0 / (C0 * (c * c0).sqrt());
+    let meshes = [rc.result(m, &coarse), rf.result(2 * m, &fine)];
     // Energy error ∝ h² on nested uniform refinements: extrapolate with ratio 4.
-    let c = cf + (cf - cc) / 3.0;
-    let c0 = cf0 + (cf0 - cc0) / 3.0;
-    let z0 = z(c, c0);
-    let zf = z(cf, cf0);
+    let c = rf.c + (rf.c - rc.c) / 3.0;
+    let c0 = rf.c0 + (rf.c0 - rc.c0) / 3.0;
+    let z0 = 1.0 / (C0 * (c * c0).sqrt());
     Ok(FieldSolution {
         z0_ohms: z0,
         eps_eff: c / c0,
         c_per_m: c,
         c0_per_m: c0,
         nodes: fine.nx() * fine.ny(),
-        estimated_error: (z0 - zf).abs() / z0,
+        estimated_error: (z0 - meshes[1].z0_ohms).abs() / z0,
         half_domain: half,
-        meshes: [
-            MeshResult {
-                level: m,
-                size: [coarse.nx(), coarse.ny()],
-                c_per_m: cc,
-                c0_per_m: cc0,
-                z0_ohms: z(cc, cc0),
-                iterations: itc,
-            },
-            MeshResult {
-                level: 2 * m,
-                size: [fine.nx(), fine.ny()],
-                c_per_m: cf,
-                c0_per_m: cf0,
-                z0_ohms: zf,
-                iterations: itf,
-            },
-        ],
+        meshes,
     })
 }
 
@@ -533,6 +472,56 @@ struct Run {
     iterations: usize,
     phi: Vec<f64>,
     phi0: Vec<f64>,
+}
+
+impl Run {
+    /// This mesh's own result, at refinement `level`.
+    fn result(&self, level: u32, g: &mesh::Grid) -> MeshResult {
+        MeshResult {
+            level,
+            size: [g.nx(), g.ny()],
+            c_per_m: self.c,
+            c0_per_m: self.c0,
+            z0_ohms: 1.0 / (C0 * (self.c * self.c0).sqrt()),
+            iterations: self.iterations,
+        }
+    }
+}
+
+/// Solves one mesh: C (F/m, the energy times `factor`), and C0 with every dielectric replaced by
+/// vacuum when `vacuum` (C/εr when `homogeneous`, NaN without `vacuum`), from the potentials
+/// `guess` (with and without the dielectrics) or from zero.
+fn run_mesh(
+    g: &mesh::Grid,
+    guess: Option<(&[f64], &[f64])>,
+    factor: f64,
+    homogeneous: bool,
+    vacuum: bool,
+) -> Result<Run, Error> {
+    let sys = System::new(g, &g.eps);
+    let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), CG_TOL);
+    let c = factor * sys.energy(&phi);
+    if homogeneous || !vacuum {
+        let c0 = if vacuum { c / g.eps[0] } else { f64::NAN };
+        return check(ok1).map(|_| Run {
+            c,
+            c0,
+            iterations: it1,
+            phi0: if vacuum { phi.clone() } else { Vec::new() },
+            phi,
+        });
+    }
+    let ones = vec![1.0; g.eps.len()];
+    let sys0 = System::new(g, &ones);
+    let (phi0, it0, ok0) = sys0.solve(Some(guess.map_or(&phi, |p| p.1)), CG_TOL);
+    let c0 = factor * sys0.energy(&phi0);
+    check(ok1 && ok0).map(|_| Run {
+        c,
+        c0,
+        iterations: it1 + it0,
+        phi,
+        phi0,
+    })
 }
 
 /// The conjugate-gradient iteration reached its tolerance (it always has with this

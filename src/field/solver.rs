@@ -199,15 +199,11 @@ impl System {
         dinv
     }
 
-    /// The preconditioner of the inverse pivots `dinv`.
-    fn factor(&self, dinv: Vec<f64>) -> Factor {
-        Factor { dinv }
-    }
-
-    /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A). Each sweep
-    /// is split into vectorisable parts and a one-multiply-add recursion along the row, run
-    /// as four interleaved chains ([`Chains`]).
-    fn precondition(&self, f: &Factor, r: &[f64], z: &mut [f64]) {
+    /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A), the inverse
+    /// pivots `dinv` of [`System::mic_inverse`]; the couplings are the system's, scaled by
+    /// them as the sweeps go. Each sweep is split into vectorisable parts and a
+    /// one-multiply-add recursion along the row, run as four interleaved chains ([`Chains`]).
+    fn precondition(&self, dinv: &[f64], r: &[f64], z: &mut [f64]) {
         let nx = self.nx;
         let n = r.len();
         let rows = n / nx;
@@ -220,7 +216,7 @@ impl System {
             let o = j * nx;
             let (done, rest) = z.split_at_mut(o);
             let row = &mut rest[..nx];
-            let di = &f.dinv[o..o + nx];
+            let di = &dinv[o..o + nx];
             let rr = &r[o..o + nx];
             for i in 0..nx {
                 ch.t[i] = rr[i] * di[i];
@@ -246,7 +242,7 @@ impl System {
             let (head, above) = z.split_at_mut(o + nx);
             let row = &mut head[o..];
             ch.t.copy_from_slice(row);
-            let di = &f.dinv[o..o + nx];
+            let di = &dinv[o..o + nx];
             if j + 1 < rows {
                 let nn = &above[..nx];
                 let ay = &self.ay[o..o + nx];
@@ -280,7 +276,7 @@ impl System {
         for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
             *rk = if free { b - *rk } else { 0.0 };
         }
-        let dinv = self.factor(self.mic_inverse(0.97));
+        let dinv = self.mic_inverse(0.97);
         let mut z = vec![0.0; n];
         // Stop on the preconditioned residual relative to the right-hand side's.
         self.precondition(&dinv, &self.rhs, &mut z);
@@ -352,12 +348,6 @@ impl System {
         }
         e
     }
-}
-
-/// The preconditioner: the inverse pivots (the couplings are the system's, scaled by them as
-/// the sweeps go).
-struct Factor {
-    dinv: Vec<f64>,
 }
 
 /// The row recursion of a triangular sweep, out_i = t_i + g_i·out_(i−1) (forward; backward
