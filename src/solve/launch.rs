@@ -183,14 +183,41 @@ fn round_um(mm: f64) -> f64 {
     (mm * 1e3).round() / 1e3
 }
 
-fn solve_uncached(
-    p: &Probe,
-    trace_width: f64,
-    z_line: f64,
-    pitch_max: f64,
-) -> Result<SolvedLaunch, Error> {
+/// Secant steps for the root of `f` (Z − target, rising with the gap) on the µm grid the gap is
+/// rounded to, within `[g_lo, g_hi]`, from ln g = `x` with the `slope` of a rough solution (in
+/// ln g): done when a step lands on a gap already solved (the root's rounding, whose solution
+/// is then kept), usually the second. `None` when it has not landed in five.
+fn gap_on_grid(
+    mut f: impl FnMut(f64) -> Result<f64, Error>,
+    x: f64,
+    slope: f64,
+    (g_lo, g_hi): (f64, f64),
+) -> Result<Option<f64>, Error> {
+    let on_grid = |x: f64| round_um(x.exp().clamp(g_lo, g_hi));
+    let mut tried: Vec<(f64, f64)> = Vec::new(); // (gap, f)
+    let (mut g, mut s) = (on_grid(x), slope);
+    for _ in 0..5 {
+        if tried.iter().any(|t| t.0 == g) {
+            return Ok(Some(g));
+        }
+        let fg = f(g)?;
+        if let Some(&(gp, fp)) = tried.last() {
+            let secant = (fg - fp) / (g.ln() - gp.ln());
+            if secant.is_finite() && secant > 0.0 {
+                s = secant;
+            }
+        }
+        tried.push((g, fg));
+        g = on_grid(g.ln() - fg / s);
+    }
+    Ok(None)
+}
+
+/// The centre pad's relief depth and gap (rounded to a µm) for the probe's target, and the
+/// pad's Z0 and εeff there: the shallowest relief whose gap range brackets the target, else the
+/// closest end of any.
+fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> {
     let target = p.target_z0;
-    let acc = Accuracy::default();
     let field_err = |what: &str, e: Error| {
         Error::Invalid(vec![FieldError::new(
             "connector",
@@ -292,30 +319,12 @@ fn solve_uncached(
             })
             .ok()
             .filter(|(_, slope)| slope.is_finite() && *slope > 0.0);
-            // Secant steps on the µm grid the gap is rounded to, the first with the rough
-            // slope: done when a step lands on a gap already solved (the root's rounding, its
-            // solution kept), usually the second.
-            let mut landed = None;
-            if let Some((x, slope)) = rough_root {
-                let on_grid = |x: f64| round_um(x.exp().clamp(g_lo, g_hi));
-                let mut tried: Vec<(f64, f64)> = Vec::new(); // (gap, Z − target)
-                let (mut g, mut s) = (on_grid(x), slope);
-                for _ in 0..5 {
-                    if tried.iter().any(|t| t.0 == g) {
-                        landed = Some(g);
-                        break;
-                    }
-                    let f = z(g, depth)?.0 - target;
-                    if let Some(&(gp, fp)) = tried.last() {
-                        let secant = (f - fp) / (g.ln() - gp.ln());
-                        if secant.is_finite() && secant > 0.0 {
-                            s = secant;
-                        }
-                    }
-                    tried.push((g, f));
-                    g = on_grid(g.ln() - f / s);
+            let landed = match rough_root {
+                Some((x, slope)) => {
+                    gap_on_grid(|g| Ok(z(g, depth)?.0 - target), x, slope, (g_lo, g_hi))?
                 }
-            }
+                None => None,
+            };
             let g = match landed {
                 Some(g) => g,
                 None => search(&|g| z(g, depth).map(|(zz, _)| zz))?,
@@ -334,6 +343,18 @@ fn solve_uncached(
     // Round the gap to a µm, as the artwork will.
     let pad_gap = round_um(pad_gap);
     let (pad_z0, pad_eps_eff) = z(pad_gap, relief_depth)?;
+    Ok((relief_depth, pad_gap, pad_z0, pad_eps_eff))
+}
+
+fn solve_uncached(
+    p: &Probe,
+    trace_width: f64,
+    z_line: f64,
+    pitch_max: f64,
+) -> Result<SolvedLaunch, Error> {
+    let target = p.target_z0;
+    let acc = Accuracy::default();
+    let (relief_depth, pad_gap, pad_z0, pad_eps_eff) = solve_pad(p, acc)?;
 
     let template = p
         .stackup
