@@ -125,8 +125,13 @@ pub fn fillet_internal(exterior: &Polygon<f64>, r: f64) -> Polygon<f64> {
     largest(&symmetrise(&MultiPolygon(vec![p]).union(&fillets)))
 }
 
-/// What a closing by `r` adds to `p`: the fillets, without the slivers of a few nm² where it
-/// merely re-flattens `p`'s own arcs (their union would notch the outline).
+/// A piece a closing by r adds is a fillet when its area passes this many r² (smaller ones are
+/// the slivers where the closing merely re-flattens the outline's own arcs; their union would
+/// notch it).
+const FILLET_MIN_AREA: f64 = 1e-4;
+
+/// What a closing by `r` adds to `p`: the fillets, without the slivers
+/// ([`FILLET_MIN_AREA`]).
 fn closing_fillets(p: &Polygon<f64>, r: f64) -> MultiPolygon<f64> {
     use geo::Area;
     let m = MultiPolygon(vec![p.clone()]);
@@ -136,7 +141,7 @@ fn closing_fillets(p: &Polygon<f64>, r: f64) -> MultiPolygon<f64> {
             .difference(&m)
             .0
             .into_iter()
-            .filter(|q| q.unsigned_area() > 1e-4 * r * r)
+            .filter(|q| q.unsigned_area() > FILLET_MIN_AREA * r * r)
             .collect(),
     )
 }
@@ -234,10 +239,10 @@ fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
             // unless it is a sliver where the closing re-flattens an arc (thinner on average
             // than 1e-3·r, 1 µm for a 2 mm bit; the flattening's own tolerance is 0.5 µm).
             let thickness = area / bb.width().max(bb.height()).max(f64::MIN_POSITIVE);
-            if at_edge && (area > 1e-4 * r * r || thickness > 1e-3 * r) {
+            if at_edge && (area > FILLET_MIN_AREA * r * r || thickness > 1e-3 * r) {
                 return None;
             }
-            if area > 1e-4 * r * r {
+            if area > FILLET_MIN_AREA * r * r {
                 pieces.push(q);
             }
         }
