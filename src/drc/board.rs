@@ -2,7 +2,7 @@
 //! drills, mask web and silkscreen.
 
 use super::kernel::{
-    body_copper, flash_polygon, layer_copper, near_pairs, ring_ls, rings_of, seg_seg, segments,
+    Coppers, flash_polygon, layer_copper, near_pairs, ring_ls, rings_of, seg_seg, segments,
 };
 use super::slack;
 use super::{Rule, Violation};
@@ -163,6 +163,11 @@ fn copper_to_edge(
 /// copper to edge, drills (size, annular ring, pads, hole gap, inside the outline), mask web and
 /// silkscreen. Returns the violations (empty: clean).
 pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
+    check_board_with(fab, art, &Coppers::new(art))
+}
+
+/// [`check_board`] reading each layer's copper from `cu` (shared with the board's own rules).
+pub(super) fn check_board_with(fab: &FabProfile, art: &Artwork, cu: &Coppers) -> Vec<Violation> {
     let mut out = Vec::new();
     let outline = {
         let mut poly = geo::Polygon::new(ring_ls(&art.profile[0]), vec![]);
@@ -181,11 +186,10 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
             .map(|r| Euclidean.distance(pt, r))
             .fold(f64::INFINITY, f64::min)
     };
-    for l in &art.copper {
+    for (i, l) in art.copper.iter().enumerate() {
         let name = format!("L{}", l.n);
         check_rings(&mut out, &name, &l.regions);
-        let copper = layer_copper(&l.regions, &l.flashes);
-        check_width_space(&mut out, &name, &copper, fab.min_trace, fab.min_space);
+        check_width_space(&mut out, &name, cu.copper(i), fab.min_trace, fab.min_space);
         // Copper to edge: regions and non-connector pads, measured exactly (the nearest
         // approach of every copper edge to every outline edge), with only the artwork grid's
         // snapping as slack.
@@ -196,13 +200,17 @@ pub fn check_board(fab: &FabProfile, art: &Artwork) -> Vec<Violation> {
             .filter(|f| f.function == crate::artwork::PadFunction::Connector)
             .copied()
             .collect();
+        let trimmed;
         let body = if pads.is_empty() {
-            body_copper(l)
+            cu.body(i)
         } else {
             use geo::BooleanOps;
-            body_copper(l).difference(&layer_copper(&MultiPolygon(vec![]), &pads))
+            trimmed = cu
+                .body(i)
+                .difference(&layer_copper(&MultiPolygon(vec![]), &pads));
+            &trimmed
         };
-        if let Some(v) = copper_to_edge(&outline_rings, &outline, &body, fab.copper_to_edge) {
+        if let Some(v) = copper_to_edge(&outline_rings, &outline, body, fab.copper_to_edge) {
             out.push(Violation {
                 rule: Rule::CopperToEdge,
                 layer: name.clone(),

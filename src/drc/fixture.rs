@@ -1,8 +1,8 @@
 //! The fixture board's own rules: the line's continuity without touching ground, the keepout
 //! along the uniform line, and the stitching pitch.
 
-use super::board::check_board;
-use super::kernel::{layer_copper, nearest_neighbours};
+use super::board::check_board_with;
+use super::kernel::{Coppers, nearest_neighbours};
 use super::slack;
 use super::{Rule, Violation};
 use crate::artwork::Artwork;
@@ -20,12 +20,18 @@ pub fn check_fixture(
     art: &Artwork,
 ) -> Vec<Violation> {
     use geo::Intersects;
-    let mut out = check_board(&f.fab, art);
-    let Some(l) = art.copper.iter().find(|l| l.n == f.line_layer) else {
+    let cu = Coppers::new(art);
+    let mut out = check_board_with(&f.fab, art, &cu);
+    let Some((i, l)) = art
+        .copper
+        .iter()
+        .enumerate()
+        .find(|(_, l)| l.n == f.line_layer)
+    else {
         return out;
     };
     let name = format!("L{}", l.n);
-    let copper = layer_copper(&l.regions, &l.flashes);
+    let copper = cu.copper(i);
     let centres: Vec<Point> = b.pads.iter().filter(|p| p.centre).map(|p| p.at).collect();
     let at = |q: Point| geo::Point::new(q.x, q.y);
     let line_part = copper

@@ -21,6 +21,44 @@ pub fn flash_polygon(fl: &Flash) -> geo::Polygon<f64> {
     }
 }
 
+/// Every copper layer's copper ([`layer_copper`]) and body ([`body_copper`]) for one check of
+/// an artwork, each united once, when a rule first asks for it, and shared by every rule that
+/// reads it (a probe's board, gap and electrode rules read each layer's several times).
+pub(super) struct Coppers<'a> {
+    layers: &'a [crate::artwork::CopperLayer],
+    copper: Vec<std::sync::OnceLock<MultiPolygon<f64>>>,
+    body: Vec<std::sync::OnceLock<MultiPolygon<f64>>>,
+}
+
+impl<'a> Coppers<'a> {
+    pub(super) fn new(art: &'a crate::artwork::Artwork) -> Self {
+        let n = art.copper.len();
+        Coppers {
+            layers: &art.copper,
+            copper: (0..n).map(|_| Default::default()).collect(),
+            body: (0..n).map(|_| Default::default()).collect(),
+        }
+    }
+
+    /// The copper of `art.copper[i]`.
+    pub(super) fn copper(&self, i: usize) -> &MultiPolygon<f64> {
+        let l = &self.layers[i];
+        self.copper[i].get_or_init(|| layer_copper(&l.regions, &l.flashes))
+    }
+
+    /// The body of `art.copper[i]`: its copper itself where it has no connector pad.
+    pub(super) fn body(&self, i: usize) -> &MultiPolygon<f64> {
+        let l = &self.layers[i];
+        if l.flashes
+            .iter()
+            .all(|f| f.function != PadFunction::Connector)
+        {
+            return self.copper(i);
+        }
+        self.body[i].get_or_init(|| body_copper(l))
+    }
+}
+
 /// A layer's copper without its connector pads (which may reach the board edge).
 pub(super) fn body_copper(l: &crate::artwork::CopperLayer) -> MultiPolygon<f64> {
     let others: Vec<Flash> = l

@@ -1,8 +1,8 @@
 //! The probe board's own rules: no copper inside the loop, the shield gap, via pitch and the
 //! coverage of every required row of vias.
 
-use super::board::check_board;
-use super::kernel::{body_copper, layer_copper, nearest_neighbours};
+use super::board::check_board_with;
+use super::kernel::{Coppers, nearest_neighbours};
 use super::slack;
 use super::{Rule, Violation};
 use crate::artwork::Artwork;
@@ -15,14 +15,16 @@ use kurbo::Point;
 /// Runs every check of a probe board: [`check_board`] and the probe's own rules (no copper
 /// inside the loop, the shield gap, via pitch and stitching rows). Returns the violations.
 pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violation> {
-    let mut out = check_board(&p.fab, art);
+    // Each layer's copper united once, for the board's rules, every gap's and the electrode's.
+    let cu = Coppers::new(art);
+    let mut out = check_board_with(&p.fab, art, &cu);
     if let Some(head) = &b.loop_head {
         for (k, &g) in art.gap_rects.iter().enumerate() {
-            out.extend(loop_rules(p, b, head, art, g, k == 0));
+            out.extend(loop_rules(p, b, head, art, &cu, g, k == 0));
         }
     }
     if let Some(e) = p.kind.electrode() {
-        out.extend(electrode_rules(art, &e));
+        out.extend(electrode_rules(art, &cu, &e));
     }
     // Via pitch: every via has a neighbour within the pitch limit, none closer than the fab's.
     // An electric probe's electrode via stitches nothing (it is the line's), so it needs no
@@ -74,7 +76,11 @@ pub fn check(p: &Probe, s: &SolvedProbe, b: &Board, art: &Artwork) -> Vec<Violat
 
 /// An electric probe's own rules: the electrode whole and bare on both outer layers, and no
 /// shield copper inside its clearance on any layer.
-fn electrode_rules(art: &Artwork, e: &crate::model::probe::Electrode) -> Vec<Violation> {
+fn electrode_rules(
+    art: &Artwork,
+    cu: &Coppers,
+    e: &crate::model::probe::Electrode,
+) -> Vec<Violation> {
     use crate::geom::circle;
     let mut out = Vec::new();
     let r = e.diameter / 2.0;
@@ -92,11 +98,11 @@ fn electrode_rules(art: &Artwork, e: &crate::model::probe::Electrode) -> Vec<Vio
         .find(|(name, _)| name == crate::artwork::ELECTRODE_NET)
         .map(|(_, a)| a.clone())
         .unwrap_or_else(|| MultiPolygon(vec![]));
-    for l in &art.copper {
+    for (i, l) in art.copper.iter().enumerate() {
         let name = format!("L{}", l.n);
-        let copper = layer_copper(&l.regions, &l.flashes);
+        let copper = cu.copper(i);
         if l.n == 1 || l.n == n_layers {
-            let missing = disc.difference(&copper).unsigned_area();
+            let missing = disc.difference(copper).unsigned_area();
             if missing > slack::AREA {
                 out.push(Violation {
                     rule: Rule::ElectrodeExposed,
@@ -162,6 +168,7 @@ fn loop_rules(
     b: &Board,
     head: &crate::geom::LoopHead,
     art: &Artwork,
+    cu: &Coppers,
     g: (f64, f64, f64, f64),
     interior_too: bool,
 ) -> Vec<Violation> {
@@ -169,10 +176,9 @@ fn loop_rules(
     let (gx0, gy0, gx1, gy1) = g;
     let gap = MultiPolygon(vec![rect(gx0, gy0, gx1, gy1)]);
     let interior = MultiPolygon(vec![head.interior.clone()]);
-    for l in &art.copper {
+    for (i, l) in art.copper.iter().enumerate() {
         let name = format!("L{}", l.n);
-        let copper = layer_copper(&l.regions, &l.flashes);
-        let body = body_copper(l);
+        let (copper, body) = (cu.copper(i), cu.body(i));
         // No copper inside the loop (checked once, with the first gap).
         let inside = if interior_too {
             body.intersection(&interior).unsigned_area()
