@@ -9,7 +9,8 @@ fn time(l: &Line, a: Accuracy) -> (field::FieldSolution, f64) {
     let reps = 7;
     for _ in 0..reps {
         let t0 = Instant::now();
-        sol = Some(field::solve_line(l, a).unwrap());
+        // Uncached: `field::solve` keeps solutions, so a repeat would time a lookup.
+        sol = Some(field::solve_uncached(&field::cross_section_for_line(l), a).unwrap());
         ts.push(t0.elapsed().as_secs_f64());
     }
     ts.sort_by(f64::total_cmp);

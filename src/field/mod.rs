@@ -80,8 +80,8 @@ pub enum Accuracy {
     Refined(u32),
 }
 
-/// The smallest cell, at conductor corners, relative to the smallest feature (width,
-/// thickness, clearance, layer). Small enough that the corner cells' own error (first order
+/// The smallest cell, at conductor corners, relative to the smallest feature (a sheet's width,
+/// a clearance; ten times a thickness: `Resolved::min_feature`). Small enough that the corner cells' own error (first order
 /// in their size) stays far below the rest, so that the error falls as h² and Richardson's
 /// ratio 4 holds (`docs/field-solver.md`, "Mesh").
 const DELTA_REL: f64 = 1e-4;

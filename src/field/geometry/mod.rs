@@ -454,7 +454,9 @@ pub(crate) struct Resolved {
     pub dirichlet: [bool; 4],
     /// The structure's size (mm), the unit for tolerances.
     pub size: f64,
-    /// The smallest length that matters near the signal (widths, gaps, thicknesses), mm.
+    /// The smallest length that matters near the signal, mm: a sheet's width, a clearance, a
+    /// trapezoid's slope, or ten times a solid conductor's extent or a layer's or coat's
+    /// thickness (their corners are less singular than a sheet's edge).
     pub min_feature: f64,
     /// Mirror-symmetric about `x = 0`.
     pub symmetric: bool,

@@ -6,6 +6,10 @@ use super::*;
 use crate::error::{FieldError, fmt_num};
 use crate::model::line::MAX_LENGTH_MM;
 
+/// How many times over a solid conductor's extents and a layer's or coat's thickness count
+/// in the smallest feature (see `resolve`): their corners are less singular than a sheet's edge.
+const SOLID_FEATURE_WEIGHT: f64 = 10.0;
+
 impl CrossSection {
     /// Checks every field and the arrangement; returns every problem found.
     pub fn validate(&self) -> Vec<FieldError> {
@@ -370,13 +374,26 @@ impl CrossSection {
             return Err(errs);
         }
 
-        // The smallest feature near the signal: widths, thicknesses, clearances, layers.
+        // The smallest feature near the signal: widths, thicknesses, clearances, layers. The
+        // smallest cell is a fixed fraction of it, small enough for the edge of a sheet
+        // (a conductor of zero thickness or zero width), where the field grows as r^(−1/2) and
+        // the corner cell's energy error is first order in its size. A solid conductor's
+        // corners (field as r^(−1/3), error of order 4/3) and the corners of dielectric layers
+        // and coats (weaker still) need ten times less: their extents, and layer and coat
+        // thicknesses, count ten times over (a third fewer nodes on the probes' sections,
+        // whose 17.5–35 µm copper set the smallest cell; Z0 moved by about 1e-6).
         let mut min_feature = size;
         for c in &conductors {
             let [x0, x1, y0, y1] = c.bbox();
-            for v in [x1 - x0, y1 - y0] {
+            let (w, h) = (x1 - x0, y1 - y0);
+            let weight = if w > tol && h > tol {
+                SOLID_FEATURE_WEIGHT
+            } else {
+                1.0
+            };
+            for v in [w, h] {
                 if v > tol && v.is_finite() {
-                    min_feature = min_feature.min(v);
+                    min_feature = min_feature.min(weight * v);
                 }
             }
             if let Shape::Trapezoid { bottom, top, .. } = c.shape {
@@ -393,10 +410,10 @@ impl CrossSection {
             }
         }
         for l in &self.layers {
-            min_feature = min_feature.min(l.thickness);
+            min_feature = min_feature.min(SOLID_FEATURE_WEIGHT * l.thickness);
         }
         if let Some(c) = self.coat {
-            min_feature = min_feature.min(c.thickness);
+            min_feature = min_feature.min(SOLID_FEATURE_WEIGHT * c.thickness);
         }
 
         let resolved = Resolved {
