@@ -373,36 +373,58 @@ impl Response {
     /// the budget's tilted probe in a field of wave impedance η0, plus the largest change of
     /// |V_out| when the stub's electrical length is off by ±[`electric::STUB_LENGTH_TOL`].
     pub fn budget_error_db(&self, f: f64) -> f64 {
-        let tilt = BUDGET_TILT_DEG.to_radians().sin();
-        let e = electric::pickup_error_db(tilt * self.e_to_h(f, electric::ETA0));
-        let t0 = self.gap_transfer(f).abs();
+        Budget::new(self).error_db(f)
+    }
+}
+
+/// [`Response::budget_error_db`]'s response with its stub's length, and a multi-turn loop's
+/// turns' capacitance, off by their tolerances: each copy made once for a sweep of frequencies
+/// (a copy of the whole response per frequency was most of a sweep's time).
+struct Budget<'a> {
+    r: &'a Response,
+    /// The stub's length off by −, + [`electric::STUB_LENGTH_TOL`].
+    stub: [Response; 2],
+    /// The turns' capacitance off by −, + [`winding::C_TURNS_TOL`] (a multi-turn loop).
+    turns: Option<[Response; 2]>,
+}
+
+impl<'a> Budget<'a> {
+    fn new(r: &'a Response) -> Self {
         let stub = [
             1.0 - electric::STUB_LENGTH_TOL,
             1.0 + electric::STUB_LENGTH_TOL,
         ]
-        .iter()
         .map(|k| {
-            let mut q = self.clone();
+            let mut q = r.clone();
             q.l2_m *= k;
             if let Some(wd) = q.winding.as_mut() {
-                wd.scale_lengths(*k);
+                wd.scale_lengths(k);
             }
-            (20.0 * (q.gap_transfer(f).abs() / t0).log10()).abs()
-        })
-        .fold(0.0, f64::max);
+            q
+        });
+        let turns = r.winding.as_ref().map(|_| {
+            [1.0 - winding::C_TURNS_TOL, 1.0 + winding::C_TURNS_TOL].map(|k| {
+                let mut q = r.clone();
+                if let Some(wd) = q.winding.as_mut() {
+                    wd.c_turns *= k;
+                }
+                q
+            })
+        });
+        Budget { r, stub, turns }
+    }
+
+    /// The budget at `f` Hz, dB.
+    fn error_db(&self, f: f64) -> f64 {
+        let tilt = BUDGET_TILT_DEG.to_radians().sin();
+        let e = electric::pickup_error_db(tilt * self.r.e_to_h(f, electric::ETA0));
+        let t0 = self.r.gap_transfer(f).abs();
+        let change = |q: &Response| (20.0 * (q.gap_transfer(f).abs() / t0).log10()).abs();
+        let stub = self.stub.iter().map(change).fold(0.0, f64::max);
         // A multi-turn loop: and the turns' capacitance off by ±10 %.
-        let turns = match &self.winding {
+        let turns = match &self.turns {
             None => 0.0,
-            Some(_) => [1.0 - winding::C_TURNS_TOL, 1.0 + winding::C_TURNS_TOL]
-                .iter()
-                .map(|k| {
-                    let mut q = self.clone();
-                    if let Some(wd) = q.winding.as_mut() {
-                        wd.c_turns *= k;
-                    }
-                    (20.0 * (q.gap_transfer(f).abs() / t0).log10()).abs()
-                })
-                .fold(0.0, f64::max),
+            Some(t) => t.iter().map(change).fold(0.0, f64::max),
         };
         e + stub + turns
     }
@@ -682,7 +704,8 @@ pub fn log_frequencies(f_lo: f64, f_hi: f64, per_decade: usize) -> Result<Vec<f6
 /// The lowest frequency from `lo` up to `hi` (the first null) where the budget's error reaches
 /// [`electric::BUDGET_DB`], Hz: a log scan of 200 points per decade, then bisection.
 fn budget_frequency(r: &Response, lo: f64, hi: f64) -> Option<f64> {
-    let over = |f: f64| r.budget_error_db(f) >= electric::BUDGET_DB;
+    let budget = Budget::new(r);
+    let over = |f: f64| budget.error_db(f) >= electric::BUDGET_DB;
     if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && hi > lo) {
         return None;
     }
