@@ -94,6 +94,20 @@ pub const MAX_NODES: usize = 12_000_000;
 pub const MAX_REFINEMENT: u32 = 32;
 
 impl Accuracy {
+    /// Relative tolerance on the conjugate gradients' preconditioned residual: far enough
+    /// below the setting's own error that it does not show. Against solves to 1e-9 on the
+    /// demo's probe sections (loop arm, handle line, launch pad), Z0 was low by at most 1.2e-6
+    /// at 1e-5 (`Standard` is good to 6e-4, and the width searches stop within 2e-5) and by at
+    /// most 4e-7 at `Fine`'s 3e-6 (`Fine` is good to 1.5e-4); 1e-5 takes a fifth to a third less
+    /// time than 1e-6, 3e-5 errs by 2e-5. `Refined(m)` keeps [`CG_TOL_REFINED`].
+    fn cg_tol(self) -> f64 {
+        match self {
+            Accuracy::Draft | Accuracy::Standard => 1e-5,
+            Accuracy::Fine => 3e-6,
+            Accuracy::Refined(_) => CG_TOL_REFINED,
+        }
+    }
+
     /// Base-mesh growth rate and refinement level of the coarser mesh.
     fn mesh(self) -> (MeshParams, u32) {
         let growth = match self {
@@ -156,13 +170,12 @@ pub struct MeshResult {
     pub iterations: usize,
 }
 
-/// Relative tolerance on the preconditioned residual. The energy (capacitance) error it leaves
-/// is quadratic in the potential's error: measured on the demo's `predict` against 1e-10, the
-/// loops' corner frequencies moved by 4e-9 and 6e-9 (relative) at 1e-6, by 3e-7 at 1e-5, and
-/// the demo fixture's taper sections (1e-7 against 1e-6) by at most 1e-7 in Z0, while `Standard`
-/// itself is good to about 6e-4. Tighter tolerances only cost time (1e-7 took 1.5 times
-/// as long for the demo's `predict`).
-const CG_TOL: f64 = 1e-6;
+/// Relative tolerance on the preconditioned residual for `Refined(m)` (the reference studies).
+/// The energy (capacitance) error it leaves is quadratic in the potential's error and
+/// one-signed (C high): measured on the demo's `predict` against 1e-10, the loops' corner
+/// frequencies moved by 4e-9 and 6e-9 (relative) at 1e-6 and the demo fixture's taper sections
+/// by at most 1e-7 in Z0. The other settings stop earlier ([`Accuracy::cg_tol`]).
+const CG_TOL_REFINED: f64 = 1e-6;
 
 /// Solves a cross-section at an accuracy level.
 ///
@@ -331,7 +344,7 @@ pub fn ground_charge(
     let (half, coarse, fine) = grids(cs, acc)?;
     let (guess, energy_coarse) = {
         let sys = System::new(&coarse, &coarse.eps);
-        let (phi, _, ok) = sys.solve(None, CG_TOL);
+        let (phi, _, ok) = sys.solve(None, acc.cg_tol());
         check(ok)?;
         (
             solver::prolong(&phi, coarse.nx(), coarse.ny()),
@@ -339,7 +352,7 @@ pub fn ground_charge(
         )
     };
     let sys = System::new(&fine, &fine.eps);
-    let (phi, _, ok) = sys.solve(Some(&guess), CG_TOL);
+    let (phi, _, ok) = sys.solve(Some(&guess), acc.cg_tol());
     check(ok)?;
     // The distribution is the finer mesh's; its scale is Richardson's, as in [`solve`]: the
     // line's charge (its capacitance) extrapolated from the two meshes' energies, so that the
@@ -415,7 +428,8 @@ pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
         let (r, g) = base_grid(cs, Accuracy::Draft)?;
         let factor = if r.symmetric { 2.0 } else { 1.0 } * EPS0;
         let homogeneous = g.eps.iter().all(|&e| e == g.eps[0]);
-        let run = run_mesh(&g, None, factor, homogeneous, true)?;
+        let tol = Accuracy::Draft.cg_tol();
+        let run = run_mesh(&g, None, factor, homogeneous, true, tol)?;
         let result = run.result(1, &g);
         Ok(FieldSolution {
             z0_ohms: result.z0_ohms,
@@ -439,7 +453,7 @@ fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSol
 
     // One permittivity everywhere (a homogeneous stripline): C0 = C/εr exactly, one solve.
     let homogeneous = coarse.eps.iter().all(|&e| e == coarse.eps[0]);
-    let run = |g, guess| run_mesh(g, guess, factor, homogeneous, vacuum);
+    let run = |g, guess| run_mesh(g, guess, factor, homogeneous, vacuum, acc.cg_tol());
     let rc = run(&coarse, None)?;
     let pf = solver::prolong(&rc.phi, coarse.nx(), coarse.ny());
     let pf0 = if vacuum {
@@ -490,16 +504,18 @@ impl Run {
 
 /// Solves one mesh: C (F/m, the energy times `factor`), and C0 with every dielectric replaced by
 /// vacuum when `vacuum` (C/εr when `homogeneous`, NaN without `vacuum`), from the potentials
-/// `guess` (with and without the dielectrics) or from zero.
+/// `guess` (a coarser mesh's, with and without the dielectrics, prolonged) or from zero, each
+/// conjugate-gradient solve to the residual `tol`.
 fn run_mesh(
     g: &mesh::Grid,
     guess: Option<(&[f64], &[f64])>,
     factor: f64,
     homogeneous: bool,
     vacuum: bool,
+    tol: f64,
 ) -> Result<Run, Error> {
     let sys = System::new(g, &g.eps);
-    let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), CG_TOL);
+    let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), tol);
     let c = factor * sys.energy(&phi);
     if homogeneous || !vacuum {
         let c0 = if vacuum { c / g.eps[0] } else { f64::NAN };
@@ -513,7 +529,18 @@ fn run_mesh(
     }
     let ones = vec![1.0; g.eps.len()];
     let sys0 = System::new(g, &ones);
-    let (phi0, it0, ok0) = sys0.solve(Some(guess.map_or(&phi, |p| p.1)), CG_TOL);
+    // The vacuum solve starts from this mesh's solution with the dielectrics, corrected by
+    // the change the vacuum made on the coarser mesh (prolonged): the two potentials share
+    // their fine detail round the corners, which the coarser mesh's vacuum solution lacks.
+    let guess0: Vec<f64> = match guess {
+        Some((pf, pf0)) => phi
+            .iter()
+            .zip(pf.iter().zip(pf0))
+            .map(|(a, (b, c))| a + (c - b))
+            .collect(),
+        None => phi.clone(),
+    };
+    let (phi0, it0, ok0) = sys0.solve(Some(&guess0), tol);
     let c0 = factor * sys0.energy(&phi0);
     check(ok1 && ok0).map(|_| Run {
         c,
@@ -588,7 +615,7 @@ mod tests {
         };
         let grid = mesh::build(&r, &plan, &params, m);
         let sys = System::new(&grid, &grid.eps);
-        let (phi, _, converged) = sys.solve(None, CG_TOL);
+        let (phi, _, converged) = sys.solve(None, CG_TOL_REFINED);
         assert!(converged);
         // C/ε0 = (p/2)/(l + x_eq) for a uniform field between the plate and the wall.
         half / sys.energy(&phi) - l
