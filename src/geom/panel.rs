@@ -229,11 +229,25 @@ pub fn layout(panel: &Panel, blanks: &[Blank]) -> Result<PanelLayout, Error> {
     let panel_rect = rect(0.0, 0.0, pw, ph);
     // Material a tab may reach: inside the panel, in no channel and no milled interior (or on
     // another board).
+    // Each channel and interior with its bounding box, which settles most points without
+    // walking the outline.
+    let boxed = |m: Option<geo::Rect<f64>>| m.map(|r| (r.min(), r.max()));
+    let channel_boxes: Vec<_> = channels.iter().map(|c| boxed(c.bounding_rect())).collect();
+    let interior_boxes: Vec<_> = interiors.iter().map(|c| boxed(c.bounding_rect())).collect();
+    let in_box = |b: &Option<(Coord<f64>, Coord<f64>)>, q: Point| {
+        b.is_some_and(|(lo, hi)| q.x >= lo.x && q.x <= hi.x && q.y >= lo.y && q.y <= hi.y)
+    };
     let reaches = |q: Point| -> bool {
         let g = geo::Point::new(q.x, q.y);
         panel_rect.contains(&g)
-            && !channels.iter().any(|c| c.contains(&g))
-            && !interiors.iter().any(|c| c.contains(&g))
+            && !channels
+                .iter()
+                .zip(&channel_boxes)
+                .any(|(c, b)| in_box(b, q) && c.contains(&g))
+            && !interiors
+                .iter()
+                .zip(&interior_boxes)
+                .any(|(c, b)| in_box(b, q) && c.contains(&g))
     };
     // Every board's keep-outs: a tab may not land on a neighbour's loop or connector edge
     // either.
