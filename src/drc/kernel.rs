@@ -75,6 +75,8 @@ pub(super) fn body_copper(l: &crate::artwork::CopperLayer) -> MultiPolygon<f64> 
 /// grew about as the square of the number of vias.
 pub fn layer_copper(regions: &MultiPolygon<f64>, flashes: &[Flash]) -> MultiPolygon<f64> {
     use geo::orient::{Direction, Orient};
+    let inside = Inside::new(regions);
+    let flashes: Vec<&Flash> = flashes.iter().filter(|f| !inside.holds(f)).collect();
     if flashes.is_empty() {
         return regions.clone();
     }
@@ -82,10 +84,87 @@ pub fn layer_copper(regions: &MultiPolygon<f64>, flashes: &[Flash]) -> MultiPoly
         .0
         .iter()
         .cloned()
-        .chain(flashes.iter().map(flash_polygon))
+        .chain(flashes.iter().map(|f| flash_polygon(f)))
         .map(|p| p.orient(Direction::Default))
         .collect();
     geo::unary_union(&polys)
+}
+
+/// Which flashes lie wholly inside a region's copper (a via's pad in the ground pour, most of a
+/// probe's): they add nothing to the union, so [`layer_copper`] leaves them out (the union of
+/// the rest is the same polygons; its cost is in the number of edges it sorts).
+struct Inside {
+    /// Each region polygon's rings (closed point lists) and bounding box.
+    polys: Vec<(Rings, geo::Rect<f64>)>,
+}
+
+/// A polygon's rings, exterior first, each closed.
+type Rings = Vec<Vec<Coord<f64>>>;
+
+impl Inside {
+    fn new(regions: &MultiPolygon<f64>) -> Self {
+        use geo::BoundingRect;
+        let polys = regions
+            .0
+            .iter()
+            .filter_map(|p| {
+                let rings = std::iter::once(p.exterior())
+                    .chain(p.interiors())
+                    .map(|r| r.0.clone())
+                    .collect();
+                p.bounding_rect().map(|b| (rings, b))
+            })
+            .collect();
+        Inside { polys }
+    }
+
+    /// Whether the flash's polygon lies inside one region polygon, clear of its every edge:
+    /// its centre inside (even-odd over the rings) and every edge farther than the flash's
+    /// reach (its polygon's vertices lie on its circle, or its rectangle's corners).
+    fn holds(&self, fl: &Flash) -> bool {
+        let reach = match fl.shape {
+            Shape::Circle(d) => d / 2.0,
+            Shape::Rect(w, h) => 0.5 * w.hypot(h),
+        };
+        let (c, margin) = (fl.at, 1e-9 * (1.0 + fl.at.x.abs() + fl.at.y.abs()));
+        let need = reach + margin;
+        self.polys.iter().any(|(rings, b)| {
+            if c.x - need < b.min().x
+                || c.x + need > b.max().x
+                || c.y - need < b.min().y
+                || c.y + need > b.max().y
+            {
+                return false;
+            }
+            let mut odd = false;
+            for r in rings {
+                for w in r.windows(2) {
+                    let (a, e) = (Point::new(w[0].x, w[0].y), Point::new(w[1].x, w[1].y));
+                    if point_segment_distance(c, a, e) <= need {
+                        return false;
+                    }
+                    if (a.y > c.y) != (e.y > c.y)
+                        && c.x < (e.x - a.x) * (c.y - a.y) / (e.y - a.y) + a.x
+                    {
+                        odd = !odd;
+                    }
+                }
+            }
+            odd
+        })
+    }
+}
+
+/// Distance from `p` to the segment `a`–`b`.
+fn point_segment_distance(p: Point, a: Point, b: Point) -> f64 {
+    let ab = b - a;
+    let l2 = ab.hypot2();
+    let t = if l2 == 0.0 {
+        0.0
+    } else {
+        ((p - a).dot(ab) / l2).clamp(0.0, 1.0)
+    };
+    (p - (a + ab * t)).hypot()
 }
 
 pub(super) struct Seg {
@@ -224,4 +303,64 @@ pub(super) fn nearest_neighbours(
         all.push((*v, nn));
     }
     all
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::artwork::PadFunction;
+    use geo::{Area, BooleanOps};
+
+    fn via(x: f64, y: f64, d: f64) -> Flash {
+        Flash {
+            at: Point::new(x, y),
+            shape: Shape::Circle(d),
+            function: PadFunction::Via,
+        }
+    }
+
+    // A pour with a hole: pads well inside it are left out of the union, pads that cross its
+    // edge, sit in its hole, touch the hole's edge or stand outside are kept; and the copper
+    // is the union of everything (its area and its difference from the whole union are the
+    // arithmetic check).
+    #[test]
+    fn pads_inside_the_pour_are_left_out_and_the_copper_is_unchanged() {
+        let pour = rect(0.0, 0.0, 10.0, 6.0)
+            .difference(&rect(4.0, 2.0, 6.0, 4.0))
+            .0
+            .remove(0);
+        let regions = MultiPolygon(vec![pour]);
+        let pads = [
+            via(1.0, 1.0, 0.6),  // inside
+            via(8.0, 5.0, 0.6),  // inside
+            via(0.1, 3.0, 0.6),  // across the outer edge
+            via(5.0, 3.0, 0.6),  // in the hole
+            via(4.0, 3.0, 0.6),  // on the hole's edge
+            via(3.65, 3.0, 0.6), // 0.05 mm clear of the hole's edge: inside
+            via(3.8, 3.0, 0.6),  // reaching 0.1 mm into the hole
+            via(12.0, 3.0, 0.6), // outside
+            Flash {
+                at: Point::new(2.0, 5.0),
+                shape: Shape::Rect(1.0, 0.5),
+                function: PadFunction::Via,
+            }, // inside
+        ];
+        let inside = Inside::new(&regions);
+        let held: Vec<bool> = pads.iter().map(|f| inside.holds(f)).collect();
+        assert_eq!(
+            held,
+            [true, true, false, false, false, true, false, false, true],
+            "{held:?}"
+        );
+        let all: Vec<geo::Polygon<f64>> = regions
+            .0
+            .iter()
+            .cloned()
+            .chain(pads.iter().map(flash_polygon))
+            .collect();
+        let whole = geo::unary_union(&all);
+        let copper = layer_copper(&regions, &pads);
+        assert!((copper.unsigned_area() - whole.unsigned_area()).abs() < 1e-9);
+        assert!(copper.xor(&whole).unsigned_area() < 1e-9);
+    }
 }
