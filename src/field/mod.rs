@@ -75,15 +75,16 @@ pub enum Accuracy {
     /// Z0 error at most about 0.015 %; about 2.5 times the work of `Standard`.
     Fine,
     /// The `Standard` mesh with every cell split into `m` (1 ≤ m ≤ [`MAX_REFINEMENT`]),
-    /// solved at `m` and `2m`: for refinement studies. `Refined(1)` is `Standard`. The work
-    /// grows somewhat faster than m².
+    /// solved at `m` and `2m`, each to a residual of 1e-6: for refinement studies.
+    /// `Refined(1)` is the `Standard` meshes solved to that tighter residual (Z0 within about
+    /// 1e-6 of `Standard`'s). The work grows somewhat faster than m².
     Refined(u32),
 }
 
 /// The smallest cell, at conductor corners, relative to the smallest feature (a sheet's width,
-/// a clearance; ten times a thickness: `Resolved::min_feature`). Small enough that the corner cells' own error (first order
-/// in their size) stays far below the rest, so that the error falls as h² and Richardson's
-/// ratio 4 holds (`docs/field-solver.md`, "Mesh").
+/// a clearance; ten times a thickness: `Resolved::min_feature`). Small enough that the corner
+/// cells' own error (first order in their size) stays far below the rest, so that the error
+/// falls as h² and Richardson's ratio 4 holds (`docs/field-solver.md`, "Mesh").
 const DELTA_REL: f64 = 1e-4;
 
 /// Largest mesh (nodes of the finer mesh) [`solve`] builds; beyond it the geometry is
@@ -171,8 +172,8 @@ pub struct MeshResult {
 }
 
 /// Relative tolerance on the preconditioned residual for `Refined(m)` (the reference studies).
-/// The energy (capacitance) error it leaves is quadratic in the potential's error and
-/// one-signed (C high): measured on the demo's `predict` against 1e-10, the loops' corner
+/// The energy (capacitance) error it leaves is quadratic in the potential's error and, on
+/// each mesh, one-signed (C high): measured on the demo's `predict` against 1e-10, the loops' corner
 /// frequencies moved by 4e-9 and 6e-9 (relative) at 1e-6 and the demo fixture's taper sections
 /// by at most 1e-7 in Z0. The other settings stop earlier ([`Accuracy::cg_tol`]).
 const CG_TOL_REFINED: f64 = 1e-6;
@@ -418,7 +419,7 @@ pub fn ground_charge(
 
 /// A rough characteristic impedance, Ω, for searches that a full solution then polishes
 /// (`solve::roots::polish`): the `Draft` base mesh alone, with no second mesh and no
-/// extrapolation: 2–4 ms where a `Standard` solution of the same section takes 30–60 (the
+/// extrapolation: a few ms where a `Standard` solution of the same section takes 20–30 (the
 /// demo's searches). Its error (2.5–3.4 % on the demo's loop arm, from the mesh's size) varies
 /// slowly enough with the geometry that its root is within a few per cent of the full
 /// solution's and its slope within about 6 %: a polish then needs two or three full solutions.
