@@ -428,9 +428,7 @@ pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
     kept_or(format!("rough|{cs:?}"), || {
         let (r, g) = base_grid(cs, Accuracy::Draft)?;
         let factor = if r.symmetric { 2.0 } else { 1.0 } * EPS0;
-        let homogeneous = g.eps.iter().all(|&e| e == g.eps[0]);
-        let tol = Accuracy::Draft.cg_tol();
-        let run = run_mesh(&g, None, factor, homogeneous, true, tol)?;
+        let run = run_mesh(&g, None, factor, true, Accuracy::Draft.cg_tol())?;
         let result = run.result(1, &g);
         Ok(FieldSolution {
             z0_ohms: result.z0_ohms,
@@ -452,9 +450,7 @@ fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSol
     let m = acc.mesh().1;
     let factor = if half { 2.0 } else { 1.0 } * EPS0;
 
-    // One permittivity everywhere (a homogeneous stripline): C0 = C/εr exactly, one solve.
-    let homogeneous = coarse.eps.iter().all(|&e| e == coarse.eps[0]);
-    let run = |g, guess| run_mesh(g, guess, factor, homogeneous, vacuum, acc.cg_tol());
+    let run = |g, guess| run_mesh(g, guess, factor, vacuum, acc.cg_tol());
     let rc = run(&coarse, None)?;
     let pf = solver::prolong(&rc.phi, coarse.nx(), coarse.ny());
     let pf0 = if vacuum {
@@ -504,20 +500,21 @@ impl Run {
 }
 
 /// Solves one mesh: C (F/m, the energy times `factor`), and C0 with every dielectric replaced by
-/// vacuum when `vacuum` (C/εr when `homogeneous`, NaN without `vacuum`), from the potentials
+/// vacuum when `vacuum` (NaN without `vacuum`), from the potentials
 /// `guess` (a coarser mesh's, with and without the dielectrics, prolonged) or from zero, each
 /// conjugate-gradient solve to the residual `tol`.
 fn run_mesh(
     g: &mesh::Grid,
     guess: Option<(&[f64], &[f64])>,
     factor: f64,
-    homogeneous: bool,
     vacuum: bool,
     tol: f64,
 ) -> Result<Run, Error> {
     let sys = System::new(g, &g.eps);
     let (phi, it1, ok1) = sys.solve(guess.map(|p| p.0), tol);
     let c = factor * sys.energy(&phi);
+    // One permittivity everywhere (a homogeneous stripline): C0 = C/εr exactly, one solve.
+    let homogeneous = g.eps.iter().all(|&e| e == g.eps[0]);
     if homogeneous || !vacuum {
         let c0 = if vacuum { c / g.eps[0] } else { f64::NAN };
         return check(ok1).map(|_| Run {

@@ -44,9 +44,8 @@ pub fn solve_width_near(
     guess: f64,
     target: f64,
 ) -> Result<f64, Error> {
-    const TOL: f64 = NEAR_TOL;
     let (mut w0, mut z0) = (guess, z_of(guess)?);
-    if (z0 - target).abs() < TOL {
+    if (z0 - target).abs() < NEAR_TOL {
         return Ok(w0);
     }
     let mut w1 = if z0 > target {
@@ -56,7 +55,7 @@ pub fn solve_width_near(
     };
     let mut z1 = z_of(w1)?;
     for _ in 0..25 {
-        if (z1 - target).abs() < TOL {
+        if (z1 - target).abs() < NEAR_TOL {
             return Ok(w1);
         }
         let slope = (z1 - z0) / (w1.ln() - w0.ln());
