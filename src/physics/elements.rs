@@ -148,32 +148,6 @@ pub fn apex_path(shape: &LoopShape, s: f64) -> (f64, f64) {
     }
 }
 
-/// Flux per ampere divided by μ0 (m) through the gap correction's stream function (the
-/// counterpart of [`flux_filaments`] for [`shield_gap::GapCurrent::points`]): each point at its
-/// arc length from the gap (on the round loop of radius `r_eq` it was solved on) is placed on
-/// the shape's own path below the apex `z0`, its plane `z` further sideways than `x`.
-pub fn flux_gap(
-    shape: &LoopShape,
-    points: &[shield_gap::GapPoint],
-    r_eq: f64,
-    field: impl Fn(f64, f64) -> f64,
-    x: f64,
-    z0: f64,
-) -> f64 {
-    points
-        .iter()
-        .map(|q| {
-            let th = if q.theta > PI {
-                q.theta - 2.0 * PI
-            } else {
-                q.theta
-            };
-            let (depth, down) = apex_path(shape, r_eq * th);
-            q.w * field(x + q.z, z0 + depth - q.d * down)
-        })
-        .sum()
-}
-
 /// The loop's centreline as a closed polygon, m.
 pub(super) fn centreline_m(shape: &LoopShape) -> Vec<(f64, f64)> {
     crate::model::centreline::closed(shape, 0.0)
@@ -241,12 +215,86 @@ pub fn flux_filaments(
     x: f64,
     z0: f64,
 ) -> f64 {
-    fil.iter()
-        .map(|&(d, z, s)| {
-            let sh = offset_shape(shape, d * 1e3);
-            s * integrate_over_loop(&sh, |u| field(x + z, z0 - d + u))
-        })
-        .sum()
+    FluxSampler::new(shape, fil, &[], 0.0).flux_filaments(&field, x, z0)
+}
+
+/// Flux per ampere divided by μ0 (m) through the gap correction's stream function (the
+/// counterpart of [`flux_filaments`] for [`shield_gap::GapCurrent::points`]): each point at its
+/// arc length from the gap (on the round loop of radius `r_eq` it was solved on) is placed on
+/// the shape's own path below the apex `z0`, its plane `z` further sideways than `x`.
+pub fn flux_gap(
+    shape: &LoopShape,
+    points: &[shield_gap::GapPoint],
+    r_eq: f64,
+    field: impl Fn(f64, f64) -> f64,
+    x: f64,
+    z0: f64,
+) -> f64 {
+    FluxSampler::new(shape, &[], points, r_eq).flux_gap(&field, x, z0)
+}
+
+/// [`loop_nodes`]' list: (u m, weight·chord m²).
+type LoopNodes = Vec<(f64, f64)>;
+
+/// Where [`flux_filaments`] and [`flux_gap`] sample a field, and with what weights, for one
+/// loop: worked out once, so that a search moving the loop across a field (the resolution's)
+/// evaluates only the field at each step. The same sums, term for term, as the two functions.
+pub struct FluxSampler {
+    /// Per filament: its share, plane offset z, apex drop d, and its offset shape's
+    /// [`loop_nodes`].
+    filaments: Vec<(f64, f64, f64, LoopNodes)>,
+    /// Per gap point: plane offset z, depth below the apex, the offset's drop d·down, weight.
+    gap: Vec<(f64, f64, f64, f64)>,
+}
+
+impl FluxSampler {
+    /// The samples of the filaments `fil` and the gap points `points` (solved on the round
+    /// loop of radius `r_eq`) of `shape`.
+    pub fn new(
+        shape: &LoopShape,
+        fil: &[(f64, f64, f64)],
+        points: &[shield_gap::GapPoint],
+        r_eq: f64,
+    ) -> FluxSampler {
+        let filaments = fil
+            .iter()
+            .map(|&(d, z, s)| (s, z, d, loop_nodes(&offset_shape(shape, d * 1e3))))
+            .collect();
+        let gap = points
+            .iter()
+            .map(|q| {
+                let th = if q.theta > PI {
+                    q.theta - 2.0 * PI
+                } else {
+                    q.theta
+                };
+                let (depth, down) = apex_path(shape, r_eq * th);
+                (q.z, depth, q.d * down, q.w)
+            })
+            .collect();
+        FluxSampler { filaments, gap }
+    }
+
+    /// The filaments' flux ([`flux_filaments`]).
+    pub fn flux_filaments(&self, field: impl Fn(f64, f64) -> f64, x: f64, z0: f64) -> f64 {
+        self.filaments
+            .iter()
+            .map(|(s, z, d, nodes)| s * integrate_nodes(nodes, |u| field(x + z, z0 - d + u)))
+            .sum()
+    }
+
+    /// The gap points' flux ([`flux_gap`]).
+    pub fn flux_gap(&self, field: impl Fn(f64, f64) -> f64, x: f64, z0: f64) -> f64 {
+        self.gap
+            .iter()
+            .map(|&(z, depth, dd, w)| w * field(x + z, z0 + depth - dd))
+            .sum()
+    }
+
+    /// Both: the flux of [`Response::flux_through`].
+    pub fn flux(&self, field: impl Fn(f64, f64) -> f64, x: f64, z0: f64) -> f64 {
+        self.flux_filaments(&field, x, z0) + self.flux_gap(&field, x, z0)
+    }
 }
 
 /// Capacitance across the shield gap, F: the 2-D field solution of the cut along the loop

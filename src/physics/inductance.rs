@@ -122,31 +122,35 @@ pub fn loop_height_mm(shape: &LoopShape) -> f64 {
 }
 
 /// Gauss–Legendre nodes and weights on [−1, 1], 24 points (Abramowitz & Stegun 25.4.30).
-pub(super) fn gauss24() -> (Vec<f64>, Vec<f64>) {
-    // Computed by Newton iteration on P24 (standard construction), so no table is typed in.
-    let n = 24;
-    let mut x = vec![0.0; n];
-    let mut w = vec![0.0; n];
-    for i in 0..n {
-        let mut z = (PI * (i as f64 + 0.75) / (n as f64 + 0.5)).cos();
-        for _ in 0..100 {
-            let (mut p1, mut p2) = (1.0, 0.0);
-            for j in 0..n {
-                let p3 = p2;
-                p2 = p1;
-                p1 = ((2 * j + 1) as f64 * z * p2 - j as f64 * p3) / (j + 1) as f64;
-            }
-            let pp = n as f64 * (z * p1 - p2) / (z * z - 1.0);
-            let z1 = z;
-            z = z1 - p1 / pp;
-            if (z - z1).abs() < 1e-15 {
-                x[i] = z;
-                w[i] = 2.0 / ((1.0 - z * z) * pp * pp);
-                break;
+/// Computed once per process.
+pub(super) fn gauss24() -> &'static (Vec<f64>, Vec<f64>) {
+    static NODES: std::sync::OnceLock<(Vec<f64>, Vec<f64>)> = std::sync::OnceLock::new();
+    NODES.get_or_init(|| {
+        // Computed by Newton iteration on P24 (standard construction), so no table is typed in.
+        let n = 24;
+        let mut x = vec![0.0; n];
+        let mut w = vec![0.0; n];
+        for i in 0..n {
+            let mut z = (PI * (i as f64 + 0.75) / (n as f64 + 0.5)).cos();
+            for _ in 0..100 {
+                let (mut p1, mut p2) = (1.0, 0.0);
+                for j in 0..n {
+                    let p3 = p2;
+                    p2 = p1;
+                    p1 = ((2 * j + 1) as f64 * z * p2 - j as f64 * p3) / (j + 1) as f64;
+                }
+                let pp = n as f64 * (z * p1 - p2) / (z * z - 1.0);
+                let z1 = z;
+                z = z1 - p1 / pp;
+                if (z - z1).abs() < 1e-15 {
+                    x[i] = z;
+                    w[i] = 2.0 / ((1.0 - z * z) * pp * pp);
+                    break;
+                }
             }
         }
-    }
-    (x, w)
+        (x, w)
+    })
 }
 
 /// Flux per ampere (divided by μ0: m) through the loop when its apex is `z0` (m) above a line
@@ -159,17 +163,32 @@ pub fn flux_per_amp(shape: &LoopShape, x: f64, z0: f64, h: f64) -> f64 {
 /// ∫ chord(u)·hx(u) du over the loop's height (u in m below the apex, chord in m), by
 /// composite Gauss–Legendre on panels that crowd towards the apex, where fields are strongest.
 pub fn integrate_over_loop(shape: &LoopShape, hx: impl Fn(f64) -> f64) -> f64 {
+    integrate_nodes(&loop_nodes(shape), hx)
+}
+
+/// [`integrate_over_loop`]'s nodes for `shape`: (u m, weight·chord m²) of each, in its order.
+/// A search that integrates many fields over one loop takes them once.
+pub fn loop_nodes(shape: &LoopShape) -> Vec<(f64, f64)> {
     let height = loop_height_mm(shape) * 1e-3;
     let (gx, gw) = gauss24();
     let panels = 16;
-    let mut s = 0.0;
+    let mut nodes = Vec::with_capacity(panels * gx.len());
     for p in 0..panels {
         let a = height * (p as f64 / panels as f64).powi(2);
         let b = height * ((p + 1) as f64 / panels as f64).powi(2);
-        for (xi, wi) in gx.iter().zip(&gw) {
+        for (xi, wi) in gx.iter().zip(gw) {
             let u = 0.5 * (a + b) + 0.5 * (b - a) * xi;
-            s += 0.5 * (b - a) * wi * chord_mm(shape, u * 1e3) * 1e-3 * hx(u);
+            nodes.push((u, 0.5 * (b - a) * wi * chord_mm(shape, u * 1e3) * 1e-3));
         }
+    }
+    nodes
+}
+
+/// Σ weight·hx(u) over [`loop_nodes`] (the sum [`integrate_over_loop`] takes).
+pub fn integrate_nodes(nodes: &[(f64, f64)], hx: impl Fn(f64) -> f64) -> f64 {
+    let mut s = 0.0;
+    for &(u, c) in nodes {
+        s += c * hx(u);
     }
     s
 }

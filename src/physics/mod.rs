@@ -227,8 +227,12 @@ impl Response {
         x: f64,
         z0: f64,
     ) -> f64 {
-        flux_filaments(shape, &self.filaments, &field, x, z0)
-            + flux_gap(shape, &self.gap_points, self.gap_radius_m, &field, x, z0)
+        self.flux_sampler(shape).flux(field, x, z0)
+    }
+
+    /// The samples of [`Response::flux_through`] for `shape`, for many fields or offsets.
+    pub fn flux_sampler(&self, shape: &LoopShape) -> FluxSampler {
+        FluxSampler::new(shape, &self.filaments, &self.gap_points, self.gap_radius_m)
     }
 
     /// Propagation constant γ = α + jβ of the inner line at `f` Hz, 1/m: conductor loss
@@ -646,7 +650,8 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     // Coupling to a trace: the apex of the centreline is the tip's edge distance further up.
     let z0 = o.height_mm * 1e-3 + tip_to_apex_m(p, s);
     let h = o.trace_h_mm * 1e-3;
-    let flux = |x: f64| r.flux_through(shape, |xx, zz| hx_line(xx, zz, h), x, z0);
+    let sampler = r.flux_sampler(shape);
+    let flux = |x: f64| sampler.flux(|xx, zz| hx_line(xx, zz, h), x, z0);
     let flux0 = flux(0.0);
     // The filaments sit on both sides of the board's mid-plane, so the scan is symmetric about
     // x = 0 only to first order: take the −6 dB points on both sides.
