@@ -167,6 +167,20 @@ pub fn scaled(v: f64, unit: f64) -> f64 {
     format!("{p:.14e}").parse().unwrap_or(p)
 }
 
+/// Σ a_i·b_i in four interleaved partial sums (vectorisable; the order of a plain sum is not).
+pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
+    let mut acc = [0.0; 4];
+    let (qa, qb) = (a.chunks_exact(4), b.chunks_exact(4));
+    let (ra, rb) = (qa.remainder(), qb.remainder());
+    for (x, y) in qa.zip(qb) {
+        for c in 0..4 {
+            acc[c] += x[c] * y[c];
+        }
+    }
+    let tail: f64 = ra.iter().zip(rb).map(|(x, y)| x * y).sum();
+    (acc[0] + acc[1]) + (acc[2] + acc[3]) + tail
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

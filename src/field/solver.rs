@@ -16,6 +16,7 @@
 //! principle; see `docs/field-solver.md`).
 
 use super::mesh::{FREE, Grid, SIGNAL};
+use crate::math::dot;
 
 /// Vacuum permittivity ε0 = 1/(μ0·c0²), F/m (CODATA 2022 μ0 = 1.25663706127e-6 H/m).
 pub use crate::math::EPS0;
@@ -441,20 +442,6 @@ impl Chains {
             }
         }
     }
-}
-
-/// Σ a_i·b_i in four interleaved partial sums (vectorisable; the order of a plain sum is not).
-fn dot(a: &[f64], b: &[f64]) -> f64 {
-    let mut acc = [0.0; 4];
-    let (qa, qb) = (a.chunks_exact(4), b.chunks_exact(4));
-    let (ra, rb) = (qa.remainder(), qb.remainder());
-    for (x, y) in qa.zip(qb) {
-        for c in 0..4 {
-            acc[c] += x[c] * y[c];
-        }
-    }
-    let tail: f64 = ra.iter().zip(rb).map(|(x, y)| x * y).sum();
-    (acc[0] + acc[1]) + (acc[2] + acc[3]) + tail
 }
 
 /// Bilinear prolongation of a potential from a grid to the grid with every cell halved.

@@ -30,6 +30,7 @@
 //! round solution. An approximation, stated in `docs/response.md`.
 
 use super::{MU0, maxwell_coaxial, neumann_loop};
+use crate::math::dot;
 use std::f64::consts::PI;
 
 /// One thin copper plate of the shield ring's cross-section (m): `z` across the board from its
@@ -142,23 +143,20 @@ fn ribbon_mutual(r: f64, a: &Plate, b: &Plate) -> f64 {
 
 /// Cholesky factorisation of a symmetric positive-definite matrix (row-major, n × n) in place:
 /// the lower triangle becomes L with A = L·Lᵀ. False when the matrix is not positive definite.
+/// The row products are [`dot`]s (four interleaved partial sums).
 pub(crate) fn cholesky_factor(a: &mut [f64], n: usize) -> bool {
     for j in 0..n {
-        let mut d = a[j * n + j];
-        for k in 0..j {
-            d -= a[j * n + k] * a[j * n + k];
-        }
+        let (above, rest) = a.split_at_mut((j + 1) * n);
+        let row_j = &mut above[j * n..];
+        let d = row_j[j] - dot(&row_j[..j], &row_j[..j]);
         if d <= 0.0 || !d.is_finite() {
             return false;
         }
         let d = d.sqrt();
-        a[j * n + j] = d;
-        for i in j + 1..n {
-            let mut s = a[i * n + j];
-            for k in 0..j {
-                s -= a[i * n + k] * a[j * n + k];
-            }
-            a[i * n + j] = s / d;
+        row_j[j] = d;
+        let lj = &row_j[..j];
+        for row_i in rest.chunks_exact_mut(n) {
+            row_i[j] = (row_i[j] - dot(&row_i[..j], lj)) / d;
         }
     }
     true
@@ -167,11 +165,7 @@ pub(crate) fn cholesky_factor(a: &mut [f64], n: usize) -> bool {
 /// Solves L·Lᵀ·x = b in place with the factor of [`cholesky_factor`].
 pub(crate) fn cholesky_substitute(l: &[f64], n: usize, b: &mut [f64]) {
     for i in 0..n {
-        let mut s = b[i];
-        for k in 0..i {
-            s -= l[i * n + k] * b[k];
-        }
-        b[i] = s / l[i * n + i];
+        b[i] = (b[i] - dot(&l[i * n..i * n + i], &b[..i])) / l[i * n + i];
     }
     for i in (0..n).rev() {
         let mut s = b[i];

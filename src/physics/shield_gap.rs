@@ -165,46 +165,44 @@ fn plate_nodes(p: &Plate, n: usize, wf: f64) -> Vec<f64> {
 
 /// Inverts a symmetric positive-definite matrix (row-major, n × n). `None` when it is not.
 ///
-/// The n right-hand sides of the identity are substituted together, row by row (each row of the
-/// result is a combination of earlier rows, which vectorises), in the very order of operations
-/// a column-by-column substitution ([`cholesky_substitute`]) takes for each element: the same
-/// bits, several times faster.
+/// From its Cholesky factor: W = L⁻¹ row by row (lower triangular), then A⁻¹ = Wᵀ·W on the
+/// lower triangle, mirrored: about n³/2 multiply-adds, each step a vectorisable update of a
+/// row by a multiple of another.
 fn spd_inverse(a: &[f64], n: usize) -> Option<Vec<f64>> {
     let mut l = a.to_vec();
     if !cholesky_factor(&mut l, n) {
         return None;
     }
-    let mut b = vec![0.0; n * n];
+    // Row i of W: (e_i − Σ_{k<i} L_ik·W_k) / L_ii, W_k nonzero in columns 0..=k only.
+    let mut w = vec![0.0; n * n];
     for i in 0..n {
-        b[i * n + i] = 1.0;
-    }
-    // Forward: L·Y = I, Y's row i from rows 0..i.
-    for i in 0..n {
-        let (done, rest) = b.split_at_mut(i * n);
+        let (done, rest) = w.split_at_mut(i * n);
         let row = &mut rest[..n];
+        row[i] = 1.0;
         for k in 0..i {
             let lik = l[i * n + k];
-            let rk = &done[k * n..k * n + n];
-            for (x, y) in row.iter_mut().zip(rk) {
+            for (x, y) in row[..=k].iter_mut().zip(&done[k * n..=k * n + k]) {
                 *x -= lik * y;
             }
         }
         let d = l[i * n + i];
-        row.iter_mut().for_each(|x| *x /= d);
+        row[..=i].iter_mut().for_each(|x| *x /= d);
     }
-    // Backward: Lᵀ·X = Y, X's row i from rows i+1..n.
-    for i in (0..n).rev() {
-        let (head, later) = b.split_at_mut((i + 1) * n);
-        let row = &mut head[i * n..];
-        for k in i + 1..n {
-            let lki = l[k * n + i];
-            let rk = &later[(k - i - 1) * n..(k - i) * n];
-            for (x, y) in row.iter_mut().zip(rk) {
-                *x -= lki * y;
+    // (WᵀW)_ab = Σ_{k ≥ a} W_ka·W_kb for b ≤ a: row a gathers W_ka times W_k's first a + 1.
+    let mut b = vec![0.0; n * n];
+    for k in 0..n {
+        let wk = &w[k * n..k * n + n];
+        for (ai, &wka) in wk[..=k].iter().enumerate() {
+            let row = &mut b[ai * n..=ai * n + ai];
+            for (x, y) in row.iter_mut().zip(&wk[..=ai]) {
+                *x += wka * y;
             }
         }
-        let d = l[i * n + i];
-        row.iter_mut().for_each(|x| *x /= d);
+    }
+    for i in 0..n {
+        for j in 0..i {
+            b[j * n + i] = b[i * n + j];
+        }
     }
     Some(b)
 }
@@ -332,7 +330,10 @@ pub fn solve(
     let modes = nm + 1;
     let mut k_all = vec![0.0; nu * nu * modes];
     let mut q = Vec::with_capacity(nm + 2);
-    let (mut cos_part, mut sin_part) = (vec![0.0; modes], vec![0.0; modes]);
+    // Per cell pair, each mode's three angular terms with the constant factor μ0/(4π)·π·wa·wb
+    // (m = 0: the factor 2π, no m² or cross term): a node pair's element is then
+    // rr·ss·C1 + f·f·C2 + cross·C3, mode by mode.
+    let (mut c1, mut c2, mut c3) = (vec![0.0; modes], vec![0.0; modes], vec![0.0; modes]);
     let mut v = vec![0.0; modes];
     for (ci, a) in cells.iter().enumerate() {
         for b in &cells[ci..] {
@@ -353,11 +354,17 @@ pub fn solve(
                 avg + rho2.ln() / sq
             };
             // The pair's angular factors, shared by its node pairs.
+            let kf = PI * wa * wb * MU0 / (4.0 * PI);
+            c1[0] = 2.0 * kf * (q[1] + corr);
+            (c2[0], c3[0]) = (0.0, 0.0);
             for m in 1..modes {
-                cos_part[m] = 0.5 * (q[m - 1] + q[m + 1]) + corr;
-                sin_part[m] = 0.5 * (q[m - 1] - q[m + 1]);
+                let mf = m as f64;
+                let cos_part = 0.5 * (q[m - 1] + q[m + 1]) + corr;
+                let sin_part = 0.5 * (q[m - 1] - q[m + 1]);
+                c1[m] = kf * cos_part;
+                c2[m] = kf * mf * mf * cos_part;
+                c3[m] = kf * mf * sin_part;
             }
-            let ww = wa * wb;
             for (ia, fa, sa) in a.nodes {
                 let Some(ia) = ia else { continue };
                 for (ib, fb, sb) in b.nodes {
@@ -365,12 +372,8 @@ pub fn solve(
                     let rr_ss = ra * rb * sa * sb;
                     let ff = fa * fb;
                     let cross = ra * sa * fb + rb * fa * sb;
-                    v[0] = 2.0 * PI * ww * rr_ss * (q[1] + corr) * MU0 / (4.0 * PI);
-                    for m in 1..modes {
-                        let mf = m as f64;
-                        let (c, s) = (cos_part[m], sin_part[m]);
-                        v[m] = PI * ww * ((rr_ss + mf * mf * ff) * c + mf * cross * s) * MU0
-                            / (4.0 * PI);
+                    for (((x, p), q), r) in v.iter_mut().zip(&c1).zip(&c2).zip(&c3) {
+                        *x = rr_ss * p + ff * q + cross * r;
                     }
                     let at = (ia * nu + ib) * modes;
                     for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
@@ -474,4 +477,46 @@ pub fn solve(
         d_area: da,
         points,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The inverse times the matrix is the identity, on symmetric positive-definite matrices
+    /// of every size up to 40 (a diagonally dominant one and a Hilbert-like one, whose inverse
+    /// has entries of mixed sign and size), and a matrix that is not positive definite is
+    /// refused.
+    #[test]
+    fn spd_inverse_inverts() {
+        for n in 1..=40 {
+            let dominant: Vec<f64> = (0..n * n)
+                .map(|e| {
+                    let (i, j) = (e / n, e % n);
+                    if i == j {
+                        n as f64 + 1.0 + i as f64
+                    } else {
+                        1.0 / (1.0 + (i as f64 - j as f64).abs())
+                            * if (i + j) % 3 == 0 { -1.0 } else { 0.7 }
+                    }
+                })
+                .collect();
+            let hilbert: Vec<f64> = (0..n * n)
+                .map(|e| {
+                    1.0 / ((e / n + e % n) as f64 + 1.0) + if e / n == e % n { 0.1 } else { 0.0 }
+                })
+                .collect();
+            for a in [&dominant, &hilbert] {
+                let inv = spd_inverse(a, n).expect("positive definite");
+                for i in 0..n {
+                    for j in 0..n {
+                        let p: f64 = (0..n).map(|k| a[i * n + k] * inv[k * n + j]).sum();
+                        let want = if i == j { 1.0 } else { 0.0 };
+                        assert!((p - want).abs() < 1e-10, "n {n} ({i}, {j}): {p}");
+                    }
+                }
+            }
+        }
+        assert!(spd_inverse(&[1.0, 2.0, 2.0, 1.0], 2).is_none());
+    }
 }

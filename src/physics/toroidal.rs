@@ -23,6 +23,10 @@ pub fn digamma_half(n: usize) -> f64 {
 }
 
 /// q_n(r, r′, Δz) for n = 0..=nmax (module docs), r ≠ r′ or Δz ≠ 0.
+///
+/// Both recurrences run on the coefficients of [`coefficients`] (a product per term in place
+/// of a division: the step's latency is what the backward recurrence, up to 5.5·nmax steps
+/// long, costs); `out` doubles as the backward recurrence's scratch.
 pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
     out.clear();
     let s2 = (r + rp).powi(2) + dz * dz;
@@ -35,33 +39,79 @@ pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
     let eta = chi.acosh();
     if 2.0 * eta * (nmax as f64 + 1.0) < 8.0 {
         // Forward: the error grows as e^(2ηn), at most e^8 here.
+        // q_{n+1} = (2n/(n + ½))·χ·q_n − ((n − ½)/(n + ½))·q_{n−1}.
         let q1 = pre * ((2.0 / k - k) * kk - 2.0 / k * ee);
         out.push(q0);
         if nmax >= 1 {
             out.push(q1);
         }
+        let c = coefficients(nmax + 1);
+        let (mut prev, mut cur) = (q0, q1);
         for n in 1..nmax {
-            let nf = n as f64;
-            let next = (2.0 * nf * chi * out[n] - (nf - 0.5) * out[n - 1]) / (nf + 0.5);
+            let [_, _, fa, fb] = c[n];
+            let next = fa * chi * cur - fb * prev;
             out.push(next);
+            (prev, cur) = (cur, next);
         }
         return;
     }
-    // Miller's backward recurrence for the minimal solution, normalised by q_0.
+    // Miller's backward recurrence for the minimal solution, normalised by q_0:
+    // t_{n−1} = (2n/(n − ½))·χ·t_n − ((n + ½)/(n − ½))·t_{n+1}.
     let start = nmax + 6 + (18.0 / eta).ceil() as usize;
-    let mut t = vec![0.0; start + 2];
+    let c = coefficients(start + 1);
+    let t = out;
+    t.resize(start + 2, 0.0);
     t[start] = 1e-30;
+    t[start + 1] = 0.0;
+    let (mut above, mut cur) = (0.0, 1e-30);
     for n in (1..=start).rev() {
-        let nf = n as f64;
-        t[n - 1] = (2.0 * nf * chi * t[n] - (nf + 0.5) * t[n + 1]) / (nf - 0.5);
-        if t[n - 1].abs() > 1e200 {
-            for v in t[n - 1..].iter_mut() {
+        let [ba, bb, _, _] = c[n];
+        let mut next = ba * chi * cur - bb * above;
+        if next.abs() > 1e200 {
+            // Rescaled with everything kept below it (only n ≤ nmax is read).
+            next *= 1e-200;
+            cur *= 1e-200;
+            for v in t[n..].iter_mut() {
                 *v *= 1e-200;
             }
         }
+        t[n - 1] = next;
+        (above, cur) = (cur, next);
     }
+    t.truncate(nmax + 1);
     let scale = q0 / t[0];
-    out.extend(t[..=nmax].iter().map(|v| v * scale));
+    t.iter_mut().for_each(|v| *v *= scale);
+}
+
+/// The recurrences' coefficients for n = 0..len: [2n/(n − ½), (n + ½)/(n − ½), 2n/(n + ½),
+/// (n − ½)/(n + ½)] (backward then forward), computed once per process up to the longest
+/// asked for.
+fn coefficients(len: usize) -> std::sync::Arc<Vec<[f64; 4]>> {
+    use std::sync::{Arc, Mutex, OnceLock};
+    static TABLE: OnceLock<Mutex<Arc<Vec<[f64; 4]>>>> = OnceLock::new();
+    let cell = TABLE.get_or_init(Default::default);
+    let make = |len: usize| -> Arc<Vec<[f64; 4]>> {
+        Arc::new(
+            (0..len.max(64))
+                .map(|n| {
+                    let nf = n as f64;
+                    [
+                        2.0 * nf / (nf - 0.5),
+                        (nf + 0.5) / (nf - 0.5),
+                        2.0 * nf / (nf + 0.5),
+                        (nf - 0.5) / (nf + 0.5),
+                    ]
+                })
+                .collect(),
+        )
+    };
+    let Ok(mut t) = cell.lock() else {
+        return make(len);
+    };
+    if t.len() < len {
+        *t = make(len.next_power_of_two());
+    }
+    t.clone()
 }
 
 /// The regular part of q_n on one plate as r′ → r: q_n + ln((r − r′)²)/r → (2/r)·(ln 2r − γ −
