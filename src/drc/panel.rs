@@ -94,9 +94,13 @@ fn gp(p: Point) -> geo::Point<f64> {
     geo::Point::new(p.x, p.y)
 }
 
+/// A piece of copper: its layer, polygon, function and bounding box (none for an empty one).
+type Piece = (usize, Polygon<f64>, PadFunction, Option<geo::Rect<f64>>);
+
 /// All copper of a layer as polygons (regions' polygons and flashes), unioned only where
-/// needed: distances are taken to each piece.
-fn copper_pieces(art: &Artwork) -> Vec<(usize, Polygon<f64>, PadFunction)> {
+/// needed: distances are taken to each piece. Each piece's bounding box is taken once here,
+/// not at every query.
+fn copper_pieces(art: &Artwork) -> Vec<Piece> {
     let mut v = Vec::new();
     for l in &art.copper {
         for p in &l.regions.0 {
@@ -106,20 +110,20 @@ fn copper_pieces(art: &Artwork) -> Vec<(usize, Polygon<f64>, PadFunction)> {
             v.push((l.n, super::flash_polygon(f), f.function));
         }
     }
-    v
+    v.into_iter()
+        .map(|(n, p, f)| {
+            let r = p.bounding_rect();
+            (n, p, f, r)
+        })
+        .collect()
 }
 
 /// Distance from `c` to the nearest copper piece accepted by `keep`, with that piece's bounding
 /// box pre-filter at `within`.
-fn nearest_copper(
-    pieces: &[(usize, Polygon<f64>, PadFunction)],
-    c: Point,
-    within: f64,
-    keep: impl Fn(&(usize, Polygon<f64>, PadFunction)) -> bool,
-) -> f64 {
+fn nearest_copper(pieces: &[Piece], c: Point, within: f64, keep: impl Fn(&Piece) -> bool) -> f64 {
     let mut best = f64::INFINITY;
     for piece in pieces.iter().filter(|p| keep(p)) {
-        let Some(r) = piece.1.bounding_rect() else {
+        let Some(r) = piece.3 else {
             continue;
         };
         let dx = (r.min().x - c.x).max(c.x - r.max().x).max(0.0);
