@@ -46,34 +46,52 @@ impl System {
         let (nx, ny) = (grid.nx(), grid.ny());
         let n = nx * ny;
         let (xs, ys) = (&grid.xs, &grid.ys);
-        let cell = |i: usize, j: usize| eps[j * (nx - 1) + i];
+        // Half the cell heights and widths, and the cells' permittivity row by row.
+        let half_h: Vec<f64> = ys.windows(2).map(|w| 0.5 * (w[1] - w[0])).collect();
+        let half_w: Vec<f64> = xs.windows(2).map(|w| 0.5 * (w[1] - w[0])).collect();
+        let dx: Vec<f64> = xs.windows(2).map(|w| w[1] - w[0]).collect();
+        let eps_row = |j: usize| &eps[j * (nx - 1)..(j + 1) * (nx - 1)];
         let mut gx = vec![0.0; n];
         let mut gy = vec![0.0; n];
         for j in 0..ny {
-            for i in 0..nx - 1 {
-                let dx = xs[i + 1] - xs[i];
-                let mut g = 0.0;
-                if j > 0 {
-                    g += cell(i, j - 1) * 0.5 * (ys[j] - ys[j - 1]);
+            let row = &mut gx[j * nx..j * nx + nx - 1];
+            // The cell below the edge, then the cell above (the order of the sum).
+            match (j > 0, j + 1 < ny) {
+                (true, true) => {
+                    let (below, above, hb, ha) =
+                        (eps_row(j - 1), eps_row(j), half_h[j - 1], half_h[j]);
+                    for i in 0..nx - 1 {
+                        row[i] = (below[i] * hb + above[i] * ha) / dx[i];
+                    }
                 }
-                if j + 1 < ny {
-                    g += cell(i, j) * 0.5 * (ys[j + 1] - ys[j]);
+                (true, false) => {
+                    let (below, hb) = (eps_row(j - 1), half_h[j - 1]);
+                    for i in 0..nx - 1 {
+                        row[i] = below[i] * hb / dx[i];
+                    }
                 }
-                gx[j * nx + i] = g / dx;
+                (false, true) => {
+                    let (above, ha) = (eps_row(j), half_h[j]);
+                    for i in 0..nx - 1 {
+                        row[i] = above[i] * ha / dx[i];
+                    }
+                }
+                (false, false) => {}
             }
         }
         for j in 0..ny - 1 {
             let dy = ys[j + 1] - ys[j];
-            for i in 0..nx {
-                let mut g = 0.0;
-                if i > 0 {
-                    g += cell(i - 1, j) * 0.5 * (xs[i] - xs[i - 1]);
-                }
-                if i + 1 < nx {
-                    g += cell(i, j) * 0.5 * (xs[i + 1] - xs[i]);
-                }
-                gy[j * nx + i] = g / dy;
+            let cells = eps_row(j);
+            let row = &mut gy[j * nx..j * nx + nx];
+            // The cell left of the edge, then the cell right of it.
+            if nx < 2 {
+                continue; // no cells beside the edge
             }
+            row[0] = cells[0] * half_w[0] / dy;
+            for i in 1..nx - 1 {
+                row[i] = (cells[i - 1] * half_w[i - 1] + cells[i] * half_w[i]) / dy;
+            }
+            row[nx - 1] = cells[nx - 2] * half_w[nx - 2] / dy;
         }
         let free: Vec<bool> = grid.state.iter().map(|&s| s == FREE).collect();
         let held: Vec<f64> = grid
@@ -81,38 +99,46 @@ impl System {
             .iter()
             .map(|&s| if s == SIGNAL { 1.0 } else { 0.0 })
             .collect();
-        let mut diag = vec![0.0; n];
+        // A free node's diagonal is the sum of its edges' conductances and its right-hand side
+        // the held neighbours' share, each summed south, west, east, north; a coupling stays in
+        // the unknowns' matrix only between two free nodes.
+        let mut diag = vec![1.0; n];
         let mut rhs = vec![0.0; n];
         let mut ax = gx.clone();
         let mut ay = gy.clone();
-        let mut couple = |a: usize, b: usize, g: f64, a_mat: &mut f64| {
-            if free[a] {
-                diag[a] += g;
-                if !free[b] {
-                    rhs[a] += g * held[b];
+        for j in 0..ny {
+            for i in 0..nx {
+                let k = j * nx + i;
+                if i + 1 < nx && !(free[k] && free[k + 1]) {
+                    ax[k] = 0.0;
                 }
-            }
-            if free[b] {
-                diag[b] += g;
-                if !free[a] {
-                    rhs[b] += g * held[a];
+                if j + 1 < ny && !(free[k] && free[k + nx]) {
+                    ay[k] = 0.0;
                 }
-            }
-            if !(free[a] && free[b]) {
-                *a_mat = 0.0;
-            }
-        };
-        for k in 0..n {
-            if k % nx + 1 < nx {
-                couple(k, k + 1, gx[k], &mut ax[k]);
-            }
-            if k + nx < n {
-                couple(k, k + nx, gy[k], &mut ay[k]);
-            }
-        }
-        for k in 0..n {
-            if !free[k] {
-                diag[k] = 1.0;
+                if !free[k] {
+                    continue;
+                }
+                let (mut d, mut b) = (0.0, 0.0);
+                let mut edge = |g: f64, other: usize| {
+                    d += g;
+                    if !free[other] {
+                        b += g * held[other];
+                    }
+                };
+                if j > 0 {
+                    edge(gy[k - nx], k - nx);
+                }
+                if i > 0 {
+                    edge(gx[k - 1], k - 1);
+                }
+                if i + 1 < nx {
+                    edge(gx[k], k + 1);
+                }
+                if j + 1 < ny {
+                    edge(gy[k], k + nx);
+                }
+                diag[k] = d;
+                rhs[k] = b;
             }
         }
         System {
