@@ -163,7 +163,8 @@ fn plate_nodes(p: &Plate, n: usize, wf: f64) -> Vec<f64> {
     x
 }
 
-/// Inverts a symmetric positive-definite matrix (row-major, n × n). `None` when it is not.
+/// Inverts a symmetric positive-definite matrix (row-major, n × n; its lower triangle is read).
+/// `None` when it is not positive definite.
 ///
 /// From its Cholesky factor: W = L⁻¹ row by row (lower triangular), then A⁻¹ = Wᵀ·W on the
 /// lower triangle, mirrored: about n³/2 multiply-adds, each step a vectorisable update of a
@@ -365,22 +366,26 @@ pub fn solve(
                 c2[m] = kf * mf * mf * cos_part;
                 c3[m] = kf * mf * sin_part;
             }
+            // Only the lower triangle (row ≥ column) is gathered: the matrices are symmetric,
+            // and the factorisation reads no more. A pair of distinct cells adds its element to
+            // both (ia, ib) and (ib, ia), so once to the lower one (twice on the diagonal); a
+            // cell with itself visits both orders, so only the lower.
             for (ia, fa, sa) in a.nodes {
                 let Some(ia) = ia else { continue };
                 for (ib, fb, sb) in b.nodes {
                     let Some(ib) = ib else { continue };
+                    if same && ia < ib {
+                        continue;
+                    }
                     let rr_ss = ra * rb * sa * sb;
                     let ff = fa * fb;
                     let cross = ra * sa * fb + rb * fa * sb;
                     for (((x, p), q), r) in v.iter_mut().zip(&c1).zip(&c2).zip(&c3) {
                         *x = rr_ss * p + ff * q + cross * r;
                     }
-                    let at = (ia * nu + ib) * modes;
-                    for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
-                        *k += x;
-                    }
-                    if !same {
-                        let at = (ib * nu + ia) * modes;
+                    let at = (ia.max(ib) * nu + ia.min(ib)) * modes;
+                    let times = if !same && ia == ib { 2 } else { 1 };
+                    for _ in 0..times {
                         for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
                             *k += x;
                         }
@@ -389,8 +394,17 @@ pub fn solve(
             }
         }
     }
+    // Mode by mode, the lower triangle (the upper is left at zero: unread).
     let k_m: Vec<Vec<f64>> = (0..modes)
-        .map(|m| (0..nu * nu).map(|e| k_all[e * modes + m]).collect())
+        .map(|m| {
+            let mut k = vec![0.0; nu * nu];
+            for i in 0..nu {
+                for j in 0..=i {
+                    k[i * nu + j] = k_all[(i * nu + j) * modes + m];
+                }
+            }
+            k
+        })
         .collect();
     drop(k_all);
     // On a very small loop the highest modes vary faster across a cell than the cells'
