@@ -94,7 +94,11 @@ pub fn loop_field(x: f64, y: f64, h: f64) -> f64 {
         let (pax, pay) = (x - ax, y - ay);
         let (pbx, pby) = (x - bx, y - by);
         let cr = ux * pay - uy * pax;
-        let (ra, rb) = (pax.hypot(pay), pbx.hypot(pby));
+        // Lengths of the order of the cells: no overflow or underflow to guard against.
+        let (ra, rb) = (
+            (pax * pax + pay * pay).sqrt(),
+            (pbx * pbx + pby * pby).sqrt(),
+        );
         if cr.abs() < 1e-15 * h {
             continue; // on the side's own line: no normal field from it
         }
@@ -137,11 +141,44 @@ fn odd_left(xs: &[f64], x: f64) -> bool {
 /// when the conjugate gradients do not converge within [`CG_MAX_ITERATIONS`]. A loop that holds
 /// no cell lets no flux through (0 mm²); [`ratio_of`] refuses that.
 pub fn aperture_flux(o: &Outline, h: f64) -> Result<SheetFlux, Error> {
-    let fail = |why: String| Err(Error::Unsolvable(format!("the handle's share: {why}")));
-    if !(h.is_finite() && h > 0.0) {
-        return fail(format!("cell size {h} mm (must be a positive length)"));
+    aperture_flux_with(o, h, None)
+}
+
+/// The normal field of a square loop of side `h` at the cell offsets (di, dj) ≥ 0 (in cells),
+/// di < `nx`, dj < `ny`: the kernel's quadrant, shared by the sheets of one cell size.
+pub struct Kernel {
+    h: f64,
+    nx: usize,
+    ny: usize,
+    v: Vec<f64>,
+}
+
+impl Kernel {
+    /// The quadrant for offsets up to `nx` − 1 and `ny` − 1 cells of side `h`.
+    pub fn new(h: f64, nx: usize, ny: usize) -> Kernel {
+        let mut v = Vec::with_capacity(nx * ny);
+        for di in 0..nx {
+            for dj in 0..ny {
+                v.push(loop_field(di as f64 * h, dj as f64 * h, h));
+            }
+        }
+        Kernel { h, nx, ny, v }
     }
-    let centre = closed(&o.shape, 0.0);
+
+    /// Whether it holds every offset of an `nx` × `ny` grid of cells of side `h`.
+    fn fits(&self, nx: usize, ny: usize, h: f64) -> bool {
+        self.h == h && nx <= self.nx && ny <= self.ny
+    }
+
+    fn at(&self, di: usize, dj: usize) -> f64 {
+        self.v[di * self.ny + dj]
+    }
+}
+
+/// The grid of an outline's cells of side `h`: columns either side of the axis, and the lowest
+/// and highest row bounds. Cell centres lie on the lattice (k + 1/2)·h from the loop's centre,
+/// whatever the handle, so that the ring is drawn in the same cells with and without it.
+fn lattice(o: &Outline, h: f64) -> (f64, f64, f64) {
     let (a, b) = half_extent(&o.shape);
     let (x_half, y_top) = (a + o.ring_half_width, b + o.ring_half_width);
     let (mut xm, mut y_lo) = (x_half, -y_top);
@@ -149,11 +186,30 @@ pub fn aperture_flux(o: &Outline, h: f64) -> Result<SheetFlux, Error> {
         xm = xm.max(hw);
         y_lo = y_lo.min(y0);
     }
-    // Cell centres on the lattice (k + 1/2)·h from the loop's centre, whatever the handle, so
-    // that the ring is drawn in the same cells with and without it.
     let half_x = (xm / h).ceil().max(1.0);
-    let j_lo = (y_lo / h).floor();
-    let j_hi = (y_top / h).ceil();
+    (half_x, (y_lo / h).floor(), (y_top / h).ceil())
+}
+
+/// The grid's columns and rows when it is of at most [`MAX_GRID`] cells.
+fn grid_size(o: &Outline, h: f64) -> Option<(usize, usize)> {
+    let (half_x, j_lo, j_hi) = lattice(o, h);
+    let cells = 2.0 * half_x * (j_hi - j_lo);
+    (cells.is_finite() && cells <= MAX_GRID).then(|| (2 * half_x as usize, (j_hi - j_lo) as usize))
+}
+
+/// [`aperture_flux`] with the kernel's quadrant `kernel` where it fits the grid (computed
+/// otherwise).
+pub fn aperture_flux_with(
+    o: &Outline,
+    h: f64,
+    kernel: Option<&Kernel>,
+) -> Result<SheetFlux, Error> {
+    let fail = |why: String| Err(Error::Unsolvable(format!("the handle's share: {why}")));
+    if !(h.is_finite() && h > 0.0) {
+        return fail(format!("cell size {h} mm (must be a positive length)"));
+    }
+    let centre = closed(&o.shape, 0.0);
+    let (half_x, j_lo, j_hi) = lattice(o, h);
     let cells = 2.0 * half_x * (j_hi - j_lo);
     if !(cells.is_finite() && cells <= MAX_GRID) {
         return fail(format!(
@@ -195,12 +251,22 @@ pub fn aperture_flux(o: &Outline, h: f64) -> Result<SheetFlux, Error> {
             flux[k] = !copper[k] && odd_left(&xc, x);
         }
     }
-    // The kernel over every offset, embedded in a 2nx × 2ny circulant.
+    // The kernel over every offset, embedded in a 2nx × 2ny circulant: a square loop's field
+    // is even in each offset, so it is taken from the quadrant of offsets ≥ 0.
     let (px, py) = (smooth_len(2 * nx), smooth_len(2 * ny));
+    let quadrant = kernel.filter(|k| k.fits(nx, ny, h));
+    let own;
+    let quadrant = match quadrant {
+        Some(k) => k,
+        None => {
+            own = Kernel::new(h, nx, ny);
+            &own
+        }
+    };
     let mut kf = vec![0.0; px * py];
     for di in -(nx as i64 - 1)..nx as i64 {
         for dj in -(ny as i64 - 1)..ny as i64 {
-            let v = loop_field(di as f64 * h, dj as f64 * h, h);
+            let v = quadrant.at(di.unsigned_abs() as usize, dj.unsigned_abs() as usize);
             let (a, b) = (di.rem_euclid(px as i64), dj.rem_euclid(py as i64));
             kf[a as usize * py + b as usize] = v;
         }
@@ -427,7 +493,13 @@ pub fn ratio_of(with: &Outline) -> Result<f64, Error> {
         handle: None,
         ..with.clone()
     };
-    let (a, b) = (aperture_flux(with, h)?, aperture_flux(&bare, h)?);
+    // The outline with the handle spans the bare one's cells (the same lattice about the
+    // loop's centre), so one quadrant of the kernel serves both.
+    let kernel = grid_size(with, h).map(|(nx, ny)| Kernel::new(h, nx, ny));
+    let (a, b) = (
+        aperture_flux_with(with, h, kernel.as_ref())?,
+        aperture_flux_with(&bare, h, kernel.as_ref())?,
+    );
     let r = a.area_mm2 / b.area_mm2;
     if !(r.is_finite() && r > 0.0) {
         return Err(Error::Unsolvable(format!(
@@ -492,6 +564,40 @@ mod tests {
 
     fn ring(handle: Option<(f64, f64, f64)>) -> Outline {
         round(5.0, handle)
+    }
+
+    /// A square loop's field is even in each offset (the kernel's quadrant stands for the
+    /// whole), and a bare ring solved with the quadrant of the larger grid (with its handle)
+    /// gives what it gives with its own.
+    #[test]
+    fn the_shared_quadrant_is_the_kernel() {
+        let h = 0.25;
+        for (x, y) in [
+            (0.0, 0.0),
+            (0.5, 0.0),
+            (0.75, -1.5),
+            (-3.25, 2.0),
+            (-10.0, -0.25),
+        ] {
+            let v = loop_field(x, y, h);
+            for w in [
+                loop_field(-x, y, h),
+                loop_field(x, -y, h),
+                loop_field(-x, -y, h),
+            ] {
+                assert!((w - v).abs() <= 1e-13 * v.abs(), "({x}, {y}): {w} vs {v}");
+            }
+        }
+        let with = ring(Some((1.5, -12.0, -2.5)));
+        let (nx, ny) = grid_size(&with, h).expect("a small grid");
+        let k = Kernel::new(h, nx, ny);
+        let bare = ring(None);
+        let own = aperture_flux(&bare, h).unwrap();
+        let shared = aperture_flux_with(&bare, h, Some(&k)).unwrap();
+        assert_eq!(own, shared);
+        // A quadrant too small for the grid is not used.
+        let small = Kernel::new(h, 2, 2);
+        assert_eq!(aperture_flux_with(&bare, h, Some(&small)).unwrap(), own);
     }
 
     /// A thin perfectly conducting disc of radius a in a normal field H0 carries the moment
