@@ -52,7 +52,7 @@
 
 use super::MU0;
 use super::shield::{Plate, ShieldCurrent, cholesky_factor, cholesky_substitute, ln_gmd};
-use super::toroidal::{toroidal, toroidal_self};
+use super::toroidal::{toroidal_batch, toroidal_self};
 use std::f64::consts::PI;
 
 /// The fewest modes the coarser solution may have (below, the loop is refused).
@@ -330,16 +330,28 @@ pub fn solve(
     // to one element, mode by mode, are contiguous), then taken apart mode by mode.
     let modes = nm + 1;
     let mut k_all = vec![0.0; nu * nu * modes];
-    let mut q = Vec::with_capacity(nm + 2);
+    let mut q_self = Vec::with_capacity(nm + 2);
     // Per cell pair, each mode's three angular terms with the constant factor μ0/(4π)·π·wa·wb
     // (m = 0: the factor 2π, no m² or cross term): a node pair's element is then
     // rr·ss·C1 + f·f·C2 + cross·C3, mode by mode.
     let (mut c1, mut c2, mut c3) = (vec![0.0; modes], vec![0.0; modes], vec![0.0; modes]);
     let mut v = vec![0.0; modes];
+    // The toroidal functions of one cell against all later ones, computed together.
+    let (mut pairs, mut qs) = (Vec::new(), Vec::new());
+    let centre = |c: &Cell| r + 0.5 * (c.d0 + c.d1);
     for (ci, a) in cells.iter().enumerate() {
+        pairs.clear();
+        for b in &cells[ci..] {
+            let (ra, rb, dz) = (centre(a), centre(b), a.z - b.z);
+            if (ra - rb).powi(2) + dz * dz != 0.0 {
+                pairs.push((ra, rb, dz));
+            }
+        }
+        toroidal_batch(&pairs, nm + 1, &mut qs);
+        let mut next = 0;
         for b in &cells[ci..] {
             let same = std::ptr::eq(a, b);
-            let (ra, rb) = (r + 0.5 * (a.d0 + a.d1), r + 0.5 * (b.d0 + b.d1));
+            let (ra, rb) = (centre(a), centre(b));
             let dz = a.z - b.z;
             let (wa, wb) = (a.d1 - a.d0, b.d1 - b.d0);
             let rho2 = (ra - rb).powi(2) + dz * dz;
@@ -347,12 +359,15 @@ pub fn solve(
             // The common logarithmic part, exactly averaged over both cells, replaces its value
             // at the centres.
             let avg = -2.0 * ln_gmd(a.d0, a.d1, b.d0, b.d1, dz) / sq;
-            let corr = if rho2 == 0.0 {
-                toroidal_self(ra, nm + 1, &mut q);
-                avg
+            let (q, corr) = if rho2 == 0.0 {
+                toroidal_self(ra, nm + 1, &mut q_self);
+                (&q_self[..], avg)
             } else {
-                toroidal(ra, rb, dz, nm + 1, &mut q);
-                avg + rho2.ln() / sq
+                next += 1;
+                (
+                    &qs[(next - 1) * (nm + 2)..next * (nm + 2)],
+                    avg + rho2.ln() / sq,
+                )
             };
             // The pair's angular factors, shared by its node pairs.
             let kf = PI * wa * wb * MU0 / (4.0 * PI);
