@@ -65,7 +65,8 @@ pub const HANDLE_REACH: f64 = 3.0;
 pub const CG_TOL: f64 = 1e-7;
 /// ... or fail after this many iterations (the demo's probes take 8–12).
 pub const CG_MAX_ITERATIONS: usize = 2000;
-/// The preconditioner's spectrum is held at least this fraction of its largest value.
+/// The kernel's spectrum is raised to at least this fraction of its largest value before it is
+/// inverted for the preconditioner (a guard: the demo's sheets never reach it).
 pub const PRECONDITIONER_FLOOR: f64 = 1e-6;
 /// A grid of more cells than this is refused ([`cell_size`] keeps within [`MAX_CELLS`]).
 pub const MAX_GRID: f64 = 4.0e6;
@@ -293,8 +294,6 @@ pub fn aperture_flux_with(
     let mut kft = transpose(&rows_forward(&mut kf, px), px, q);
     fx.process(&mut kft);
     let scale = 1.0 / (px * py) as f64;
-    // K·v over the whole grid, v given on the grid (zero off copper). Only the first nx of the
-    // 2nx rows carry data in, and only they are wanted out: the row transforms skip the rest.
     // The preconditioner: the inverse of the whole grid's (circulant) kernel, whose spectrum is
     // real (the kernel is even) and positive (on the demo's sheets it spans a factor of 120 to
     // 350); a floor guards the inverse should some grid give a value near or below zero.
@@ -303,6 +302,9 @@ pub fn aperture_flux_with(
         .iter()
         .map(|c| Complex::new(1.0 / c.re.max(PRECONDITIONER_FLOOR * kmax), 0.0))
         .collect();
+    // The circulant product with the spectrum `kft` (the kernel's, or its inverse) over the
+    // whole grid, v given on the grid (zero off copper). Only the first nx of the 2nx rows
+    // carry data in, and only they are wanted out: the row transforms skip the rest.
     let conv = |v: &[f64], kft: &[Complex<f64>]| -> Vec<f64> {
         let mut g = vec![0.0; nx * py];
         for i in 0..nx {
@@ -662,6 +664,9 @@ mod tests {
                 "{c}: {s:?} {fl}"
             );
             assert!((s.moment_mm3 / m - 1.0).abs() < 1e-6, "{c}: {s:?} {m}");
+            // The preconditioner's work: plain conjugate gradients took 23–51 iterations on
+            // such sheets, the preconditioned ones 8–12.
+            assert!(s.iterations <= 15, "{c}: {} iterations", s.iterations);
         }
     }
 

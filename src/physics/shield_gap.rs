@@ -547,5 +547,29 @@ mod tests {
             }
         }
         assert!(spd_inverse(&[1.0, 2.0, 2.0, 1.0], 2).is_none());
+        // Only the lower triangle is read (the gap correction fills no more): with NaN above
+        // the diagonal the inverse is still that of the whole symmetric matrix.
+        let n = 12;
+        let full: Vec<f64> = (0..n * n)
+            .map(|e| {
+                let (i, j) = (e / n, e % n);
+                if i == j {
+                    4.0 + i as f64
+                } else {
+                    0.5 / (1.0 + (i + j) as f64)
+                }
+            })
+            .collect();
+        let lower: Vec<f64> = (0..n * n)
+            .map(|e| if e % n > e / n { f64::NAN } else { full[e] })
+            .collect();
+        let inv = spd_inverse(&lower, n).expect("positive definite");
+        for i in 0..n {
+            for j in 0..n {
+                let p: f64 = (0..n).map(|k| full[i * n + k] * inv[k * n + j]).sum();
+                let want = if i == j { 1.0 } else { 0.0 };
+                assert!((p - want).abs() < 1e-12, "lower only ({i}, {j}): {p}");
+            }
+        }
     }
 }

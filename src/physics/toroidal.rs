@@ -29,35 +29,15 @@ pub fn digamma_half(n: usize) -> f64 {
 /// long, costs); `out` doubles as the backward recurrence's scratch.
 pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
     out.clear();
-    let s2 = (r + rp).powi(2) + dz * dz;
-    let kp = (((r - rp).powi(2) + dz * dz) / s2).sqrt();
-    let k = (4.0 * r * rp / s2).sqrt();
-    let (kk, ee) = elliptic2::k_and_e(kp);
-    let pre = 2.0 / (r * rp).sqrt();
-    let q0 = pre * k * kk;
-    let chi = (r * r + rp * rp + dz * dz) / (2.0 * r * rp);
-    let eta = chi.acosh();
-    if 2.0 * eta * (nmax as f64 + 1.0) < 8.0 {
-        // Forward: the error grows as e^(2ηn), at most e^8 here.
-        // q_{n+1} = (2n/(n + ½))·χ·q_n − ((n − ½)/(n + ½))·q_{n−1}.
-        let q1 = pre * ((2.0 / k - k) * kk - 2.0 / k * ee);
-        out.push(q0);
-        if nmax >= 1 {
-            out.push(q1);
-        }
-        let c = coefficients(nmax + 1);
-        let (mut prev, mut cur) = (q0, q1);
-        for n in 1..nmax {
-            let [_, _, fa, fb] = c[n];
-            let next = fa * chi * cur - fb * prev;
-            out.push(next);
-            (prev, cur) = (cur, next);
-        }
+    let p = Prelude::of(r, rp, dz, nmax);
+    if let Some(q1) = p.q1 {
+        out.resize(nmax + 1, 0.0);
+        forward(p.q0, q1, p.chi, &coefficients(nmax + 1), out);
         return;
     }
     // Miller's backward recurrence for the minimal solution, normalised by q_0:
     // t_{n−1} = (2n/(n − ½))·χ·t_n − ((n + ½)/(n − ½))·t_{n+1}.
-    let start = nmax + 6 + (18.0 / eta).ceil() as usize;
+    let (start, chi) = (p.start, p.chi);
     let c = coefficients(start + 1);
     let t = out;
     t.resize(start + 2, 0.0);
@@ -79,8 +59,63 @@ pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
         (above, cur) = (cur, next);
     }
     t.truncate(nmax + 1);
-    let scale = q0 / t[0];
+    let scale = p.q0 / t[0];
     t.iter_mut().for_each(|v| *v *= scale);
+}
+
+/// What both recurrences start from: q_0, χ, and either q_1 (the forward recurrence, while its
+/// error growth e^(2ηn) stays below e^8) or the backward recurrence's start.
+struct Prelude {
+    q0: f64,
+    chi: f64,
+    q1: Option<f64>,
+    start: usize,
+}
+
+impl Prelude {
+    fn of(r: f64, rp: f64, dz: f64, nmax: usize) -> Prelude {
+        let s2 = (r + rp).powi(2) + dz * dz;
+        let kp = (((r - rp).powi(2) + dz * dz) / s2).sqrt();
+        let k = (4.0 * r * rp / s2).sqrt();
+        let (kk, ee) = elliptic2::k_and_e(kp);
+        let pre = 2.0 / (r * rp).sqrt();
+        let q0 = pre * k * kk;
+        let chi = (r * r + rp * rp + dz * dz) / (2.0 * r * rp);
+        let eta = chi.acosh();
+        if 2.0 * eta * (nmax as f64 + 1.0) < 8.0 {
+            let q1 = pre * ((2.0 / k - k) * kk - 2.0 / k * ee);
+            Prelude {
+                q0,
+                chi,
+                q1: Some(q1),
+                start: 0,
+            }
+        } else {
+            let start = nmax + 6 + (18.0 / eta).ceil() as usize;
+            Prelude {
+                q0,
+                chi,
+                q1: None,
+                start,
+            }
+        }
+    }
+}
+
+/// The forward recurrence q_{n+1} = (2n/(n + ½))·χ·q_n − ((n − ½)/(n + ½))·q_{n−1} into `out`
+/// (its length: nmax + 1) from q_0 and q_1, on the coefficients `c` (at least that long).
+fn forward(q0: f64, q1: f64, chi: f64, c: &[[f64; 4]], out: &mut [f64]) {
+    out[0] = q0;
+    if out.len() > 1 {
+        out[1] = q1;
+    }
+    let (mut prev, mut cur) = (q0, q1);
+    for n in 1..out.len().saturating_sub(1) {
+        let [_, _, fa, fb] = c[n];
+        let next = fa * chi * cur - fb * prev;
+        out[n + 1] = next;
+        (prev, cur) = (cur, next);
+    }
 }
 
 /// [`toroidal`] for many pairs (r, r′, Δz): q_n of pair p is `out[p·(nmax + 1) + n]`. The
@@ -93,21 +128,18 @@ pub fn toroidal_batch(pairs: &[(f64, f64, f64)], nmax: usize, out: &mut Vec<f64>
     out.resize(pairs.len() * len, 0.0);
     // (pair, its start, χ, q0) of each pair that needs the backward recurrence.
     let mut backward = Vec::new();
-    let mut one = Vec::with_capacity(len);
+    let table = coefficients(nmax + 1);
     for (p, &(r, rp, dz)) in pairs.iter().enumerate() {
-        let s2 = (r + rp).powi(2) + dz * dz;
-        let kp = (((r - rp).powi(2) + dz * dz) / s2).sqrt();
-        let k = (4.0 * r * rp / s2).sqrt();
-        let chi = (r * r + rp * rp + dz * dz) / (2.0 * r * rp);
-        let eta = chi.acosh();
-        if 2.0 * eta * (nmax as f64 + 1.0) < 8.0 {
-            toroidal(r, rp, dz, nmax, &mut one);
-            out[p * len..(p + 1) * len].copy_from_slice(&one);
-        } else {
-            let (kk, _) = elliptic2::k_and_e(kp);
-            let q0 = 2.0 / (r * rp).sqrt() * k * kk;
-            let start = nmax + 6 + (18.0 / eta).ceil() as usize;
-            backward.push((p, start, chi, q0));
+        let pre = Prelude::of(r, rp, dz, nmax);
+        match pre.q1 {
+            Some(q1) => forward(
+                pre.q0,
+                q1,
+                pre.chi,
+                &table,
+                &mut out[p * len..(p + 1) * len],
+            ),
+            None => backward.push((p, pre.start, pre.chi, pre.q0)),
         }
     }
     backward.sort_by_key(|&(p, start, _, _)| (start, p));
