@@ -44,13 +44,44 @@ impl Nets {
 
     /// The net of an object whose first point is `p` (`None`: not connected).
     pub fn at(&self, p: Point) -> Option<&str> {
+        self.located().at(p)
+    }
+
+    /// The nets with each area's bounding box, for many lookups ([`LocatedNets::at`] gives
+    /// what [`Nets::at`] gives, a point outside a box skipping its area's edges).
+    pub fn located(&self) -> LocatedNets<'_> {
+        use geo::BoundingRect;
+        LocatedNets {
+            nets: self,
+            boxes: self.areas.iter().map(|(_, a)| a.bounding_rect()).collect(),
+        }
+    }
+}
+
+/// [`Nets`] with each area's bounding box ([`Nets::located`]).
+#[derive(Debug, Clone)]
+pub struct LocatedNets<'a> {
+    nets: &'a Nets,
+    boxes: Vec<Option<geo::Rect<f64>>>,
+}
+
+impl<'a> LocatedNets<'a> {
+    /// [`Nets::at`].
+    pub fn at(&self, p: Point) -> Option<&'a str> {
         use geo::Intersects;
         let q = geo::Point::new(p.x, p.y);
-        self.areas
+        self.nets
+            .areas
             .iter()
-            .find(|(_, area)| area.intersects(&q))
-            .map(|(name, _)| name.as_str())
-            .or(self.default.as_deref())
+            .zip(&self.boxes)
+            .find(|((_, area), b)| {
+                // A point outside the box is outside the area (an empty area has no box).
+                b.is_some_and(|r| {
+                    p.x >= r.min().x && p.x <= r.max().x && p.y >= r.min().y && p.y <= r.max().y
+                }) && area.intersects(&q)
+            })
+            .map(|((name, _), _)| name.as_str())
+            .or(self.nets.default.as_deref())
     }
 }
 
@@ -711,4 +742,45 @@ fn electric_nets(p: &Probe, b: &Board, disc: &MultiPolygon<f64>, sv: Point) -> N
 pub(crate) fn ring_points(ls: &LineString<f64>) -> Vec<Point> {
     let r = snap_ring(ls);
     r.coords().map(|c| Point::new(c.x, c.y)).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geom::{circle, rect};
+    use geo::Intersects;
+
+    /// The boxed lookup names the net a plain scan of the areas names, on a grid over areas
+    /// that overlap, have holes and lie apart, and the default elsewhere.
+    #[test]
+    fn located_nets_match_the_plain_scan() {
+        let ring = MultiPolygon(vec![rect(-3.0, -3.0, 3.0, 3.0)])
+            .difference(&MultiPolygon(vec![circle(Point::ZERO, 1.5)]));
+        let nets = Nets {
+            default: Some("GND".into()),
+            areas: vec![
+                ("A".into(), ring),
+                (
+                    "B".into(),
+                    MultiPolygon(vec![circle(Point::new(2.5, 0.0), 1.0)]),
+                ),
+                ("C".into(), MultiPolygon(vec![rect(6.0, -1.0, 9.0, 1.0)])),
+                ("D".into(), MultiPolygon(vec![])),
+            ],
+        };
+        let located = nets.located();
+        for i in -50..=100 {
+            for j in -40..=40 {
+                let p = Point::new(i as f64 * 0.1, j as f64 * 0.1);
+                let q = geo::Point::new(p.x, p.y);
+                let plain = nets
+                    .areas
+                    .iter()
+                    .find(|(_, a)| a.intersects(&q))
+                    .map(|(n, _)| n.as_str())
+                    .or(nets.default.as_deref());
+                assert_eq!(located.at(p), plain, "{p:?}");
+            }
+        }
+    }
 }

@@ -2,7 +2,7 @@
 //! nanometres (format 4.6, metric); every aperture carries `.AperFunction`, copper objects carry
 //! the `.N` net; no creation date is written, so the output is the same run to run.
 
-use crate::artwork::{Artwork, CopperLayer, Flash, Nets, PadFunction, Shape, Side};
+use crate::artwork::{Artwork, CopperLayer, Flash, LocatedNets, Nets, PadFunction, Shape, Side};
 use geo::{Area, Contains, MultiPolygon};
 use gerber_types::*;
 use kurbo::Point;
@@ -33,12 +33,12 @@ fn xy(p: Point) -> Coordinates {
 }
 
 /// A Gerber file under construction.
-struct Writer {
+struct Writer<'a> {
     cmds: Vec<Command>,
     apertures: Vec<(Shape, ApertureFunction, i32)>,
     next_code: i32,
     /// Copper files carry net attributes.
-    nets: Option<Nets>,
+    nets: Option<LocatedNets<'a>>,
 }
 
 fn ext(c: ExtendedCode) -> Command {
@@ -49,12 +49,12 @@ fn func(c: impl Into<FunctionCode>) -> Command {
     Command::FunctionCode(c.into())
 }
 
-impl Writer {
+impl<'a> Writer<'a> {
     fn new(
         function: FileFunction,
         polarity: FilePolarity,
         same_coords: &str,
-        nets: Option<Nets>,
+        nets: Option<&'a Nets>,
     ) -> Self {
         let cmds = vec![
             ext(ExtendedCode::CoordinateFormat(fmt())),
@@ -79,7 +79,7 @@ impl Writer {
             cmds,
             apertures: Vec::new(),
             next_code: 10,
-            nets,
+            nets: nets.map(Nets::located),
         }
     }
 
@@ -271,7 +271,7 @@ pub fn copper(layer: &CopperLayer, nets: &Nets, same_coords: &str) -> String {
         },
         FilePolarity::Positive,
         same_coords,
-        Some(nets.clone()),
+        Some(nets),
     );
     // Define the flash apertures first, then draw regions, then flash pads over them.
     for f in &layer.flashes {
