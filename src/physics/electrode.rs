@@ -28,10 +28,14 @@ const DISC_POINTS: usize = 4000;
 /// midpoint rule in θ.
 /// NaN when `r` or `x0` is not a finite number or `r` is negative.
 pub fn disc_charge(columns: &[ChargeColumn], r: f64, x0: f64) -> f64 {
+    disc_charge_of(&nodal_density(columns), r, x0)
+}
+
+/// [`disc_charge`] from the columns' [`nodal_density`] (taken once for many discs).
+fn disc_charge_of(cols: &[(f64, f64)], r: f64, x0: f64) -> f64 {
     if !(r.is_finite() && x0.is_finite() && r >= 0.0) {
         return f64::NAN;
     }
-    let cols = nodal_density(columns);
     if cols.is_empty() || r == 0.0 {
         return 0.0;
     }
@@ -164,10 +168,10 @@ pub fn line_coupling(
 /// above its coat).
 pub fn surface_coupling(line: &Line, gap: f64, r: f64, offsets: &[f64]) -> Result<Vec<f64>, Error> {
     let (cs, face) = face_section(line, gap)?;
-    let columns = ground_charge(&cs, face, ACCURACY)?;
+    let density = nodal_density(&ground_charge(&cs, face, ACCURACY)?);
     Ok(offsets
         .iter()
-        .map(|&x0| disc_charge(&columns, r, x0))
+        .map(|&x0| disc_charge_of(&density, r, x0))
         .collect())
 }
 
