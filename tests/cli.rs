@@ -1,5 +1,7 @@
 //! The `loopwright` binary: its documented interface, and its refusals of bad input.
 
+mod common;
+
 use std::path::PathBuf;
 use std::process::{Command, Output};
 
@@ -40,7 +42,7 @@ fn tmp_file(name: &str, text: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("loopwright-cli-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
+    common::write_atomically(&p, text);
     p
 }
 

@@ -328,8 +328,23 @@ pub fn tmp_file(name: &str, text: &str) -> PathBuf {
     ));
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
+    write_atomically(&p, text);
     p
+}
+
+/// Writes `text` to `p` through a uniquely named file renamed into place: tests running at
+/// once that write the same file (the demo spec, say) while another's command reads it never
+/// show the reader a truncated file.
+pub fn write_atomically(p: &std::path::Path, text: &str) {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    static NEXT: AtomicUsize = AtomicUsize::new(0);
+    let part = p.with_extension(format!(
+        "part{}-{}",
+        std::process::id(),
+        NEXT.fetch_add(1, Ordering::Relaxed)
+    ));
+    std::fs::write(&part, text).unwrap();
+    std::fs::rename(&part, p).unwrap();
 }
 
 /// Distance from hole `i` to its nearest neighbour among `holes` ((x, y, d) in mm).
