@@ -22,45 +22,10 @@ pub fn digamma_half(n: usize) -> f64 {
     s
 }
 
-/// q_n(r, r′, Δz) for n = 0..=nmax (module docs), r ≠ r′ or Δz ≠ 0.
-///
-/// Both recurrences run on the coefficients of [`coefficients`] (a product per term in place
-/// of a division: the step's latency is what the backward recurrence, up to 5.5·nmax steps
-/// long, costs); `out` doubles as the backward recurrence's scratch.
+/// q_n(r, r′, Δz) for n = 0..=nmax (module docs), r ≠ r′ or Δz ≠ 0: [`toroidal_batch`] of
+/// the one pair.
 pub fn toroidal(r: f64, rp: f64, dz: f64, nmax: usize, out: &mut Vec<f64>) {
-    out.clear();
-    let p = Prelude::of(r, rp, dz, nmax);
-    if let Some(q1) = p.q1 {
-        out.resize(nmax + 1, 0.0);
-        forward(p.q0, q1, p.chi, &coefficients(nmax + 1), out);
-        return;
-    }
-    // Miller's backward recurrence for the minimal solution, normalised by q_0:
-    // t_{n−1} = (2n/(n − ½))·χ·t_n − ((n + ½)/(n − ½))·t_{n+1}.
-    let (start, chi) = (p.start, p.chi);
-    let c = coefficients(start + 1);
-    let t = out;
-    t.resize(start + 2, 0.0);
-    t[start] = 1e-30;
-    t[start + 1] = 0.0;
-    let (mut above, mut cur) = (0.0, 1e-30);
-    for n in (1..=start).rev() {
-        let [ba, bb, _, _] = c[n];
-        let mut next = ba * chi * cur - bb * above;
-        if next.abs() > 1e200 {
-            // Rescaled with everything kept below it (only n ≤ nmax is read).
-            next *= 1e-200;
-            cur *= 1e-200;
-            for v in t[n..].iter_mut() {
-                *v *= 1e-200;
-            }
-        }
-        t[n - 1] = next;
-        (above, cur) = (cur, next);
-    }
-    t.truncate(nmax + 1);
-    let scale = p.q0 / t[0];
-    t.iter_mut().for_each(|v| *v *= scale);
+    toroidal_batch(&[(r, rp, dz)], nmax, out);
 }
 
 /// What both recurrences start from: q_0, χ, and either q_1 (the forward recurrence, while its
@@ -118,10 +83,14 @@ fn forward(q0: f64, q1: f64, chi: f64, c: &[[f64; 4]], out: &mut [f64]) {
     }
 }
 
-/// [`toroidal`] for many pairs (r, r′, Δz): q_n of pair p is `out[p·(nmax + 1) + n]`. The
-/// backward recurrences, the long ones, run four pairs at a time (pairs of similar length
-/// together), four independent chains that the processor overlaps; each pair's arithmetic is
-/// exactly [`toroidal`]'s (the same bits, `toroidal_batch_matches_one_by_one`).
+/// q_n(r, r′, Δz), n = 0..=nmax, for many pairs (r, r′, Δz): q_n of pair p is
+/// `out[p·(nmax + 1) + n]`. Both recurrences run on the coefficients of [`coefficients`] (a
+/// product per term in place of a division: the step's latency is what the backward
+/// recurrence, up to 5.5·nmax steps long, costs). The backward recurrences (Miller's, for the
+/// minimal solution normalised by q_0: t_{n−1} = (2n/(n − ½))·χ·t_n − ((n + ½)/(n − ½))·t_{n+1})
+/// run four pairs at a time (pairs of similar length together), four independent chains that
+/// the processor overlaps; each pair's arithmetic is what it would be alone (the same bits,
+/// `toroidal_batch_matches_one_by_one`).
 pub fn toroidal_batch(pairs: &[(f64, f64, f64)], nmax: usize, out: &mut Vec<f64>) {
     let len = nmax + 1;
     out.clear();
@@ -261,9 +230,10 @@ mod tests {
         }
     }
 
-    /// The batch gives each pair [`toroidal`]'s values to the bit: pairs that take the forward
-    /// recurrence, the backward one (of different lengths, so that lanes start apart), and far
-    /// pairs whose backward recurrence is rescaled on the way.
+    /// A batch gives each pair the values it gets alone ([`toroidal`], checked against
+    /// quadrature above), to the bit: the lanes do not mix, whatever the grouping. Pairs that
+    /// take the forward recurrence, the backward one (of different lengths, so that lanes start
+    /// apart), and far pairs whose backward recurrence is rescaled on the way.
     #[test]
     fn toroidal_batch_matches_one_by_one() {
         let pairs = [
@@ -287,6 +257,44 @@ mod tests {
                     &batch[p * (nmax + 1)..(p + 1) * (nmax + 1)],
                     &one[..],
                     "pair {p}"
+                );
+            }
+        }
+    }
+
+    /// Far pairs, whose backward recurrence passes 1e200 and is rescaled on the way (several
+    /// times over 300 steps): the values must still satisfy the three-term recurrence
+    /// (n + ½)·q_{n+1} = 2nχ·q_n − (n − ½)·q_{n−1} at every n (a block of values left unscaled
+    /// would break it where the rescale fell), and q_0 and q_1 must match quadrature.
+    #[test]
+    fn rescaled_recurrences_hold_throughout() {
+        for &(r, rp, dz) in &[(1.0, 1000.0, 0.0), (1.0, 30.0, 0.0), (1.0, 400.0, 5.0)] {
+            let nmax = 300;
+            let mut q = Vec::new();
+            toroidal(r, rp, dz, nmax, &mut q);
+            let chi: f64 = (r * r + rp * rp + dz * dz) / (2.0 * r * rp);
+            for n in 1..nmax {
+                let nf = n as f64;
+                let (lhs, a, b) = (
+                    (nf + 0.5) * q[n + 1],
+                    2.0 * nf * chi * q[n],
+                    (nf - 0.5) * q[n - 1],
+                );
+                if q[n + 1].abs() < 1e-290 {
+                    break; // near underflow: e^(−ηn) past what a double holds in full
+                }
+                assert!(
+                    (lhs - (a - b)).abs() <= 1e-9 * a.abs(),
+                    "r′ {rp} n {n}: {lhs} vs {}",
+                    a - b
+                );
+            }
+            for n in [0, 1] {
+                let b = brute(r, rp, dz, n);
+                assert!(
+                    (q[n] / b - 1.0).abs() < 1e-7,
+                    "r′ {rp} n {n}: {} vs {b}",
+                    q[n]
                 );
             }
         }
