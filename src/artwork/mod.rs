@@ -42,13 +42,8 @@ impl Nets {
         }
     }
 
-    /// The net of an object whose first point is `p` (`None`: not connected).
-    pub fn at(&self, p: Point) -> Option<&str> {
-        self.located().at(p)
-    }
-
-    /// The nets with each area's bounding box, for many lookups ([`LocatedNets::at`] gives
-    /// what [`Nets::at`] gives, a point outside a box skipping its area's edges).
+    /// The nets with each area's bounding box, for looking up many objects' nets
+    /// ([`LocatedNets::at`]: a point outside a box skips its area's edges).
     pub fn located(&self) -> LocatedNets<'_> {
         use geo::BoundingRect;
         LocatedNets {
@@ -66,7 +61,8 @@ pub struct LocatedNets<'a> {
 }
 
 impl<'a> LocatedNets<'a> {
-    /// [`Nets::at`].
+    /// The net of an object whose first point is `p`: the first area that holds it, else the
+    /// default (`None`: not connected).
     pub fn at(&self, p: Point) -> Option<&'a str> {
         use geo::Intersects;
         let q = geo::Point::new(p.x, p.y);
