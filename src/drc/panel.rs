@@ -102,20 +102,19 @@ type Piece = (usize, Polygon<f64>, PadFunction, Option<geo::Rect<f64>>);
 /// not at every query.
 fn copper_pieces(art: &Artwork) -> Vec<Piece> {
     let mut v = Vec::new();
+    let mut push = |n: usize, p: Polygon<f64>, f: PadFunction| {
+        let r = p.bounding_rect();
+        v.push((n, p, f, r));
+    };
     for l in &art.copper {
         for p in &l.regions.0 {
-            v.push((l.n, p.clone(), PadFunction::Via));
+            push(l.n, p.clone(), PadFunction::Via);
         }
         for f in &l.flashes {
-            v.push((l.n, super::flash_polygon(f), f.function));
+            push(l.n, super::flash_polygon(f), f.function);
         }
     }
-    v.into_iter()
-        .map(|(n, p, f)| {
-            let r = p.bounding_rect();
-            (n, p, f, r)
-        })
-        .collect()
+    v
 }
 
 /// Distance from `c` to the nearest copper piece accepted by `keep`, with that piece's bounding

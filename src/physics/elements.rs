@@ -218,27 +218,12 @@ pub fn flux_filaments(
     FluxSampler::new(shape, fil, &[], 0.0).flux_filaments(&field, x, z0)
 }
 
-/// Flux per ampere divided by μ0 (m) through the gap correction's stream function (the
-/// counterpart of [`flux_filaments`] for [`shield_gap::GapCurrent::points`]): each point at its
-/// arc length from the gap (on the round loop of radius `r_eq` it was solved on) is placed on
-/// the shape's own path below the apex `z0`, its plane `z` further sideways than `x`.
-pub fn flux_gap(
-    shape: &LoopShape,
-    points: &[shield_gap::GapPoint],
-    r_eq: f64,
-    field: impl Fn(f64, f64) -> f64,
-    x: f64,
-    z0: f64,
-) -> f64 {
-    FluxSampler::new(shape, &[], points, r_eq).flux_gap(&field, x, z0)
-}
-
 /// [`loop_nodes`]' list: (u m, weight·chord m²).
 type LoopNodes = Vec<(f64, f64)>;
 
-/// Where [`flux_filaments`] and [`flux_gap`] sample a field, and with what weights, for one
-/// loop: worked out once, so that a search moving the loop across a field (the resolution's)
-/// evaluates only the field at each step. The same sums, term for term, as the two functions.
+/// Where the flux integrals of a loop's outer current sample a field, and with what weights:
+/// worked out once, so that a search moving the loop across a field (the resolution's)
+/// evaluates only the field at each step.
 pub struct FluxSampler {
     /// Per filament: its share, plane offset z, apex drop d, and its offset shape's
     /// [`loop_nodes`].
@@ -275,7 +260,7 @@ impl FluxSampler {
         FluxSampler { filaments, gap }
     }
 
-    /// The filaments' flux ([`flux_filaments`]).
+    /// The filaments' flux ([`flux_filaments`], the same sum term for term).
     pub fn flux_filaments(&self, field: impl Fn(f64, f64) -> f64, x: f64, z0: f64) -> f64 {
         self.filaments
             .iter()
@@ -283,7 +268,11 @@ impl FluxSampler {
             .sum()
     }
 
-    /// The gap points' flux ([`flux_gap`]).
+    /// Flux per ampere divided by μ0 (m) through the gap correction's stream function (the
+    /// counterpart of [`flux_filaments`] for [`shield_gap::GapCurrent::points`]): each point at
+    /// its arc length from the gap (on the round loop of radius `r_eq` it was solved on) is
+    /// placed on the shape's own path below the apex `z0`, its plane `z` further sideways than
+    /// `x`.
     pub fn flux_gap(&self, field: impl Fn(f64, f64) -> f64, x: f64, z0: f64) -> f64 {
         self.gap
             .iter()
