@@ -79,29 +79,16 @@ fn symmetric(profile: &[(f64, f64)]) -> Polygon<f64> {
     polygon(&ring)
 }
 
-/// Every ring (outer and holes) of `m`, for [`holds_disc`].
-fn edges_of(m: &MultiPolygon<f64>) -> Vec<geo::LineString<f64>> {
-    m.0.iter()
-        .flat_map(|p| std::iter::once(p.exterior()).chain(p.interiors()))
-        .cloned()
-        .collect()
-}
-
-/// Whether `m` (whose rings are `rings`) contains the disc polygon `circle(q, r)`, its vertices
-/// on the circle: settled by the centre's distance to the rings where that is clearly more than
-/// r (the disc wholly inside or wholly outside) or less than the polygon's inner radius (a ring
-/// then runs through it, so it holds points outside `m`); the polygon test itself only in the
-/// band between. The same answer as `m.contains(&circle(q, r))`, at a fraction of the work.
-fn holds_disc(m: &MultiPolygon<f64>, rings: &[geo::LineString<f64>], q: Point, r: f64) -> bool {
-    use geo::{Distance, Euclidean};
-    let c = geo::Point::new(q.x, q.y);
-    let edge = rings
-        .iter()
-        .map(|ring| Euclidean.distance(&c, ring))
-        .fold(f64::INFINITY, f64::min);
+/// Whether `m` contains the disc polygon `circle(q, r)`, its vertices on the circle: settled by
+/// the centre's distance to `m`'s edges where that is clearly more than r (the disc wholly
+/// inside or wholly outside) or less than the polygon's inner radius (an edge then runs through
+/// it, so it holds points outside `m`); the polygon test itself only in the band between. The
+/// same answer as `m.contains(&circle(q, r))`, at a fraction of the work.
+fn holds_disc(m: &MultiPolygon<f64>, q: Point, r: f64) -> bool {
+    let edge = super::edge_distance(m, q);
     let margin = 1e-9;
     if edge > r + margin {
-        m.contains(&c)
+        m.contains(&geo::Point::new(q.x, q.y))
     } else if edge < r - crate::model::centreline::ARC_TOLERANCE - margin {
         false
     } else {
@@ -162,8 +149,7 @@ pub fn build(f: &Fixture, s: &SolvedFixture) -> FixtureBoard {
     let r_keep = f.vias.pad / 2.0 + VIA_WEB;
     let step = (0.5 * s.pitch_max).max(s.pitch_min + offsets::PITCH_MARGIN);
     let mut vias: Vec<Via> = Vec::new();
-    let rings = edges_of(&pour);
-    let holds = |q: Point| holds_disc(&pour, &rings, q, r_keep);
+    let holds = |q: Point| holds_disc(&pour, q, r_keep);
     let ok = |q: Point, vias: &[Via]| {
         holds(q)
             && !pads.iter().any(|pd| {
@@ -382,14 +368,13 @@ mod tests {
         let outer = MultiPolygon(vec![rect(-5.0, -3.0, 5.0, 3.0)]);
         let cut = MultiPolygon(vec![rect(-1.0, -0.4, 1.0, 0.4), rect(3.0, -3.5, 3.6, 0.0)]);
         let pour = outer.difference(&cut);
-        let rings = edges_of(&pour);
         let mut near = 0;
         for r in [0.01, 0.35, 0.8] {
             for i in -60..=60 {
                 for j in -40..=40 {
                     let q = Point::new(i as f64 * 0.0913, j as f64 * 0.0811);
                     let exact = pour.contains(&circle(q, r));
-                    assert_eq!(holds_disc(&pour, &rings, q, r), exact, "r {r} at {q:?}");
+                    assert_eq!(holds_disc(&pour, q, r), exact, "r {r} at {q:?}");
                     near += usize::from(exact);
                 }
             }

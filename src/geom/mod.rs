@@ -35,7 +35,9 @@ pub fn build(p: &crate::model::probe::Probe, s: &crate::solve::probe::SolvedProb
         crate::model::probe::ProbeKind::Balanced => balanced::build(p, s),
     }
 }
-pub use region::{circle, polygon, rect, round_buffer, stroke_butt, stroke_round, symmetrise};
+pub use region::{
+    circle, edge_distance, polygon, rect, round_buffer, stroke_butt, stroke_round, symmetrise,
+};
 
 use geo::{MultiPolygon, Polygon};
 use kurbo::Point;

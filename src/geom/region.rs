@@ -28,6 +28,17 @@ pub fn circle(c: Point, r: f64) -> Polygon<f64> {
     polygon(&pts)
 }
 
+/// Distance from `q` to the nearest edge of `m` (its outer rings and holes alike), mm; infinite
+/// for an empty region.
+pub fn edge_distance(m: &MultiPolygon<f64>, q: Point) -> f64 {
+    use geo::{Distance, Euclidean};
+    let pt = geo::Point::new(q.x, q.y);
+    m.0.iter()
+        .flat_map(|p| std::iter::once(p.exterior()).chain(p.interiors()))
+        .map(|r| Euclidean.distance(&pt, r))
+        .fold(f64::INFINITY, f64::min)
+}
+
 /// An axis-aligned rectangle polygon.
 pub fn rect(x0: f64, y0: f64, x1: f64, y1: f64) -> Polygon<f64> {
     polygon(&[

@@ -100,7 +100,7 @@ impl<'a> ViaPlacer<'a> {
     /// Clear of the gaps and the connector's pads, inside the shield with a rim, and the fab's
     /// least pitch from every via placed.
     fn ok_elsewhere(&self, q: Point) -> bool {
-        use geo::{Contains, Distance, Euclidean};
+        use geo::Contains;
         let pad = self.p.vias.pad;
         // Clear of the gap (a loop's; an electric probe's shield has none).
         if self.p.kind == ProbeKind::Loop
@@ -141,17 +141,7 @@ impl<'a> ViaPlacer<'a> {
         if !self.shield.contains(&pt) {
             return false;
         }
-        let edge = self
-            .shield
-            .0
-            .iter()
-            .map(|poly| {
-                std::iter::once(poly.exterior())
-                    .chain(poly.interiors())
-                    .map(|r| Euclidean.distance(&pt, r))
-                    .fold(f64::INFINITY, f64::min)
-            })
-            .fold(f64::INFINITY, f64::min);
+        let edge = edge_distance(&self.shield, q);
         if edge < pad / 2.0 + VIA_WEB - TOL {
             return false;
         }
