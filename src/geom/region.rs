@@ -130,9 +130,14 @@ pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
 /// ([`local_fillets`]), not on the whole outline, whose flattened arcs made it the dearest step
 /// of a build; where a corner is too sharp or a fillet reaches its window's edge, on the whole
 /// outline as before.
+///
+/// The result is the left half mirrored (as [`symmetrise`] makes it), so everything is decided
+/// on that half: windows wholly right of x = 0, whose fillets would be cut away, are not
+/// computed, and do not ask for the whole outline's closing (on a probe's outline, symmetric
+/// to the overlay's 15 nm grid, each is the mirror image of a window on the left).
 pub fn fillet_internal(exterior: &Polygon<f64>, r: f64) -> Polygon<f64> {
     let p = Polygon::new(exterior.exterior().clone(), vec![]);
-    let fillets = local_fillets(&p, r).unwrap_or_else(|| closing_fillets(&p, r));
+    let fillets = local_fillets(&p, r, true).unwrap_or_else(|| closing_fillets(&p, r));
     largest(&symmetrise(&MultiPolygon(vec![p]).union(&fillets)))
 }
 
@@ -168,8 +173,9 @@ fn closing_fillets(p: &Polygon<f64>, r: f64) -> MultiPolygon<f64> {
 /// straight corner r·tan(δ/2) from it), overlapping boxes are merged, and every
 /// piece the closing adds must lie strictly inside its box: a piece that reaches the box's edge
 /// may go on beyond it (a notch narrower than 2r), and then `None` asks for the closing of the
-/// whole. `None` too for a corner sharper than tan(δ/2) = 8.
-fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
+/// whole. `None` too for a corner sharper than tan(δ/2) = 8. With `left_only`, windows wholly
+/// right of x = 0 are skipped (for a mirror-symmetric outline whose right half is discarded).
+fn local_fillets(p: &Polygon<f64>, r: f64, left_only: bool) -> Option<MultiPolygon<f64>> {
     use geo::{Area, BoundingRect};
     let ring = &p.exterior().0;
     let pts = &ring[..ring.len().saturating_sub(1)];
@@ -223,6 +229,9 @@ fn local_fillets(p: &Polygon<f64>, r: f64) -> Option<MultiPolygon<f64>> {
                 }
             }
         }
+    }
+    if left_only {
+        boxes.retain(|w| w[0] < 0.0);
     }
     let m = MultiPolygon(vec![p.clone()]);
     let mut pieces = Vec::new();
@@ -351,7 +360,7 @@ mod fillet_tests {
         ];
         for (k, o) in outlines.iter().enumerate() {
             let whole = closing_fillets(o, r).unsigned_area();
-            let local = local_fillets(o, r).map(|f| f.unsigned_area());
+            let local = local_fillets(o, r, false).map(|f| f.unsigned_area());
             assert!(whole > 1e-3, "outline {k}: the closing adds fillets");
             if k == 2 {
                 assert_eq!(local, None, "the slot reaches beyond its window");
@@ -365,5 +374,22 @@ mod fillet_tests {
             let a = fillet_internal(o, r).unsigned_area();
             assert!((a - o.unsigned_area() - whole).abs() < 1e-5, "outline {k}");
         }
+    }
+
+    /// On a mirror-symmetric outline the left windows alone give the same filleted outline, to
+    /// the bit, as every window.
+    #[test]
+    fn left_windows_give_the_same_outline() {
+        let r = 0.5;
+        let ring = circle(Point::new(0.0, 10.0), 6.0);
+        let handle = rect(-2.0, -20.0, 2.0, 5.0);
+        let joined = largest(&symmetrise(
+            &MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle])),
+        ));
+        let all = local_fillets(&joined, r, false).expect("windowed");
+        let left = local_fillets(&joined, r, true).expect("windowed");
+        assert!(left.0.len() < all.0.len(), "right windows skipped");
+        let every = largest(&symmetrise(&MultiPolygon(vec![joined.clone()]).union(&all)));
+        assert_eq!(fillet_internal(&joined, r), every);
     }
 }
