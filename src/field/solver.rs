@@ -247,62 +247,89 @@ impl System {
         dinv
     }
 
-    /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A), the inverse
-    /// pivots `dinv` of [`System::mic_inverse`]; the couplings are the system's, scaled by
-    /// them as the sweeps go. Each sweep is split into vectorisable parts and a
-    /// one-multiply-add recursion along the row, run as four interleaved chains ([`Chains`]).
-    fn precondition(&self, dinv: &[f64], r: &[f64], z: &mut [f64]) {
+    /// The MIC(0) factor ready for [`System::precondition`]: the inverse pivots of
+    /// [`System::mic_inverse`] and each row's doubled couplings ([`Chains`]), the same for
+    /// every application of it.
+    fn factor(&self, omega: f64) -> Factor {
+        let dinv = self.mic_inverse(omega);
+        let nx = self.nx;
+        let n = dinv.len();
+        let mut f = Factor {
+            fg2: vec![0.0; n],
+            fg4: vec![0.0; n],
+            bg2: vec![0.0; n],
+            bg4: vec![0.0; n],
+            dinv,
+        };
+        let mut g = vec![0.0; nx];
+        for o in (0..n).step_by(nx) {
+            let di = &f.dinv[o..o + nx];
+            // West couplings over the pivots (none across the row's start).
+            g[0] = 0.0;
+            for i in 1..nx {
+                g[i] = self.ax[o + i - 1] * di[i];
+            }
+            Chains::double_forward(&g, &mut f.fg2[o..o + nx], &mut f.fg4[o..o + nx]);
+            for i in 0..nx {
+                g[i] = self.ax[o + i] * di[i];
+            }
+            Chains::double_backward(&g, &mut f.bg2[o..o + nx], &mut f.bg4[o..o + nx]);
+        }
+        f
+    }
+
+    /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A), the factor
+    /// `f` of [`System::factor`]; the couplings are the system's, scaled by the pivots as the
+    /// sweeps go. Each sweep is split into vectorisable parts and a one-multiply-add recursion
+    /// along the row, run as four interleaved chains ([`Chains`]).
+    fn precondition(&self, f: &Factor, r: &[f64], z: &mut [f64]) {
         let nx = self.nx;
         let n = r.len();
         let rows = n / nx;
         let mut ch = Chains::new(nx);
-        // The row's couplings over the pivots (the factor's L·D⁻¹, formed row by row rather
-        // than stored: four arrays of the mesh's size fewer).
-        let mut coupling = vec![0.0; nx];
         // Forward: (D + L)·u = r.
         for j in 0..rows {
             let o = j * nx;
             let (done, rest) = z.split_at_mut(o);
             let row = &mut rest[..nx];
-            let di = &dinv[o..o + nx];
+            let di = &f.dinv[o..o + nx];
             let rr = &r[o..o + nx];
-            for i in 0..nx {
-                ch.t[i] = rr[i] * di[i];
-            }
             if j > 0 {
                 let s = &done[o - nx..o];
                 let ay = &self.ay[o - nx..o];
                 for i in 0..nx {
-                    ch.t[i] += ay[i] * di[i] * s[i];
+                    ch.t[i] = rr[i] * di[i] + ay[i] * di[i] * s[i];
+                }
+            } else {
+                for i in 0..nx {
+                    ch.t[i] = rr[i] * di[i];
                 }
             }
-            // West couplings over the pivots (none across the row's start).
-            coupling[0] = 0.0;
-            let ax = &self.ax[o..o + nx];
-            for i in 1..nx {
-                coupling[i] = ax[i - 1] * di[i];
-            }
-            ch.forward(&coupling, row);
+            let w = &self.ax[o..o + nx];
+            ch.forward(
+                |i| w[i - 1] * di[i],
+                &f.fg2[o..o + nx],
+                &f.fg4[o..o + nx],
+                row,
+            );
         }
         // Backward: (D + L)ᵀ·z = D·u.
         for j in (0..rows).rev() {
             let o = j * nx;
             let (head, above) = z.split_at_mut(o + nx);
             let row = &mut head[o..];
-            ch.t.copy_from_slice(row);
-            let di = &dinv[o..o + nx];
+            let di = &f.dinv[o..o + nx];
             if j + 1 < rows {
                 let nn = &above[..nx];
                 let ay = &self.ay[o..o + nx];
                 for i in 0..nx {
-                    ch.t[i] += ay[i] * di[i] * nn[i];
+                    ch.t[i] = row[i] + ay[i] * di[i] * nn[i];
                 }
+            } else {
+                ch.t.copy_from_slice(row);
             }
-            let ax = &self.ax[o..o + nx];
-            for i in 0..nx {
-                coupling[i] = ax[i] * di[i];
-            }
-            ch.backward(&coupling, row);
+            let e = &self.ax[o..o + nx];
+            ch.backward(|i| e[i] * di[i], &f.bg2[o..o + nx], &f.bg4[o..o + nx], row);
         }
     }
 
@@ -324,12 +351,12 @@ impl System {
         for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
             *rk = if free { b - *rk } else { 0.0 };
         }
-        let dinv = self.mic_inverse(0.97);
+        let f = self.factor(0.97);
         let mut z = vec![0.0; n];
         // Stop on the preconditioned residual relative to the right-hand side's.
-        self.precondition(&dinv, &self.rhs, &mut z);
+        self.precondition(&f, &self.rhs, &mut z);
         let scale = dot(&self.rhs, &z).max(f64::MIN_POSITIVE);
-        self.precondition(&dinv, &r, &mut z);
+        self.precondition(&f, &r, &mut z);
         let mut p = z.clone();
         let mut rz: f64 = dot(&r, &z);
         let mut q = vec![0.0; n];
@@ -342,7 +369,7 @@ impl System {
                 *xk += alpha * pk;
                 *rk -= alpha * qk;
             }
-            self.precondition(&dinv, &r, &mut z);
+            self.precondition(&f, &r, &mut z);
             let rz_new = dot(&r, &z);
             let beta = rz_new / rz;
             rz = rz_new;
@@ -398,19 +425,31 @@ impl System {
     }
 }
 
+/// The MIC(0) factor of a [`System`], as its sweeps use it ([`System::factor`]).
+struct Factor {
+    /// Inverse pivots.
+    dinv: Vec<f64>,
+    /// The forward sweep's doubled couplings per node ([`Chains::double_forward`]).
+    fg2: Vec<f64>,
+    fg4: Vec<f64>,
+    /// The backward sweep's ([`Chains::double_backward`]).
+    bg2: Vec<f64>,
+    bg4: Vec<f64>,
+}
+
 /// The row recursion of a triangular sweep, out_i = t_i + g_i·out_(i−1) (forward; backward
 /// from the row's end), rewritten by recursive doubling as out_i = v_i + G_i·out_(i−4): the
 /// terms v and G are vectorisable sums and products, and the four chains i mod 4 run
 /// interleaved, so the sweep is no longer held to one multiply-add's latency per node. The
-/// same arithmetic as the plain recursion up to rounding.
+/// same arithmetic as the plain recursion up to rounding. The products of the couplings
+/// (g_i·g_(i−1) and G_i) depend on the factor alone: they are formed once per factor
+/// ([`Chains::double_forward`], [`Chains::double_backward`]), the couplings g_i themselves
+/// as each sweep goes.
 struct Chains {
     /// The row's right-hand side t, then v.
     t: Vec<f64>,
     /// Scratch: t after the first doubling.
     u: Vec<f64>,
-    /// g_i·g_(i−1), then G_i.
-    g2: Vec<f64>,
-    g4: Vec<f64>,
 }
 
 impl Chains {
@@ -418,26 +457,52 @@ impl Chains {
         Chains {
             t: vec![0.0; n],
             u: vec![0.0; n],
-            g2: vec![0.0; n],
-            g4: vec![0.0; n],
         }
     }
 
-    /// out_i = t_i + g_i·out_(i−1), out_(−1) = 0.
-    fn forward(&mut self, g: &[f64], out: &mut [f64]) {
-        let n = out.len();
-        let (t, u, g2, g4) = (&mut self.t, &mut self.u, &mut self.g2, &mut self.g4);
-        u[0] = t[0];
+    /// The forward recursion's g2_i = g_i·g_(i−1) and G_i = g2_i·g2_(i−2) (0 where the
+    /// factor reaches before the row's start).
+    fn double_forward(g: &[f64], g2: &mut [f64], g4: &mut [f64]) {
+        let n = g.len();
         g2[0] = 0.0;
         for i in 1..n {
-            u[i] = t[i] + g[i] * t[i - 1];
             g2[i] = g[i] * g[i - 1];
         }
-        t[..n.min(2)].copy_from_slice(&u[..n.min(2)]);
         g4[..n.min(2)].fill(0.0);
         for i in 2..n {
-            t[i] = u[i] + g2[i] * u[i - 2];
             g4[i] = g2[i] * g2[i - 2];
+        }
+    }
+
+    /// The backward recursion's g2_i = g_i·g_(i+1) and G_i = g2_i·g2_(i+2) (0 beyond the
+    /// row's end).
+    fn double_backward(g: &[f64], g2: &mut [f64], g4: &mut [f64]) {
+        let n = g.len();
+        let last = n - 1;
+        g2[last] = 0.0;
+        for i in 0..last {
+            g2[i] = g[i] * g[i + 1];
+        }
+        for x in &mut g4[n.saturating_sub(2)..] {
+            *x = 0.0;
+        }
+        for i in 0..n.saturating_sub(2) {
+            g4[i] = g2[i] * g2[i + 2];
+        }
+    }
+
+    /// out_i = t_i + g_i·out_(i−1), out_(−1) = 0, with `g(i)` = g_i (i ≥ 1) and `g2`, `g4` its
+    /// [`Chains::double_forward`].
+    fn forward(&mut self, g: impl Fn(usize) -> f64, g2: &[f64], g4: &[f64], out: &mut [f64]) {
+        let n = out.len();
+        let (t, u) = (&mut self.t, &mut self.u);
+        u[0] = t[0];
+        for i in 1..n {
+            u[i] = t[i] + g(i) * t[i - 1];
+        }
+        t[..n.min(2)].copy_from_slice(&u[..n.min(2)]);
+        for i in 2..n {
+            t[i] = u[i] + g2[i] * u[i - 2];
         }
         let mut a = [0.0; 4];
         let mut quads = out.chunks_exact_mut(4);
@@ -455,24 +520,20 @@ impl Chains {
         }
     }
 
-    /// out_i = t_i + g_i·out_(i+1), out_n = 0.
-    fn backward(&mut self, g: &[f64], out: &mut [f64]) {
+    /// out_i = t_i + g_i·out_(i+1), out_n = 0, with `g(i)` = g_i (i < n − 1) and `g2`, `g4`
+    /// its [`Chains::double_backward`].
+    fn backward(&mut self, g: impl Fn(usize) -> f64, g2: &[f64], g4: &[f64], out: &mut [f64]) {
         let n = out.len();
-        let (t, u, g2, g4) = (&mut self.t, &mut self.u, &mut self.g2, &mut self.g4);
+        let (t, u) = (&mut self.t, &mut self.u);
         let last = n - 1;
         u[last] = t[last];
-        g2[last] = 0.0;
         for i in 0..last {
-            u[i] = t[i] + g[i] * t[i + 1];
-            g2[i] = g[i] * g[i + 1];
+            u[i] = t[i] + g(i) * t[i + 1];
         }
-        for i in n.saturating_sub(2)..n {
-            t[i] = u[i];
-            g4[i] = 0.0;
-        }
+        let tail = n.saturating_sub(2);
+        t[tail..].copy_from_slice(&u[tail..]);
         for i in 0..n.saturating_sub(2) {
             t[i] = u[i] + g2[i] * u[i + 2];
-            g4[i] = g2[i] * g2[i + 2];
         }
         // Chain c holds the positions 4m + c: the tail beyond the last whole quad first.
         let mut a = [0.0; 4];
@@ -511,7 +572,23 @@ pub(crate) fn prolong(coarse: &[f64], cnx: usize, cny: usize) -> Vec<f64> {
 
 #[cfg(test)]
 mod tests {
+    use super::super::mesh::GROUND;
     use super::*;
+
+    /// A grid of `nx` × `ny` nodes with unequal spacings and permittivities, each node's state
+    /// (free, ground, signal) given by `state`.
+    fn uneven_grid(nx: usize, ny: usize, state: impl Fn(usize) -> u8) -> Grid {
+        Grid {
+            xs: (0..nx).map(|i| i as f64 + 0.13 * (i * i) as f64).collect(),
+            ys: (0..ny)
+                .map(|j| 0.7 * j as f64 + 0.05 * (j * j) as f64)
+                .collect(),
+            eps: (0..nx.saturating_sub(1) * ny.saturating_sub(1))
+                .map(|c| 1.0 + (c % 3) as f64 * 1.7)
+                .collect(),
+            state: (0..nx * ny).map(state).collect(),
+        }
+    }
 
     /// The pivots computed on skewed fronts of four rows equal, to the bit, the plain loop in
     /// natural order they replace (written out here), on grids of 1 to 9 rows (fewer than and
@@ -519,24 +596,13 @@ mod tests {
     /// spacings and permittivities.
     #[test]
     fn mic_fronts_match_the_natural_order() {
-        use super::super::mesh::GROUND;
         for ny in 1..=9_usize {
             for nx in 1..=6_usize {
-                let xs: Vec<f64> = (0..nx).map(|i| i as f64 + 0.13 * (i * i) as f64).collect();
-                let ys: Vec<f64> = (0..ny)
-                    .map(|j| 0.7 * j as f64 + 0.05 * (j * j) as f64)
-                    .collect();
-                let eps: Vec<f64> = (0..nx.saturating_sub(1) * ny.saturating_sub(1))
-                    .map(|c| 1.0 + (c % 3) as f64 * 1.7)
-                    .collect();
-                let state: Vec<u8> = (0..nx * ny)
-                    .map(|k| match (k * 7) % 5 {
-                        0 => GROUND,
-                        1 if k % 2 == 0 => SIGNAL,
-                        _ => FREE,
-                    })
-                    .collect();
-                let g = Grid { xs, ys, eps, state };
+                let g = uneven_grid(nx, ny, |k| match (k * 7) % 5 {
+                    0 => GROUND,
+                    1 if k % 2 == 0 => SIGNAL,
+                    _ => FREE,
+                });
                 let sys = System::new(&g, &g.eps);
                 let omega = 0.97;
                 let n = nx * ny;
@@ -568,6 +634,56 @@ mod tests {
         }
     }
 
+    /// The preconditioner solves with its factor: for M = (D + L)·D⁻¹·(D + L)ᵀ (D the pivots,
+    /// L the strictly lower part of A), M·precondition(r) = r, on grids of 2 to 13 columns
+    /// (every remainder of the four chains, runs of free nodes longer than eight) and 2 to 6
+    /// rows with held nodes and unequal spacings and permittivities.
+    #[test]
+    fn the_preconditioner_inverts_its_factor() {
+        for ny in 2..=6_usize {
+            for nx in 2..=13_usize {
+                let g = uneven_grid(nx, ny, |k| match (k * 5) % 17 {
+                    0 => GROUND,
+                    3 => SIGNAL,
+                    _ => FREE,
+                });
+                let sys = System::new(&g, &g.eps);
+                let f = sys.factor(0.97);
+                let n = nx * ny;
+                let r: Vec<f64> = (0..n).map(|k| 1.0 + ((k * 13) % 11) as f64 * 0.3).collect();
+                let mut z = vec![0.0; n];
+                sys.precondition(&f, &r, &mut z);
+                // w = D⁻¹·(D + L)ᵀ·z, then v = (D + L)·w.
+                let w: Vec<f64> = (0..n)
+                    .map(|k| {
+                        let mut y = z[k] / f.dinv[k];
+                        if k + 1 < n {
+                            y -= sys.ax[k] * z[k + 1];
+                        }
+                        if k + nx < n {
+                            y -= sys.ay[k] * z[k + nx];
+                        }
+                        y * f.dinv[k]
+                    })
+                    .collect();
+                for k in 0..n {
+                    let mut v = w[k] / f.dinv[k];
+                    if k >= 1 {
+                        v -= sys.ax[k - 1] * w[k - 1];
+                    }
+                    if k >= nx {
+                        v -= sys.ay[k - nx] * w[k - nx];
+                    }
+                    assert!(
+                        (v - r[k]).abs() < 1e-12 * r[k].abs(),
+                        "{nx} × {ny}, node {k}: {v} vs {}",
+                        r[k]
+                    );
+                }
+            }
+        }
+    }
+
     /// The doubled chains against the plain recursion they replace, every row length from 1
     /// to 11 (all remainders of the four chains), both directions.
     #[test]
@@ -576,22 +692,29 @@ mod tests {
             let t: Vec<f64> = (0..n).map(|i| 1.0 + 0.37 * i as f64).collect();
             let g: Vec<f64> = (0..n).map(|i| 0.1 + 0.05 * ((i * 7) % 5) as f64).collect();
             let mut ch = Chains::new(n);
+            let (mut g2, mut g4) = (vec![0.0; n], vec![0.0; n]);
             ch.t.copy_from_slice(&t);
             let mut out = vec![0.0; n];
-            ch.forward(&g, &mut out);
+            let mut gf = g.clone();
+            gf[0] = 0.0;
+            Chains::double_forward(&gf, &mut g2, &mut g4);
+            ch.forward(|i| gf[i], &g2, &g4, &mut out);
             let mut prev = 0.0;
             for i in 0..n {
-                prev = t[i] + g[i] * prev;
+                prev = t[i] + gf[i] * prev;
                 assert!(
                     (out[i] - prev).abs() < 1e-12 * prev.abs(),
                     "forward n={n} i={i}"
                 );
             }
             ch.t.copy_from_slice(&t);
-            ch.backward(&g, &mut out);
+            let mut gb = g.clone();
+            gb[n - 1] = 0.0;
+            Chains::double_backward(&gb, &mut g2, &mut g4);
+            ch.backward(|i| gb[i], &g2, &g4, &mut out);
             let mut next = 0.0;
             for i in (0..n).rev() {
-                next = t[i] + g[i] * next;
+                next = t[i] + gb[i] * next;
                 assert!(
                     (out[i] - next).abs() < 1e-12 * next.abs(),
                     "backward n={n} i={i}"
