@@ -346,17 +346,24 @@ impl System {
                 }
             }
         }
-        let mut r = vec![0.0; n];
-        self.apply(&x, &mut r);
-        for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
-            *rk = if free { b - *rk } else { 0.0 };
-        }
         let f = self.factor(0.97);
         let mut z = vec![0.0; n];
-        // Stop on the preconditioned residual relative to the right-hand side's.
+        // Stop on the preconditioned residual relative to the right-hand side's. From zero the
+        // residual is the right-hand side (0 on held nodes), preconditioned once for both.
         self.precondition(&f, &self.rhs, &mut z);
         let scale = dot(&self.rhs, &z).max(f64::MIN_POSITIVE);
-        self.precondition(&f, &r, &mut z);
+        let r = if guess.is_some() {
+            let mut r = vec![0.0; n];
+            self.apply(&x, &mut r);
+            for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
+                *rk = if free { b - *rk } else { 0.0 };
+            }
+            self.precondition(&f, &r, &mut z);
+            r
+        } else {
+            self.rhs.clone()
+        };
+        let mut r = r;
         let mut p = z.clone();
         let mut rz: f64 = dot(&r, &z);
         let mut q = vec![0.0; n];
