@@ -380,16 +380,20 @@ mod fillet_tests {
     /// the bit, as every window.
     #[test]
     fn left_windows_give_the_same_outline() {
-        let r = 0.5;
-        let ring = circle(Point::new(0.0, 10.0), 6.0);
-        let handle = rect(-2.0, -20.0, 2.0, 5.0);
-        let joined = largest(&symmetrise(
-            &MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle])),
-        ));
-        let all = local_fillets(&joined, r, false).expect("windowed");
-        let left = local_fillets(&joined, r, true).expect("windowed");
-        assert!(left.0.len() < all.0.len(), "right windows skipped");
-        let every = largest(&symmetrise(&MultiPolygon(vec![joined.clone()]).union(&all)));
-        assert_eq!(fillet_internal(&joined, r), every);
+        // A large ring on a narrow handle (a window round each corner, the right one skipped),
+        // and a small ring on a wide handle (the two corners' windows merge across the axis,
+        // and that window is kept).
+        for (radius, half_handle, r, skipped) in [(6.0, 2.0, 0.5, true), (3.0, 1.5, 1.0, false)] {
+            let ring = circle(Point::new(0.0, 10.0), radius);
+            let handle = rect(-half_handle, -20.0, half_handle, 10.0 - 0.6 * radius);
+            let joined = largest(&symmetrise(
+                &MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle])),
+            ));
+            let all = local_fillets(&joined, r, false).expect("windowed");
+            let left = local_fillets(&joined, r, true).expect("windowed");
+            assert_eq!(left.0.len() < all.0.len(), skipped, "ring {radius} mm");
+            let every = largest(&symmetrise(&MultiPolygon(vec![joined.clone()]).union(&all)));
+            assert_eq!(fillet_internal(&joined, r), every, "ring {radius} mm");
+        }
     }
 }
