@@ -107,7 +107,8 @@ impl System {
         let mut ax = gx.clone();
         let mut ay = gy.clone();
         // Row by row, a missing neighbour (beyond the grid) standing as a held node behind an
-        // edge of no conductance: adding its zero term changes no sum (every term is ≥ 0).
+        // edge of no conductance: adding its +0 term changes no sum (no term is −0: every
+        // conductance and held potential is positive or +0).
         let none_g = vec![0.0; nx];
         let none_free = vec![false; nx];
         for j in 0..ny {
@@ -354,6 +355,10 @@ impl System {
     /// tolerance was reached within the iteration cap.
     pub fn solve(&self, guess: Option<&[f64]>, rel_tol: f64) -> (Vec<f64>, usize, bool) {
         let n = self.diag.len();
+        debug_assert!(
+            guess.is_none_or(|g| g.len() == n),
+            "a guess of the grid's size"
+        );
         let mut x: Vec<f64> = match guess {
             Some(g) => g
                 .iter()
@@ -765,6 +770,27 @@ mod tests {
                     );
                 }
             }
+        }
+    }
+
+    /// A solve from zero (its right-hand side preconditioned once, as the first residual too)
+    /// gives the same bits and iterations as a solve from a guess of zeros (which forms the
+    /// residual b − A·0 and preconditions it apart).
+    #[test]
+    fn a_solve_from_zero_matches_a_zero_guess() {
+        for (nx, ny) in [(5, 4), (9, 7), (13, 6)] {
+            let g = uneven_grid(nx, ny, |k| match (k * 5) % 17 {
+                0 => GROUND,
+                3 => SIGNAL,
+                _ => FREE,
+            });
+            let sys = System::new(&g, &g.eps);
+            let zeros = vec![0.0; nx * ny];
+            let (a, ia, ca) = sys.solve(None, 1e-9);
+            let (b, ib, cb) = sys.solve(Some(&zeros), 1e-9);
+            let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+            assert!(ia > 0 && ca && cb, "{nx} × {ny}: iterated and converged");
+            assert_eq!((bits(&a), ia), (bits(&b), ib), "{nx} × {ny}");
         }
     }
 

@@ -134,7 +134,8 @@ pub fn symmetrise(m: &MultiPolygon<f64>) -> MultiPolygon<f64> {
 /// The result is the left half mirrored (as [`symmetrise`] makes it), so everything is decided
 /// on that half: windows wholly right of x = 0, whose fillets would be cut away, are not
 /// computed, and do not ask for the whole outline's closing (on a probe's outline, symmetric
-/// to the overlay's 15 nm grid, each is the mirror image of a window on the left).
+/// to about 15 nm, the overlay's grid after `geom::probe`'s clip by a 2·10⁴ mm rectangle, each
+/// is the mirror image of a window on the left).
 pub fn fillet_internal(exterior: &Polygon<f64>, r: f64) -> Polygon<f64> {
     let p = Polygon::new(exterior.exterior().clone(), vec![]);
     let fillets = local_fillets(&p, r, true).unwrap_or_else(|| closing_fillets(&p, r));
