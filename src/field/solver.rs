@@ -373,7 +373,7 @@ impl System {
         // residual is the right-hand side (0 on held nodes), preconditioned once for both.
         self.precondition(&f, &self.rhs, &mut z);
         let scale = dot(&self.rhs, &z).max(f64::MIN_POSITIVE);
-        let r = if guess.is_some() {
+        let mut r = if guess.is_some() {
             let mut r = vec![0.0; n];
             self.apply(&x, &mut r);
             for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
@@ -384,7 +384,6 @@ impl System {
         } else {
             self.rhs.clone()
         };
-        let mut r = r;
         let mut p = z.clone();
         let mut rz: f64 = dot(&r, &z);
         let mut q = vec![0.0; n];
@@ -511,9 +510,7 @@ impl Chains {
         for i in 0..last {
             g2[i] = g[i] * g[i + 1];
         }
-        for x in &mut g4[n.saturating_sub(2)..] {
-            *x = 0.0;
-        }
+        g4[n.saturating_sub(2)..].fill(0.0);
         for i in 0..n.saturating_sub(2) {
             g4[i] = g2[i] * g2[i + 2];
         }
