@@ -264,7 +264,14 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
             // A corner is a vertex at a finite x: the field is singular there. Unlimited
             // planes have none.
             let unbounded_side = if k == 0 || k == 3 { ub_l } else { ub_r };
-            if !unbounded_side {
+            // Nor is a vertex on a grounded side of the domain: the solved region's angle
+            // there is at most 180°, so the field is bounded (a plane or a wall meeting the
+            // shield, a clipped ground; `geometry::enclosure`).
+            let on_wall = (r.dirichlet[0] && (p.0 - dx0).abs() <= tol)
+                || (r.dirichlet[1] && (p.0 - dx1).abs() <= tol)
+                || (r.dirichlet[2] && (p.1 - dy0).abs() <= tol)
+                || (r.dirichlet[3] && (p.1 - dy1).abs() <= tol);
+            if !unbounded_side && !on_wall {
                 xs.push(p.0);
                 ys.push(p.1);
             }

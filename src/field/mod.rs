@@ -250,20 +250,34 @@ pub fn forget_kept() {
 
 /// [`solve`] without the kept solutions.
 pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
-    solve_mesh(cs, acc, true)
+    solve_mesh(cs, acc, true, true)
+}
+
+/// [`solve_uncached`] on the whole domain, not cropped to the grounded box round the signal:
+/// the check that cropping (`geometry::enclosure`) changes the mesh only.
+#[cfg(test)]
+pub(crate) fn solve_whole(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
+    solve_mesh(cs, acc, true, false)
 }
 
 /// The capacitance per metre alone, F/m: [`solve_uncached`]'s `c_per_m` to the last bit, without
 /// the solves with every dielectric replaced by vacuum (half the work on a layered section).
 /// Kept as [`solve`]'s are. For cross-sections that are not lines (the shield gap's capacitance).
 pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error> {
-    kept_or(format!("C|{cs:?}|{acc:?}"), || solve_mesh(cs, acc, false)).map(|s| s.c_per_m)
+    kept_or(format!("C|{cs:?}|{acc:?}"), || {
+        solve_mesh(cs, acc, false, true)
+    })
+    .map(|s| s.c_per_m)
 }
 
 /// The two nested meshes of `acc` (the second with every cell of the first halved), and
 /// whether they cover the half `x ≥ 0` only (a mirror-symmetric section).
-fn grids(cs: &CrossSection, acc: Accuracy) -> Result<(bool, mesh::Grid, mesh::Grid), Error> {
-    let (r, coarse) = base_grid(cs, acc)?;
+fn grids(
+    cs: &CrossSection,
+    acc: Accuracy,
+    crop: bool,
+) -> Result<(bool, mesh::Grid, mesh::Grid), Error> {
+    let (r, coarse) = base_grid(cs, acc, crop)?;
     let fine_xs = mesh::subdivide(&coarse.xs, 2);
     let fine_ys = mesh::subdivide(&coarse.ys, 2);
     let fine = mesh::fill(&r, fine_xs, fine_ys);
@@ -272,7 +286,11 @@ fn grids(cs: &CrossSection, acc: Accuracy) -> Result<(bool, mesh::Grid, mesh::Gr
 
 /// The coarser of [`grids`]' two meshes and the resolved section it fills, refused (as
 /// [`grids`] is) when the finer mesh would pass [`MAX_NODES`].
-fn base_grid(cs: &CrossSection, acc: Accuracy) -> Result<(Resolved, mesh::Grid), Error> {
+fn base_grid(
+    cs: &CrossSection,
+    acc: Accuracy,
+    crop: bool,
+) -> Result<(Resolved, mesh::Grid), Error> {
     let (params, m) = acc.mesh();
     if m == 0 || m > MAX_REFINEMENT {
         return Err(Error::Invalid(vec![FieldError::new(
@@ -281,7 +299,7 @@ fn base_grid(cs: &CrossSection, acc: Accuracy) -> Result<(Resolved, mesh::Grid),
             format!("must be from 1 to {MAX_REFINEMENT}"),
         )]));
     }
-    let r = cs.resolve().map_err(Error::Invalid)?;
+    let r = cs.resolve_with(crop).map_err(Error::Invalid)?;
     let plan = mesh::plan(&r, r.symmetric);
     let coarse = mesh::build(&r, &plan, &params, m as usize);
     let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
@@ -342,7 +360,7 @@ pub fn ground_charge(
     else {
         return Err(bad("must be a ground rectangle of the section"));
     };
-    let (half, coarse, fine) = grids(cs, acc)?;
+    let (half, coarse, fine) = grids(cs, acc, true)?;
     let (guess, energy_coarse) = {
         let sys = System::new(&coarse, &coarse.eps);
         let (phi, _, ok) = sys.solve(None, acc.cg_tol());
@@ -426,7 +444,7 @@ pub fn ground_charge(
 /// Kept as [`solve`]'s are.
 pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
     kept_or(format!("rough|{cs:?}"), || {
-        let (r, g) = base_grid(cs, Accuracy::Draft)?;
+        let (r, g) = base_grid(cs, Accuracy::Draft, true)?;
         let factor = if r.symmetric { 2.0 } else { 1.0 } * EPS0;
         let run = run_mesh(&g, None, factor, true, Accuracy::Draft.cg_tol())?;
         let result = run.result(1, &g);
@@ -445,8 +463,13 @@ pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
 }
 
 /// [`solve_uncached`]; without `vacuum` only C is solved (C0, Z0 and εeff are then NaN).
-fn solve_mesh(cs: &CrossSection, acc: Accuracy, vacuum: bool) -> Result<FieldSolution, Error> {
-    let (half, coarse, fine) = grids(cs, acc)?;
+fn solve_mesh(
+    cs: &CrossSection,
+    acc: Accuracy,
+    vacuum: bool,
+    crop: bool,
+) -> Result<FieldSolution, Error> {
+    let (half, coarse, fine) = grids(cs, acc, crop)?;
     let m = acc.mesh().1;
     let factor = if half { 2.0 } else { 1.0 } * EPS0;
 

@@ -63,12 +63,12 @@ for r, a, h, w in [(2.5, 1.0, 1.5, 2.9), (5.0, 1.25, 1.5, 2.9), (10.0, 1.25, 0.8
           f"call = {call!r}\n")
 
 # 3b. The demo's 10 mm round probe FM-R10 (centreline radius 5 mm) on the demo fixture's line,
-# tip 1 mm above the line's copper. Stated inputs: tip-to-apex 1.4079228227290983 mm (the shield
+# tip 1 mm above the line's copper. Stated inputs: tip-to-apex 1.407905441569702 mm (the shield
 # ring's half width plus the copper-to-edge pull-back; the test measures it on the emitted
 # Gerber files), the current sheet at the copper's mid-thickness (t/2 = 0.0175 mm below the
 # copper top, 1.5475 mm over the plane), strip width 2.8195517393936376 mm (the fixture's
 # solved width). M by dblquad of the sheet field over the disc, in pH.
-for r, height, tip, top, h, w in [(5.0, 1.0, 1.4079228227290983, 0.0175, 1.5475, 2.8195517393936376)]:
+for r, height, tip, top, h, w in [(5.0, 1.0, 1.407905441569702, 0.0175, 1.5475, 2.8195517393936376)]:
     a = height + tip + top
     call = (f"r={r}e-3; a={a!r}e-3; h={h}e-3; w={w!r}e-3; c=a+r; "
             "S=lambda z: np.arctan(w/2/z)*2; Hx=lambda z: (S(z)-S(z+2*h))/(2*np.pi*w); "

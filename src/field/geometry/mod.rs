@@ -6,6 +6,7 @@
 //! bottom of the dielectric stack. Layers stack upwards from `y = 0`; everything outside
 //! the stack (and outside the board's edges, when given) is air.
 
+mod enclosure;
 mod resolve;
 mod validate;
 

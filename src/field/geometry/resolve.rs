@@ -16,8 +16,15 @@ impl CrossSection {
         self.resolve().err().unwrap_or_default()
     }
 
-    /// Validates and reduces the cross-section for the mesher.
+    /// Validates and reduces the cross-section for the mesher, cropped to the grounded box
+    /// round the signal when there is one (`enclosure`).
     pub(crate) fn resolve(&self) -> Result<Resolved, Vec<FieldError>> {
+        self.resolve_with(true)
+    }
+
+    /// [`CrossSection::resolve`], with `crop` false the whole domain however closed the
+    /// signal's box (the check that cropping changes nothing but the mesh).
+    pub(crate) fn resolve_with(&self, crop: bool) -> Result<Resolved, Vec<FieldError>> {
         let mut errs = Vec::new();
         if self.layers.is_empty() {
             bad(
@@ -373,6 +380,19 @@ impl CrossSection {
         if !errs.is_empty() {
             return Err(errs);
         }
+        // Ground closing a box round the signal: only the inside is solved (`enclosure`).
+        let boxed = match crop {
+            true => super::enclosure::crop(&conductors, domain, dirichlet, tol),
+            false => None,
+        };
+        let conductors = match boxed {
+            Some((bx, kept)) => {
+                domain = bx;
+                dirichlet = [true; 4];
+                kept
+            }
+            None => conductors,
+        };
 
         // The smallest feature near the signal: widths, thicknesses, clearances, layers. The
         // smallest cell is a fixed fraction of it, small enough for the edge of a sheet
