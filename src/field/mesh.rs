@@ -465,4 +465,35 @@ mod tests {
             assert_eq!(f[4 * k], *b);
         }
     }
+
+    // A vertex on a grounded side of the domain borders at most 180° of the solved region, so
+    // no corner ladder is graded to it: here a shelf of ground across the whole shield, its
+    // ends on the shield's walls, gives no corner; the trace's corners do.
+    #[test]
+    fn vertices_on_a_grounded_side_are_not_corners() {
+        use super::super::geometry::{Boundary, Conductor, CrossSection, Dielectric};
+        let cs = CrossSection {
+            layers: vec![Dielectric::new(1.0, 1.0)],
+            board: None,
+            conductors: vec![
+                Conductor::trace(0.375, 0.5, 0.25, 0.0, 0.0),
+                Conductor::ground(-1.0, 1.0, 0.125, 0.25),
+            ],
+            coat: None,
+            fences: vec![],
+            boundary: Boundary::Shield {
+                x0: -1.0,
+                x1: 1.0,
+                y0: 0.0,
+                y1: 1.0,
+            },
+        };
+        // Not cropped: the shelf closes a smaller box above it, which would drop it.
+        let r = cs.resolve(false).unwrap();
+        let p = plan(&r, false);
+        assert_eq!(p.xsing, vec![0.25, 0.5]);
+        assert_eq!(p.ysing, vec![0.5]);
+        // The shelf's faces are still key lines.
+        assert!(p.ykeys.contains(&0.125) && p.ykeys.contains(&0.25));
+    }
 }

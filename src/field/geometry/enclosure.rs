@@ -28,11 +28,16 @@ const CANDIDATES: usize = 8;
 /// plane); they count as ground. Grounds wholly outside the box, or lying on its outline with
 /// no area inside, are dropped; the others are clipped to it. Signals are kept as they are
 /// (they lie strictly inside).
+///
+/// `coated` is the top of the dielectric stack when a coat covers it: a box reaching above it
+/// is refused, because the coat beside a conductor standing on that surface is drawn from the
+/// conductor's own outline, which clipping or dropping would change.
 pub(super) fn crop(
     conductors: &[Conductor],
     domain: [f64; 4],
     dirichlet: [bool; 4],
     tol: f64,
+    coated: Option<f64>,
 ) -> Option<([f64; 4], Vec<Conductor>)> {
     let mut sig = [
         f64::INFINITY,
@@ -135,6 +140,9 @@ pub(super) fn crop(
         for &x1 in &right {
             for &y0 in &bottom {
                 for &y1 in &top {
+                    if coated.is_some_and(|surface| y1 > surface + tol) {
+                        continue;
+                    }
                     let closed = covered(true, x0, y0, y1)
                         && covered(true, x1, y0, y1)
                         && covered(false, y0, x0, x1)
@@ -210,7 +218,7 @@ mod tests {
         // A ground outside the box, and a coplanar ground crossing its wall.
         cs.push(Conductor::ground(1.5, 1.8, 0.2, 0.235));
         cs.push(Conductor::ground(0.4, 1.8, 0.2, 0.235));
-        let (bx, kept) = crop(&cs, FAR, OPEN, TOL).expect("closed");
+        let (bx, kept) = crop(&cs, FAR, OPEN, TOL, None).expect("closed");
         assert_eq!(bx, [-1.0, 1.0, 0.0, 0.5]);
         // The planes and walls lie on the outline (dropped); the outer ground is outside; the
         // coplanar ground is clipped at the wall.
@@ -223,13 +231,13 @@ mod tests {
 
     #[test]
     fn a_wall_short_of_a_plane_leaves_the_section_open() {
-        assert!(crop(&shielded(1.0, 0.0, 0.45), FAR, OPEN, TOL).is_none());
+        assert!(crop(&shielded(1.0, 0.0, 0.45), FAR, OPEN, TOL, None).is_none());
         // Open microstrip: a plane below, nothing above.
         let ms = [
             Conductor::plane(0.0, 0.0),
             Conductor::trace(0.0, 0.2, 0.2, 0.0, 0.0),
         ];
-        assert!(crop(&ms, FAR, OPEN, TOL).is_none());
+        assert!(crop(&ms, FAR, OPEN, TOL, None).is_none());
     }
 
     #[test]
@@ -242,11 +250,11 @@ mod tests {
             Conductor::ground(0.9, 0.9, 0.0, 0.5),
         ];
         let domain = [-150.0, 150.0, 0.0, 0.5];
-        let (bx, kept) = crop(&cs, domain, [false, false, true, true], TOL).expect("closed");
+        let (bx, kept) = crop(&cs, domain, [false, false, true, true], TOL, None).expect("closed");
         assert_eq!(bx, [-0.7, 0.9, 0.0, 0.5]);
         assert_eq!(kept, vec![cs[0]]);
         // Without the planes grounded there is no box.
-        assert!(crop(&cs, domain, OPEN, TOL).is_none());
+        assert!(crop(&cs, domain, OPEN, TOL, None).is_none());
     }
 
     #[test]
@@ -255,7 +263,10 @@ mod tests {
         let mut cs = shielded(1.5, 0.0, 0.5);
         cs.push(Conductor::ground(-0.8, -0.8, 0.0, 0.5));
         cs.push(Conductor::ground(0.8, 0.8, 0.0, 0.5));
-        assert_eq!(crop(&cs, FAR, OPEN, TOL).unwrap().0, [-0.8, 0.8, 0.0, 0.5]);
+        assert_eq!(
+            crop(&cs, FAR, OPEN, TOL, None).unwrap().0,
+            [-0.8, 0.8, 0.0, 0.5]
+        );
         // A trapezoidal ground across the inner box's wall cannot be clipped to a rectangle:
         // the boxes whose right side is the inner wall are refused, and the first that holds
         // it whole is taken (the inner wall on the left, the outer on the right).
@@ -269,12 +280,22 @@ mod tests {
                 top: [0.52, 0.98],
             },
         });
-        let (bx, kept) = crop(&sloped, FAR, OPEN, TOL).unwrap();
+        let (bx, kept) = crop(&sloped, FAR, OPEN, TOL, None).unwrap();
         assert_eq!(bx, [-0.8, 1.5, 0.0, 0.5]);
         assert_eq!(
             kept.len(),
             3,
             "trace, right inner wall, trapezoid: {kept:?}"
         );
+    }
+
+    #[test]
+    fn a_coated_surface_inside_the_box_refuses_it() {
+        // The stack's top at 0.2 mm under a coat: the box reaching 0.5 mm would hold coat drawn
+        // round conductors that clipping changes, so it is refused; a box whose lid is the
+        // coated surface itself holds no coat and stands.
+        let cs = shielded(1.0, 0.0, 0.5);
+        assert!(crop(&cs, FAR, OPEN, TOL, Some(0.2)).is_none());
+        assert!(crop(&cs, FAR, OPEN, TOL, Some(0.5)).is_some());
     }
 }

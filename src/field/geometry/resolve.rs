@@ -13,18 +13,14 @@ const SOLID_FEATURE_WEIGHT: f64 = 10.0;
 impl CrossSection {
     /// Checks every field and the arrangement; returns every problem found.
     pub fn validate(&self) -> Vec<FieldError> {
-        self.resolve().err().unwrap_or_default()
+        // Cropping to the signal's box adds no error: the whole domain is checked.
+        self.resolve(false).err().unwrap_or_default()
     }
 
-    /// Validates and reduces the cross-section for the mesher, cropped to the grounded box
-    /// round the signal when there is one (`enclosure`).
-    pub(crate) fn resolve(&self) -> Result<Resolved, Vec<FieldError>> {
-        self.resolve_with(true)
-    }
-
-    /// [`CrossSection::resolve`], with `crop` false the whole domain however closed the
-    /// signal's box (the check that cropping changes nothing but the mesh).
-    pub(crate) fn resolve_with(&self, crop: bool) -> Result<Resolved, Vec<FieldError>> {
+    /// Validates and reduces the cross-section for the mesher. With `crop`, a section that
+    /// ground closes round its signal is cropped to that grounded box (`enclosure`); without,
+    /// the whole domain is kept (the check that cropping changes nothing but the mesh).
+    pub(crate) fn resolve(&self, crop: bool) -> Result<Resolved, Vec<FieldError>> {
         let mut errs = Vec::new();
         if self.layers.is_empty() {
             bad(
@@ -382,7 +378,13 @@ impl CrossSection {
         }
         // Ground closing a box round the signal: only the inside is solved (`enclosure`).
         let boxed = match crop {
-            true => super::enclosure::crop(&conductors, domain, dirichlet, tol),
+            true => super::enclosure::crop(
+                &conductors,
+                domain,
+                dirichlet,
+                tol,
+                self.coat.map(|_| stack_top),
+            ),
             false => None,
         };
         let conductors = match boxed {
@@ -428,6 +430,20 @@ impl CrossSection {
         for a in conductors.iter().filter(|c| c.role == Role::Signal) {
             for b in conductors.iter().filter(|c| c.role == Role::Ground) {
                 min_feature = min_feature.min(polygon_distance(&a.polygon(far), &b.polygon(far)));
+            }
+            // And its clearance to every grounded side of the domain (a shield, the box the
+            // section is cropped to, whose planes and walls are no longer conductors).
+            let [x0, x1, y0, y1] = a.bbox();
+            let gaps = [
+                x0 - domain[0],
+                domain[1] - x1,
+                y0 - domain[2],
+                domain[3] - y1,
+            ];
+            for (gap, grounded) in gaps.into_iter().zip(dirichlet) {
+                if grounded && gap > tol {
+                    min_feature = min_feature.min(gap);
+                }
             }
         }
         for l in &self.layers {
