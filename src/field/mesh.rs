@@ -411,6 +411,13 @@ pub(crate) fn fill(r: &Resolved, xs: Vec<f64>, ys: Vec<f64>) -> Grid {
             }
         }
     }
+    // The axis of an antimirrored half is held (at ½ V in the whole; at 0 V against the
+    // signal's 1 V in the half solved, `Resolved::antisymmetric`).
+    if r.antisymmetric && xs[0] == 0.0 {
+        for j in 0..ny {
+            state[j * nx] = GROUND;
+        }
+    }
     // Grounded outer walls.
     let [left, right, bottom, topw] = r.dirichlet;
     for j in 0..ny {

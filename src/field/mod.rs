@@ -28,8 +28,9 @@
 //! finite elements on right triangles, solved by conjugate gradients with a modified
 //! incomplete Cholesky preconditioner; the capacitance is the discrete field energy
 //! (C = 2W/V²). Mirror-symmetric cross-sections are solved on the half `x ≥ 0`, the plane
-//! `x = 0` being a zero-normal-field wall. Method, accuracy and speed are documented in
-//! `docs/field-solver.md`.
+//! `x = 0` being a zero-normal-field wall; mirror-antisymmetric ones too, the plane held; a
+//! section that ground closes round its signal inside that grounded box. Method, accuracy and
+//! speed are documented in `docs/field-solver.md`.
 //!
 //! ```
 //! use loopwright::field::{self, Accuracy};
@@ -141,14 +142,14 @@ pub struct FieldSolution {
     pub c_per_m: f64,
     /// Capacitance per metre with every dielectric replaced by vacuum, F/m.
     pub c0_per_m: f64,
-    /// Nodes of the finer of the two meshes (of the half domain when symmetric).
+    /// Nodes of the finer of the two meshes (of the half domain when one is used).
     pub nodes: usize,
     /// Estimated relative error of `z0_ohms`: the change made by the Richardson
     /// extrapolation, |Z0(extrapolated) − Z0(fine mesh)| / Z0. It estimates the fine mesh's
     /// own error and is deliberately conservative: the extrapolated value's true error was
     /// 3–15 % of it on every validation case (`docs/field-solver.md`, §4).
     pub estimated_error: f64,
-    /// Whether the mirror symmetry about `x = 0` was used (half domain).
+    /// Whether a mirror symmetry or antisymmetry about `x = 0` was used (half domain).
     pub half_domain: bool,
     /// The same quantities on each mesh, coarse then fine, for convergence studies.
     pub meshes: [MeshResult; 2],
@@ -270,18 +271,51 @@ pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error>
     .map(|s| s.c_per_m)
 }
 
+/// How the solved domain stands for the whole section.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Half {
+    /// The whole section is solved.
+    Whole,
+    /// The half `x ≥ 0` of a mirror-symmetric section: the axis is a zero-normal-field wall.
+    Mirror,
+    /// The half `x ≥ 0` of a mirror-antisymmetric one: the axis is held (see
+    /// `Resolved::antisymmetric`).
+    Antimirror,
+}
+
+impl Half {
+    fn of(r: &Resolved) -> Half {
+        match (r.symmetric, r.antisymmetric) {
+            (true, _) => Half::Mirror,
+            (false, true) => Half::Antimirror,
+            (false, false) => Half::Whole,
+        }
+    }
+
+    /// The whole section's C per the solved domain's: twice a mirrored half's; for an
+    /// antimirrored one, the whole carries 1 V where the half carries ½ V, across twice the
+    /// region: 2 × (½)² = ½.
+    fn c_factor(self) -> f64 {
+        match self {
+            Half::Whole => 1.0,
+            Half::Mirror => 2.0,
+            Half::Antimirror => 0.5,
+        }
+    }
+}
+
 /// The two nested meshes of `acc` (the second with every cell of the first halved), and
-/// whether they cover the half `x ≥ 0` only (a mirror-symmetric section).
+/// which half of the section they cover.
 fn grids(
     cs: &CrossSection,
     acc: Accuracy,
     crop: bool,
-) -> Result<(bool, mesh::Grid, mesh::Grid), Error> {
+) -> Result<(Half, mesh::Grid, mesh::Grid), Error> {
     let (r, coarse) = base_grid(cs, acc, crop)?;
     let fine_xs = mesh::subdivide(&coarse.xs, 2);
     let fine_ys = mesh::subdivide(&coarse.ys, 2);
     let fine = mesh::fill(&r, fine_xs, fine_ys);
-    Ok((r.symmetric, coarse, fine))
+    Ok((Half::of(&r), coarse, fine))
 }
 
 /// The coarser of [`grids`]' two meshes and the resolved section it fills, refused (as
@@ -300,7 +334,7 @@ fn base_grid(
         )]));
     }
     let r = cs.resolve(crop).map_err(Error::Invalid)?;
-    let plan = mesh::plan(&r, r.symmetric);
+    let plan = mesh::plan(&r, Half::of(&r) != Half::Whole);
     let coarse = mesh::build(&r, &plan, &params, m as usize);
     let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
     if fine_nodes > MAX_NODES {
@@ -361,8 +395,9 @@ pub fn ground_charge(
         return Err(bad("must be a ground rectangle of the section"));
     };
     // The whole domain: the rectangle asked for may lie outside a box that cropping would
-    // keep (its columns would go missing rather than read zero).
+    // keep (its columns would go missing rather than read zero), or on the antimirrored half.
     let (half, coarse, fine) = grids(cs, acc, false)?;
+    let half = half == Half::Mirror;
     let (guess, energy_coarse) = {
         let sys = System::new(&coarse, &coarse.eps);
         let (phi, _, ok) = sys.solve(None, acc.cg_tol());
@@ -449,7 +484,8 @@ pub fn ground_charge(
 pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
     kept_or(format!("rough|{cs:?}"), || {
         let (r, g) = base_grid(cs, Accuracy::Draft, true)?;
-        let factor = if r.symmetric { 2.0 } else { 1.0 } * EPS0;
+        let half = Half::of(&r);
+        let factor = half.c_factor() * EPS0;
         let run = run_mesh(&g, None, factor, true, Accuracy::Draft.cg_tol())?;
         let result = run.result(1, &g);
         Ok(FieldSolution {
@@ -459,7 +495,7 @@ pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
             c0_per_m: run.c0,
             nodes: g.nx() * g.ny(),
             estimated_error: f64::NAN,
-            half_domain: r.symmetric,
+            half_domain: half != Half::Whole,
             meshes: [result, result],
         })
     })
@@ -475,7 +511,7 @@ fn solve_mesh(
 ) -> Result<FieldSolution, Error> {
     let (half, coarse, fine) = grids(cs, acc, crop)?;
     let m = acc.mesh().1;
-    let factor = if half { 2.0 } else { 1.0 } * EPS0;
+    let factor = half.c_factor() * EPS0;
 
     let run = |g, guess| run_mesh(g, guess, factor, vacuum, acc.cg_tol());
     let rc = run(&coarse, None)?;
@@ -498,7 +534,7 @@ fn solve_mesh(
         c0_per_m: c0,
         nodes: fine.nx() * fine.ny(),
         estimated_error: (z0 - meshes[1].z0_ohms).abs() / z0,
-        half_domain: half,
+        half_domain: half != Half::Whole,
         meshes,
     })
 }
@@ -672,6 +708,67 @@ mod tests {
         assert!(b.nodes < w.nodes);
     }
 
+    // Two plates facing across a gap in a two-layer board, signal right, ground left (the
+    // shield gap's section): mirror-antisymmetric, so only the half x ≥ 0 is solved, the axis
+    // held. The whole section's mesh has no node line on the axis where the half's has one, so
+    // the two discretisations differ; both must converge to the same C and C0, the half on
+    // about half the nodes. Measured 2026-12-05: C apart by 2.2e-5 at `Draft`, 2.8e-6 at
+    // `Standard`, 7e-8 at `Refined(2)` (C0 1.4e-5, 5.2e-7, 1.4e-7). A ground plane under it
+    // (its own mirror image) breaks the antisymmetry, and the section is solved whole.
+    #[test]
+    fn an_antisymmetric_section_is_solved_on_its_half() {
+        let plate = |x0: f64, x1: f64, y: f64, role: Role| Conductor {
+            role,
+            shape: Shape::Rect {
+                x0,
+                x1,
+                y0: y,
+                y1: y + 0.035,
+            },
+        };
+        let conductors = vec![
+            plate(-3.2, -0.2, 0.0, Role::Ground),
+            plate(0.2, 3.2, 0.0, Role::Signal),
+            plate(-3.2, -0.2, 1.0, Role::Ground),
+            plate(0.2, 3.2, 1.0, Role::Signal),
+        ];
+        let cs = CrossSection {
+            layers: vec![
+                Dielectric::new(0.035, 4.4),
+                Dielectric::new(0.965, 4.4),
+                Dielectric::new(0.035, 4.4),
+            ],
+            board: Some([-3.2, 3.2]),
+            conductors,
+            coat: None,
+            fences: vec![],
+            boundary: Boundary::Open,
+        };
+        let mut apart = Vec::new();
+        for acc in [Accuracy::Draft, Accuracy::Standard] {
+            let (h, w) = boxed_and_whole(&cs, acc);
+            assert!(h.half_domain && !w.half_domain);
+            assert!(
+                2 * h.nodes < w.nodes + w.nodes / 10,
+                "{} {}",
+                h.nodes,
+                w.nodes
+            );
+            apart.push([h.c_per_m / w.c_per_m - 1.0, h.c0_per_m / w.c0_per_m - 1.0].map(f64::abs));
+        }
+        for k in 0..2 {
+            let (draft, standard) = (apart[0][k], apart[1][k]);
+            assert!(
+                draft < 1e-4 && standard < 1e-5 && standard < draft / 4.0,
+                "{apart:?}"
+            );
+        }
+        let mut grounded = cs.clone();
+        grounded.conductors.push(Conductor::plane(-0.5, 0.0));
+        let (h, w) = boxed_and_whole(&grounded, Accuracy::Draft);
+        assert!(!h.half_domain && h.nodes == w.nodes);
+    }
+
     /// Seen from above, one period of a row of round posts (diameter `d`, pitch `p`) at
     /// x = 0 faces a driven plate at x = −l; behind the posts the space is open. Returns the
     /// position of the solid wall with the same capacitance (positive: behind the centres).
@@ -708,6 +805,7 @@ mod tests {
             size: l + behind,
             min_feature: a / strips as f64,
             symmetric: false,
+            antisymmetric: false,
         };
         let plan = mesh::plan(&r, false);
         // The staircase's steps are artificial corners: cells of a third of a step there.

@@ -461,4 +461,9 @@ pub(crate) struct Resolved {
     pub min_feature: f64,
     /// Mirror-symmetric about `x = 0`.
     pub symmetric: bool,
+    /// Mirror-antisymmetric about `x = 0`: every conductor's mirror image is a conductor of the
+    /// other role, and no side of the domain is grounded. The potential less ½ V is then odd
+    /// in x, so the axis stands at ½ V: the half `x ≥ 0` is solved with the axis held, and
+    /// the whole section's C is half the half's (for 1 V on the signal against the held axis).
+    pub antisymmetric: bool,
 }

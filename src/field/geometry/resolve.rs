@@ -18,8 +18,10 @@ impl CrossSection {
     }
 
     /// Validates and reduces the cross-section for the mesher. With `crop`, a section that
-    /// ground closes round its signal is cropped to that grounded box (`enclosure`); without,
-    /// the whole domain is kept (the check that cropping changes nothing but the mesh).
+    /// ground closes round its signal is cropped to that grounded box (`enclosure`), and a
+    /// mirror-antisymmetric one is marked for its half; without, the whole domain is kept (the
+    /// check that these change nothing but the mesh). A mirror-symmetric section is marked for
+    /// its half either way.
     pub(crate) fn resolve(&self, crop: bool) -> Result<Resolved, Vec<FieldError>> {
         let mut errs = Vec::new();
         if self.layers.is_empty() {
@@ -463,10 +465,17 @@ impl CrossSection {
             size,
             min_feature,
             symmetric: false,
+            antisymmetric: false,
         };
-        let symmetric = is_symmetric(&resolved, tol);
+        let symmetric = mirrored(&resolved, tol, true);
+        // Only a domain with no grounded side: a grounded side, at 0 V, is not odd about ½ V.
+        let antisymmetric = crop
+            && !symmetric
+            && resolved.dirichlet == [false; 4]
+            && mirrored(&resolved, tol, false);
         Ok(Resolved {
             symmetric,
+            antisymmetric,
             ..resolved
         })
     }
@@ -487,8 +496,9 @@ fn signal_centre(conductors: &[Conductor]) -> f64 {
     0.5 * (lo + hi)
 }
 
-/// Mirror symmetry about `x = 0` of everything that shapes the field.
-fn is_symmetric(r: &Resolved, tol: f64) -> bool {
+/// Mirror symmetry about `x = 0` of everything that shapes the field; with `same_role` false,
+/// the mirror antisymmetry (every conductor's image a conductor of the other role).
+fn mirrored(r: &Resolved, tol: f64, same_role: bool) -> bool {
     let same = |a: f64, b: f64| (a == b) || (a - b).abs() <= tol;
     if !same(r.domain[0], -r.domain[1]) || r.dirichlet[0] != r.dirichlet[1] {
         return false;
@@ -508,8 +518,8 @@ fn is_symmetric(r: &Resolved, tol: f64) -> bool {
     };
     r.conductors.iter().all(|a| {
         let m = mirror(a);
-        r.conductors
-            .iter()
-            .any(|b| b.role == a.role && key(b).iter().zip(&m).all(|(u, v)| same(*u, *v)))
+        r.conductors.iter().any(|b| {
+            (b.role == a.role) == same_role && key(b).iter().zip(&m).all(|(u, v)| same(*u, *v))
+        })
     })
 }
