@@ -254,8 +254,8 @@ pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution,
     solve_mesh(cs, acc, true, true)
 }
 
-/// [`solve_uncached`] on the whole domain, not cropped to the grounded box round the signal:
-/// the check that cropping (`geometry::enclosure`) changes the mesh only.
+/// [`solve_uncached`] on the whole domain, neither cropped to the grounded box round the signal
+/// nor halved by a mirror antisymmetry: the check that these change the mesh only.
 #[cfg(test)]
 pub(crate) fn solve_whole(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
     solve_mesh(cs, acc, true, false)
@@ -292,9 +292,9 @@ impl Half {
         }
     }
 
-    /// The whole section's C per the solved domain's: twice a mirrored half's; for an
-    /// antimirrored one, the whole carries 1 V where the half carries ½ V, across twice the
-    /// region: 2 × (½)² = ½.
+    /// The whole section's C over the solved half's: 2 for a mirrored half; ½ for an
+    /// antimirrored one, whose whole carries 1 V where the half carries ½ V, over twice the
+    /// region (2 × (½)² = ½).
     fn c_factor(self) -> f64 {
         match self {
             Half::Whole => 1.0,
@@ -309,9 +309,9 @@ impl Half {
 fn grids(
     cs: &CrossSection,
     acc: Accuracy,
-    crop: bool,
+    reduce: bool,
 ) -> Result<(Half, mesh::Grid, mesh::Grid), Error> {
-    let (r, coarse) = base_grid(cs, acc, crop)?;
+    let (r, coarse) = base_grid(cs, acc, reduce)?;
     let fine_xs = mesh::subdivide(&coarse.xs, 2);
     let fine_ys = mesh::subdivide(&coarse.ys, 2);
     let fine = mesh::fill(&r, fine_xs, fine_ys);
@@ -323,7 +323,7 @@ fn grids(
 fn base_grid(
     cs: &CrossSection,
     acc: Accuracy,
-    crop: bool,
+    reduce: bool,
 ) -> Result<(Resolved, mesh::Grid), Error> {
     let (params, m) = acc.mesh();
     if m == 0 || m > MAX_REFINEMENT {
@@ -333,7 +333,7 @@ fn base_grid(
             format!("must be from 1 to {MAX_REFINEMENT}"),
         )]));
     }
-    let r = cs.resolve(crop).map_err(Error::Invalid)?;
+    let r = cs.resolve(reduce).map_err(Error::Invalid)?;
     let plan = mesh::plan(&r, Half::of(&r) != Half::Whole);
     let coarse = mesh::build(&r, &plan, &params, m as usize);
     let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
@@ -475,11 +475,11 @@ pub fn ground_charge(
 /// A rough characteristic impedance, Ω, for searches that a full solution then polishes
 /// (`solve::roots::polish`): the `Draft` base mesh alone, with no second mesh and no
 /// extrapolation: one mesh of about 10 000 nodes on the demo's launch pad, where a `Standard`
-/// solution solves two of 19 000 and 75 000. Its error (3.9 % low on the demo's loop arm and handle, measured
-/// 2026-12-05 inside their grounded box; 2.5–3.4 % on the whole arm before) varies slowly
-/// enough with the geometry that its root is within a few per cent of the full solution's and
-/// its slope within about 6 % (0.94 of the full one's there): a polish then needs two or three
-/// full solutions.
+/// solution solves two of 19 000 and 75 000. Its error (3.9 % low on the demo's loop arm and
+/// handle, measured 2026-12-05 inside their grounded box; 2.5–3.4 % on the whole arm before)
+/// varies slowly enough with the geometry that its root is within a few per cent of the full
+/// solution's and its slope within about 6 % (0.94 of the full one's there): a polish then
+/// needs two or three full solutions.
 /// Kept as [`solve`]'s are.
 pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
     kept_or(format!("rough|{cs:?}"), || {
@@ -507,9 +507,9 @@ fn solve_mesh(
     cs: &CrossSection,
     acc: Accuracy,
     vacuum: bool,
-    crop: bool,
+    reduce: bool,
 ) -> Result<FieldSolution, Error> {
-    let (half, coarse, fine) = grids(cs, acc, crop)?;
+    let (half, coarse, fine) = grids(cs, acc, reduce)?;
     let m = acc.mesh().1;
     let factor = half.c_factor() * EPS0;
 

@@ -17,12 +17,12 @@ impl CrossSection {
         self.resolve(false).err().unwrap_or_default()
     }
 
-    /// Validates and reduces the cross-section for the mesher. With `crop`, a section that
+    /// Validates and reduces the cross-section for the mesher. With `reduce`, a section that
     /// ground closes round its signal is cropped to that grounded box (`enclosure`), and a
     /// mirror-antisymmetric one is marked for its half; without, the whole domain is kept (the
     /// check that these change nothing but the mesh). A mirror-symmetric section is marked for
     /// its half either way.
-    pub(crate) fn resolve(&self, crop: bool) -> Result<Resolved, Vec<FieldError>> {
+    pub(crate) fn resolve(&self, reduce: bool) -> Result<Resolved, Vec<FieldError>> {
         let mut errs = Vec::new();
         if self.layers.is_empty() {
             bad(
@@ -379,7 +379,7 @@ impl CrossSection {
             return Err(errs);
         }
         // Ground closing a box round the signal: only the inside is solved (`enclosure`).
-        let boxed = match crop {
+        let boxed = match reduce {
             true => super::enclosure::crop(
                 &conductors,
                 domain,
@@ -469,7 +469,7 @@ impl CrossSection {
         };
         let symmetric = mirrored(&resolved, tol, true);
         // Only a domain with no grounded side: a grounded side, at 0 V, is not odd about ½ V.
-        let antisymmetric = crop
+        let antisymmetric = reduce
             && !symmetric
             && resolved.dirichlet == [false; 4]
             && mirrored(&resolved, tol, false);
