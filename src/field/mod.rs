@@ -200,12 +200,28 @@ fn kept_or(
     key: String,
     run: impl FnOnce() -> Result<FieldSolution, Error>,
 ) -> Result<FieldSolution, Error> {
-    /// Kept solutions; cleared when it reaches this many (a long fuzzing or census run).
+    kept_in(kept(), key, run)
+}
+
+/// Values kept for the process under exact keys: one cell per key, filled once (`None` when
+/// its run failed).
+pub(crate) type Cells<T> = std::sync::Mutex<
+    std::collections::HashMap<String, std::sync::Arc<std::sync::OnceLock<Option<T>>>>,
+>;
+
+/// The value kept in `cells` under `key`, or `run`'s, kept. Threads that need the same value at
+/// once wait for the first to compute it instead of computing it again; a run that fails is
+/// reported, and the next asks again. The store is cleared when it reaches 4096 keys (a long
+/// fuzzing or census run).
+pub(crate) fn kept_in<T: Clone>(
+    cells: &Cells<T>,
+    key: String,
+    run: impl FnOnce() -> Result<T, Error>,
+) -> Result<T, Error> {
+    /// Kept values; cleared when it reaches this many.
     const KEEP: usize = 4096;
-    // One cell per cross-section: threads building probes at once that need the same one wait
-    // for the first to solve it instead of solving it again.
     let cell = {
-        let Ok(mut m) = kept().lock() else {
+        let Ok(mut m) = cells.lock() else {
             return run();
         };
         if m.len() >= KEEP {
@@ -225,20 +241,16 @@ fn kept_or(
     match (kept, failed) {
         (_, Some(e)) => Err(e),
         (Some(s), None) => Ok(s.clone()),
-        // Another thread's solve of it failed: this one reports its own error.
+        // Another thread's run of it failed: this one reports its own error.
         (None, None) => match run.take() {
             Some(r) => r(),
-            None => Err(Error::Unsolvable("a kept field solution failed".into())),
+            None => Err(Error::Unsolvable("a kept value failed".into())),
         },
     }
 }
 
-/// A kept solution: filled once (`None` when its solve failed).
-type Cell = std::sync::Arc<std::sync::OnceLock<Option<FieldSolution>>>;
-type Kept = std::sync::Mutex<std::collections::HashMap<String, Cell>>;
-
-fn kept() -> &'static Kept {
-    static KEPT: std::sync::OnceLock<Kept> = std::sync::OnceLock::new();
+fn kept() -> &'static Cells<FieldSolution> {
+    static KEPT: std::sync::OnceLock<Cells<FieldSolution>> = std::sync::OnceLock::new();
     KEPT.get_or_init(Default::default)
 }
 
@@ -633,6 +645,35 @@ fn check(converged: bool) -> Result<(), Error> {
 mod tests {
     use super::geometry::{Conductor, Dielectric, Resolved, Role, Shape};
     use super::*;
+
+    // A kept value is computed once per key, by one of the threads that ask for it at once; a
+    // failed run is reported to its caller and not kept, so the next caller runs again.
+    #[test]
+    fn kept_values_are_computed_once_per_key_and_failures_are_not_kept() {
+        use std::sync::atomic::{AtomicUsize, Ordering};
+        let cells: Cells<u64> = Default::default();
+        let runs = AtomicUsize::new(0);
+        let get = |key: &str, fail: bool| {
+            kept_in(&cells, key.to_string(), || {
+                runs.fetch_add(1, Ordering::SeqCst);
+                std::thread::sleep(std::time::Duration::from_millis(5));
+                if fail {
+                    Err(Error::Unsolvable("no".into()))
+                } else {
+                    Ok(key.len() as u64)
+                }
+            })
+        };
+        std::thread::scope(|sc| {
+            for _ in 0..4 {
+                sc.spawn(|| assert_eq!(get("abc", false).unwrap(), 3));
+            }
+        });
+        assert_eq!(runs.load(Ordering::SeqCst), 1);
+        assert!(get("x", true).is_err());
+        assert_eq!(get("x", false).unwrap(), 1);
+        assert_eq!(runs.load(Ordering::SeqCst), 3);
+    }
 
     /// Z0 boxed (`solve_uncached`) and whole (`solve_whole`) at `acc`, and their nodes.
     fn boxed_and_whole(cs: &CrossSection, acc: Accuracy) -> (FieldSolution, FieldSolution) {

@@ -3,6 +3,7 @@
 
 use super::*;
 use crate::error::Error;
+use crate::field::{Cells, kept_in};
 use crate::model::probe::{LoopShape, Probe};
 use crate::model::stackup::Layer;
 use crate::solve::probe::SolvedProbe;
@@ -48,8 +49,25 @@ pub fn shield_plates(p: &Probe, s: &SolvedProbe) -> Vec<shield::Plate> {
 }
 
 /// The outer current of a probe's shield (module [`shield`]).
+///
+/// Kept for the process under its exact inputs (the shape and the plates): a family's probes of
+/// one size and stackup (a singly-loaded and a balanced loop, say) share it.
 pub fn shield_current(p: &Probe, s: &SolvedProbe) -> Result<shield::ShieldCurrent, Error> {
+    static KEPT: std::sync::OnceLock<Cells<shield::ShieldCurrent>> = std::sync::OnceLock::new();
     let plates = shield_plates(p, s);
+    let key = format!("{:?}|{plates:?}", p.shape);
+    kept_in(KEPT.get_or_init(Default::default), key, || {
+        solve_shield_current(p, s, &plates)
+    })
+}
+
+/// [`shield_current`], solved.
+fn solve_shield_current(
+    p: &Probe,
+    s: &SolvedProbe,
+    plates: &[shield::Plate],
+) -> Result<shield::ShieldCurrent, Error> {
+    let plates = plates.to_vec();
     let n = shield::RIBBONS_PER_PLATE;
     let solved = match p.shape {
         LoopShape::Round { diameter } => shield::solve_round(diameter * 0.5e-3, &plates, n),
@@ -91,11 +109,28 @@ pub fn gap_current(
     s: &SolvedProbe,
     sc: &shield::ShieldCurrent,
 ) -> Result<shield_gap::GapCurrent, Error> {
+    static KEPT: std::sync::OnceLock<Cells<shield_gap::GapCurrent>> = std::sync::OnceLock::new();
     let plates = shield_plates(p, s);
     let wf = (s.trace_width + 2.0 * p.clearance) * 1e-3;
+    // Kept under its exact inputs, as the shield's current is (`sc` follows from the shape
+    // and the plates).
+    let key = format!("{:?}|{plates:?}|{wf:?}|{:?}", p.shape, p.gap);
+    kept_in(KEPT.get_or_init(Default::default), key, || {
+        solve_gap_current(p, s, sc, &plates, wf)
+    })
+}
+
+/// [`gap_current`], solved.
+fn solve_gap_current(
+    p: &Probe,
+    s: &SolvedProbe,
+    sc: &shield::ShieldCurrent,
+    plates: &[shield::Plate],
+    wf: f64,
+) -> Result<shield_gap::GapCurrent, Error> {
     shield_gap::solve(
         shield_radius_m(&p.shape),
-        &plates,
+        plates,
         sc,
         wf,
         p.gap * 1e-3,
