@@ -200,7 +200,7 @@ fn kept_or(
     key: String,
     run: impl FnOnce() -> Result<FieldSolution, Error>,
 ) -> Result<FieldSolution, Error> {
-    kept_in(kept(), key, run)
+    kept_in(kept(), 4096, key, run)
 }
 
 /// Values kept for the process under exact keys: one cell per key, filled once (`None` when
@@ -211,20 +211,19 @@ pub(crate) type Cells<T> = std::sync::Mutex<
 
 /// The value kept in `cells` under `key`, or `run`'s, kept. Threads that need the same value at
 /// once wait for the first to compute it instead of computing it again; a run that fails is
-/// reported, and the next asks again. The store is cleared when it reaches 4096 keys (a long
-/// fuzzing or census run).
+/// reported, and the next asks again. The store is cleared when it reaches `keep` keys (the
+/// field solutions' 4096: a long fuzzing or census run; fewer for bulky values).
 pub(crate) fn kept_in<T: Clone>(
     cells: &Cells<T>,
+    keep: usize,
     key: String,
     run: impl FnOnce() -> Result<T, Error>,
 ) -> Result<T, Error> {
-    /// Kept values; cleared when it reaches this many.
-    const KEEP: usize = 4096;
     let cell = {
         let Ok(mut m) = cells.lock() else {
             return run();
         };
-        if m.len() >= KEEP {
+        if m.len() >= keep {
             m.clear();
         }
         m.entry(key).or_default().clone()
@@ -654,7 +653,7 @@ mod tests {
         let cells: Cells<u64> = Default::default();
         let runs = AtomicUsize::new(0);
         let get = |key: &str, fail: bool| {
-            kept_in(&cells, key.to_string(), || {
+            kept_in(&cells, 4, key.to_string(), || {
                 runs.fetch_add(1, Ordering::SeqCst);
                 std::thread::sleep(std::time::Duration::from_millis(5));
                 if fail {

@@ -56,10 +56,15 @@ pub fn shield_current(p: &Probe, s: &SolvedProbe) -> Result<shield::ShieldCurren
     static KEPT: std::sync::OnceLock<Cells<shield::ShieldCurrent>> = std::sync::OnceLock::new();
     let plates = shield_plates(p, s);
     let key = format!("{:?}|{plates:?}", p.shape);
-    kept_in(KEPT.get_or_init(Default::default), key, || {
+    kept_in(KEPT.get_or_init(Default::default), KEEP, key, || {
         solve_shield_current(p, s, &plates)
     })
 }
+
+/// How many shield currents and gap corrections are kept: each holds a few hundred kB, so a
+/// large family keeps the last few rather than all (a 64-probe family's peak memory rose by
+/// 28 MB keeping all).
+const KEEP: usize = 8;
 
 /// [`shield_current`], solved.
 fn solve_shield_current(
@@ -115,7 +120,7 @@ pub fn gap_current(
     // Kept under its exact inputs, as the shield's current is (`sc` follows from the shape
     // and the plates).
     let key = format!("{:?}|{plates:?}|{wf:?}|{:?}", p.shape, p.gap);
-    kept_in(KEPT.get_or_init(Default::default), key, || {
+    kept_in(KEPT.get_or_init(Default::default), KEEP, key, || {
         solve_gap_current(p, s, sc, &plates, wf)
     })
 }
