@@ -117,9 +117,9 @@ pub fn gap_current(
     static KEPT: std::sync::OnceLock<Cells<shield_gap::GapCurrent>> = std::sync::OnceLock::new();
     let plates = shield_plates(p, s);
     let wf = (s.trace_width + 2.0 * p.clearance) * 1e-3;
-    // Kept under its exact inputs, as the shield's current is (`sc` follows from the shape
-    // and the plates).
-    let key = format!("{:?}|{plates:?}|{wf:?}|{:?}", p.shape, p.gap);
+    // Kept under its exact inputs, as the shield's current is (`sc` among them: a caller may
+    // pass another than the shape's own).
+    let key = format!("{:?}|{plates:?}|{wf:?}|{:?}|{sc:?}", p.shape, p.gap);
     kept_in(KEPT.get_or_init(Default::default), KEEP, key, || {
         solve_gap_current(p, s, sc, &plates, wf)
     })
