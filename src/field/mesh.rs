@@ -412,8 +412,8 @@ pub(crate) fn fill(r: &Resolved, xs: Vec<f64>, ys: Vec<f64>) -> Grid {
         }
     }
     // The axis of an antimirrored half is held (at ½ V in the whole; at 0 V against the
-    // signal's 1 V in the half solved, `Resolved::antisymmetric`).
-    if r.antisymmetric && xs[0] == 0.0 {
+    // signal's 1 V in the half solved, `Half::Antimirror`).
+    if r.half == super::geometry::Half::Antimirror && xs[0] == 0.0 {
         for j in 0..ny {
             state[j * nx] = GROUND;
         }

@@ -53,7 +53,7 @@ pub use line::{cross_section_for_line, solve_line};
 pub use solver::EPS0;
 
 use crate::error::{Error, FieldError};
-use geometry::Resolved;
+use geometry::{Half, Resolved};
 use mesh::MeshParams;
 use solver::System;
 
@@ -282,39 +282,6 @@ pub fn capacitance_per_m(cs: &CrossSection, acc: Accuracy) -> Result<f64, Error>
     .map(|s| s.c_per_m)
 }
 
-/// How the solved domain stands for the whole section.
-#[derive(Debug, Clone, Copy, PartialEq)]
-enum Half {
-    /// The whole section is solved.
-    Whole,
-    /// The half `x ≥ 0` of a mirror-symmetric section: the axis is a zero-normal-field wall.
-    Mirror,
-    /// The half `x ≥ 0` of a mirror-antisymmetric one: the axis is held (see
-    /// `Resolved::antisymmetric`).
-    Antimirror,
-}
-
-impl Half {
-    fn of(r: &Resolved) -> Half {
-        match (r.symmetric, r.antisymmetric) {
-            (true, _) => Half::Mirror,
-            (false, true) => Half::Antimirror,
-            (false, false) => Half::Whole,
-        }
-    }
-
-    /// The whole section's C over the solved half's: 2 for a mirrored half; ½ for an
-    /// antimirrored one, whose whole carries 1 V where the half carries ½ V, over twice the
-    /// region (2 × (½)² = ½).
-    fn c_factor(self) -> f64 {
-        match self {
-            Half::Whole => 1.0,
-            Half::Mirror => 2.0,
-            Half::Antimirror => 0.5,
-        }
-    }
-}
-
 /// The two nested meshes of `acc` (the second with every cell of the first halved), and
 /// which half of the section they cover.
 fn grids(
@@ -326,7 +293,7 @@ fn grids(
     let fine_xs = mesh::subdivide(&coarse.xs, 2);
     let fine_ys = mesh::subdivide(&coarse.ys, 2);
     let fine = mesh::fill(&r, fine_xs, fine_ys);
-    Ok((Half::of(&r), coarse, fine))
+    Ok((r.half, coarse, fine))
 }
 
 /// The coarser of [`grids`]' two meshes and the resolved section it fills, refused (as
@@ -345,7 +312,7 @@ fn base_grid(
         )]));
     }
     let r = cs.resolve(reduce).map_err(Error::Invalid)?;
-    let plan = mesh::plan(&r, Half::of(&r) != Half::Whole);
+    let plan = mesh::plan(&r, r.half != Half::Whole);
     let coarse = mesh::build(&r, &plan, &params, m as usize);
     let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
     if fine_nodes > MAX_NODES {
@@ -495,7 +462,7 @@ pub fn ground_charge(
 pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
     kept_or(format!("rough|{cs:?}"), || {
         let (r, g) = base_grid(cs, Accuracy::Draft, true)?;
-        let half = Half::of(&r);
+        let half = r.half;
         let factor = half.c_factor() * EPS0;
         let run = run_mesh(&g, None, factor, true, Accuracy::Draft.cg_tol())?;
         let result = run.result(1, &g);
@@ -844,8 +811,7 @@ mod tests {
             dirichlet: [false; 4],
             size: l + behind,
             min_feature: a / strips as f64,
-            symmetric: false,
-            antisymmetric: false,
+            half: Half::Whole,
         };
         let plan = mesh::plan(&r, false);
         // The staircase's steps are artificial corners: cells of a third of a step there.

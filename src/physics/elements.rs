@@ -72,17 +72,16 @@ fn solve_shield_current(
     s: &SolvedProbe,
     plates: &[shield::Plate],
 ) -> Result<shield::ShieldCurrent, Error> {
-    let plates = plates.to_vec();
     let n = shield::RIBBONS_PER_PLATE;
     let solved = match p.shape {
-        LoopShape::Round { diameter } => shield::solve_round(diameter * 0.5e-3, &plates, n),
+        LoopShape::Round { diameter } => shield::solve_round(diameter * 0.5e-3, plates, n),
         _ => {
             let pts = centreline_m(&p.shape);
             shield::solve_shape(
                 p.shape.centreline_area() * 1e-6,
                 p.shape.circumference() * 1e-3,
                 &pts,
-                &plates,
+                plates,
                 n,
             )
         }

@@ -459,11 +459,32 @@ pub(crate) struct Resolved {
     /// trapezoid's slope, or ten times a solid conductor's extent or a layer's or coat's
     /// thickness (their corners are less singular than a sheet's edge).
     pub min_feature: f64,
-    /// Mirror-symmetric about `x = 0`.
-    pub symmetric: bool,
-    /// Mirror-antisymmetric about `x = 0`: every conductor's mirror image is a conductor of the
-    /// other role, and no side of the domain is grounded. The potential less ½ V is then odd
-    /// in x, so the axis stands at ½ V: the half `x ≥ 0` is solved with the axis held, and
-    /// the whole section's C is half the half's (for 1 V on the signal against the held axis).
-    pub antisymmetric: bool,
+    /// Whether, and how, the half `x ≥ 0` stands for the whole.
+    pub half: Half,
+}
+
+/// How the solved domain stands for the whole section.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum Half {
+    /// The whole section is solved.
+    Whole,
+    /// The half `x ≥ 0` of a mirror-symmetric section: the axis is a zero-normal-field wall.
+    Mirror,
+    /// The half `x ≥ 0` of a mirror-antisymmetric one: every conductor's mirror image is a
+    /// conductor of the other role, and no side of the domain is grounded. The potential less
+    /// ½ V is then odd in x, so the axis stands at ½ V: the half is solved with the axis held.
+    Antimirror,
+}
+
+impl Half {
+    /// The whole section's C over the solved half's: 2 for a mirrored half; ½ for an
+    /// antimirrored one, whose whole carries 1 V where the half carries ½ V, over twice the
+    /// region (2 × (½)² = ½).
+    pub(crate) fn c_factor(self) -> f64 {
+        match self {
+            Half::Whole => 1.0,
+            Half::Mirror => 2.0,
+            Half::Antimirror => 0.5,
+        }
+    }
 }

@@ -464,20 +464,18 @@ impl CrossSection {
             dirichlet,
             size,
             min_feature,
-            symmetric: false,
-            antisymmetric: false,
+            half: Half::Whole,
         };
-        let symmetric = mirrored(&resolved, tol, true);
-        // Only a domain with no grounded side: a grounded side, at 0 V, is not odd about ½ V.
-        let antisymmetric = reduce
-            && !symmetric
-            && resolved.dirichlet == [false; 4]
-            && mirrored(&resolved, tol, false);
-        Ok(Resolved {
-            symmetric,
-            antisymmetric,
-            ..resolved
-        })
+        // Antisymmetry only on a domain with no grounded side: a grounded side, at 0 V, is not
+        // odd about ½ V.
+        let half = if mirrored(&resolved, tol, true) {
+            Half::Mirror
+        } else if reduce && resolved.dirichlet == [false; 4] && mirrored(&resolved, tol, false) {
+            Half::Antimirror
+        } else {
+            Half::Whole
+        };
+        Ok(Resolved { half, ..resolved })
     }
 }
 
