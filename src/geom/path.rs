@@ -5,29 +5,34 @@ use super::shape::point_at;
 use kurbo::{Point, Vec2};
 
 /// The arc position, after `from`, of the first point at straight-line distance `d` from the
-/// point at `from` (None when the path ends first).
+/// point at `from` (None when the path ends first, or `d` is not positive).
+///
+/// Exact, segment by segment: on a straight piece from `a` (inside the circle of radius `d`
+/// about the start point p0) towards `b`, |a − p0 + u·(b − a)|² = d² has one root u > 0 (the
+/// product of its roots is negative), where the piece leaves the circle; the first piece
+/// on which that root is at most 1 holds the point.
 pub(super) fn next_at(path: &[Point], s: &[f64], from: f64, d: f64) -> Option<f64> {
-    let total = *s.last().unwrap();
+    if d.is_nan() || d <= 0.0 || path.len() < 2 {
+        return None;
+    }
     let p0 = point_at(path, s, from).0;
-    let dist = |t: f64| (point_at(path, s, t).0 - p0).hypot();
-    // March in small steps to the first crossing, then bisect.
-    let h = (d / 16.0).max(1e-4);
-    let mut t = from;
-    while t < total {
-        let t1 = (t + h).min(total);
-        if dist(t1) >= d {
-            let (mut lo, mut hi) = (t, t1);
-            for _ in 0..60 {
-                let mid = 0.5 * (lo + hi);
-                if dist(mid) >= d {
-                    hi = mid;
-                } else {
-                    lo = mid;
-                }
+    // The piece holding `from`: the first vertex beyond it.
+    let mut i = s.partition_point(|&x| x <= from).max(1);
+    let (mut a, mut t0) = (p0, from);
+    while i < path.len() {
+        let b = path[i];
+        let (v, w) = (b - a, a - p0);
+        let vv = v.dot(v);
+        if vv > 0.0 {
+            let half_b = w.dot(v);
+            let c = w.dot(w) - d * d;
+            let u = (-half_b + (half_b * half_b - vv * c).max(0.0).sqrt()) / vv;
+            if u <= 1.0 {
+                return Some(t0 + u.max(0.0) * (s[i] - t0));
             }
-            return Some(hi);
         }
-        t = t1;
+        (a, t0) = (b, s[i]);
+        i += 1;
     }
     None
 }
@@ -45,7 +50,7 @@ pub(super) fn walk(path: &[Point], s: &[f64], from: f64, d: f64, n: usize) -> Ve
             None => break,
         }
     }
-    // The last one lands on the end (within the bisection's precision): put it there.
+    // The last one lands on the end (within the search's precision): put it there.
     if let Some(last) = out.last_mut() {
         let total = *s.last().unwrap();
         if (total - *last).abs() < 1e-6 {
@@ -55,34 +60,84 @@ pub(super) fn walk(path: &[Point], s: &[f64], from: f64, d: f64, n: usize) -> Ve
     out
 }
 
+/// How far `n` straight-line steps of `d` from `from` go past the end of the path, mm: the
+/// arc position of the last less the path's length when all `n` fit (at most 0), else the
+/// straight-line distance the step that ran off still lacked plus `d` for every step not taken
+/// (above 0). Continuous and rising in `d` on the paths walked here, so the root is bracketed
+/// and a secant can find it.
+fn overshoot(path: &[Point], s: &[f64], from: f64, d: f64, n: usize) -> f64 {
+    let total = *s.last().unwrap();
+    let mut t = from;
+    for k in 0..n {
+        match next_at(path, s, t, d) {
+            Some(t1) => t = t1,
+            None => {
+                let end = *path.last().unwrap();
+                let short = d - (end - point_at(path, s, t).0).hypot();
+                return short + (n - k - 1) as f64 * d;
+            }
+        }
+    }
+    t - total
+}
+
 /// The step length for which `n` equal straight-line steps from `from` end exactly at the end of
-/// the path.
+/// the path (the last within 1e-9 mm short of it).
+///
+/// The root of [`overshoot`], bracketed from the start and narrowed by the Illinois variant of
+/// regula falsi (a secant step inside the bracket; the end kept twice running has its value
+/// halved), which takes a handful of walks where bisection took fifty.
 pub(super) fn steps_to_end(path: &[Point], s: &[f64], from: f64, n: usize) -> Option<f64> {
     let total = *s.last().unwrap();
-    let reach = |d: f64| -> f64 {
-        let w = walk(path, s, from, d, n);
-        if w.len() == n + 1 {
-            w[n]
-        } else {
-            f64::INFINITY
-        }
-    };
     let (mut lo, mut hi) = (1e-4, total - from + 1e-9);
-    if hi <= lo {
+    if hi <= lo || n == 0 {
         return None;
     }
-    if reach(hi) < total - 1e-6 {
+    // Done: short of the end by at most this (the walk then puts the last on the end).
+    const SHORT: f64 = 1e-9;
+    let f = |d: f64| overshoot(path, s, from, d, n);
+    let (mut flo, mut fhi) = (f(lo), f(hi));
+    if fhi < -SHORT {
         return None;
     }
-    for _ in 0..50 {
-        let mid = 0.5 * (lo + hi);
-        if reach(mid) >= total - 1e-9 {
-            hi = mid;
+    if flo >= -SHORT {
+        return (flo <= 0.0).then_some(lo);
+    }
+    if fhi <= 0.0 {
+        return Some(hi);
+    }
+    let mut kept = 0i8; // +1: `hi` moved last time (`lo` kept), −1: `lo` moved
+    for _ in 0..100 {
+        let secant = hi - fhi * (hi - lo) / (fhi - flo);
+        let mid = if secant > lo && secant < hi {
+            secant
         } else {
-            lo = mid;
+            0.5 * (lo + hi)
+        };
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        let fm = f(mid);
+        if (-SHORT..=0.0).contains(&fm) {
+            return Some(mid);
+        }
+        if fm > 0.0 {
+            (hi, fhi) = (mid, fm);
+            if kept == 1 {
+                flo *= 0.5;
+            }
+            kept = 1;
+        } else {
+            (lo, flo) = (mid, fm);
+            if kept == -1 {
+                fhi *= 0.5;
+            }
+            kept = -1;
         }
     }
-    Some(hi)
+    // Not settled within the window (an overshoot with a jump): the longest step that still
+    // falls short, as close as the bracket came.
+    Some(lo)
 }
 
 /// The polyline `pts` offset by `d` to its left (negative: right), with round joins of
@@ -117,4 +172,92 @@ pub(crate) fn offset_round(pts: &[Point], d: f64, max_seg: f64) -> Vec<Point> {
     }
     out.dedup_by(|a, b| (*a - *b).hypot() < 1e-9);
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::centreline::arclengths;
+
+    /// A brute-force reference for [`next_at`]: march in steps of d/64, then bisect the first
+    /// crossing to machine precision.
+    fn next_at_marched(path: &[Point], s: &[f64], from: f64, d: f64) -> Option<f64> {
+        let total = *s.last().unwrap();
+        let p0 = point_at(path, s, from).0;
+        let dist = |t: f64| (point_at(path, s, t).0 - p0).hypot();
+        let h = d / 64.0;
+        let mut t = from;
+        while t < total {
+            let t1 = (t + h).min(total);
+            if dist(t1) >= d {
+                let (mut lo, mut hi) = (t, t1);
+                for _ in 0..80 {
+                    let mid = 0.5 * (lo + hi);
+                    if dist(mid) >= d {
+                        hi = mid;
+                    } else {
+                        lo = mid;
+                    }
+                }
+                return Some(hi);
+            }
+            t = t1;
+        }
+        None
+    }
+
+    /// A quarter circle of radius 10 mm flattened to 200 chords, then a straight run.
+    fn bend() -> (Vec<Point>, Vec<f64>) {
+        let mut pts: Vec<Point> = (0..=200)
+            .map(|k| {
+                let a = std::f64::consts::FRAC_PI_2 * k as f64 / 200.0;
+                Point::new(10.0 * a.cos(), 10.0 * a.sin())
+            })
+            .collect();
+        pts.push(Point::new(-7.0, 10.0));
+        let s = arclengths(&pts);
+        (pts, s)
+    }
+
+    #[test]
+    fn the_exact_step_agrees_with_a_fine_march() {
+        let (pts, s) = bend();
+        let total = *s.last().unwrap();
+        let mut worst: f64 = 0.0;
+        for k in 0..40 {
+            let from = total * k as f64 / 40.0;
+            for d in [0.013, 0.4, 1.7, 6.0] {
+                let exact = next_at(&pts, &s, from, d);
+                let marched = next_at_marched(&pts, &s, from, d);
+                assert_eq!(exact.is_some(), marched.is_some(), "from {from}, d {d}");
+                if let (Some(a), Some(b)) = (exact, marched) {
+                    worst = worst.max((a - b).abs());
+                    // The point found is d from the start, in a straight line.
+                    let chord = (point_at(&pts, &s, a).0 - point_at(&pts, &s, from).0).hypot();
+                    assert!((chord - d).abs() < 1e-12, "chord {chord} for d {d}");
+                }
+            }
+        }
+        assert!(worst < 1e-12, "largest difference {worst} mm");
+        assert_eq!(next_at(&pts, &s, 0.0, 0.0), None);
+        assert_eq!(next_at(&pts, &s, total, 1.0), None);
+    }
+
+    #[test]
+    fn steps_to_end_lands_the_last_step_on_the_end() {
+        let (pts, s) = bend();
+        let total = *s.last().unwrap();
+        for from in [0.0, 3.3, 15.0] {
+            for n in [1, 2, 7, 30, 200] {
+                let d = steps_to_end(&pts, &s, from, n).expect("a step length");
+                let w = walk(&pts, &s, from, d, n);
+                assert_eq!(w.len(), n + 1, "from {from}, n {n}");
+                assert_eq!(*w.last().unwrap(), total);
+                // Any longer step runs off the end before its n-th step.
+                let longer = walk(&pts, &s, from, d * (1.0 + 1e-6), n);
+                assert!(longer.len() < n + 1 || *longer.last().unwrap() > total - 1e-6);
+                assert!(overshoot(&pts, &s, from, d * (1.0 + 1e-6), n) > 0.0);
+            }
+        }
+    }
 }
