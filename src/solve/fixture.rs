@@ -102,12 +102,7 @@ pub fn solve(f: &Fixture) -> Result<SolvedFixture, Error> {
     let width = line.width();
     let field = crate::field::solve_line(&line, Default::default()).ok();
     let field_z0 = field.as_ref().map(|s| s.z0_ohms);
-    let (h, t, er) = match &line {
-        Line::Microstrip(m) => (m.h, m.t, m.er),
-        Line::CoatedMicrostrip(c) => (c.line.h, c.line.t, c.line.er),
-        Line::Cpwg(c) => (c.h, c.t, c.er),
-        Line::Stripline(s) => (s.h2, s.t, s.er1.max(s.er2)),
-    };
+    let (h, t, er) = line_dielectric(&line);
     let keepout = match f.line {
         FixtureLine::Microstrip { keepout } => {
             keepout.unwrap_or((defaults::KEEPOUT_H * h).max(width))
@@ -207,8 +202,16 @@ pub struct Station {
     pub z0: f64,
     /// Effective permittivity there (the same closed form).
     pub eps_eff: f64,
-    /// Z0 there by the 2-D field solver, with the solder mask where the board has it (the
-    /// check the launch budget uses), Ω.
+}
+
+/// One step of a port's taper, between two stations, at its mid-width: the station there and
+/// its line by the 2-D field solver, with the solder mask where the board has it (the check
+/// the launch budget uses).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TaperStep {
+    /// The step's middle.
+    pub at: Station,
+    /// Z0 by the 2-D field solver, Ω.
     pub field_z0: f64,
     /// Effective permittivity by the field solver.
     pub field_eps_eff: f64,
@@ -228,11 +231,13 @@ pub struct FixturePort {
     pub pad_field: (f64, f64),
     /// The uniform line's Z0 and εeff by the 2-D field solver.
     pub line_field: (f64, f64),
-    /// Taper stations from the pad's inner end (x = 0) to the uniform line (x = taper); the
-    /// sections between them are solved at their mid-width.
+    /// Taper stations from the pad's inner end (x = 0) to the uniform line (x = taper), by
+    /// the closed form that designs them; the sections between them are checked at their
+    /// mid-width.
     pub stations: Vec<Station>,
-    /// One section per gap between stations, at its mid-width, with its own gap.
-    pub mid: Vec<Station>,
+    /// One section per gap between stations, at its mid-width, with its own gap and the field
+    /// solver's check.
+    pub mid: Vec<TaperStep>,
 }
 
 /// Stations in a port's taper (our rule: 8 steps keep each step's width change small).
@@ -295,43 +300,19 @@ pub fn design_port(
     let g_pad_max = (c.ground_pad_offset - c.ground_pad_width / 2.0 - cp_w / 2.0).min(keepout);
     let pad_gap = (gap_for(cp_w, g_pad_max)? * 1e3).round() / 1e3;
     let (pad_z0, pad_eps_eff) = z_at(cp_w, pad_gap)?;
-    // The field solver's check: grounded CPW of the same width and gap, under the mask where
-    // the line's side has one (the pad is bare).
-    let mask = if f.on_top() {
-        f.stackup.mask_top()
-    } else {
-        f.stackup.mask_bottom()
-    };
-    let field_at = |w: f64, g: f64, coated: bool| -> Result<(f64, f64), Error> {
-        let mut cs = crate::field::cross_section_for_line(&Line::Cpwg(Cpwg {
-            width: w,
-            gap: g,
-            h,
-            t,
-            er,
-        }));
-        if coated {
-            cs.coat = mask.map(|m| crate::field::Coat {
-                thickness: m.thickness_mm,
-                er: m.er,
-            });
-        }
-        crate::field::solve(&cs, Default::default()).map(|r| (r.z0_ohms, r.eps_eff))
-    };
     let station = |x: f64, w: f64| -> Result<Station, Error> {
         let g = gap_for(w, keepout)?;
         let (z0, eps_eff) = z_at(w, g)?;
-        let (field_z0, field_eps_eff) = field_at(w, g, true)?;
         Ok(Station {
             x,
             width: w,
             gap: g,
             z0,
             eps_eff,
-            field_z0,
-            field_eps_eff,
         })
     };
+    // Only the steps' middles are solved by the field solver: the budget cascades them (the
+    // stations themselves are where the artwork's outline turns).
     let (mut stations, mut mid) = (Vec::new(), Vec::new());
     if taper > 0.0 {
         for k in 0..=PORT_STEPS {
@@ -339,11 +320,18 @@ pub fn design_port(
             stations.push(station(taper * u, cp_w + (width - cp_w) * u)?);
             if k < PORT_STEPS {
                 let um = (k as f64 + 0.5) / PORT_STEPS as f64;
-                mid.push(station(taper * um, cp_w + (width - cp_w) * um)?);
+                let at = station(taper * um, cp_w + (width - cp_w) * um)?;
+                let (field_z0, field_eps_eff) =
+                    station_field(f, (h, t, er), at.width, at.gap, true)?;
+                mid.push(TaperStep {
+                    at,
+                    field_z0,
+                    field_eps_eff,
+                });
             }
         }
     }
-    let pad_field = field_at(cp_w, pad_gap, false)?;
+    let pad_field = station_field(f, (h, t, er), cp_w, pad_gap, false)?;
     Ok(FixturePort {
         pad_gap,
         pad_z0,
@@ -353,6 +341,56 @@ pub fn design_port(
         stations,
         mid,
     })
+}
+
+/// The dielectric under a fixture's line, the ports' taper is designed on: (height, copper
+/// thickness, εr).
+fn line_dielectric(line: &Line) -> (f64, f64, f64) {
+    match line {
+        Line::Microstrip(m) => (m.h, m.t, m.er),
+        Line::CoatedMicrostrip(c) => (c.line.h, c.line.t, c.line.er),
+        Line::Cpwg(c) => (c.h, c.t, c.er),
+        Line::Stripline(s) => (s.h2, s.t, s.er1.max(s.er2)),
+    }
+}
+
+impl SolvedFixture {
+    /// The dielectric the ports' taper is designed on: (height, copper thickness, εr), mm.
+    pub fn port_dielectric(&self) -> (f64, f64, f64) {
+        line_dielectric(&self.line)
+    }
+}
+
+/// Z0 and εeff by the 2-D field solver of the fixture's grounded CPW `w` wide in a gap `g` on
+/// a dielectric `h` thick (copper `t`, εr `er`), under the solder mask of the line's side
+/// when `coated` and the board has one (the centre pad is bare).
+pub fn station_field(
+    f: &Fixture,
+    (h, t, er): (f64, f64, f64),
+    w: f64,
+    g: f64,
+    coated: bool,
+) -> Result<(f64, f64), Error> {
+    use super::impedance::Cpwg;
+    let mut cs = crate::field::cross_section_for_line(&Line::Cpwg(Cpwg {
+        width: w,
+        gap: g,
+        h,
+        t,
+        er,
+    }));
+    if coated {
+        let mask = if f.on_top() {
+            f.stackup.mask_top()
+        } else {
+            f.stackup.mask_bottom()
+        };
+        cs.coat = mask.map(|m| crate::field::Coat {
+            thickness: m.thickness_mm,
+            er: m.er,
+        });
+    }
+    crate::field::solve(&cs, Default::default()).map(|r| (r.z0_ohms, r.eps_eff))
 }
 
 /// One port's launch as line sections from the board edge: the centre pad in its gap, the

@@ -72,8 +72,18 @@ pub fn fixture_json() -> serde_json::Value {
     let st = |v: &[loopwright::solve::fixture::Station]| -> Vec<serde_json::Value> {
         v.iter()
             .map(|x| {
+                // The field solver's check of each station (the build solves only the steps'
+                // middles).
+                let (z0_field, eps_field) = loopwright::solve::fixture::station_field(
+                    f,
+                    s.port_dielectric(),
+                    x.width,
+                    x.gap,
+                    true,
+                )
+                .unwrap();
                 json!({"x": x.x, "width": x.width, "gap": x.gap, "z0_conformal": x.z0,
-                             "z0_field": x.field_z0, "eps_field": x.field_eps_eff})
+                             "z0_field": z0_field, "eps_field": eps_field})
             })
             .collect()
     };
