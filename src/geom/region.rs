@@ -176,8 +176,11 @@ fn closing_fillets(p: &Polygon<f64>, r: f64) -> MultiPolygon<f64> {
 /// may go on beyond it (a notch narrower than 2r), and then `None` asks for the closing of the
 /// whole. `None` too for a corner sharper than tan(δ/2) = 8. With `left_only`, windows wholly
 /// right of x = 0 are skipped (for a mirror-symmetric outline whose right half is discarded).
+/// Each window's outline is simplified to the arc tolerance before its closing (see the body):
+/// the fillets may come out up to that tolerance (0.5 µm) tighter than the whole closing's,
+/// for a tenth of the work on the demo's probes.
 fn local_fillets(p: &Polygon<f64>, r: f64, left_only: bool) -> Option<MultiPolygon<f64>> {
-    use geo::{Area, BoundingRect};
+    use geo::{Area, BoundingRect, Simplify};
     let ring = &p.exterior().0;
     let pts = &ring[..ring.len().saturating_sub(1)];
     let n = pts.len();
@@ -244,7 +247,14 @@ fn local_fillets(p: &Polygon<f64>, r: f64, left_only: bool) -> Option<MultiPolyg
             w[2] + g,
             w[3] + g,
         )]));
-        let closed = closing(&local, r);
+        // The closing of the window's outline simplified first (Ramer–Douglas–Peucker to the
+        // arc tolerance, the outline's own flattening): its convex arcs, flattened finely,
+        // come in as runs of chords far shorter than r, where the shrink's offset bands
+        // overlap by the dozen and cost the overlay ten times the work. The simplified outline
+        // lies inside the window's (chords of convex runs; the reflex corners stay), so the
+        // fillets come out at most that tolerance tighter, and what lies between the chords
+        // and the outline is in the window's own outline, taken off below.
+        let closed = closing(&local.simplify(shape::ARC_TOLERANCE), r);
         let added = closed
             .difference(&local)
             .intersection(&MultiPolygon(vec![rect(w[0], w[1], w[2], w[3])]));
