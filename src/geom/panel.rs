@@ -209,12 +209,18 @@ pub fn layout(panel: &Panel, blanks: &[Blank]) -> Result<PanelLayout, Error> {
         Vec::new()
     };
     // The router's channel round each board (a bit's diameter wide) and the milled interiors.
+    // The channel's outer edge is grown from the outline simplified to the arc tolerance
+    // (Ramer–Douglas–Peucker; its finely flattened arcs as runs of chords far shorter than
+    // the bit, whose offset bands overlap by the dozen, cost the offset's overlay most of its
+    // work): that edge comes in by at most the tolerance (0.5 µm); the inner edge is the
+    // outline itself.
     let d = panel.router;
     let channels: Vec<MultiPolygon<f64>> = placed
         .iter()
         .map(|p| {
+            use geo::Simplify;
             let ext = MultiPolygon(vec![Polygon::new(p.outline.exterior().clone(), vec![])]);
-            round_buffer(&ext, d).difference(&ext)
+            round_buffer(&ext.simplify(crate::geom::shape::ARC_TOLERANCE), d).difference(&ext)
         })
         .collect();
     let interiors: Vec<Polygon<f64>> = placed
@@ -285,10 +291,8 @@ pub fn layout(panel: &Panel, blanks: &[Blank]) -> Result<PanelLayout, Error> {
             .flat_map(|p| p.tabs.iter().map(|t| t.bridge.clone()))
             .collect(),
     );
-    let mut routed = MultiPolygon(vec![]);
-    for c in &channels {
-        routed = routed.union(c);
-    }
+    // The channels united in one overlay (not one board at a time).
+    let mut routed = geo::unary_union(channels.iter().flat_map(|c| c.0.iter()));
     routed = routed
         .difference(&bridges)
         .union(&MultiPolygon(interiors))
