@@ -295,7 +295,14 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
                 Ok(zr)
             }
         };
-        let (z_lo, z_hi) = (end(g_lo)?, end(g_hi)?);
+        // Z rises with the gap: when the widest gap is still below the target, nothing at
+        // this depth brackets it and the narrowest is further off (not solved).
+        let z_hi = end(g_hi)?;
+        let z_lo = if z_hi < target {
+            f64::NEG_INFINITY
+        } else {
+            end(g_lo)?
+        };
         for (g, zz) in [(g_lo, z_lo), (g_hi, z_hi)] {
             let miss = (zz - target).abs();
             if best.is_none_or(|b| miss < b.0) {
