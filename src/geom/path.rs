@@ -26,6 +26,11 @@ pub(super) fn next_at(path: &[Point], s: &[f64], from: f64, d: f64) -> Option<f6
         if vv > 0.0 {
             let half_b = w.dot(v);
             let c = w.dot(w) - d * d;
+            // A later piece starting on or (by rounding) beyond the circle: the point is its
+            // start, where the piece before ended.
+            if c >= 0.0 {
+                return Some(t0);
+            }
             let u = (-half_b + (half_b * half_b - vv * c).max(0.0).sqrt()) / vv;
             if u <= 1.0 {
                 return Some(t0 + u.max(0.0) * (s[i] - t0));
@@ -63,8 +68,10 @@ pub(super) fn walk(path: &[Point], s: &[f64], from: f64, d: f64, n: usize) -> Ve
 /// How far `n` straight-line steps of `d` from `from` go past the end of the path, mm: the
 /// arc position of the last less the path's length when all `n` fit (at most 0), else the
 /// straight-line distance the step that ran off still lacked plus `d` for every step not taken
-/// (above 0). Continuous and rising in `d` on the paths walked here, so the root is bracketed
-/// and a secant can find it.
+/// (above 0). Continuous and rising in `d` while the straight-line distance from each step's
+/// start only grows along the path within a step (the round rows' halves: they turn by 180° at
+/// most); on a row that turns back within a step it may jump, and [`steps_to_end`] then finds
+/// no step length for that count.
 fn overshoot(path: &[Point], s: &[f64], from: f64, d: f64, n: usize) -> f64 {
     let total = *s.last().unwrap();
     let mut t = from;
@@ -135,9 +142,10 @@ pub(super) fn steps_to_end(path: &[Point], s: &[f64], from: f64, n: usize) -> Op
             kept = -1;
         }
     }
-    // Not settled within the window (an overshoot with a jump): the longest step that still
-    // falls short, as close as the bracket came.
-    Some(lo)
+    // Not settled (an overshoot with a jump, no root): the longest step that falls short, if
+    // the walk still puts its last on the end; else none for this count (the caller tries
+    // more steps).
+    (flo >= -1e-6).then_some(lo)
 }
 
 /// The polyline `pts` offset by `d` to its left (negative: right), with round joins of
@@ -241,6 +249,49 @@ mod tests {
         assert!(worst < 1e-12, "largest difference {worst} mm");
         assert_eq!(next_at(&pts, &s, 0.0, 0.0), None);
         assert_eq!(next_at(&pts, &s, total, 1.0), None);
+    }
+
+    /// Starts on a vertex, and a path with a repeated vertex (a piece of no length).
+    #[test]
+    fn the_exact_step_starts_on_vertices_and_skips_empty_pieces() {
+        let (mut pts, _) = bend();
+        pts.insert(100, pts[100]);
+        let s = arclengths(&pts);
+        for k in [0, 37, 99, 100, 101, 150, 200] {
+            let from = s[k];
+            for d in [0.05, 0.9, 4.0] {
+                let exact = next_at(&pts, &s, from, d);
+                let marched = next_at_marched(&pts, &s, from, d);
+                match (exact, marched) {
+                    (Some(a), Some(b)) => assert!((a - b).abs() < 1e-12, "vertex {k}, d {d}"),
+                    (a, b) => assert_eq!(a.is_some(), b.is_some(), "vertex {k}, d {d}"),
+                }
+            }
+        }
+    }
+
+    /// A hairpin: out 10 mm, across 1 mm, back 10 mm. A step longer than the crossing can
+    /// reach the far side only by jumping: for such counts there is no step length, and none
+    /// is returned, never one that stops short of the end.
+    #[test]
+    fn a_hairpin_gives_no_step_that_stops_short() {
+        let pts: Vec<Point> = [(0.0, 0.0), (10.0, 0.0), (10.0, 1.0), (0.0, 1.0)]
+            .iter()
+            .map(|&(x, y)| Point::new(x, y))
+            .collect();
+        let s = arclengths(&pts);
+        let total = *s.last().unwrap();
+        let mut found = 0;
+        for n in 1..=40 {
+            if let Some(d) = steps_to_end(&pts, &s, 0.0, n) {
+                let w = walk(&pts, &s, 0.0, d, n);
+                assert_eq!(w.len(), n + 1, "n {n}");
+                assert_eq!(*w.last().unwrap(), total, "n {n}");
+                found += 1;
+            }
+        }
+        // Counts whose steps are shorter than the crossing have a step length.
+        assert!(found >= 20, "{found} counts");
     }
 
     #[test]

@@ -251,9 +251,11 @@ fn local_fillets(p: &Polygon<f64>, r: f64, left_only: bool) -> Option<MultiPolyg
         // arc tolerance, the outline's own flattening): its convex arcs, flattened finely,
         // come in as runs of chords far shorter than r, where the shrink's offset bands
         // overlap by the dozen and cost the overlay ten times the work. The simplified outline
-        // lies inside the window's (chords of convex runs; the reflex corners stay), so the
-        // fillets come out at most that tolerance tighter, and what lies between the chords
-        // and the outline is in the window's own outline, taken off below.
+        // lies within that tolerance of the window's (inside it along convex runs, the probes'
+        // outlines' arcs; the reflex corners stay), so a fillet's edge moves by at most the
+        // tolerance: what lies between the chords and a convex run is in the window's own
+        // outline, taken off below, and a chord outside a concave run adds at most a sliver
+        // that joins a fillet or falls under the area filter.
         let closed = closing(&local.simplify(shape::ARC_TOLERANCE), r);
         let added = closed
             .difference(&local)
@@ -385,6 +387,35 @@ mod fillet_tests {
             let a = fillet_internal(o, r).unsigned_area();
             assert!((a - o.unsigned_area() - whole).abs() < 1e-5, "outline {k}");
         }
+    }
+
+    /// As [`windowed_fillets_match_the_whole_closing`] on an outline grown with round joins as
+    /// `geom::probe::outline_around` grows the shield's (arcs flattened finely, so the windows'
+    /// simplification removes vertices): the windowed fillets' area is the whole closing's
+    /// within the tolerance times the fillets' perimeter.
+    #[test]
+    fn simplified_windows_match_the_whole_closing_within_the_tolerance() {
+        use geo::{Euclidean, Length};
+        let r = 1.0;
+        let ring = circle(Point::new(0.0, 10.0), 10.0);
+        let handle = rect(-4.0, -30.0, 4.0, 0.5);
+        let joined = largest(&MultiPolygon(vec![ring]).union(&MultiPolygon(vec![handle])));
+        let grown = largest(&round_buffer(&MultiPolygon(vec![joined]), 0.3));
+        let whole = closing_fillets(&grown, r);
+        let local = local_fillets(&grown, r, false).expect("windowed");
+        let perimeter: f64 = whole.0.iter().map(|p| Euclidean.length(p.exterior())).sum();
+        let (a, b) = (whole.unsigned_area(), local.unsigned_area());
+        assert!(a > 0.05, "the closing adds fillets: {a} mm²");
+        assert!(
+            (a - b).abs() <= shape::ARC_TOLERANCE * perimeter + 1e-6,
+            "{b} against {a} mm² (perimeter {perimeter} mm)"
+        );
+        // The simplification did something: the window's outline had vertices to drop.
+        use geo::Simplify;
+        let n = |m: &MultiPolygon<f64>| m.0.iter().map(|p| p.exterior().0.len()).sum::<usize>();
+        let g = MultiPolygon(vec![grown.clone()]);
+        let (before, after) = (n(&g), n(&g.simplify(shape::ARC_TOLERANCE)));
+        assert!(3 * after < 2 * before, "{after} of {before} vertices");
     }
 
     /// On a mirror-symmetric outline the left windows alone give the same filleted outline, to
