@@ -13,6 +13,7 @@ mod electric;
 pub mod fixture;
 pub mod font;
 mod multiturn;
+mod near;
 pub mod panel;
 mod path;
 mod probe;

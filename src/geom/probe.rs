@@ -206,10 +206,13 @@ pub(super) fn outline_around(p: &Probe, extent: &Polygon<f64>, edge_y: f64) -> P
         )
     };
     let mut grown = outline_at(cte + offsets::EDGE_MARGIN);
-    let nearest = {
-        use geo::{Distance, Euclidean};
-        Euclidean.distance(grown.exterior(), extent.exterior())
-    };
+    // The outlines' distance, exact wherever it decides (below the reach; segments bucketed,
+    // where a pairwise search ran over every edge of both).
+    let nearest = super::near::polylines_within(
+        grown.exterior(),
+        extent.exterior(),
+        cte + offsets::EDGE_MARGIN,
+    );
     if nearest < cte + offsets::EDGE_MARGIN / 2.0 {
         grown = outline_at(cte + 1.5 * offsets::EDGE_MARGIN + (cte - nearest).max(0.0));
     }

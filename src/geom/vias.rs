@@ -16,6 +16,8 @@ pub(super) struct ViaPlacer<'a> {
     pub(super) trace: Vec<Point>,
     pub(super) top_path: Vec<Point>,
     pub(super) shield: MultiPolygon<f64>,
+    /// The shield's rings, bucketed for the rim's distance.
+    shield_edges: super::near::SegmentGrid,
     pub(super) pads: Vec<Pad>,
     pub(super) sv: Point,
     /// A balanced loop: the line, its top link and signal via have a mirror image to keep
@@ -52,6 +54,12 @@ impl<'a> ViaPlacer<'a> {
             trace,
             top_path: top_path.to_vec(),
             shield: shield.clone(),
+            shield_edges: super::near::SegmentGrid::new(
+                shield
+                    .0
+                    .iter()
+                    .flat_map(|p| std::iter::once(p.exterior()).chain(p.interiors())),
+            ),
             pads: pads.to_vec(),
             sv,
             mirrored: false,
@@ -141,8 +149,9 @@ impl<'a> ViaPlacer<'a> {
         if !self.shield.contains(&pt) {
             return false;
         }
-        let edge = edge_distance(&self.shield, q);
-        if edge < pad / 2.0 + VIA_WEB - TOL {
+        // The rim: the distance to the shield's rings, looked up among the edges near q.
+        let rim = pad / 2.0 + VIA_WEB - TOL;
+        if self.shield_edges.distance_within(q, rim) < rim {
             return false;
         }
         // Fab via pitch; a join via's antipad (its pad and a clearance) and a web beyond it.
