@@ -197,6 +197,23 @@ fn probe_cases() -> Vec<Case<ProbeCase>> {
                 mechanical: None,
             })
         }),
+        (Rule::HoleInsideOutline, |c| {
+            // On the board, but a hole's radius and the copper-to-edge rule do not fit between
+            // it and the handle's side edge (the edge's distance, not the outline's interior).
+            let y = c.b.edge_y + 0.5 * c.p.handle.length;
+            let x_edge = c.art.profile[0]
+                .windows(2)
+                .filter(|w| (w[0].y - y) * (w[1].y - y) <= 0.0 && w[0].y != w[1].y)
+                .map(|w| w[0].x + (w[1].x - w[0].x) * (y - w[0].y) / (w[1].y - w[0].y))
+                .fold(f64::NEG_INFINITY, f64::max);
+            c.art.drills.push(Drill {
+                at: Point::new(x_edge - 0.2, y),
+                d: 0.3,
+                plated: false,
+                via: false,
+                mechanical: None,
+            })
+        }),
         (Rule::MaskWeb, |c| c.p.fab.mask_web = 2.0),
         (Rule::SilkOnPad, |c| {
             let o = c.art.mask_top[0].at;

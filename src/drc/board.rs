@@ -180,12 +180,10 @@ pub(super) fn check_board_with(fab: &FabProfile, art: &Artwork, cu: &Coppers) ->
         .chain(outline.interiors())
         .map(|r| r.coords().map(|c| Point::new(c.x, c.y)).collect())
         .collect();
-    let edge = |pt: &geo::Point<f64>| -> f64 {
-        std::iter::once(outline.exterior())
-            .chain(outline.interiors())
-            .map(|r| Euclidean.distance(pt, r))
-            .fold(f64::INFINITY, f64::min)
-    };
+    // The outline's edges bucketed: a hole's distance to the edge reads only the edges near it.
+    let edges = crate::geom::SegmentGrid::new(
+        std::iter::once(outline.exterior()).chain(outline.interiors()),
+    );
     for (i, l) in art.copper.iter().enumerate() {
         let name = format!("L{}", l.n);
         check_rings(&mut out, &name, &l.regions);
@@ -265,7 +263,8 @@ pub(super) fn check_board_with(fab: &FabProfile, art: &Artwork, cu: &Coppers) ->
             }
         }
         let pt = geo::Point::new(d.at.x, d.at.y);
-        if !outline.contains(&pt) || edge(&pt) < d.d / 2.0 + fab.copper_to_edge - slack::GRID {
+        let keep = d.d / 2.0 + fab.copper_to_edge - slack::GRID;
+        if !outline.contains(&pt) || edges.distance_within(d.at, keep) < keep {
             out.push(Violation {
                 rule: Rule::HoleInsideOutline,
                 layer: "drill".into(),

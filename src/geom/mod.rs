@@ -25,6 +25,7 @@ mod vias;
 pub use crate::model::centreline as shape;
 pub use balanced::left_gap;
 pub use electric::electrode_ring_radius;
+pub(crate) use near::SegmentGrid;
 pub(crate) use path::offset_round;
 pub use vias::balanced_row_parts;
 
