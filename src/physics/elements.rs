@@ -105,22 +105,19 @@ pub fn shield_radius_m(shape: &LoopShape) -> f64 {
     }
 }
 
-/// The shield current's correction at the gap (module [`shield_gap`]): solved on the round
-/// loop of [`shield_radius_m`] with the feed window the trace's slot (trace width plus twice
-/// its clearance).
-pub fn gap_current(
-    p: &Probe,
-    s: &SolvedProbe,
-    sc: &shield::ShieldCurrent,
-) -> Result<shield_gap::GapCurrent, Error> {
+/// The shield current's correction at the gap (module [`shield_gap`]) of the probe's own outer
+/// current ([`shield_current`]): solved on the round loop of [`shield_radius_m`] with the feed
+/// window the trace's slot (trace width plus twice its clearance).
+pub fn gap_current(p: &Probe, s: &SolvedProbe) -> Result<shield_gap::GapCurrent, Error> {
     static KEPT: std::sync::OnceLock<Cells<shield_gap::GapCurrent>> = std::sync::OnceLock::new();
     let plates = shield_plates(p, s);
     let wf = (s.trace_width + 2.0 * p.clearance) * 1e-3;
-    // Kept under its exact inputs, as the shield's current is (`sc` among them: a caller may
-    // pass another than the shape's own).
-    let key = format!("{:?}|{plates:?}|{wf:?}|{:?}|{sc:?}", p.shape, p.gap);
+    // Kept under its exact inputs: the outer current's (the shape and the plates) and the
+    // slot and the gap.
+    let key = format!("{:?}|{plates:?}|{wf:?}|{:?}", p.shape, p.gap);
     kept_in(KEPT.get_or_init(Default::default), KEEP, key, || {
-        solve_gap_current(p, s, sc, &plates, wf)
+        let sc = shield_current(p, s)?;
+        solve_gap_current(p, s, &sc, &plates, wf)
     })
 }
 

@@ -467,7 +467,7 @@ pub fn predict(p: &Probe, s: &SolvedProbe, o: &PredictOptions) -> Result<Respons
     let pts = centreline_m(shape);
     let l_outer_gmd = neumann_loop(&pts, g);
     let sc = shield_current(p, s)?;
-    let mut gap = gap_current(p, s, &sc)?;
+    let mut gap = gap_current(p, s)?;
     let two = p.kind == crate::model::probe::ProbeKind::Balanced;
     if two {
         // Two gaps, each its correction; the gaps sit at the sides, away from a trace under

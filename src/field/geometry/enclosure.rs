@@ -1,4 +1,4 @@
-//! The smallest grounded box around the signal: when ground copper closes a rectangle round
+//! A grounded box around the signal: when ground copper closes a rectangle round
 //! every signal conductor (the probes' shield planes joined by their via rows, a shield
 //! boundary, unlimited planes), nothing outside it carries field, and the section is solved
 //! inside it alone.
