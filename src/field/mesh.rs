@@ -11,7 +11,8 @@
 //!
 //! where d is the distance to the nearest conductor corner on that axis (where the field is
 //! singular), δ the smallest cell and g the growth rate: cells grow geometrically away from
-//! corners, also out to the far boundary. `s` is piecewise linear in x, so the cell count
+//! corners, also out to the far boundary. A corner the field hardly reaches may have a larger
+//! smallest cell δ·w ([`super::corners`]); s is then the least of the corners' δ·w + g·|x − c|. `s` is piecewise linear in x, so the cell count
 //! ∫dx/s and the node positions (equidistributed in ∫dx/s) are computed in closed form:
 //! mirrored geometry gives a mirrored mesh, scaled geometry a scaled mesh. This *base* mesh is then refined by splitting every cell into `m`
 //! equal parts, so meshes of levels m and 2m are nested (see `docs/field-solver.md`).
@@ -70,8 +71,8 @@ impl Piece {
 
 /// The spacing function of one axis.
 pub(crate) struct Spacing<'a> {
-    /// Corner coordinates (sorted).
-    pub singular: &'a [f64],
+    /// Corner coordinates (sorted), each with its smallest cell in units of `delta`.
+    pub singular: &'a [(f64, f64)],
     /// Smallest cell, mm.
     pub delta: f64,
     /// Growth rate g.
@@ -79,30 +80,40 @@ pub(crate) struct Spacing<'a> {
 }
 
 impl Spacing<'_> {
-    /// s(x) = δ + g·(distance to the nearest corner); infinite when the axis has no corner
-    /// (then [`Spacing::nodes`] spaces the minimum number of cells evenly).
+    /// s(x) = the least over the corners of δ·w + g·(distance to the corner), w the corner's
+    /// weight (δ + g·(distance to the nearest corner) when every weight is 1); infinite when
+    /// the axis has no corner (then [`Spacing::nodes`] spaces the minimum number of cells
+    /// evenly).
     fn at(&self, x: f64) -> f64 {
-        let d = self
-            .singular
-            .iter()
-            .fold(f64::INFINITY, |a, p| a.min((x - p).abs()));
-        if d.is_finite() {
-            self.delta + self.growth * d
-        } else {
-            f64::INFINITY
-        }
+        self.singular.iter().fold(f64::INFINITY, |a, &(p, w)| {
+            a.min(self.delta * w + self.growth * (x - p).abs())
+        })
     }
 
     /// The pieces of [a, b] on which s is linear.
     fn pieces(&self, a: f64, b: f64) -> Vec<Piece> {
         let mut br = vec![a, b];
         let inside = |v: f64| v > a && v < b;
-        for (i, &p) in self.singular.iter().enumerate() {
+        // A corner whose spacing another's undercuts everywhere shapes nothing; between two
+        // that remain, s turns where their ramps cross (half way when their weights are equal).
+        let (d, g) = (self.delta, self.growth);
+        let shaping: Vec<(f64, f64)> = self
+            .singular
+            .iter()
+            .copied()
+            .filter(|&(p, w)| {
+                !self
+                    .singular
+                    .iter()
+                    .any(|&(q, v)| d * v + g * (p - q).abs() < d * w)
+            })
+            .collect();
+        for (i, &(p, w)) in shaping.iter().enumerate() {
             if inside(p) {
                 br.push(p);
             }
-            if let Some(&q) = self.singular.get(i + 1) {
-                let m = 0.5 * (p + q);
+            if let Some(&(q, v)) = shaping.get(i + 1) {
+                let m = 0.5 * (p + q) + 0.5 * d * (v - w) / g;
                 if inside(m) {
                     br.push(m);
                 }
@@ -192,6 +203,19 @@ fn merge(mut v: Vec<f64>, tol: f64) -> Vec<f64> {
     out
 }
 
+/// Sorts corner coordinates and merges those closer than `tol`, keeping the smallest weight.
+fn merge_corners(mut v: Vec<(f64, f64)>, tol: f64) -> Vec<(f64, f64)> {
+    v.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut out: Vec<(f64, f64)> = Vec::with_capacity(v.len());
+    for (x, w) in v {
+        match out.last_mut() {
+            Some(l) if x - l.0 <= tol => l.1 = l.1.min(w),
+            _ => out.push((x, w)),
+        }
+    }
+    out
+}
+
 /// Node state: free, or held at the signal or ground potential.
 pub(crate) const FREE: u8 = 0;
 /// Node held at 1 V.
@@ -221,12 +245,42 @@ impl Grid {
     }
 }
 
-/// The key coordinates and the corner (singular) coordinates of both axes.
+/// An axis's corner coordinates (sorted), each with its smallest cell in units of δ.
+pub(crate) type Singular = Vec<(f64, f64)>;
+
+/// A conductor's corner, where the field is singular.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Corner {
+    /// Position in the solved domain (a half's corners mirrored into x ≥ 0), mm.
+    pub x: f64,
+    pub y: f64,
+    /// A signal conductor's corner.
+    pub signal: bool,
+    /// Its smallest cell in units of the section's δ: 1, unless `field::corners` grew it.
+    pub weight: f64,
+}
+
+/// The key coordinates of both axes and the corners.
 pub(crate) struct Plan {
     pub xkeys: Vec<f64>,
     pub ykeys: Vec<f64>,
-    pub xsing: Vec<f64>,
-    pub ysing: Vec<f64>,
+    pub corners: Vec<Corner>,
+    /// Coordinates closer than this are one.
+    pub tol: f64,
+}
+
+impl Plan {
+    /// The corner coordinates of each axis (sorted, merged within the tolerance), each with
+    /// the smallest weight of the corners there.
+    pub fn singular(&self) -> (Singular, Singular) {
+        let axis = |at: fn(&Corner) -> f64| {
+            merge_corners(
+                self.corners.iter().map(|c| (at(c), c.weight)).collect(),
+                self.tol,
+            )
+        };
+        (axis(|c| c.x), axis(|c| c.y))
+    }
 }
 
 /// Collects the key coordinates of a resolved cross-section (the half `x ≥ 0` when
@@ -239,8 +293,7 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
     let in_y = |v: f64| v.is_finite() && v >= dy0 - tol && v <= dy1 + tol;
     let mut xk = vec![x_lo, dx1];
     let mut yk = vec![dy0, dy1];
-    let mut xs = Vec::new();
-    let mut ys = Vec::new();
+    let mut corners = Vec::new();
     // Layer interfaces.
     let mut y = 0.0;
     yk.push(y);
@@ -272,8 +325,14 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
                 || (r.dirichlet[2] && (p.1 - dy0).abs() <= tol)
                 || (r.dirichlet[3] && (p.1 - dy1).abs() <= tol);
             if !unbounded_side && !on_wall {
-                xs.push(p.0);
-                ys.push(p.1);
+                // Corners are mirrored into the half domain too: the other half's corners
+                // shape it.
+                corners.push(Corner {
+                    x: if half { p.0.abs() } else { p.0 },
+                    y: p.1,
+                    signal: c.role == Role::Signal,
+                    weight: 1.0,
+                });
             }
         }
         if let Some(co) = r.coat {
@@ -296,20 +355,11 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
     }
     let xkeys = merge(xk.into_iter().filter(|v| in_x(*v)).collect(), tol);
     let ykeys = merge(yk.into_iter().filter(|v| in_y(*v)).collect(), tol);
-    // Corners are mirrored into the half domain too: the other half's corners shape it.
-    let xsing = merge(
-        xs.into_iter()
-            .filter(|v| v.is_finite())
-            .map(|v| if half { v.abs() } else { v })
-            .collect(),
-        tol,
-    );
-    let ysing = merge(ys, tol);
     Plan {
         xkeys,
         ykeys,
-        xsing,
-        ysing,
+        corners,
+        tol,
     }
 }
 
@@ -318,13 +368,14 @@ pub(crate) fn build(r: &Resolved, plan: &Plan, p: &MeshParams, m: usize) -> Grid
     // Features far below the structure's size are resolved by their key lines alone; the
     // floor keeps the corner ladders (≈ ln(size/δ)/g cells) bounded.
     let delta = (p.delta_rel * r.min_feature).max(1e-10 * r.size);
+    let (xsing, ysing) = plan.singular();
     let sx = Spacing {
-        singular: &plan.xsing,
+        singular: &xsing,
         delta,
         growth: p.growth,
     };
     let sy = Spacing {
-        singular: &plan.ysing,
+        singular: &ysing,
         delta,
         growth: p.growth,
     };
@@ -447,7 +498,7 @@ mod tests {
     // ∫dx/s = ln(1 + g·L/δ)/g (calculus), and consecutive cells grow by a constant ratio.
     #[test]
     fn graded_axis_is_geometric_near_a_corner() {
-        let sing = [0.0];
+        let sing = [(0.0, 1.0)];
         let s = Spacing {
             singular: &sing,
             delta: 1e-3,
@@ -498,8 +549,9 @@ mod tests {
         // Not cropped: the shelf closes a smaller box above it, which would drop it.
         let r = cs.resolve(false).unwrap();
         let p = plan(&r, false);
-        assert_eq!(p.xsing, vec![0.25, 0.5]);
-        assert_eq!(p.ysing, vec![0.5]);
+        let (xsing, ysing) = p.singular();
+        assert_eq!(xsing, vec![(0.25, 1.0), (0.5, 1.0)]);
+        assert_eq!(ysing, vec![(0.5, 1.0)]);
         // The shelf's faces are still key lines.
         assert!(p.ykeys.contains(&0.125) && p.ykeys.contains(&0.25));
     }

@@ -10,6 +10,8 @@ mod enclosure;
 mod resolve;
 mod validate;
 
+pub(crate) use validate::{point_segment, polygon_distance};
+
 /// One horizontal dielectric layer.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Dielectric {

@@ -50,7 +50,7 @@ pub(super) fn check_er(errs: &mut Vec<FieldError>, field: String, v: f64) {
 }
 
 /// Shortest distance between two convex polygons, 0 when they touch or overlap.
-pub(super) fn polygon_distance(a: &[(f64, f64); 4], b: &[(f64, f64); 4]) -> f64 {
+pub(crate) fn polygon_distance(a: &[(f64, f64); 4], b: &[(f64, f64); 4]) -> f64 {
     if convex_overlap(a, b) {
         return 0.0;
     }
@@ -65,7 +65,7 @@ pub(super) fn polygon_distance(a: &[(f64, f64); 4], b: &[(f64, f64); 4]) -> f64 
     d
 }
 
-pub(super) fn point_segment(p: (f64, f64), a: (f64, f64), b: (f64, f64)) -> f64 {
+pub(crate) fn point_segment(p: (f64, f64), a: (f64, f64), b: (f64, f64)) -> f64 {
     let pt = |q: (f64, f64)| kurbo::Point::new(q.0, q.1);
     crate::model::centreline::dist_to_segment(pt(p), pt(a), pt(b))
 }

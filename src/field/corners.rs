@@ -1,0 +1,281 @@
+//! Far corners: a larger smallest cell for the corners the field hardly reaches.
+//!
+//! The mesh grades its cells down to δ at every conductor corner ([`super::mesh`]), because a
+//! corner's own energy error is of the first order in its smallest cell and must stay far below
+//! the rest (`docs/field-solver.md`, §3). That error is also proportional to the square of the
+//! strength of the corner's singularity, which a corner far from the signal in a screened
+//! place (a board's edge beside grounded planes, several millimetres from a launch pad) has
+//! next to nothing of; yet its ladder of cells, carried across the whole section by the
+//! rectilinear mesh, costs as many node lines as the signal's own corners.
+//!
+//! The geometry alone does not tell such a corner from one the field reaches in full: the far
+//! edge of a ground plate facing a signal plate (the solver's antisymmetric-pair test) sees the
+//! whole structure's field, as strong as the signal plate's own far edge, however far it is
+//! from the signal. So the strength is measured: a quick solution on a coarse mesh of the same
+//! section (a few per cent of a full solution's work) gives each far corner's largest
+//! potential Φ on the circle round it whose radius is the signal-to-ground distance `s`,
+//! against the largest departure Φ_ref of the potential from 1 V on such circles round the
+//! signal's corners. A singularity's strength goes as the
+//! potential it reaches at a given distance, so the far corner's error is about (Φ/Φ_ref)²
+//! times a signal corner's for equal cells, and grows at most as the 4/3 power of its smallest
+//! cell (a solid conductor's right-angled corner; a sheet's edge as the first power). Its
+//! smallest cell is therefore grown by (κ·Φ_ref²/Φ²)^(3/4): its error stays below κ times the
+//! strongest signal corner's. The weight is rounded down to a power of two, so that the tiny
+//! changes of the estimate between nearby geometries (a width search) leave the mesh alone.
+
+use super::geometry::{Half, Resolved, Role, point_segment, polygon_distance};
+use super::mesh::{self, Grid, MeshParams, Plan};
+use super::solver::System;
+
+/// Ground corners within this many signal-to-ground distances of a signal keep the
+/// section's δ without an estimate (the estimate is not made when no corner lies beyond).
+pub(crate) const NEAR_ZONE: f64 = 2.0;
+/// A far corner's error is held below this fraction of the strongest signal corner's (our
+/// choice; the signal corners' own errors are made negligible by the section's δ).
+pub(crate) const KAPPA: f64 = 0.25;
+/// A corner's smallest cell is at most this many times the section's (a tenth of the smallest
+/// feature at the default δ).
+pub(crate) const MAX_WEIGHT: f64 = 1024.0;
+/// The estimate's coarse mesh: `Draft`'s growth with ten times the smallest cell.
+const ESTIMATE_MESH: MeshParams = MeshParams {
+    delta_rel: 1e-3,
+    growth: 0.9,
+};
+/// The estimate's conjugate gradients stop at this residual (its potentials are wanted to a
+/// few per cent).
+const ESTIMATE_TOL: f64 = 1e-3;
+/// Points on the circle of radius `s` round a corner at which the potential is read.
+const SAMPLES: usize = 16;
+
+/// The smallest distance from a signal to a ground conductor or a grounded side of the domain,
+/// mm (infinite when there is neither).
+fn signal_to_ground(r: &Resolved, far: f64) -> f64 {
+    let [dx0, dx1, dy0, dy1] = r.domain;
+    let mut s = f64::INFINITY;
+    for a in r.conductors.iter().filter(|c| c.role == Role::Signal) {
+        let pa = a.polygon(far);
+        for b in r.conductors.iter().filter(|c| c.role == Role::Ground) {
+            s = s.min(polygon_distance(&pa, &b.polygon(far)));
+        }
+        let [x0, x1, y0, y1] = a.bbox();
+        for (gap, grounded) in [x0 - dx0, dx1 - x1, y0 - dy0, dy1 - y1]
+            .into_iter()
+            .zip(r.dirichlet)
+        {
+            if grounded {
+                s = s.min(gap);
+            }
+        }
+    }
+    s
+}
+
+/// The distance from `p` to the nearest signal conductor, mm.
+fn to_signal(r: &Resolved, far: f64, p: (f64, f64)) -> f64 {
+    r.conductors
+        .iter()
+        .filter(|c| c.role == Role::Signal)
+        .map(|c| {
+            let q = c.polygon(far);
+            (0..4)
+                .map(|i| point_segment(p, q[i], q[(i + 1) % 4]))
+                .fold(f64::INFINITY, f64::min)
+        })
+        .fold(f64::INFINITY, f64::min)
+}
+
+/// The potential of the grid's solution at (x, y), bilinear within its cell; `None` outside
+/// the grid.
+fn potential(g: &Grid, phi: &[f64], x: f64, y: f64) -> Option<f64> {
+    let (xs, ys) = (&g.xs, &g.ys);
+    let inside = |v: f64, a: &[f64]| v >= a[0] && v <= a[a.len() - 1];
+    if !inside(x, xs) || !inside(y, ys) {
+        return None;
+    }
+    let cell = |v: f64, a: &[f64]| a.partition_point(|&t| t <= v).clamp(1, a.len() - 1) - 1;
+    let (i, j) = (cell(x, xs), cell(y, ys));
+    let tx = (x - xs[i]) / (xs[i + 1] - xs[i]);
+    let ty = (y - ys[j]) / (ys[j + 1] - ys[j]);
+    let nx = xs.len();
+    let at = |i: usize, j: usize| phi[j * nx + i];
+    Some(
+        (1.0 - ty) * ((1.0 - tx) * at(i, j) + tx * at(i + 1, j))
+            + ty * ((1.0 - tx) * at(i, j + 1) + tx * at(i + 1, j + 1)),
+    )
+}
+
+/// Grows the smallest cell of the plan's far ground corners by the field that reaches them (see
+/// the module's notes). Leaves the plan alone on an antimirrored half (its held axis is no
+/// conductor of the section), when no ground corner lies beyond [`NEAR_ZONE`] signal-to-ground
+/// distances of a signal, or when the estimate fails.
+pub(crate) fn relax(r: &Resolved, plan: &mut Plan) {
+    if r.half == Half::Antimirror {
+        return;
+    }
+    let [dx0, dx1, dy0, dy1] = r.domain;
+    let far = 2.0
+        * [dx0, dx1, dy0, dy1]
+            .iter()
+            .fold(0.0_f64, |a, v| a.max(v.abs()));
+    let s = signal_to_ground(r, far);
+    if !(s.is_finite() && s > 0.0) {
+        return;
+    }
+    let remote: Vec<usize> = (0..plan.corners.len())
+        .filter(|&k| {
+            let c = plan.corners[k];
+            !c.signal && to_signal(r, far, (c.x, c.y)) > NEAR_ZONE * s
+        })
+        .collect();
+    if remote.is_empty() {
+        return;
+    }
+    let g = mesh::build(r, plan, &ESTIMATE_MESH, 1);
+    let (phi, _, converged) = System::new(&g, &g.eps).solve(None, ESTIMATE_TOL);
+    if !converged {
+        return;
+    }
+    // The largest departure of the potential from `v` on the circle of radius s round (x, y)
+    // (points outside the solved region are skipped).
+    let mirror = r.half == Half::Mirror;
+    let reach = |x: f64, y: f64, v: f64| -> f64 {
+        (0..SAMPLES)
+            .filter_map(|k| {
+                let a = 2.0 * std::f64::consts::PI * k as f64 / SAMPLES as f64;
+                let px = x + s * a.cos();
+                // A mirrored half holds the section's potential at |x|.
+                let px = if mirror { px.abs() } else { px };
+                potential(&g, &phi, px, y + s * a.sin())
+            })
+            .map(|p| (p - v).abs())
+            .fold(0.0, f64::max)
+    };
+    let reference = plan
+        .corners
+        .iter()
+        .filter(|c| c.signal)
+        .map(|c| reach(c.x, c.y, 1.0))
+        .fold(0.0, f64::max);
+    if reference.is_nan() || reference <= 0.0 {
+        return;
+    }
+    for k in remote {
+        let c = &mut plan.corners[k];
+        let phi_c = reach(c.x, c.y, 0.0);
+        let w = if phi_c > 0.0 {
+            (KAPPA * (reference / phi_c).powi(2)).powf(0.75)
+        } else {
+            MAX_WEIGHT
+        };
+        let w = w.clamp(1.0, MAX_WEIGHT);
+        c.weight = 2f64.powi(w.log2().floor() as i32);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::geometry::{Boundary, Conductor, CrossSection, Dielectric};
+    use super::super::{Accuracy, plate_pair, solve_uncached, solve_unrelaxed};
+    use super::*;
+
+    /// A connector's centre pad on a 4-layer board's top (the demo's launch, built here from
+    /// the solver's own parts): the pad 0.8 mm wide and 35 µm thick, the top ground 0.209 mm
+    /// from it out to 3.7 mm, layer 2 (17.5 µm) relieved to the same gap, referenced to a plane
+    /// of the handle's 7.4 mm on layer 3, FR-4 (εr 4.3) on an 8 mm board, air above.
+    fn pad() -> CrossSection {
+        let (wp, gap, half) = (0.8, 0.209, 3.7);
+        let top = 1.065 + 0.0175 + 0.21;
+        let [left, right] =
+            Conductor::coplanar_pair(0.0, top, wp, gap, half - wp / 2.0 - gap, 0.035);
+        let r = wp / 2.0 + gap;
+        CrossSection {
+            layers: vec![
+                Dielectric::new(1.065, 4.3),
+                Dielectric::new(0.0175, 4.3),
+                Dielectric::new(0.21, 4.3),
+            ],
+            board: Some([-4.0, 4.0]),
+            conductors: vec![
+                Conductor::finite_plane(-half, half, 0.0, 0.0),
+                Conductor::trace(0.0, top, wp, 0.035, 0.0),
+                left,
+                right,
+                Conductor::ground(-half, -r, 1.065, 1.0825),
+                Conductor::ground(r, half, 1.065, 1.0825),
+            ],
+            coat: None,
+            fences: vec![],
+            boundary: Boundary::Open,
+        }
+    }
+
+    // The pad's far corners (3.1–3.5 mm from it, screened by the planes) get cells hundreds of
+    // times larger and the mesh over 20 % fewer nodes, while Z0 moves by under 1e-5 of itself,
+    // far inside `Standard`'s own error (6e-4, docs/field-solver.md §4); and both settle on the
+    // same value when refined (`Refined(2)`, within 1e-6). Measured 2026-12-05: the coarser mesh
+    // 113 × 166 → 95 × 143 nodes (the finer 0.72 of its nodes), Z0 50.64064 → 50.64081 Ω
+    // (3.2e-6), at `Refined(2)` 50.65313 against 50.65314 Ω (1.9e-7). Fails when the corners are
+    // left alone (no fewer nodes) or graded too coarsely.
+    #[test]
+    fn screened_far_corners_take_larger_cells_and_change_little() {
+        let cs = pad();
+        let (a, b) = (
+            solve_uncached(&cs, Accuracy::Standard).unwrap(),
+            solve_unrelaxed(&cs, Accuracy::Standard).unwrap(),
+        );
+        assert!(
+            (a.nodes as f64) < 0.8 * b.nodes as f64,
+            "{} against {} nodes",
+            a.nodes,
+            b.nodes
+        );
+        assert!(
+            (a.z0_ohms / b.z0_ohms - 1.0).abs() < 1e-5,
+            "{} {}",
+            a.z0_ohms,
+            b.z0_ohms
+        );
+        assert!((a.eps_eff / b.eps_eff - 1.0).abs() < 1e-5);
+        let (a2, b2) = (
+            solve_uncached(&cs, Accuracy::Refined(2)).unwrap(),
+            solve_unrelaxed(&cs, Accuracy::Refined(2)).unwrap(),
+        );
+        assert!(
+            (a2.z0_ohms / b2.z0_ohms - 1.0).abs() < 1e-6,
+            "{} {}",
+            a2.z0_ohms,
+            b2.z0_ohms
+        );
+        assert!(a2.nodes < b2.nodes);
+    }
+
+    // Two plates facing across a 0.4 mm gap, signal right, ground left, on both faces of a
+    // board: the ground plates' far edges, 3.4 mm from the signal, see the whole pair's field,
+    // and keep cells within 8 times the smallest (Φ ≈ 0.09; the distance alone would have relaxed
+    // them as far as the pad's); the pad's screened corners (Φ 0.003–0.01) are grown 256–1024
+    // times. Fails for a rule by distance alone, and for none.
+    #[test]
+    fn exposed_far_corners_keep_small_cells() {
+        let pair = plate_pair();
+        let weights = |cs: &CrossSection| -> Vec<f64> {
+            // The whole section: the pair's half would be antimirrored (not relaxed).
+            let r = cs.resolve(false).unwrap();
+            let mut plan = mesh::plan(&r, false);
+            relax(&r, &mut plan);
+            plan.corners
+                .iter()
+                .filter(|c| !c.signal && c.x.abs() > 3.0)
+                .map(|c| c.weight)
+                .collect()
+        };
+        let exposed = weights(&pair);
+        assert_eq!(exposed.len(), 4);
+        assert!(
+            exposed.iter().all(|&w| (1.0..=8.0).contains(&w)),
+            "{exposed:?}"
+        );
+        let screened = weights(&pad());
+        assert!(!screened.is_empty());
+        assert!(screened.iter().all(|&w| w >= 256.0), "{screened:?}");
+    }
+}
