@@ -177,6 +177,10 @@ pub fn solve(
 
 /// The pad gap's tolerance in ln g (0.1 %; the gap is rounded to a µm).
 const GAP_XTOL: f64 = 1e-3;
+/// The rough search's tolerance in ln g (1 %): its root only starts the full solution's polish,
+/// and the rough solution's own root is several per cent off the full one's (10 % on the demo's
+/// pad), so a finer tolerance buys nothing but rough solutions.
+const ROUGH_XTOL: f64 = 1e-2;
 
 /// A length rounded to a µm, as the artwork draws the pad's gap.
 fn round_um(mm: f64) -> f64 {
@@ -245,7 +249,7 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
     };
     let (g_lo, g_hi) = pad_gap_range(p);
     let (x_lo, x_hi) = (g_lo.ln(), g_hi.ln());
-    let search = |z_of: &dyn Fn(f64) -> Result<f64, Error>| -> Result<f64, Error> {
+    let search = |z_of: &dyn Fn(f64) -> Result<f64, Error>, xtol: f64| -> Result<f64, Error> {
         // Z rises with the gap, close to linearly in ln g: Brent's method in ln g finds the
         // gap in three to five field solutions (the ends are kept solutions) where bisection
         // took ten. The gap is wanted to 0.1 %, well below the µm it is rounded to.
@@ -266,7 +270,7 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
             },
             x_lo,
             x_hi,
-            GAP_XTOL,
+            xtol,
         );
         if let Some(e) = failed {
             return Err(e);
@@ -313,11 +317,14 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
             // The rough search between those ends, and the rough slope at its root, in ln g
             // (one more rough solution); any failure, or a slope that is not positive (Z rises
             // with the gap), leaves the search to the full solution.
-            let rough_root = search(&|g| match g {
-                _ if g == g_lo => Ok(z_lo),
-                _ if g == g_hi => Ok(z_hi),
-                _ => rough(g, depth),
-            })
+            let rough_root = search(
+                &|g| match g {
+                    _ if g == g_lo => Ok(z_lo),
+                    _ if g == g_hi => Ok(z_hi),
+                    _ => rough(g, depth),
+                },
+                ROUGH_XTOL,
+            )
             .and_then(|g| {
                 let x = g.ln();
                 let h = if x + 0.02 <= x_hi { 0.02 } else { -0.02 };
@@ -334,7 +341,7 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
             };
             let g = match landed {
                 Some(g) => g,
-                None => search(&|g| z(g, depth).map(|(zz, _)| zz))?,
+                None => search(&|g| z(g, depth).map(|(zz, _)| zz), GAP_XTOL)?,
             };
             chosen = Some((depth, g));
             break;
