@@ -6,16 +6,17 @@
 //! Between keys the node spacing follows
 //!
 //! ```text
-//!     s(x) = δ + g·d(x)
+//!     s(x) = min over the axis's corners c of (w_c·δ + g·|x − c|)
 //! ```
 //!
-//! where d is the distance to the nearest conductor corner on that axis (where the field is
-//! singular), δ the smallest cell and g the growth rate: cells grow geometrically away from
-//! corners, also out to the far boundary. A corner the field hardly reaches may have a larger
-//! smallest cell δ·w ([`super::corners`]); s is then the least of the corners' δ·w + g·|x − c|. `s` is piecewise linear in x, so the cell count
-//! ∫dx/s and the node positions (equidistributed in ∫dx/s) are computed in closed form:
-//! mirrored geometry gives a mirrored mesh, scaled geometry a scaled mesh. This *base* mesh is then refined by splitting every cell into `m`
-//! equal parts, so meshes of levels m and 2m are nested (see `docs/field-solver.md`).
+//! over the conductor corners on that axis (where the field is singular), δ being the smallest
+//! cell, g the growth rate and w_c a corner's weight: 1, or more for a corner the field hardly
+//! reaches ([`super::corners`]). With every weight 1 this is δ + g·(distance to the nearest
+//! corner): cells grow geometrically away from corners, also out to the far boundary. `s` is
+//! piecewise linear in x, so the cell count ∫dx/s and the node positions (equidistributed in
+//! ∫dx/s) are computed in closed form: mirrored geometry gives a mirrored mesh, scaled geometry
+//! a scaled mesh. This *base* mesh is then refined by splitting every cell into `m` equal parts,
+//! so meshes of levels m and 2m are nested (see `docs/field-solver.md`).
 
 use super::geometry::{Resolved, Role};
 
@@ -256,6 +257,8 @@ pub(crate) struct Corner {
     pub y: f64,
     /// A signal conductor's corner.
     pub signal: bool,
+    /// The corner of a conductor of no thickness or no width (a sheet's edge).
+    pub sheet: bool,
     /// Its smallest cell in units of the section's δ: 1, unless `field::corners` grew it.
     pub weight: f64,
 }
@@ -308,7 +311,7 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
     for c in &r.conductors {
         let poly = c.polygon(f64::INFINITY);
         let (ub_l, ub_r) = c.unbounded();
-        let [_, _, cy0, cy1] = c.bbox();
+        let [cx0, cx1, cy0, cy1] = c.bbox();
         yk.extend([cy0, cy1]);
         for (k, p) in poly.iter().enumerate() {
             if p.0.is_finite() {
@@ -331,6 +334,7 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
                     x: if half { p.0.abs() } else { p.0 },
                     y: p.1,
                     signal: c.role == Role::Signal,
+                    sheet: cy1 - cy0 <= tol || cx1 - cx0 <= tol,
                     weight: 1.0,
                 });
             }
@@ -363,11 +367,16 @@ pub(crate) fn plan(r: &Resolved, half: bool) -> Plan {
     }
 }
 
+/// The section's smallest cell δ, mm: a fraction of its smallest feature; features far below
+/// the structure's size are resolved by their key lines alone, and the floor keeps the corner
+/// ladders (≈ ln(size/δ)/g cells) bounded.
+pub(crate) fn smallest_cell(r: &Resolved, p: &MeshParams) -> f64 {
+    (p.delta_rel * r.min_feature).max(1e-10 * r.size)
+}
+
 /// Builds the mesh at refinement level `m` (every base cell split into m).
 pub(crate) fn build(r: &Resolved, plan: &Plan, p: &MeshParams, m: usize) -> Grid {
-    // Features far below the structure's size are resolved by their key lines alone; the
-    // floor keeps the corner ladders (≈ ln(size/δ)/g cells) bounded.
-    let delta = (p.delta_rel * r.min_feature).max(1e-10 * r.size);
+    let delta = smallest_cell(r, p);
     let (xsing, ysing) = plan.singular();
     let sx = Spacing {
         singular: &xsing,
@@ -512,6 +521,31 @@ mod tests {
         let r1 = (nodes[2] - nodes[1]) / (nodes[1] - nodes[0]);
         let r2 = (nodes[5] - nodes[4]) / (nodes[4] - nodes[3]);
         assert!((r1 - r2).abs() < 1e-9, "{r1} {r2}");
+    }
+
+    // Two corners of different weights: the closed-form cell count ∫dx/s over the pieces matches
+    // a midpoint-rule quadrature of 1/s (calculus), and s is linear on every piece (its
+    // midpoint value is the mean of its ends): the breakpoints are where the ramps cross.
+    #[test]
+    fn weighted_corners_give_linear_pieces_and_the_exact_count() {
+        let sing = [(0.0, 1.0), (0.3, 512.0), (0.5, 8.0), (1.0, 1.0)];
+        let s = Spacing {
+            singular: &sing,
+            delta: 1e-3,
+            growth: 0.6,
+        };
+        let pieces = s.pieces(-0.2, 1.3);
+        for p in &pieces {
+            let mid = s.at(0.5 * (p.x0 + p.x1));
+            assert!((mid - 0.5 * (p.s0 + p.s1)).abs() < 1e-12, "{p:?}");
+        }
+        let closed: f64 = pieces.iter().map(Piece::weight).sum();
+        let n = 2_000_000;
+        let h = 1.5 / n as f64;
+        let quad: f64 = (0..n).map(|k| h / s.at(-0.2 + (k as f64 + 0.5) * h)).sum();
+        assert!((closed / quad - 1.0).abs() < 1e-6, "{closed} {quad}");
+        // The corner of weight 512 is undercut by its neighbour's ramp: it shapes nothing.
+        assert!(pieces.iter().all(|p| p.x0 != 0.3 && p.x1 != 0.3));
     }
 
     #[test]

@@ -266,11 +266,17 @@ pub fn solve_uncached(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution,
     solve_mesh(cs, acc, true, true, true)
 }
 
-/// [`solve_uncached`] with every corner graded to the section's smallest cell: the check that
-/// growing the far corners' cells (`corners::relax`) changes the mesh and little else.
+/// [`solve_uncached`], cropped and halved where it can be (`reduce`), with the far corners'
+/// cells grown (`relax`, `corners::relax`) or every corner at the section's smallest cell: for
+/// the checks that these change the mesh and little else.
 #[cfg(test)]
-pub(crate) fn solve_unrelaxed(cs: &CrossSection, acc: Accuracy) -> Result<FieldSolution, Error> {
-    solve_mesh(cs, acc, true, true, false)
+pub(crate) fn solve_as(
+    cs: &CrossSection,
+    acc: Accuracy,
+    reduce: bool,
+    relax: bool,
+) -> Result<FieldSolution, Error> {
+    solve_mesh(cs, acc, true, reduce, relax)
 }
 
 /// [`solve_uncached`] on the whole domain, neither cropped to the grounded box round the signal
@@ -329,7 +335,7 @@ fn base_grid(
     // `Draft` (and the rough solutions, its base mesh) grade every corner alike: the estimate
     // that would spare the far ones costs too large a share of so small a mesh.
     if relax && acc != Accuracy::Draft {
-        corners::relax(&r, &mut plan);
+        corners::relax(&r, &mut plan, mesh::smallest_cell(&r, &params));
     }
     let coarse = mesh::build(&r, &plan, &params, m as usize);
     let fine_nodes = (2 * coarse.nx() - 1) * (2 * coarse.ny() - 1);
@@ -392,7 +398,9 @@ pub fn ground_charge(
     };
     // The whole domain: the rectangle asked for may lie outside a box that cropping would
     // keep (its columns would go missing rather than read zero), or on the antimirrored half.
-    let (half, coarse, fine) = grids(cs, acc, false, true)?;
+    // Every corner at the section's δ: the far corners' larger cells are sized by the energy's
+    // error, not a distribution's.
+    let (half, coarse, fine) = grids(cs, acc, false, false)?;
     let half = half == Half::Mirror;
     let (guess, energy_coarse) = {
         let sys = System::new(&coarse, &coarse.eps);
