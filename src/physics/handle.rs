@@ -66,7 +66,7 @@ pub const HANDLE_REACH: f64 = 3.0;
 /// ratio of two sheets' fluxes is what is used, in dB: on the demo's five outlines, 1e-5 moves
 /// it by at most 1.0e-6 of itself from 1e-7's (4e-6 at 1e-4), 1e-5 dB, for 16 iterations per
 /// ratio instead of 22 (measured with the preconditioner of the time, the padded grid's inverse;
-/// the present one takes 16 to 18).
+/// the present one takes 16 to 18 per ratio on the demo's outlines).
 pub const CG_TOL: f64 = 1e-5;
 /// ... or fail after this many iterations (the demo's probes take 7–10).
 pub const CG_MAX_ITERATIONS: usize = 2000;
@@ -284,16 +284,15 @@ pub fn aperture_flux_with(
     // size (Strang's circulant: each offset's value taken from the nearer of its images, the
     // field of a cell's loop falling as the cube of the distance), whose spectrum is real (the
     // kernel is even) and positive (a floor guards the inverse should some grid give a value near
-    // or below zero). A quarter of the operator's transform size: 7 to 10 iterations on the
-    // demo's sheets to [`CG_TOL`] against 7 to 9 with the padded inverse (measured 2026-12-05),
-    // the ratios moved by at most 2e-6 of themselves.
+    // or below zero). A quarter of the operator's transform size (an eighth to a third of its
+    // time per application): 7 to 10 iterations on the demo's sheets to [`CG_TOL`] against 7 to
+    // 9 with the padded inverse (measured 2026-12-05), the ratios moved by at most 2e-6 of
+    // themselves.
     let (qx, qy) = (smooth_len(nx), smooth_len(ny));
-    let preconditioner = Circulant::new(
-        qx,
-        qy,
-        |di, dj| quadrant.at(di.min(qx - di).min(nx - 1), dj.min(qy - dj).min(ny - 1)),
-        true,
-    );
+    // The nearer image's offset is at most half the size, within the grid's (a smooth length
+    // is below twice its least).
+    debug_assert!(qx / 2 < nx.max(1) && qy / 2 < ny.max(1));
+    let preconditioner = Circulant::new(qx, qy, |di, dj| quadrant.at(di, dj), true);
     let conv = |v: &[f64], c: &Circulant| c.apply(v, nx, ny);
     let apply = |v: &[f64]| conv(v, &operator);
     // Conjugate gradients on the copper cells: K·ψ = −1 (B_z = −B0 from the sheet's current),
@@ -460,9 +459,9 @@ impl Circulant {
     }
 }
 
-/// The smallest length at least `n` with no prime factor above 5 (fast transforms).
+/// The smallest length at least `n` (and 1) with no prime factor above 5 (fast transforms).
 fn smooth_len(n: usize) -> usize {
-    (n..)
+    (n.max(1)..)
         .find(|&m| {
             let mut k = m;
             for p in [2, 3, 5] {
@@ -727,7 +726,7 @@ mod tests {
             );
             assert!((s.moment_mm3 / m - 1.0).abs() < 1e-6, "{c}: {s:?} {m}");
             // The preconditioner's work: plain conjugate gradients took 23–51 iterations on
-            // such sheets to a residual of 1e-7, the preconditioned ones 8–12 (7–9 to CG_TOL).
+            // such sheets to a residual of 1e-7; the preconditioned ones take 7–11 to CG_TOL.
             assert!(s.iterations <= 15, "{c}: {} iterations", s.iterations);
         }
     }

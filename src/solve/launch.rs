@@ -252,7 +252,8 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
     let search = |z_of: &dyn Fn(f64) -> Result<f64, Error>, xtol: f64| -> Result<f64, Error> {
         // Z rises with the gap, close to linearly in ln g: Brent's method in ln g finds the
         // gap in three to five field solutions (the ends are kept solutions) where bisection
-        // took ten. The gap is wanted to 0.1 %, well below the µm it is rounded to.
+        // took ten. The gap is wanted to `xtol` in ln g: 0.1 % on the full solution, well below
+        // the µm it is rounded to; 1 % on the rough one, whose root only starts the polish.
         let mut failed = None;
         // The bracket's ends map back to the very gaps solved before (kept solutions).
         let gap_at = |x: f64| match x {
