@@ -372,9 +372,10 @@ pub struct ChargeColumn {
 /// Gauss's law on each node's cell of the finer mesh of `acc` (a distribution, so its shape is
 /// not extrapolated); a mirror-symmetric section, solved on its half, is unfolded into the
 /// whole. The columns are scaled so that every ground's columns together carry the
-/// capacitance [`solve`] extrapolates from both meshes (to the solver's stopping tolerance; the
-/// scale differs from 1 by the finer mesh's own error; a grounded shield boundary's walls carry
-/// a share no conductor reports), so their sum is the conductor's share of the line's
+/// capacitance [`solve`] extrapolates from both meshes (to the solver's stopping tolerance, and
+/// to the few parts in a million by which [`solve`]'s larger cells at far corners move it: these
+/// meshes keep every corner's smallest cell; the scale differs from 1 by the finer mesh's own
+/// error; a grounded shield boundary's walls carry a share no conductor reports), so their sum is the conductor's share of the line's
 /// capacitance. For an electrode set into that ground, its charge is this density integrated
 /// over its face.
 pub fn ground_charge(
