@@ -25,7 +25,7 @@
 //! [`MAX_WEIGHT`]. A ground corner and its mirror image, when that is a ground corner too, take
 //! the smaller of their weights.
 
-use super::geometry::{Half, Resolved, Role, point_segment, polygon_distance};
+use super::geometry::{Half, Resolved, Role, point_segment};
 use super::mesh::{self, Grid, MeshParams, Plan};
 use super::solver::System;
 
@@ -48,29 +48,6 @@ const ESTIMATE_MESH: MeshParams = MeshParams {
 const ESTIMATE_TOL: f64 = 1e-3;
 /// Points on the circle of radius `s` round a corner at which the potential is read.
 const SAMPLES: usize = 16;
-
-/// The smallest distance from a signal to a ground conductor or a grounded side of the domain,
-/// mm (infinite when there is neither).
-fn signal_to_ground(r: &Resolved, far: f64) -> f64 {
-    let [dx0, dx1, dy0, dy1] = r.domain;
-    let mut s = f64::INFINITY;
-    for a in r.conductors.iter().filter(|c| c.role == Role::Signal) {
-        let pa = a.polygon(far);
-        for b in r.conductors.iter().filter(|c| c.role == Role::Ground) {
-            s = s.min(polygon_distance(&pa, &b.polygon(far)));
-        }
-        let [x0, x1, y0, y1] = a.bbox();
-        for (gap, grounded) in [x0 - dx0, dx1 - x1, y0 - dy0, dy1 - y1]
-            .into_iter()
-            .zip(r.dirichlet)
-        {
-            if grounded {
-                s = s.min(gap);
-            }
-        }
-    }
-    s
-}
 
 /// The distance from `p` to the nearest signal conductor, mm.
 fn to_signal(r: &Resolved, far: f64, p: (f64, f64)) -> f64 {
@@ -124,7 +101,7 @@ pub(crate) fn relax(r: &Resolved, plan: &mut Plan, delta: f64) {
         * [dx0, dx1, dy0, dy1]
             .iter()
             .fold(0.0_f64, |a, v| a.max(v.abs()));
-    let s = signal_to_ground(r, far);
+    let s = r.signal_to_ground;
     if !(s.is_finite() && s > 0.0 && delta > 0.0) {
         return;
     }

@@ -846,6 +846,8 @@ mod tests {
             dirichlet: [false; 4],
             size: l + behind,
             min_feature: a / strips as f64,
+            // Unread: this mesh is built without the far corners' estimate.
+            signal_to_ground: f64::INFINITY,
             half: Half::Whole,
         };
         let plan = mesh::plan(&r, false);

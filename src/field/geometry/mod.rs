@@ -10,7 +10,7 @@ mod enclosure;
 mod resolve;
 mod validate;
 
-pub(crate) use validate::{point_segment, polygon_distance};
+pub(crate) use validate::point_segment;
 
 /// One horizontal dielectric layer.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -461,6 +461,10 @@ pub(crate) struct Resolved {
     /// trapezoid's slope, or ten times a solid conductor's extent or a layer's or coat's
     /// thickness (their corners are less singular than a sheet's edge).
     pub min_feature: f64,
+    /// The smallest distance from a signal to a ground conductor or a grounded side of the
+    /// domain, mm (infinite when there is neither): part of `min_feature`, and the scale of
+    /// the far corners' estimate (`field::corners`).
+    pub signal_to_ground: f64,
     /// Whether, and how, the half `x ≥ 0` stands for the whole.
     pub half: Half,
 }

@@ -429,9 +429,12 @@ impl CrossSection {
                 }
             }
         }
+        // The smallest distance from a signal to a ground: a conductor, or a grounded side.
+        let mut signal_to_ground = f64::INFINITY;
         for a in conductors.iter().filter(|c| c.role == Role::Signal) {
             for b in conductors.iter().filter(|c| c.role == Role::Ground) {
-                min_feature = min_feature.min(polygon_distance(&a.polygon(far), &b.polygon(far)));
+                signal_to_ground =
+                    signal_to_ground.min(polygon_distance(&a.polygon(far), &b.polygon(far)));
             }
             // And its clearance to every grounded side of the domain (a shield, the box the
             // section is cropped to, whose planes and walls are no longer conductors).
@@ -444,10 +447,11 @@ impl CrossSection {
             ];
             for (gap, grounded) in gaps.into_iter().zip(dirichlet) {
                 if grounded && gap > tol {
-                    min_feature = min_feature.min(gap);
+                    signal_to_ground = signal_to_ground.min(gap);
                 }
             }
         }
+        min_feature = min_feature.min(signal_to_ground);
         for l in &self.layers {
             min_feature = min_feature.min(SOLID_FEATURE_WEIGHT * l.thickness);
         }
@@ -464,6 +468,7 @@ impl CrossSection {
             dirichlet,
             size,
             min_feature,
+            signal_to_ground,
             half: Half::Whole,
         };
         // Antisymmetry only on a domain with no grounded side: a grounded side, at 0 V, is not

@@ -50,7 +50,7 @@ pub(super) fn check_er(errs: &mut Vec<FieldError>, field: String, v: f64) {
 }
 
 /// Shortest distance between two convex polygons, 0 when they touch or overlap.
-pub(crate) fn polygon_distance(a: &[(f64, f64); 4], b: &[(f64, f64); 4]) -> f64 {
+pub(super) fn polygon_distance(a: &[(f64, f64); 4], b: &[(f64, f64); 4]) -> f64 {
     if convex_overlap(a, b) {
         return 0.0;
     }
