@@ -171,11 +171,12 @@ impl System {
         }
     }
 
-    /// y = A·x on the unknowns (identity on held nodes), gathered row by row.
-    fn apply(&self, x: &[f64], y: &mut [f64]) {
+    /// y = A·x on the unknowns (identity on held nodes), gathered row by row; returns x·y.
+    fn apply(&self, x: &[f64], y: &mut [f64]) -> f64 {
         let nx = self.nx;
         let n = x.len();
         let rows = n / nx;
+        let mut xy = 0.0;
         for j in 0..rows {
             let o = j * nx;
             let yr = &mut y[o..o + nx];
@@ -204,7 +205,9 @@ impl System {
                     yr[i] -= gn[i] * xn[i];
                 }
             }
+            xy += dot(xr, yr);
         }
+        xy
     }
 
     /// The inverse MIC(0) pivots: d_k = a_kk − Σ_lower a_kl·(a_kl + ω·fill)/d_l in the
@@ -265,89 +268,123 @@ impl System {
     }
 
     /// The MIC(0) factor ready for [`System::precondition`]: the inverse pivots of
-    /// [`System::mic_inverse`] and each row's doubled couplings ([`Chains`]), the same for
-    /// every application of it.
+    /// [`System::mic_inverse`] (the sweeps scale the couplings by them as they go).
     fn factor(&self, omega: f64) -> Factor {
-        let dinv = self.mic_inverse(omega);
-        let nx = self.nx;
-        let n = dinv.len();
-        let mut f = Factor {
-            fg2: vec![0.0; n],
-            fg4: vec![0.0; n],
-            bg2: vec![0.0; n],
-            bg4: vec![0.0; n],
-            dinv,
-        };
-        let mut g = vec![0.0; nx];
-        for o in (0..n).step_by(nx) {
-            let di = &f.dinv[o..o + nx];
-            // West couplings over the pivots (none across the row's start).
-            g[0] = 0.0;
-            for i in 1..nx {
-                g[i] = self.ax[o + i - 1] * di[i];
-            }
-            Chains::double_forward(&g, &mut f.fg2[o..o + nx], &mut f.fg4[o..o + nx]);
-            for i in 0..nx {
-                g[i] = self.ax[o + i] * di[i];
-            }
-            Chains::double_backward(&g, &mut f.bg2[o..o + nx], &mut f.bg4[o..o + nx]);
+        Factor {
+            dinv: self.mic_inverse(omega),
         }
-        f
     }
 
-    /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A), the factor
-    /// `f` of [`System::factor`]; the couplings are the system's, scaled by the pivots as the
-    /// sweeps go. Each sweep is split into vectorisable parts and a one-multiply-add recursion
-    /// along the row, run as four interleaved chains ([`Chains`]).
-    fn precondition(&self, f: &Factor, r: &[f64], z: &mut [f64]) {
+    /// z = M⁻¹·r for M = (D + L)·D⁻¹·(D + L)ᵀ (L: the strictly lower part of A, D the pivots of
+    /// `f`); returns r·z. With a `step`, r is first brought up to date (r −= α·q, x += α·p),
+    /// each block of rows just before the forward sweep reads it, while it is in the cache.
+    ///
+    /// Each node of a sweep waits on its west and south neighbours (east and north going
+    /// back): [`ROWS`] rows run together on a front skewed by one node per row, as in
+    /// [`System::mic_inverse`], so that the processor overlaps [`ROWS`] independent
+    /// recursions, in one pass over the arrays.
+    fn precondition(
+        &self,
+        f: &Factor,
+        r: &mut [f64],
+        z: &mut [f64],
+        mut step: Option<Step>,
+    ) -> f64 {
         let nx = self.nx;
-        let n = r.len();
-        let rows = n / nx;
-        let mut ch = Chains::new(nx);
+        let rows = r.len() / nx;
         // Forward: (D + L)·u = r.
-        for j in 0..rows {
-            let o = j * nx;
-            let (done, rest) = z.split_at_mut(o);
-            let row = &mut rest[..nx];
-            let di = &f.dinv[o..o + nx];
-            let rr = &r[o..o + nx];
-            if j > 0 {
-                let s = &done[o - nx..o];
-                let ay = &self.ay[o - nx..o];
-                for i in 0..nx {
-                    ch.t[i] = rr[i] * di[i] + ay[i] * di[i] * s[i];
-                }
-            } else {
-                for i in 0..nx {
-                    ch.t[i] = rr[i] * di[i];
+        for j0 in (0..rows).step_by(ROWS) {
+            let block = j0 * nx..(j0 + ROWS).min(rows) * nx;
+            if let Some(st) = step.as_mut() {
+                let a = st.alpha;
+                for ((xk, rk), (pk, qk)) in st.x[block.clone()]
+                    .iter_mut()
+                    .zip(&mut r[block.clone()])
+                    .zip(st.p[block.clone()].iter().zip(&st.q[block]))
+                {
+                    *xk += a * pk;
+                    *rk -= a * qk;
                 }
             }
-            let w = &self.ax[o..o + nx];
-            ch.forward(
-                |i| w[i - 1] * di[i],
-                &f.fg2[o..o + nx],
-                &f.fg4[o..o + nx],
-                row,
-            );
+            self.forward(f, r, z, j0);
         }
-        // Backward: (D + L)ᵀ·z = D·u.
-        for j in (0..rows).rev() {
-            let o = j * nx;
-            let (head, above) = z.split_at_mut(o + nx);
-            let row = &mut head[o..];
-            let di = &f.dinv[o..o + nx];
-            if j + 1 < rows {
-                let nn = &above[..nx];
-                let ay = &self.ay[o..o + nx];
-                for i in 0..nx {
-                    ch.t[i] = row[i] + ay[i] * di[i] * nn[i];
+        // Backward: (D + L)ᵀ·z = D·u, from the top; r·z gathered block by block.
+        let mut rz = 0.0;
+        let mut top = rows;
+        while top > 0 {
+            let j0 = top.saturating_sub(ROWS);
+            self.backward(f, z, j0, top);
+            rz += dot(&r[j0 * nx..top * nx], &z[j0 * nx..top * nx]);
+            top = j0;
+        }
+        rz
+    }
+
+    /// The forward sweep over rows j0 … j0 + [`ROWS`] − 1 (those below are done):
+    /// u_k = d_k·r_k + a_(k−nx,k)·d_k·u_(k−nx) + a_(k−1,k)·d_k·u_(k−1), row j0 + q at node
+    /// s − q at step s.
+    fn forward(&self, f: &Factor, r: &[f64], z: &mut [f64], j0: usize) {
+        let nx = self.nx;
+        let group = ROWS.min(z.len() / nx - j0);
+        let base = j0 * nx;
+        let (d, ax, ay) = (&f.dinv, &self.ax, &self.ay);
+        skewed(
+            z,
+            nx,
+            group,
+            |s, q| base + q * nx + s - q,
+            |z, k| {
+                let mut v = d[k] * r[k];
+                if k >= nx {
+                    v += ay[k - nx] * d[k] * z[k - nx];
                 }
-            } else {
-                ch.t.copy_from_slice(row);
-            }
-            let e = &self.ax[o..o + nx];
-            ch.backward(|i| e[i] * di[i], &f.bg2[o..o + nx], &f.bg4[o..o + nx], row);
-        }
+                if k % nx > 0 {
+                    v += ax[k - 1] * d[k] * z[k - 1];
+                }
+                z[k] = v;
+            },
+            |z, k, south, west| {
+                let (south, a_s) = match south {
+                    Some(v) => (v, ay[k - nx]),
+                    None if j0 > 0 => (z[k - nx], ay[k - nx]),
+                    None => (0.0, 0.0),
+                };
+                d[k] * r[k] + a_s * d[k] * south + ax[k - 1] * d[k] * west
+            },
+        );
+    }
+
+    /// The backward sweep over rows j0 … top − 1 (those above are done):
+    /// z_k = u_k + d_k·a_(k,k+nx)·z_(k+nx) + d_k·a_(k,k+1)·z_(k+1), row top − 1 − q at node
+    /// nx − 1 − (s − q) at step s.
+    fn backward(&self, f: &Factor, z: &mut [f64], j0: usize, top: usize) {
+        let nx = self.nx;
+        let n = z.len();
+        let (d, ax, ay) = (&f.dinv, &self.ax, &self.ay);
+        skewed(
+            z,
+            nx,
+            top - j0,
+            |s, q| (top - 1 - q) * nx + nx - 1 - (s - q),
+            |z, k| {
+                let mut v = z[k];
+                if k + nx < n {
+                    v += d[k] * ay[k] * z[k + nx];
+                }
+                if k % nx + 1 < nx {
+                    v += d[k] * ax[k] * z[k + 1];
+                }
+                z[k] = v;
+            },
+            |z, k, north, east| {
+                let (north, a_n) = match north {
+                    Some(v) => (v, ay[k]),
+                    None if k + nx < n => (z[k + nx], ay[k]),
+                    None => (0.0, 0.0),
+                };
+                z[k] + d[k] * a_n * north + d[k] * ax[k] * east
+            },
+        );
     }
 
     /// Solves for the free potentials, starting from `guess` (full-grid potentials, or
@@ -371,33 +408,32 @@ impl System {
         let mut z = vec![0.0; n];
         // Stop on the preconditioned residual relative to the right-hand side's. From zero the
         // residual is the right-hand side (0 on held nodes), preconditioned once for both.
-        self.precondition(&f, &self.rhs, &mut z);
-        let scale = dot(&self.rhs, &z).max(f64::MIN_POSITIVE);
-        let mut r = if guess.is_some() {
-            let mut r = vec![0.0; n];
+        let mut r = self.rhs.clone();
+        let scale = self
+            .precondition(&f, &mut r, &mut z, None)
+            .max(f64::MIN_POSITIVE);
+        let mut rz = scale;
+        if guess.is_some() {
             self.apply(&x, &mut r);
             for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
                 *rk = if free { b - *rk } else { 0.0 };
             }
-            self.precondition(&f, &r, &mut z);
-            r
-        } else {
-            self.rhs.clone()
-        };
+            rz = self.precondition(&f, &mut r, &mut z, None);
+        }
         let mut p = z.clone();
-        let mut rz: f64 = dot(&r, &z);
         let mut q = vec![0.0; n];
         let mut iters = 0;
         let max_iter = 20 * (n as f64).sqrt() as usize + 200;
         while rz > rel_tol * rel_tol * scale && iters < max_iter {
-            self.apply(&p, &mut q);
-            let alpha = rz / dot(&p, &q);
-            for ((xk, rk), (pk, qk)) in x.iter_mut().zip(r.iter_mut()).zip(p.iter().zip(&q)) {
-                *xk += alpha * pk;
-                *rk -= alpha * qk;
-            }
-            self.precondition(&f, &r, &mut z);
-            let rz_new = dot(&r, &z);
+            let pq = self.apply(&p, &mut q);
+            let alpha = rz / pq;
+            let step = Step {
+                alpha,
+                x: &mut x,
+                p: &p,
+                q: &q,
+            };
+            let rz_new = self.precondition(&f, &mut r, &mut z, Some(step));
             let beta = rz_new / rz;
             rz = rz_new;
             for (pk, zk) in p.iter_mut().zip(&z) {
@@ -452,129 +488,70 @@ impl System {
     }
 }
 
+/// One triangular sweep over `group` rows on a front skewed by one node per row: row q is at
+/// node `at(s, q)` at step s, for s − q in 0…nx − 1, so each node's neighbour along its row and
+/// its neighbour in the row before it on the front were both done at the step before.
+///
+/// At the front's ends (and for fronts shorter than [`ROWS`]) `node(z, k)` computes node k
+/// from its neighbours in `z`. Inside, every row on the front, each row's value is kept from
+/// step to step and `inside(z, k, across, along)` computes node k from its neighbour along
+/// its row (kept) and the one across (kept, or `None` for the front's leading row, whose
+/// neighbour across is done and in `z`): the rows' recursions then overlap, as none waits on
+/// memory.
+fn skewed(
+    z: &mut [f64],
+    nx: usize,
+    group: usize,
+    at: impl Fn(usize, usize) -> usize,
+    node: impl Fn(&mut [f64], usize),
+    inside: impl Fn(&[f64], usize, Option<f64>, f64) -> f64,
+) {
+    let ends = |z: &mut [f64], s: usize| {
+        for q in 0..group {
+            if s >= q && s - q < nx {
+                node(z, at(s, q));
+            }
+        }
+    };
+    if group < ROWS || nx <= ROWS {
+        (0..nx + group - 1).for_each(|s| ends(z, s));
+        return;
+    }
+    (0..ROWS).for_each(|s| ends(z, s));
+    let mut last = [0.0; ROWS];
+    for (q, v) in last.iter_mut().enumerate() {
+        *v = z[at(ROWS - 1, q)];
+    }
+    for s in ROWS..nx {
+        let mut next = [0.0; ROWS];
+        next[0] = inside(z, at(s, 0), None, last[0]);
+        for q in 1..ROWS {
+            next[q] = inside(z, at(s, q), Some(last[q - 1]), last[q]);
+        }
+        for (q, v) in next.iter().enumerate() {
+            z[at(s, q)] = *v;
+        }
+        last = next;
+    }
+    (nx..nx + ROWS - 1).for_each(|s| ends(z, s));
+}
+
+/// The conjugate-gradient step x += α·p, r −= α·q, which [`System::precondition`] makes
+/// block by block just before its forward sweep reads r.
+struct Step<'a> {
+    alpha: f64,
+    x: &'a mut [f64],
+    p: &'a [f64],
+    q: &'a [f64],
+}
+
+/// Rows a triangular sweep runs together ([`System::precondition`]).
+const ROWS: usize = 4;
+
 /// The MIC(0) factor of a [`System`], as its sweeps use it ([`System::factor`]).
 struct Factor {
     /// Inverse pivots.
     dinv: Vec<f64>,
-    /// The forward sweep's doubled couplings per node ([`Chains::double_forward`]).
-    fg2: Vec<f64>,
-    fg4: Vec<f64>,
-    /// The backward sweep's ([`Chains::double_backward`]).
-    bg2: Vec<f64>,
-    bg4: Vec<f64>,
-}
-
-/// The row recursion of a triangular sweep, out_i = t_i + g_i·out_(i−1) (forward; backward
-/// from the row's end), rewritten by recursive doubling as out_i = v_i + G_i·out_(i−4): the
-/// terms v and G are vectorisable sums and products, and the four chains i mod 4 run
-/// interleaved, so the sweep is no longer held to one multiply-add's latency per node. The
-/// same arithmetic as the plain recursion up to rounding. The products of the couplings
-/// (g_i·g_(i−1) and G_i) depend on the factor alone: they are formed once per factor
-/// ([`Chains::double_forward`], [`Chains::double_backward`]), the couplings g_i themselves
-/// as each sweep goes.
-struct Chains {
-    /// The row's right-hand side t, then v.
-    t: Vec<f64>,
-    /// Scratch: t after the first doubling.
-    u: Vec<f64>,
-}
-
-impl Chains {
-    fn new(n: usize) -> Chains {
-        Chains {
-            t: vec![0.0; n],
-            u: vec![0.0; n],
-        }
-    }
-
-    /// The forward recursion's g2_i = g_i·g_(i−1) and G_i = g2_i·g2_(i−2) (0 where the
-    /// factor reaches before the row's start).
-    fn double_forward(g: &[f64], g2: &mut [f64], g4: &mut [f64]) {
-        let n = g.len();
-        g2[0] = 0.0;
-        for i in 1..n {
-            g2[i] = g[i] * g[i - 1];
-        }
-        g4[..n.min(2)].fill(0.0);
-        for i in 2..n {
-            g4[i] = g2[i] * g2[i - 2];
-        }
-    }
-
-    /// The backward recursion's g2_i = g_i·g_(i+1) and G_i = g2_i·g2_(i+2) (0 beyond the
-    /// row's end).
-    fn double_backward(g: &[f64], g2: &mut [f64], g4: &mut [f64]) {
-        let n = g.len();
-        let last = n - 1;
-        g2[last] = 0.0;
-        for i in 0..last {
-            g2[i] = g[i] * g[i + 1];
-        }
-        g4[n.saturating_sub(2)..].fill(0.0);
-        for i in 0..n.saturating_sub(2) {
-            g4[i] = g2[i] * g2[i + 2];
-        }
-    }
-
-    /// out_i = t_i + g_i·out_(i−1), out_(−1) = 0, with `g(i)` = g_i (i ≥ 1) and `g2`, `g4` its
-    /// [`Chains::double_forward`].
-    fn forward(&mut self, g: impl Fn(usize) -> f64, g2: &[f64], g4: &[f64], out: &mut [f64]) {
-        let n = out.len();
-        let (t, u) = (&mut self.t, &mut self.u);
-        u[0] = t[0];
-        for i in 1..n {
-            u[i] = t[i] + g(i) * t[i - 1];
-        }
-        t[..n.min(2)].copy_from_slice(&u[..n.min(2)]);
-        for i in 2..n {
-            t[i] = u[i] + g2[i] * u[i - 2];
-        }
-        let mut a = [0.0; 4];
-        let mut quads = out.chunks_exact_mut(4);
-        let mut k = 0;
-        for q in &mut quads {
-            for c in 0..4 {
-                a[c] = t[k + c] + g4[k + c] * a[c];
-                q[c] = a[c];
-            }
-            k += 4;
-        }
-        for (c, x) in quads.into_remainder().iter_mut().enumerate() {
-            a[c] = t[k + c] + g4[k + c] * a[c];
-            *x = a[c];
-        }
-    }
-
-    /// out_i = t_i + g_i·out_(i+1), out_n = 0, with `g(i)` = g_i (i < n − 1) and `g2`, `g4`
-    /// its [`Chains::double_backward`].
-    fn backward(&mut self, g: impl Fn(usize) -> f64, g2: &[f64], g4: &[f64], out: &mut [f64]) {
-        let n = out.len();
-        let (t, u) = (&mut self.t, &mut self.u);
-        let last = n - 1;
-        u[last] = t[last];
-        for i in 0..last {
-            u[i] = t[i] + g(i) * t[i + 1];
-        }
-        let tail = n.saturating_sub(2);
-        t[tail..].copy_from_slice(&u[tail..]);
-        for i in 0..n.saturating_sub(2) {
-            t[i] = u[i] + g2[i] * u[i + 2];
-        }
-        // Chain c holds the positions 4m + c: the tail beyond the last whole quad first.
-        let mut a = [0.0; 4];
-        let mut k = n - n % 4;
-        for c in (0..n % 4).rev() {
-            a[c] = t[k + c] + g4[k + c] * a[c];
-            out[k + c] = a[c];
-        }
-        while k >= 4 {
-            k -= 4;
-            for c in (0..4).rev() {
-                a[c] = t[k + c] + g4[k + c] * a[c];
-                out[k + c] = a[c];
-            }
-        }
-    }
 }
 
 /// Bilinear prolongation of a potential from a grid to the grid with every cell halved.
@@ -613,6 +590,15 @@ mod tests {
                 .collect(),
             state: (0..nx * ny).map(state).collect(),
         }
+    }
+
+    /// [`uneven_grid`] with a ground node and a signal node in every 17.
+    fn mixed_grid(nx: usize, ny: usize) -> Grid {
+        uneven_grid(nx, ny, |k| match (k * 5) % 17 {
+            0 => GROUND,
+            3 => SIGNAL,
+            _ => FREE,
+        })
     }
 
     /// The row-wise assembly equals, to the bit, the node-by-node loop it replaced (written
@@ -721,24 +707,23 @@ mod tests {
     }
 
     /// The preconditioner solves with its factor: for M = (D + L)·D⁻¹·(D + L)ᵀ (D the pivots,
-    /// L the strictly lower part of A), M·precondition(r) = r, on grids of 2 to 13 columns
-    /// (every remainder of the four chains, runs of free nodes longer than eight) and 2 to 6
-    /// rows with held nodes and unequal spacings and permittivities.
+    /// L the strictly lower part of A), M·precondition(r) = r, and it returns r·z, on grids of
+    /// 2 to 13 columns and 2 to 10 rows (rows shorter and longer than the skewed front, one
+    /// to two whole blocks of rows and every remainder) with held nodes and unequal spacings
+    /// and permittivities.
     #[test]
     fn the_preconditioner_inverts_its_factor() {
-        for ny in 2..=6_usize {
+        for ny in 2..=10_usize {
             for nx in 2..=13_usize {
-                let g = uneven_grid(nx, ny, |k| match (k * 5) % 17 {
-                    0 => GROUND,
-                    3 => SIGNAL,
-                    _ => FREE,
-                });
+                let g = mixed_grid(nx, ny);
                 let sys = System::new(&g, &g.eps);
                 let f = sys.factor(0.97);
                 let n = nx * ny;
-                let r: Vec<f64> = (0..n).map(|k| 1.0 + ((k * 13) % 11) as f64 * 0.3).collect();
+                let mut r: Vec<f64> = (0..n).map(|k| 1.0 + ((k * 13) % 11) as f64 * 0.3).collect();
                 let mut z = vec![0.0; n];
-                sys.precondition(&f, &r, &mut z);
+                let rz = sys.precondition(&f, &mut r, &mut z, None);
+                let want = r.iter().zip(&z).map(|(a, b)| a * b).sum::<f64>();
+                assert!((rz - want).abs() < 1e-12 * want.abs(), "{nx} × {ny}: r·z");
                 // w = D⁻¹·(D + L)ᵀ·z, then v = (D + L)·w.
                 let w: Vec<f64> = (0..n)
                     .map(|k| {
@@ -770,17 +755,48 @@ mod tests {
         }
     }
 
+    /// The step made inside the forward sweep is the step made before it: the same x, r and
+    /// z to the bit.
+    #[test]
+    fn the_step_inside_the_sweep_matches_the_step_before_it() {
+        for (nx, ny) in [(3, 2), (7, 9), (13, 10)] {
+            let g = mixed_grid(nx, ny);
+            let sys = System::new(&g, &g.eps);
+            let f = sys.factor(0.97);
+            let n = nx * ny;
+            let v = |m: usize, s: f64| -> Vec<f64> {
+                (0..n).map(|k| s + ((k * m) % 7) as f64 * 0.1).collect()
+            };
+            let (p, q, alpha) = (v(3, 0.5), v(5, -0.2), 0.37);
+            let (mut x1, mut r1, mut z1) = (v(2, 1.0), v(11, 2.0), vec![0.0; n]);
+            let (mut x2, mut r2, mut z2) = (x1.clone(), r1.clone(), vec![0.0; n]);
+            let step = Step {
+                alpha,
+                x: &mut x1,
+                p: &p,
+                q: &q,
+            };
+            let rz1 = sys.precondition(&f, &mut r1, &mut z1, Some(step));
+            for k in 0..n {
+                x2[k] += alpha * p[k];
+                r2[k] -= alpha * q[k];
+            }
+            let rz2 = sys.precondition(&f, &mut r2, &mut z2, None);
+            let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+            assert_eq!(bits(&x1), bits(&x2), "{nx} × {ny}: x");
+            assert_eq!(bits(&r1), bits(&r2), "{nx} × {ny}: r");
+            assert_eq!(bits(&z1), bits(&z2), "{nx} × {ny}: z");
+            assert_eq!(rz1.to_bits(), rz2.to_bits(), "{nx} × {ny}: r·z");
+        }
+    }
+
     /// A solve from zero (its right-hand side preconditioned once, as the first residual too)
     /// gives the same bits and iterations as a solve from a guess of zeros (which forms the
     /// residual b − A·0 and preconditions it apart).
     #[test]
     fn a_solve_from_zero_matches_a_zero_guess() {
         for (nx, ny) in [(5, 4), (9, 7), (13, 6)] {
-            let g = uneven_grid(nx, ny, |k| match (k * 5) % 17 {
-                0 => GROUND,
-                3 => SIGNAL,
-                _ => FREE,
-            });
+            let g = mixed_grid(nx, ny);
             let sys = System::new(&g, &g.eps);
             let zeros = vec![0.0; nx * ny];
             let (a, ia, ca) = sys.solve(None, 1e-9);
@@ -791,43 +807,8 @@ mod tests {
         }
     }
 
-    /// The doubled chains against the plain recursion they replace, every row length from 1
-    /// to 11 (all remainders of the four chains), both directions.
     #[test]
-    fn chains_match_the_plain_recursion() {
-        for n in 1..12 {
-            let t: Vec<f64> = (0..n).map(|i| 1.0 + 0.37 * i as f64).collect();
-            let g: Vec<f64> = (0..n).map(|i| 0.1 + 0.05 * ((i * 7) % 5) as f64).collect();
-            let mut ch = Chains::new(n);
-            let (mut g2, mut g4) = (vec![0.0; n], vec![0.0; n]);
-            ch.t.copy_from_slice(&t);
-            let mut out = vec![0.0; n];
-            let mut gf = g.clone();
-            gf[0] = 0.0;
-            Chains::double_forward(&gf, &mut g2, &mut g4);
-            ch.forward(|i| gf[i], &g2, &g4, &mut out);
-            let mut prev = 0.0;
-            for i in 0..n {
-                prev = t[i] + gf[i] * prev;
-                assert!(
-                    (out[i] - prev).abs() < 1e-12 * prev.abs(),
-                    "forward n={n} i={i}"
-                );
-            }
-            ch.t.copy_from_slice(&t);
-            let mut gb = g.clone();
-            gb[n - 1] = 0.0;
-            Chains::double_backward(&gb, &mut g2, &mut g4);
-            ch.backward(|i| gb[i], &g2, &g4, &mut out);
-            let mut next = 0.0;
-            for i in (0..n).rev() {
-                next = t[i] + gb[i] * next;
-                assert!(
-                    (out[i] - next).abs() < 1e-12 * next.abs(),
-                    "backward n={n} i={i}"
-                );
-            }
-        }
+    fn dot_sums_every_remainder() {
         assert_eq!(dot(&[1.0, 2.0, 3.0, 4.0, 5.0], &[1.0; 5]), 15.0);
     }
 }
