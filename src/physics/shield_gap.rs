@@ -107,6 +107,8 @@ pub struct GapCurrent {
 
 /// One integration cell of a plate.
 struct Cell {
+    /// The plate it is cut from.
+    plate: usize,
     z: f64,
     d0: f64,
     d1: f64,
@@ -271,6 +273,20 @@ pub fn solve(
     gap: f64,
     mesh: GapMesh,
 ) -> Option<GapCurrent> {
+    solve_with(r, plates, sc, wf, gap, mesh, true)
+}
+
+/// [`solve`]; with `share`, the blocks of plate pairs cut alike are copied, not integrated
+/// again (the same bits: the test compares).
+fn solve_with(
+    r: f64,
+    plates: &[Plate],
+    sc: &ShieldCurrent,
+    wf: f64,
+    gap: f64,
+    mesh: GapMesh,
+    share: bool,
+) -> Option<GapCurrent> {
     if plates.is_empty()
         || sc.ribbons.len() != plates.len() * sc.per_plate
         || !(wf > 0.0 && r > 0.0 && gap > 0.0)
@@ -314,6 +330,7 @@ pub fn solve(
                 let c1 = x0 + h * (s + 1) as f64 / mesh.cells as f64;
                 let mid = 0.5 * (c0 + c1);
                 cells.push(Cell {
+                    plate: pi,
                     z: p.z,
                     d0: c0,
                     d1: c1,
@@ -325,6 +342,32 @@ pub fn solve(
             }
         }
     }
+    // Two plates cut alike (the same edges) at the same distance across the board as an earlier
+    // pair (every plate with itself, among them) have the same block of the matrices, node for
+    // node: it is copied, not integrated again. `copy[P·n + Q]` (P ≤ Q) names that pair.
+    let np = plates.len();
+    let pair_key = |a: usize, b: usize| {
+        let (pa, pb) = (&plates[a], &plates[b]);
+        [
+            pa.d0.to_bits(),
+            pa.d1.to_bits(),
+            pb.d0.to_bits(),
+            pb.d1.to_bits(),
+            (pa.z - pb.z).abs().to_bits(),
+        ]
+    };
+    let mut copy: Vec<Option<(usize, usize)>> = vec![None; np * np];
+    for a in 0..np {
+        for b in a..np {
+            copy[a * np + b] = (0..=a)
+                .flat_map(|a0| (a0..np).map(move |b0| (a0, b0)))
+                .take_while(|&pair| pair != (a, b))
+                .find(|&(a0, b0)| {
+                    share && copy[a0 * np + b0].is_none() && pair_key(a0, b0) == pair_key(a, b)
+                });
+        }
+    }
+    let copied = |a: &Cell, b: &Cell| copy[a.plate * np + b.plate].is_some();
     let nm = mesh.modes;
     // Every mode's matrix element side by side (element-major: a cell pair's contributions
     // to one element, mode by mode, are contiguous), then taken apart mode by mode.
@@ -341,7 +384,7 @@ pub fn solve(
     let centre = |c: &Cell| r + 0.5 * (c.d0 + c.d1);
     for (ci, a) in cells.iter().enumerate() {
         pairs.clear();
-        for b in &cells[ci..] {
+        for b in cells[ci..].iter().filter(|b| !copied(a, b)) {
             let (ra, rb, dz) = (centre(a), centre(b), a.z - b.z);
             if (ra - rb).powi(2) + dz * dz != 0.0 {
                 pairs.push((ra, rb, dz));
@@ -349,7 +392,7 @@ pub fn solve(
         }
         toroidal_batch(&pairs, nm + 1, &mut qs);
         let mut next = 0;
-        for b in &cells[ci..] {
+        for b in cells[ci..].iter().filter(|b| !copied(a, b)) {
             let same = std::ptr::eq(a, b);
             let (ra, rb) = (centre(a), centre(b));
             let dz = a.z - b.z;
@@ -406,6 +449,26 @@ pub fn solve(
                         }
                     }
                 }
+            }
+        }
+    }
+    for (a, b) in (0..np).flat_map(|a| (a..np).map(move |b| (a, b))) {
+        let Some((a0, b0)) = copy[a * np + b] else {
+            continue;
+        };
+        for (k, u) in index[a].iter().enumerate() {
+            for (l, v) in index[b].iter().enumerate() {
+                let (Some(u), Some(v), Some(u0), Some(v0)) = (u, v, index[a0][k], index[b0][l])
+                else {
+                    continue;
+                };
+                // The lower triangle only (a plate with itself: each node pair once).
+                if a == b && u < v {
+                    continue;
+                }
+                let at = |i: usize, j: usize| (i.max(j) * nu + i.min(j)) * modes;
+                let (to, from) = (at(*u, *v), at(u0, v0));
+                k_all.copy_within(from..from + modes, to);
             }
         }
     }
@@ -516,6 +579,47 @@ mod tests {
     /// of every size up to 40 (a diagonally dominant one and a Hilbert-like one, whose inverse
     /// has entries of mixed sign and size), and a matrix that is not positive definite is
     /// refused.
+    /// Copying the blocks of plates cut alike gives the same bits as integrating them: the
+    /// demo's shield (three whole plates, one split around the trace) and an offset one.
+    #[test]
+    fn shared_blocks_are_the_integrated_ones() {
+        let whole = |z: f64| Plate {
+            z,
+            d0: -1.1e-3,
+            d1: 1.1e-3,
+        };
+        let plates = [
+            whole(7.775e-4),
+            whole(5.4125e-4),
+            Plate {
+                z: -5.4125e-4,
+                d0: -1.1e-3,
+                d1: -3.1e-4,
+            },
+            Plate {
+                z: -5.4125e-4,
+                d0: 3.1e-4,
+                d1: 1.1e-3,
+            },
+            whole(-7.775e-4),
+            whole(-1.0e-3),
+        ];
+        let mesh = GapMesh {
+            elements: 8,
+            cells: 2,
+            modes: 24,
+            angles: 16,
+        };
+        let r = 2.5e-3;
+        let sc = super::super::shield::solve_round(r, &plates, 6).expect("solved");
+        let a = solve_with(r, &plates, &sc, 0.6e-3, 0.4e-3, mesh, true).expect("shared");
+        let b = solve_with(r, &plates, &sc, 0.6e-3, 0.4e-3, mesh, false).expect("integrated");
+        assert_eq!(a.dl_outer.to_bits(), b.dl_outer.to_bits());
+        assert_eq!(a.d_area.to_bits(), b.d_area.to_bits());
+        assert_eq!(a.points, b.points);
+        assert!(a.dl_outer > 0.0 && a.d_area.abs() > 0.0);
+    }
+
     #[test]
     fn spd_inverse_inverts() {
         for n in 1..=40 {
