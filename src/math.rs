@@ -185,6 +185,17 @@ pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
 mod tests {
     use super::*;
 
+    /// The four lanes and the remainder: every length from 0 to 9, on integers (exact sums).
+    #[test]
+    fn dot_sums_every_element() {
+        for n in 0..10_usize {
+            let a: Vec<f64> = (0..n).map(|i| (i + 1) as f64).collect();
+            let b: Vec<f64> = (0..n).map(|i| (2 * i + 1) as f64).collect();
+            let want: f64 = (0..n).map(|i| ((i + 1) * (2 * i + 1)) as f64).sum();
+            assert_eq!(dot(&a, &b), want, "length {n}");
+        }
+    }
+
     #[test]
     fn formats() {
         assert_eq!(sig_fig(49.8612, 4), "49.86");

@@ -250,7 +250,6 @@ impl System {
             };
             1.0 / d
         };
-        const ROWS: usize = 4;
         for j0 in (0..rows).step_by(ROWS) {
             let group = ROWS.min(rows - j0);
             // Row j0 + r is at node s − r: its west neighbour was done at step s − 1, and so
@@ -320,9 +319,9 @@ impl System {
         rz
     }
 
-    /// The forward sweep over rows j0 … j0 + [`ROWS`] − 1 (those below are done):
-    /// u_k = d_k·r_k + a_(k−nx,k)·d_k·u_(k−nx) + a_(k−1,k)·d_k·u_(k−1), row j0 + q at node
-    /// s − q at step s.
+    /// The forward sweep over rows j0 … j0 + [`ROWS`] − 1 (or fewer at the top; those below
+    /// are done): u_k = e_k·r_k + a_(k−nx,k)·e_k·u_(k−nx) + a_(k−1,k)·e_k·u_(k−1), e_k the
+    /// inverse pivot (`dinv`), row j0 + q at node s − q at step s.
     fn forward(&self, f: &Factor, r: &[f64], z: &mut [f64], j0: usize) {
         let nx = self.nx;
         let group = ROWS.min(z.len() / nx - j0);
@@ -355,8 +354,8 @@ impl System {
     }
 
     /// The backward sweep over rows j0 … top − 1 (those above are done):
-    /// z_k = u_k + d_k·a_(k,k+nx)·z_(k+nx) + d_k·a_(k,k+1)·z_(k+1), row top − 1 − q at node
-    /// nx − 1 − (s − q) at step s.
+    /// z_k = u_k + e_k·a_(k,k+nx)·z_(k+nx) + e_k·a_(k,k+1)·z_(k+1), e_k the inverse pivot,
+    /// row top − 1 − q at node nx − 1 − (s − q) at step s.
     fn backward(&self, f: &Factor, z: &mut [f64], j0: usize, top: usize) {
         let nx = self.nx;
         let n = z.len();
@@ -409,10 +408,8 @@ impl System {
         // Stop on the preconditioned residual relative to the right-hand side's. From zero the
         // residual is the right-hand side (0 on held nodes), preconditioned once for both.
         let mut r = self.rhs.clone();
-        let scale = self
-            .precondition(&f, &mut r, &mut z, None)
-            .max(f64::MIN_POSITIVE);
-        let mut rz = scale;
+        let mut rz = self.precondition(&f, &mut r, &mut z, None);
+        let scale = rz.max(f64::MIN_POSITIVE);
         if guess.is_some() {
             self.apply(&x, &mut r);
             for ((rk, &free), &b) in r.iter_mut().zip(&self.free).zip(&self.rhs) {
@@ -492,7 +489,8 @@ impl System {
 /// node `at(s, q)` at step s, for s − q in 0…nx − 1, so each node's neighbour along its row and
 /// its neighbour in the row before it on the front were both done at the step before.
 ///
-/// At the front's ends (and for fronts shorter than [`ROWS`]) `node(z, k)` computes node k
+/// At the front's ends (and throughout for fewer than [`ROWS`] rows, or rows of at most
+/// [`ROWS`] nodes) `node(z, k)` computes node k
 /// from its neighbours in `z`. Inside, every row on the front, each row's value is kept from
 /// step to step and `inside(z, k, across, along)` computes node k from its neighbour along
 /// its row (kept) and the one across (kept, or `None` for the front's leading row, whose
@@ -807,8 +805,22 @@ mod tests {
         }
     }
 
+    /// No signal node: the right-hand side is zero, and so is the solution, reached without an
+    /// iteration, from zero or from a guess of zeros.
     #[test]
-    fn dot_sums_every_remainder() {
-        assert_eq!(dot(&[1.0, 2.0, 3.0, 4.0, 5.0], &[1.0; 5]), 15.0);
+    fn nothing_driven_solves_to_zero() {
+        for (nx, ny) in [(5, 4), (9, 7)] {
+            let g = uneven_grid(nx, ny, |k| if k % 7 == 0 { GROUND } else { FREE });
+            let sys = System::new(&g, &g.eps);
+            let zeros = vec![0.0; nx * ny];
+            for guess in [None, Some(&zeros[..])] {
+                let (x, it, ok) = sys.solve(guess, 1e-9);
+                assert!(
+                    ok && it == 0,
+                    "{nx} × {ny}: {it} iterations, converged {ok}"
+                );
+                assert!(x.iter().all(|&v| v == 0.0), "{nx} × {ny}: {x:?}");
+            }
+        }
     }
 }

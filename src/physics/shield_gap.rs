@@ -359,11 +359,17 @@ fn solve_with(
     let mut copy: Vec<Option<(usize, usize)>> = vec![None; np * np];
     for a in 0..np {
         for b in a..np {
+            let key = pair_key(a, b);
+            // A plate's block with itself is gathered on its lower triangle only: it is never
+            // the source of a block between two plates, nor the reverse.
             copy[a * np + b] = (0..=a)
                 .flat_map(|a0| (a0..np).map(move |b0| (a0, b0)))
                 .take_while(|&pair| pair != (a, b))
                 .find(|&(a0, b0)| {
-                    share && copy[a0 * np + b0].is_none() && pair_key(a0, b0) == pair_key(a, b)
+                    share
+                        && copy[a0 * np + b0].is_none()
+                        && (a0 == b0) == (a == b)
+                        && pair_key(a0, b0) == key
                 });
         }
     }
@@ -575,34 +581,29 @@ fn solve_with(
 mod tests {
     use super::*;
 
-    /// The inverse times the matrix is the identity, on symmetric positive-definite matrices
-    /// of every size up to 40 (a diagonally dominant one and a Hilbert-like one, whose inverse
-    /// has entries of mixed sign and size), and a matrix that is not positive definite is
-    /// refused.
-    /// Copying the blocks of plates cut alike gives the same bits as integrating them: the
-    /// demo's shield (three whole plates, one split around the trace) and an offset one.
+    /// Copying the blocks of plates cut alike gives the same results, to the bit, as
+    /// integrating them: the demo's shield (three whole plates, one split around the trace:
+    /// blocks of plates with themselves copied) with an offset plate, and two shields of whole
+    /// and narrow plates whose pairs repeat at the same distance (blocks between plates copied,
+    /// one of them from a pair the other way up).
     #[test]
     fn shared_blocks_are_the_integrated_ones() {
-        let whole = |z: f64| Plate {
-            z,
-            d0: -1.1e-3,
-            d1: 1.1e-3,
-        };
-        let plates = [
-            whole(7.775e-4),
-            whole(5.4125e-4),
-            Plate {
-                z: -5.4125e-4,
-                d0: -1.1e-3,
-                d1: -3.1e-4,
-            },
-            Plate {
-                z: -5.4125e-4,
-                d0: 3.1e-4,
-                d1: 1.1e-3,
-            },
-            whole(-7.775e-4),
-            whole(-1.0e-3),
+        let plate = |z: f64, d0: f64, d1: f64| Plate { z, d0, d1 };
+        let whole = |z: f64| plate(z, -1.1e-3, 1.1e-3);
+        let narrow = |z: f64| plate(z, -0.6e-3, 0.6e-3);
+        // A power of two, so that the distances between plates repeat exactly.
+        let h = 2f64.powi(-12);
+        let shields = [
+            vec![
+                whole(7.775e-4),
+                whole(5.4125e-4),
+                plate(-5.4125e-4, -1.1e-3, -3.1e-4),
+                plate(-5.4125e-4, 3.1e-4, 1.1e-3),
+                whole(-7.775e-4),
+                whole(-1.0e-3),
+            ],
+            vec![whole(3.0 * h), narrow(2.0 * h), whole(-h), narrow(-2.0 * h)],
+            vec![whole(0.0), narrow(h), whole(3.0 * h), narrow(2.0 * h)],
         ];
         let mesh = GapMesh {
             elements: 8,
@@ -611,15 +612,21 @@ mod tests {
             angles: 16,
         };
         let r = 2.5e-3;
-        let sc = super::super::shield::solve_round(r, &plates, 6).expect("solved");
-        let a = solve_with(r, &plates, &sc, 0.6e-3, 0.4e-3, mesh, true).expect("shared");
-        let b = solve_with(r, &plates, &sc, 0.6e-3, 0.4e-3, mesh, false).expect("integrated");
-        assert_eq!(a.dl_outer.to_bits(), b.dl_outer.to_bits());
-        assert_eq!(a.d_area.to_bits(), b.d_area.to_bits());
-        assert_eq!(a.points, b.points);
-        assert!(a.dl_outer > 0.0 && a.d_area.abs() > 0.0);
+        for plates in &shields {
+            let sc = super::super::shield::solve_round(r, plates, 6).expect("solved");
+            let a = solve_with(r, plates, &sc, 0.6e-3, 0.4e-3, mesh, true).expect("shared");
+            let b = solve_with(r, plates, &sc, 0.6e-3, 0.4e-3, mesh, false).expect("integrated");
+            assert_eq!(a.dl_outer.to_bits(), b.dl_outer.to_bits());
+            assert_eq!(a.d_area.to_bits(), b.d_area.to_bits());
+            assert_eq!(a.points, b.points);
+            assert!(a.dl_outer > 0.0 && a.d_area.abs() > 0.0);
+        }
     }
 
+    /// The inverse times the matrix is the identity, on symmetric positive-definite matrices
+    /// of every size up to 40 (a diagonally dominant one and a Hilbert-like one, whose inverse
+    /// has entries of mixed sign and size), and a matrix that is not positive definite is
+    /// refused.
     #[test]
     fn spd_inverse_inverts() {
         for n in 1..=40 {
