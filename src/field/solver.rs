@@ -332,12 +332,12 @@ impl System {
             nx,
             group,
             |s, q| base + q * nx + s - q,
-            |z, k| {
+            |z, k, first| {
                 let mut v = d[k] * r[k];
                 if k >= nx {
                     v += ay[k - nx] * d[k] * z[k - nx];
                 }
-                if k % nx > 0 {
+                if !first {
                     v += ax[k - 1] * d[k] * z[k - 1];
                 }
                 z[k] = v;
@@ -365,12 +365,12 @@ impl System {
             nx,
             top - j0,
             |s, q| (top - 1 - q) * nx + nx - 1 - (s - q),
-            |z, k| {
+            |z, k, first| {
                 let mut v = z[k];
                 if k + nx < n {
                     v += d[k] * ay[k] * z[k + nx];
                 }
-                if k % nx + 1 < nx {
+                if !first {
                     v += d[k] * ax[k] * z[k + 1];
                 }
                 z[k] = v;
@@ -490,8 +490,8 @@ impl System {
 /// its neighbour in the row before it on the front were both done at the step before.
 ///
 /// At the front's ends (and throughout for fewer than [`ROWS`] rows, or rows of at most
-/// [`ROWS`] nodes) `node(z, k)` computes node k
-/// from its neighbours in `z`. Inside, every row on the front, each row's value is kept from
+/// [`ROWS`] nodes) `node(z, k, first)` computes node k from its neighbours in `z` (`first`: k
+/// is its row's first node in the sweep's direction, with no neighbour along it). Inside, every row on the front, each row's value is kept from
 /// step to step and `inside(z, k, across, along)` computes node k from its neighbour along
 /// its row (kept) and the one across (kept, or `None` for the front's leading row, whose
 /// neighbour across is done and in `z`): the rows' recursions then overlap, as none waits on
@@ -501,13 +501,13 @@ fn skewed(
     nx: usize,
     group: usize,
     at: impl Fn(usize, usize) -> usize,
-    node: impl Fn(&mut [f64], usize),
+    node: impl Fn(&mut [f64], usize, bool),
     inside: impl Fn(&[f64], usize, Option<f64>, f64) -> f64,
 ) {
     let ends = |z: &mut [f64], s: usize| {
         for q in 0..group {
             if s >= q && s - q < nx {
-                node(z, at(s, q));
+                node(z, at(s, q), s == q);
             }
         }
     };
