@@ -375,8 +375,8 @@ pub struct ChargeColumn {
 /// capacitance [`solve`] extrapolates from both meshes (to the solver's stopping tolerance, and
 /// to the few parts in a million by which [`solve`]'s larger cells at far corners move it: these
 /// meshes keep every corner's smallest cell; the scale differs from 1 by the finer mesh's own
-/// error; a grounded shield boundary's walls carry a share no conductor reports), so their sum is the conductor's share of the line's
-/// capacitance. For an electrode set into that ground, its charge is this density integrated
+/// error; a grounded shield boundary's walls carry a share no conductor reports), so their sum
+/// is the conductor's share of the line's capacitance. For an electrode set into that ground, its charge is this density integrated
 /// over its face.
 pub fn ground_charge(
     cs: &CrossSection,
