@@ -4,8 +4,6 @@
 use crate::artwork::{Artwork, CopperLayer, Flash, Shape};
 use geo::MultiPolygon;
 use kurbo::Point;
-use svg::Document;
-use svg::node::element::{Circle, Group, Path, Rectangle, Text};
 
 /// Colours of copper layers, top first (our own palette).
 const COPPER_COLOURS: [&str; 6] = [
@@ -52,99 +50,252 @@ fn push_num(out: &mut String, v: f64) {
     }
 }
 
-/// A path's moves and lines through `pts` (y flipped), never closed.
-fn points_d(pts: &[Point]) -> String {
-    let mut d = String::with_capacity(16 * pts.len());
-    for (i, p) in pts.iter().enumerate() {
-        d.push_str(if i == 0 { "M" } else { "L" });
-        push_num(&mut d, p.x);
-        d.push(' ');
-        push_num(&mut d, -p.y);
-        d.push(' ');
-    }
-    d
+/// An SVG document written straight to text. The layout is the `svg` crate's (which the
+/// previews were built with before, and `plot`/`report` still are): attributes in name order,
+/// every element on a line of its own, an element without children self-closed, attribute values
+/// and text escaped. The previews hold a few million coordinates; building the crate's tree of
+/// elements (each attribute a map entry, each value a string escaped by five passes) and then
+/// printing it cost more than all the geometry behind them, so these files skip the tree.
+struct Doc {
+    out: String,
+    /// The open elements: name, and whether a child has been written yet.
+    open: Vec<(&'static str, bool)>,
 }
 
-fn ring_d(pts: &[Point]) -> String {
-    let mut d = points_d(pts);
-    // A closed ring (first point = last) is closed; an open path (a panel's routed edge
-    // broken at its tabs) is not.
-    if pts.len() > 2 && pts.first() == pts.last() {
-        d.push('Z');
-    }
-    d
+/// An attribute's value: text (escaped) or a number as [`f`] writes it.
+enum Val<'a> {
+    Str(&'a str),
+    Num(f64),
 }
 
-fn regions_path(m: &MultiPolygon<f64>, colour: &str, opacity: f64) -> Path {
-    let mut d = String::new();
-    for poly in &m.0 {
-        let ring = |ls: &geo::LineString<f64>| -> Vec<Point> {
-            ls.coords().map(|c| Point::new(c.x, c.y)).collect()
-        };
-        d.push_str(&ring_d(&ring(poly.exterior())));
-        for h in poly.interiors() {
-            d.push_str(&ring_d(&ring(h)));
+impl Doc {
+    fn new() -> Doc {
+        Doc {
+            out: String::with_capacity(1 << 16),
+            open: Vec::new(),
         }
     }
-    Path::new()
-        .set("d", d)
-        .set("fill", colour)
-        .set("fill-opacity", opacity)
-        .set("fill-rule", "evenodd")
+
+    /// Before a child of the innermost open element: closes its start tag at its first child,
+    /// then a line break.
+    fn child(&mut self) {
+        if let Some((_, has)) = self.open.last_mut() {
+            if !*has {
+                self.out.push('>');
+                *has = true;
+            }
+            self.out.push('\n');
+        }
+    }
+
+    /// Opens an element; `attrs` in name order, as the crate sorts them.
+    fn begin(&mut self, name: &'static str, attrs: &[(&str, Val)]) {
+        debug_assert!(
+            attrs.windows(2).all(|w| w[0].0 < w[1].0),
+            "{name}: names in order"
+        );
+        self.child();
+        self.out.push('<');
+        self.out.push_str(name);
+        self.attrs(attrs);
+        self.open.push((name, false));
+    }
+
+    fn attr_start(&mut self, name: &str) {
+        self.out.push(' ');
+        self.out.push_str(name);
+        self.out.push_str("=\"");
+    }
+
+    fn attrs(&mut self, attrs: &[(&str, Val)]) {
+        for (k, v) in attrs {
+            self.attr_start(k);
+            match v {
+                Val::Str(s) => escape_into(&mut self.out, s, true),
+                Val::Num(x) => push_num(&mut self.out, *x),
+            }
+            self.out.push('"');
+        }
+    }
+
+    /// Opens a `path` whose `d` attribute `d` writes (after the names that sort before it: none
+    /// of the previews' paths has one), then its other attributes.
+    fn path(&mut self, d: impl FnOnce(&mut String), rest: &[(&str, Val)]) {
+        debug_assert!(rest.iter().all(|(k, _)| *k > "d"));
+        self.child();
+        self.out.push_str("<path");
+        self.attr_start("d");
+        d(&mut self.out);
+        self.out.push('"');
+        self.attrs(rest);
+        self.open.push(("path", false));
+        self.end();
+    }
+
+    /// Closes the innermost open element.
+    fn end(&mut self) {
+        if let Some((name, has)) = self.open.pop() {
+            if has {
+                self.out.push_str("\n</");
+                self.out.push_str(name);
+                self.out.push('>');
+            } else {
+                self.out.push_str("/>");
+            }
+        }
+    }
+
+    /// An element without children.
+    fn leaf(&mut self, name: &'static str, attrs: &[(&str, Val)]) {
+        self.begin(name, attrs);
+        self.end();
+    }
+
+    /// A text node, escaped.
+    fn text(&mut self, s: &str) {
+        self.child();
+        escape_into(&mut self.out, s, false);
+    }
+
+    fn finish(mut self) -> String {
+        while !self.open.is_empty() {
+            self.end();
+        }
+        self.out
+    }
 }
 
-fn flash_node(fl: &Flash, colour: &str, opacity: f64) -> Group {
-    let g = Group::new();
+/// Appends `s` escaped as the `svg` crate escapes text (`&`, `<`, `>`) and, for attribute
+/// values (`attr`), also `"` and `'`.
+fn escape_into(out: &mut String, s: &str, attr: bool) {
+    for c in s.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' if attr => out.push_str("&quot;"),
+            '\'' if attr => out.push_str("&apos;"),
+            _ => out.push(c),
+        }
+    }
+}
+
+/// Appends a path's moves and lines through `pts` (y flipped), and a close when the ring is
+/// closed (first point = last; a panel's routed edge broken at its tabs is not).
+fn push_ring(d: &mut String, pts: impl ExactSizeIterator<Item = (f64, f64)> + Clone) {
+    let n = pts.len();
+    let (mut first, mut last) = (None, None);
+    for (i, (x, y)) in pts.enumerate() {
+        d.push(if i == 0 { 'M' } else { 'L' });
+        push_num(d, x);
+        d.push(' ');
+        push_num(d, -y);
+        d.push(' ');
+        if i == 0 {
+            first = Some((x, y));
+        }
+        last = Some((x, y));
+    }
+    if n > 2 && first == last {
+        d.push('Z');
+    }
+}
+
+fn points(pts: &[Point]) -> impl ExactSizeIterator<Item = (f64, f64)> + Clone + '_ {
+    pts.iter().map(|p| (p.x, p.y))
+}
+
+fn coords(ls: &geo::LineString<f64>) -> impl ExactSizeIterator<Item = (f64, f64)> + Clone + '_ {
+    ls.0.iter().map(|c| (c.x, c.y))
+}
+
+fn regions_path(doc: &mut Doc, m: &MultiPolygon<f64>, colour: &str, opacity: f64) {
+    doc.path(
+        |d| {
+            for poly in &m.0 {
+                push_ring(d, coords(poly.exterior()));
+                for h in poly.interiors() {
+                    push_ring(d, coords(h));
+                }
+            }
+        },
+        &[
+            ("fill", Val::Str(colour)),
+            ("fill-opacity", Val::Num(opacity)),
+            ("fill-rule", Val::Str("evenodd")),
+        ],
+    );
+}
+
+/// A flash, in a group of its own (as the previews have always had it).
+fn flash_node(doc: &mut Doc, fl: &Flash, colour: &str, opacity: f64) {
+    doc.begin("g", &[]);
     match fl.shape {
-        Shape::Circle(d) => g.add(
-            Circle::new()
-                .set("cx", f(fl.at.x))
-                .set("cy", f(-fl.at.y))
-                .set("r", f(d / 2.0))
-                .set("fill", colour)
-                .set("fill-opacity", opacity),
+        Shape::Circle(d) => doc.leaf(
+            "circle",
+            &[
+                ("cx", Val::Num(fl.at.x)),
+                ("cy", Val::Num(-fl.at.y)),
+                ("fill", Val::Str(colour)),
+                ("fill-opacity", Val::Num(opacity)),
+                ("r", Val::Num(d / 2.0)),
+            ],
         ),
-        Shape::Rect(w, h) => g.add(
-            Rectangle::new()
-                .set("x", f(fl.at.x - w / 2.0))
-                .set("y", f(-fl.at.y - h / 2.0))
-                .set("width", f(w))
-                .set("height", f(h))
-                .set("fill", colour)
-                .set("fill-opacity", opacity),
+        Shape::Rect(w, h) => doc.leaf(
+            "rect",
+            &[
+                ("fill", Val::Str(colour)),
+                ("fill-opacity", Val::Num(opacity)),
+                ("height", Val::Num(h)),
+                ("width", Val::Num(w)),
+                ("x", Val::Num(fl.at.x - w / 2.0)),
+                ("y", Val::Num(-fl.at.y - h / 2.0)),
+            ],
         ),
     }
+    doc.end();
 }
 
-fn copper_group(l: &CopperLayer, opacity: f64) -> Group {
+fn copper_group(doc: &mut Doc, l: &CopperLayer, opacity: f64) {
     let colour = COPPER_COLOURS[(l.n - 1) % COPPER_COLOURS.len()];
-    let mut g = Group::new()
-        .set("id", format!("copper-L{}", l.n))
-        .add(regions_path(&l.regions, colour, opacity));
+    let id = format!("copper-L{}", l.n);
+    doc.begin("g", &[("id", Val::Str(&id))]);
+    regions_path(doc, &l.regions, colour, opacity);
     for fl in &l.flashes {
-        g = g.add(flash_node(fl, colour, opacity));
+        flash_node(doc, fl, colour, opacity);
     }
-    g
+    doc.end();
 }
 
-fn strokes_group(strokes: &[Vec<Point>], width: f64, colour: &str, id: &str) -> Group {
-    let mut g = Group::new().set("id", id);
+fn strokes_group(doc: &mut Doc, strokes: &[Vec<Point>], width: f64, colour: &str, id: &str) {
+    doc.begin("g", &[("id", Val::Str(id))]);
     for s in strokes {
-        let d = points_d(s);
-        g = g.add(
-            Path::new()
-                .set("d", d)
-                .set("fill", "none")
-                .set("stroke", colour)
-                .set("stroke-width", f(width))
-                .set("stroke-linecap", "round")
-                .set("stroke-linejoin", "round"),
+        // An open stroke: never closed, even when it ends where it began.
+        doc.path(
+            |d| {
+                for (i, p) in s.iter().enumerate() {
+                    d.push(if i == 0 { 'M' } else { 'L' });
+                    push_num(d, p.x);
+                    d.push(' ');
+                    push_num(d, -p.y);
+                    d.push(' ');
+                }
+            },
+            &[
+                ("fill", Val::Str("none")),
+                ("stroke", Val::Str(colour)),
+                ("stroke-linecap", Val::Str("round")),
+                ("stroke-linejoin", Val::Str("round")),
+                ("stroke-width", Val::Num(width)),
+            ],
         );
     }
-    g
+    doc.end();
 }
 
-fn frame(art: &Artwork, extra_bottom: f64) -> (Document, f64, f64, f64, f64) {
+/// The document's frame: the `svg` element (left open) and its background; the view box
+/// (x, y, width, height).
+fn frame(doc: &mut Doc, art: &Artwork, extra_bottom: f64) -> (f64, f64, f64, f64) {
     let (mut x0, mut y0, mut x1, mut y1) = (f64::MAX, f64::MAX, f64::MIN, f64::MIN);
     for p in art.profile.iter().flatten() {
         x0 = x0.min(p.x);
@@ -161,62 +312,72 @@ fn frame(art: &Artwork, extra_bottom: f64) -> (Document, f64, f64, f64, f64) {
     };
     let cx = 0.5 * (x0 + x1);
     let (vx, vy, vw, vh) = (cx - w / 2.0, y0 - m, w, y1 - y0 + 2.0 * m + extra_bottom);
-    let doc = Document::new()
-        .set(
-            "viewBox",
-            format!("{} {} {} {}", f(vx), f(vy), f(vw), f(vh)),
-        )
-        .set("width", format!("{}mm", f(vw)))
-        .set("height", format!("{}mm", f(vh)))
-        .add(
-            Rectangle::new()
-                .set("x", f(vx))
-                .set("y", f(vy))
-                .set("width", f(vw))
-                .set("height", f(vh))
-                .set("fill", "#1d2b24"),
-        );
-    (doc, vx, vy, vw, vh)
+    let view_box = format!("{} {} {} {}", f(vx), f(vy), f(vw), f(vh));
+    let (width, height) = (format!("{}mm", f(vw)), format!("{}mm", f(vh)));
+    doc.begin(
+        "svg",
+        &[
+            ("height", Val::Str(&height)),
+            ("viewBox", Val::Str(&view_box)),
+            ("width", Val::Str(&width)),
+            ("xmlns", Val::Str("http://www.w3.org/2000/svg")),
+        ],
+    );
+    doc.leaf(
+        "rect",
+        &[
+            ("fill", Val::Str("#1d2b24")),
+            ("height", Val::Num(vh)),
+            ("width", Val::Num(vw)),
+            ("x", Val::Num(vx)),
+            ("y", Val::Num(vy)),
+        ],
+    );
+    (vx, vy, vw, vh)
 }
 
-fn outline_group(art: &Artwork) -> Group {
-    let mut g = Group::new().set("id", "profile");
+fn outline_group(doc: &mut Doc, art: &Artwork) {
+    doc.begin("g", &[("id", Val::Str("profile"))]);
     for r in &art.profile {
-        g = g.add(
-            Path::new()
-                .set("d", ring_d(r))
-                .set("fill", "none")
-                .set("stroke", "#f2f2f2")
-                .set("stroke-width", 0.1),
+        doc.path(
+            |d| push_ring(d, points(r)),
+            &[
+                ("fill", Val::Str("none")),
+                ("stroke", Val::Str("#f2f2f2")),
+                ("stroke-width", Val::Num(0.1)),
+            ],
         );
     }
-    g
+    doc.end();
 }
 
-fn drills_group(art: &Artwork) -> Group {
-    let mut g = Group::new().set("id", "drills");
+fn drills_group(doc: &mut Doc, art: &Artwork) {
+    doc.begin("g", &[("id", Val::Str("drills"))]);
     for d in &art.drills {
-        g = g.add(
-            Circle::new()
-                .set("cx", f(d.at.x))
-                .set("cy", f(-d.at.y))
-                .set("r", f(d.d / 2.0))
-                .set("fill", "#101010"),
+        doc.leaf(
+            "circle",
+            &[
+                ("cx", Val::Num(d.at.x)),
+                ("cy", Val::Num(-d.at.y)),
+                ("fill", Val::Str("#101010")),
+                ("r", Val::Num(d.d / 2.0)),
+            ],
         );
     }
-    g
+    doc.end();
 }
 
 /// The composited preview with a legend.
 pub fn composite(art: &Artwork, title: &str) -> String {
     let rows = art.copper.len() + 3;
     let legend_h = 1.2 * rows as f64 + 2.0;
-    let (mut doc, vx, vy, _vw, vh) = frame(art, legend_h);
-    doc = doc.add(outline_group(art));
+    let mut doc = Doc::new();
+    let (vx, vy, _vw, vh) = frame(&mut doc, art, legend_h);
+    outline_group(&mut doc, art);
     for l in art.copper.iter().rev() {
-        doc = doc.add(copper_group(l, 0.55));
+        copper_group(&mut doc, l, 0.55);
     }
-    doc = doc.add(drills_group(art));
+    drills_group(&mut doc, art);
     // The top legend, or the bottom one (as seen from the top) on a board that has only that.
     let (silk, legend_id, legend_label) = if art.silk_top.is_empty() && !art.silk_bottom.is_empty()
     {
@@ -228,27 +389,37 @@ pub fn composite(art: &Artwork, title: &str) -> String {
     } else {
         (&art.silk_top, "legend-top", "top legend")
     };
-    doc = doc.add(strokes_group(silk, art.silk_width, "#f5f5dc", legend_id));
+    strokes_group(&mut doc, silk, art.silk_width, "#f5f5dc", legend_id);
     // Legend.
     let mut y = vy + vh - legend_h + 1.2;
     let x = vx + 0.8;
-    let text = |s: &str, y: f64| {
-        Text::new(s)
-            .set("x", f(x + 1.4))
-            .set("y", f(y + 0.35))
-            .set("font-size", 0.9)
-            .set("font-family", "sans-serif")
-            .set("fill", "#f2f2f2")
+    let text = |doc: &mut Doc, s: &str, y: f64| {
+        doc.begin(
+            "text",
+            &[
+                ("fill", Val::Str("#f2f2f2")),
+                ("font-family", Val::Str("sans-serif")),
+                ("font-size", Val::Num(0.9)),
+                ("x", Val::Num(x + 1.4)),
+                ("y", Val::Num(y + 0.35)),
+            ],
+        );
+        doc.text(s);
+        doc.end();
     };
-    let swatch = |y: f64, colour: &str| {
-        Rectangle::new()
-            .set("x", f(x))
-            .set("y", f(y - 0.4))
-            .set("width", 1.0)
-            .set("height", 0.8)
-            .set("fill", colour)
+    let swatch = |doc: &mut Doc, y: f64, colour: &str| {
+        doc.leaf(
+            "rect",
+            &[
+                ("fill", Val::Str(colour)),
+                ("height", Val::Num(0.8)),
+                ("width", Val::Num(1.0)),
+                ("x", Val::Num(x)),
+                ("y", Val::Num(y - 0.4)),
+            ],
+        );
     };
-    doc = doc.add(text(title, y));
+    text(&mut doc, title, y);
     y += 1.2;
     for l in &art.copper {
         let colour = COPPER_COLOURS[(l.n - 1) % COPPER_COLOURS.len()];
@@ -261,55 +432,134 @@ pub fn composite(art: &Artwork, title: &str) -> String {
                 art.layer_roles.1
             }
         );
-        doc = doc.add(swatch(y, colour)).add(text(&label, y));
+        swatch(&mut doc, y, colour);
+        text(&mut doc, &label, y);
         y += 1.2;
     }
-    doc = doc.add(swatch(y, "#f5f5dc")).add(text(legend_label, y));
+    swatch(&mut doc, y, "#f5f5dc");
+    text(&mut doc, legend_label, y);
     y += 1.2;
-    doc = doc
-        .add(
-            Circle::new()
-                .set("cx", f(x + 0.5))
-                .set("cy", f(y))
-                .set("r", 0.35)
-                .set("fill", "#101010")
-                .set("stroke", "#f2f2f2")
-                .set("stroke-width", 0.05),
-        )
-        .add(text("drilled holes; white line: board outline", y));
-    doc.to_string()
+    doc.leaf(
+        "circle",
+        &[
+            ("cx", Val::Num(x + 0.5)),
+            ("cy", Val::Num(y)),
+            ("fill", Val::Str("#101010")),
+            ("r", Val::Num(0.35)),
+            ("stroke", Val::Str("#f2f2f2")),
+            ("stroke-width", Val::Num(0.05)),
+        ],
+    );
+    text(&mut doc, "drilled holes; white line: board outline", y);
+    doc.finish()
 }
 
 /// One copper layer alone, with the outline and the holes.
 pub fn copper_layer(art: &Artwork, l: &CopperLayer) -> String {
-    let (doc, ..) = frame(art, 0.0);
-    doc.add(outline_group(art))
-        .add(copper_group(l, 1.0))
-        .add(drills_group(art))
-        .to_string()
+    let mut doc = Doc::new();
+    frame(&mut doc, art, 0.0);
+    outline_group(&mut doc, art);
+    copper_group(&mut doc, l, 1.0);
+    drills_group(&mut doc, art);
+    doc.finish()
 }
 
 /// A mask layer (openings), legend or outline alone.
 pub fn openings_layer(art: &Artwork, openings: &[Flash], id: &str) -> String {
-    let (doc, ..) = frame(art, 0.0);
-    let mut g = Group::new().set("id", id.to_string());
+    let mut doc = Doc::new();
+    frame(&mut doc, art, 0.0);
+    outline_group(&mut doc, art);
+    doc.begin("g", &[("id", Val::Str(id))]);
     for fl in openings {
-        g = g.add(flash_node(fl, "#e0e0e0", 1.0));
+        flash_node(&mut doc, fl, "#e0e0e0", 1.0);
     }
-    doc.add(outline_group(art)).add(g).to_string()
+    doc.end();
+    doc.finish()
 }
 
 /// A legend layer alone.
 pub fn legend_layer(art: &Artwork, strokes: &[Vec<Point>], id: &str) -> String {
-    let (doc, ..) = frame(art, 0.0);
-    doc.add(outline_group(art))
-        .add(strokes_group(strokes, art.silk_width, "#f5f5dc", id))
-        .to_string()
+    let mut doc = Doc::new();
+    frame(&mut doc, art, 0.0);
+    outline_group(&mut doc, art);
+    strokes_group(&mut doc, strokes, art.silk_width, "#f5f5dc", id);
+    doc.finish()
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // The writer lays a document out as the `svg` crate does (the layout every preview had
+    // before it): the same small document built both ways, with an empty group, nested groups,
+    // a path, text and attribute values that need escaping, and numbers.
+    #[test]
+    fn the_writer_lays_out_as_the_svg_crate() {
+        use svg::node::element::{Circle, Group, Path, Text};
+        let mut doc = Doc::new();
+        doc.begin(
+            "svg",
+            &[
+                ("height", Val::Str("2mm")),
+                ("viewBox", Val::Str("0 0 1 2")),
+                ("xmlns", Val::Str("http://www.w3.org/2000/svg")),
+            ],
+        );
+        doc.begin("g", &[("id", Val::Str("empty"))]);
+        doc.end();
+        doc.begin("g", &[("id", Val::Str("a \"b\" & 'c' <d>"))]);
+        doc.begin("g", &[]);
+        doc.leaf(
+            "circle",
+            &[
+                ("cx", Val::Num(-0.5)),
+                ("fill-opacity", Val::Num(0.55)),
+                ("r", Val::Num(1.0)),
+            ],
+        );
+        doc.end();
+        doc.path(
+            |d| push_ring(d, [(0.5, 0.5), (1.0, 0.25), (0.5, 0.5)].into_iter()),
+            &[("fill", Val::Str("none")), ("stroke-width", Val::Num(0.1))],
+        );
+        doc.end();
+        doc.begin(
+            "text",
+            &[("font-size", Val::Num(0.9)), ("x", Val::Num(1.25))],
+        );
+        doc.text("L1 & L2 <copper> \"x\"");
+        doc.end();
+        let ours = doc.finish();
+
+        let crate_doc = svg::Document::new()
+            .set("viewBox", "0 0 1 2")
+            .set("height", "2mm")
+            .add(Group::new().set("id", "empty"))
+            .add(
+                Group::new()
+                    .set("id", "a \"b\" & 'c' <d>")
+                    .add(
+                        Group::new().add(
+                            Circle::new()
+                                .set("r", 1.0)
+                                .set("cx", -0.5)
+                                .set("fill-opacity", 0.55),
+                        ),
+                    )
+                    .add(
+                        Path::new()
+                            .set("d", "M0.5 -0.5 L1 -0.25 L0.5 -0.5 Z")
+                            .set("stroke-width", 0.1)
+                            .set("fill", "none"),
+                    ),
+            )
+            .add(
+                Text::new("L1 & L2 <copper> \"x\"")
+                    .set("x", 1.25)
+                    .set("font-size", 0.9),
+            );
+        assert_eq!(ours, crate_doc.to_string());
+    }
 
     /// The formatter's own text, trimmed: what `push_num` must write.
     fn by_formatter(v: f64) -> String {
