@@ -61,8 +61,18 @@ fn check_width_space(
     let (segs, lens) = segments(&rings);
     let dmax = min_w.max(min_s);
     let mut reported: Vec<Point> = Vec::new();
+    let span = slack::SAME_RING_SPANS * dmax;
     for (i, j) in near_pairs(&segs, dmax) {
         let (a, b) = (&segs[i], &segs[j]);
+        // Two segments of one ring whose every pair of points is nearer than `span` along it
+        // are passed over below whatever their distance: passed over before it is measured
+        // (the farthest points along are the ends, and the way round the ring is not longer).
+        if a.ring == b.ring {
+            let (la, lb) = ((a.b - a.a).hypot(), (b.b - b.a).hypot());
+            if (a.s0 + la - b.s0).max(b.s0 + lb - a.s0) < span {
+                continue;
+            }
+        }
         let (d, t, u) = seg_seg(a.a, a.b, b.a, b.b);
         if d >= dmax - slack::GRID || d < slack::NOISE {
             continue;
@@ -72,7 +82,7 @@ fn check_width_space(
             let pb = b.s0 + u * (b.b - b.a).hypot();
             let along = (pa - pb).abs();
             let along = along.min(lens[a.ring] - along);
-            if along < slack::SAME_RING_SPANS * dmax {
+            if along < span {
                 continue;
             }
         }

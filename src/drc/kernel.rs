@@ -254,20 +254,30 @@ pub(super) fn seg_seg(a: Point, b: Point, c: Point, d: Point) -> (f64, f64, f64)
 
 /// Pairs of segments whose bounding boxes, grown by `grow`, overlap (sweep over x).
 pub(super) fn near_pairs(segs: &[Seg], grow: f64) -> Vec<(usize, usize)> {
-    let mut idx: Vec<usize> = (0..segs.len()).collect();
-    let xmin = |s: &Seg| s.a.x.min(s.b.x);
-    let xmax = |s: &Seg| s.a.x.max(s.b.x);
-    idx.sort_by(|&i, &j| xmin(&segs[i]).total_cmp(&xmin(&segs[j])));
+    // Each segment's box and index side by side, in x order (ties in index order), so that the
+    // scan reads memory in order rather than each segment through an index.
+    let mut boxes: Vec<([f64; 4], usize)> = segs
+        .iter()
+        .enumerate()
+        .map(|(i, s)| {
+            let b = [
+                s.a.x.min(s.b.x),
+                s.a.x.max(s.b.x),
+                s.a.y.min(s.b.y),
+                s.a.y.max(s.b.y),
+            ];
+            (b, i)
+        })
+        .collect();
+    boxes.sort_by(|p, q| p.0[0].total_cmp(&q.0[0]));
     let mut out = Vec::new();
-    for (k, &i) in idx.iter().enumerate() {
-        let si = &segs[i];
-        let (ylo, yhi) = (si.a.y.min(si.b.y) - grow, si.a.y.max(si.b.y) + grow);
-        for &j in &idx[k + 1..] {
-            let sj = &segs[j];
-            if xmin(sj) > xmax(si) + grow {
+    for (k, &([_, xmax, ymin, ymax], i)) in boxes.iter().enumerate() {
+        let (xlim, ylo, yhi) = (xmax + grow, ymin - grow, ymax + grow);
+        for &([bx0, _, by0, by1], j) in &boxes[k + 1..] {
+            if bx0 > xlim {
                 break;
             }
-            if sj.a.y.max(sj.b.y) < ylo || sj.a.y.min(sj.b.y) > yhi {
+            if by1 < ylo || by0 > yhi {
                 continue;
             }
             out.push((i.min(j), i.max(j)));
@@ -317,6 +327,62 @@ mod tests {
     use super::*;
     use crate::artwork::PadFunction;
     use geo::{Area, BooleanOps};
+
+    // The sweep finds exactly the pairs whose grown boxes overlap (against every pair tested
+    // directly), each once, on rings of many short segments and a few long ones, with ties in x.
+    #[test]
+    fn near_pairs_are_every_overlapping_pair_once() {
+        let mut rings = Vec::new();
+        let mut s = 0x2545_f491_4f6c_dd1d_u64;
+        let mut next = || {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        };
+        for _ in 0..6 {
+            let (cx, cy, r) = (10.0 * next(), 30.0 * next(), 0.5 + 3.0 * next());
+            let n = 8 + (40.0 * next()) as usize;
+            let mut ring: Vec<Point> = (0..n)
+                .map(|k| {
+                    let t = std::f64::consts::TAU * k as f64 / n as f64;
+                    // Rounded to a 0.1 mm grid: many boxes start at the same x.
+                    let round = |v: f64| (v * 10.0).round() / 10.0;
+                    Point::new(round(cx + r * t.cos()), round(cy + r * t.sin()))
+                })
+                .collect();
+            ring.push(ring[0]);
+            rings.push(ring);
+        }
+        let (segs, _) = segments(&rings);
+        for grow in [0.0, 0.3, 2.0] {
+            let pairs = near_pairs(&segs, grow);
+            let mut sorted = pairs.clone();
+            sorted.sort_unstable();
+            sorted.dedup();
+            assert_eq!(sorted.len(), pairs.len(), "each pair once");
+            let bx = |s: &Seg| {
+                (
+                    s.a.x.min(s.b.x),
+                    s.a.x.max(s.b.x),
+                    s.a.y.min(s.b.y),
+                    s.a.y.max(s.b.y),
+                )
+            };
+            let mut direct = Vec::new();
+            for i in 0..segs.len() {
+                for j in i + 1..segs.len() {
+                    let (p, q) = (bx(&segs[i]), bx(&segs[j]));
+                    let x = p.0 <= q.1 + grow && q.0 <= p.1 + grow;
+                    let y = p.2 <= q.3 + grow && q.2 <= p.3 + grow;
+                    if x && y {
+                        direct.push((i, j));
+                    }
+                }
+            }
+            assert_eq!(sorted, direct, "grow {grow}");
+        }
+    }
 
     fn via(x: f64, y: f64, d: f64) -> Flash {
         Flash {
