@@ -308,9 +308,27 @@ pub(super) fn check_board_with(fab: &FabProfile, art: &Artwork, cu: &Coppers) ->
         (&art.silk_bottom, &art.mask_bottom, "legend-bottom"),
     ] {
         for st in strokes.iter() {
-            let ink = stroke_round(st, art.silk_width / 2.0);
+            // Boxes round the ink and each opening, grown past their polygons' flattened arcs
+            // (by a whole silk width and 0.1 mm): an opening whose box is as far from the ink's
+            // as the rule asks is farther from the ink itself, and is passed over unmeasured.
+            let grow = art.silk_width + 0.1;
+            let (mut x0, mut y0, mut x1, mut y1) = (f64::MAX, f64::MAX, f64::MIN, f64::MIN);
+            for q in st {
+                (x0, y0, x1, y1) = (x0.min(q.x), y0.min(q.y), x1.max(q.x), y1.max(q.y));
+            }
+            let mut ink = None;
             for o in openings.iter() {
-                let d = Euclidean.distance(&ink, &MultiPolygon(vec![flash_polygon(o)]));
+                let (hw, hh) = match o.shape {
+                    crate::artwork::Shape::Circle(d) => (d / 2.0, d / 2.0),
+                    crate::artwork::Shape::Rect(w, h) => (w / 2.0, h / 2.0),
+                };
+                let gap_x = (o.at.x - hw - x1).max(x0 - o.at.x - hw) - 2.0 * grow;
+                let gap_y = (o.at.y - hh - y1).max(y0 - o.at.y - hh) - 2.0 * grow;
+                if gap_x.max(gap_y) >= fab.silk_to_pad {
+                    continue;
+                }
+                let ink = ink.get_or_insert_with(|| stroke_round(st, art.silk_width / 2.0));
+                let d = Euclidean.distance(&*ink, &MultiPolygon(vec![flash_polygon(o)]));
                 if d < fab.silk_to_pad - slack::GRID {
                     out.push(Violation {
                         rule: Rule::SilkOnPad,
