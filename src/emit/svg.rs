@@ -161,6 +161,8 @@ impl Doc {
         while !self.open.is_empty() {
             self.end();
         }
+        // The run keeps every file's text until it writes them all: no spare capacity.
+        self.out.shrink_to_fit();
         self.out
     }
 }
