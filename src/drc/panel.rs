@@ -203,12 +203,32 @@ pub fn check_panel(
             );
         }
         for t in &p.tabs {
+            // The perforation holes drawn once per tab, each with its box: a keep-out whose box
+            // misses a hole's cannot touch the hole.
+            let holes: Vec<_> = t
+                .holes
+                .iter()
+                .map(|h| {
+                    let disc = crate::geom::circle(*h, panel.perforation_drill / 2.0);
+                    let b = disc.bounding_rect();
+                    (disc, b)
+                })
+                .collect();
             // Its own keep-outs and its neighbours' (a tab may bridge to another board).
             for (k, why) in layout.placed.iter().flat_map(|q| q.keep_outs.iter()) {
-                let holes_in = t
-                    .holes
+                let kb = k.bounding_rect();
+                let apart = |b: &Option<geo::Rect<f64>>| match (kb, b) {
+                    (Some(p), Some(q)) => {
+                        p.max().x < q.min().x
+                            || q.max().x < p.min().x
+                            || p.max().y < q.min().y
+                            || q.max().y < p.min().y
+                    }
+                    _ => false,
+                };
+                let holes_in = holes
                     .iter()
-                    .any(|h| k.intersects(&crate::geom::circle(*h, panel.perforation_drill / 2.0)));
+                    .any(|(disc, b)| !apart(b) && k.intersects(disc));
                 if k.intersects(&t.bridge) || holes_in {
                     v(
                         PanelRule::TabInKeepOut,
