@@ -145,12 +145,8 @@ pub fn solve(
     // The key is every input the solve reads, exactly (floats by their bits).
     static CACHE: std::sync::Mutex<Vec<(String, SolvedLaunch)>> = std::sync::Mutex::new(Vec::new());
     let key = format!(
-        "{:?}|{:?}|{:?}|{}|{}|{}|{}|{}|{}|{}|{}|{}|{}",
-        p.stackup,
-        p.connector,
-        p.fab,
-        p.handle.width.to_bits(),
-        p.target_z0.to_bits(),
+        "{}|{}|{}|{}|{}|{}|{}|{}|{}",
+        pad_key(p),
         p.clearance.to_bits(),
         p.signal_layer,
         p.vias.drill.to_bits(),
@@ -287,6 +283,7 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
     // Deepest relief: the reference must be a copper layer.
     let max_depth = p.stackup.copper_count().saturating_sub(2);
     let mut best: Option<(f64, usize, f64)> = None; // (|Z − target| at an end, depth, gap)
+    let mut polished: Vec<(f64, usize, (f64, f64))> = Vec::new(); // (gap, depth, (Z0, εeff))
     let mut chosen = None;
     for depth in 0..=max_depth {
         // The bracket's ends: rough, but full where the rough value is within 5 % of the target
@@ -334,10 +331,25 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
             })
             .ok()
             .filter(|(_, slope)| slope.is_finite() && *slope > 0.0);
+            // The polish's solutions each start from the one before (`field::solve_warm`: a
+            // third to a tenth of the iterations) and are kept here, for the gap it lands on.
+            let mut warm = crate::field::Warm::default();
             let landed = match rough_root {
-                Some((x, slope)) => {
-                    gap_on_grid(|g| Ok(z(g, depth)?.0 - target), x, slope, (g_lo, g_hi))?
-                }
+                Some((x, slope)) => gap_on_grid(
+                    |g| {
+                        let s = crate::field::solve_warm(
+                            &pad_cross_section(p, g, depth),
+                            acc,
+                            &mut warm,
+                        )
+                        .map_err(|e| field_err("connector's centre pad", e))?;
+                        polished.push((g, depth, (s.z0_ohms, s.eps_eff)));
+                        Ok(s.z0_ohms - target)
+                    },
+                    x,
+                    slope,
+                    (g_lo, g_hi),
+                )?,
                 None => None,
             };
             let g = match landed {
@@ -357,8 +369,40 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
     };
     // Round the gap to a µm, as the artwork will.
     let pad_gap = round_um(pad_gap);
-    let (pad_z0, pad_eps_eff) = z(pad_gap, relief_depth)?;
+    let (pad_z0, pad_eps_eff) = match polished
+        .iter()
+        .find(|(g, d, _)| *g == pad_gap && *d == relief_depth)
+    {
+        Some(&(_, _, s)) => s,
+        None => z(pad_gap, relief_depth)?,
+    };
     Ok((relief_depth, pad_gap, pad_z0, pad_eps_eff))
+}
+
+/// Every input of the pad's search ([`solve_pad`] and [`pad_cross_section`]), exactly (floats by
+/// their bits, Debug's shortest round trip within the stackup, connector and fab).
+fn pad_key(p: &Probe) -> String {
+    format!(
+        "{:?}|{:?}|{:?}|{}|{}",
+        p.stackup,
+        p.connector,
+        p.fab,
+        p.handle.width.to_bits(),
+        p.target_z0.to_bits(),
+    )
+}
+
+/// [`solve_pad`], kept for the process: launches that differ only in what the pad does not see
+/// (the loop trace's width, the handle line's impedance, the stitching limit) share the pad's
+/// search, whose polish keeps its solutions itself (`field::solve_warm`). The key is every
+/// input the search reads, exactly (floats by their bits).
+fn kept_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> {
+    type Pad = (usize, f64, f64, f64);
+    static KEPT: std::sync::OnceLock<crate::field::Cells<Pad>> = std::sync::OnceLock::new();
+    let key = format!("{}|{acc:?}", pad_key(p));
+    crate::field::kept_in(KEPT.get_or_init(Default::default), 64, key, || {
+        solve_pad(p, acc)
+    })
 }
 
 fn solve_uncached(
@@ -369,7 +413,7 @@ fn solve_uncached(
 ) -> Result<SolvedLaunch, Error> {
     let target = p.target_z0;
     let acc = Accuracy::default();
-    let (relief_depth, pad_gap, pad_z0, pad_eps_eff) = solve_pad(p, acc)?;
+    let (relief_depth, pad_gap, pad_z0, pad_eps_eff) = kept_pad(p, acc)?;
 
     let template = p
         .stackup
