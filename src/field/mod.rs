@@ -554,25 +554,32 @@ fn solve_mesh(
 
     let run = |g, guess| run_mesh(g, guess, factor, vacuum, acc.cg_tol());
     let shape = (coarse.nx(), coarse.ny());
+    // Taken out of `warm`: its finer arrays become the finer mesh's start, the coarser ones are
+    // dropped before that solve (the run's largest), to which they would add.
+    let mut warm = warm;
     let last = warm
-        .as_ref()
-        .and_then(|w| w.last.as_ref())
+        .as_mut()
+        .and_then(|w| w.last.take())
         .filter(|l| vacuum && l.shape == shape);
-    let rc = run(&coarse, last.map(|l| (&l.coarse[0][..], &l.coarse[1][..])))?;
+    let start = last.as_ref().map(|l| (&l.coarse[0][..], &l.coarse[1][..]));
+    let rc = run_mesh(&coarse, start, factor, vacuum, acc.cg_tol())?;
     let prolonged = |v: &[f64]| solver::prolong(v, coarse.nx(), coarse.ny());
     let (pf, pf0) = match last {
-        // The last finer solution, corrected by the change of the coarser one (prolonged).
-        Some(l) => {
-            let corrected = |fine: &[f64], now: &[f64], before: &[f64]| -> Vec<f64> {
-                let change: Vec<f64> = now.iter().zip(before).map(|(a, b)| a - b).collect();
-                let mut v = prolonged(&change);
-                v.iter_mut().zip(fine).for_each(|(x, f)| *x += f);
-                v
+        // The last finer solution, corrected by the change of the coarser one (prolonged), in
+        // the last solution's own arrays.
+        Some(WarmRuns {
+            coarse: [c, c0],
+            fine: [mut f, mut f0],
+            ..
+        }) => {
+            let change = |now: &[f64], mut before: Vec<f64>| {
+                before.iter_mut().zip(now).for_each(|(b, n)| *b = n - *b);
+                before
             };
-            (
-                corrected(&l.fine[0], &rc.phi, &l.coarse[0]),
-                corrected(&l.fine[1], &rc.phi0, &l.coarse[1]),
-            )
+            let (cnx, cny) = shape;
+            solver::prolong_add(&change(&rc.phi, c), cnx, cny, &mut f);
+            solver::prolong_add(&change(&rc.phi0, c0), cnx, cny, &mut f0);
+            (f, f0)
         }
         None if vacuum => (prolonged(&rc.phi), prolonged(&rc.phi0)),
         None => (prolonged(&rc.phi), Vec::new()),

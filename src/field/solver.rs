@@ -554,20 +554,37 @@ struct Factor {
 
 /// Bilinear prolongation of a potential from a grid to the grid with every cell halved.
 pub(crate) fn prolong(coarse: &[f64], cnx: usize, cny: usize) -> Vec<f64> {
+    let mut f = vec![0.0; (2 * cnx - 1) * (2 * cny - 1)];
+    prolong_with(coarse, cnx, cny, &mut f, |t, v| *t = v);
+    f
+}
+
+/// Adds [`prolong`]'s values to `f` (a finer grid's), without a vector of its own.
+pub(crate) fn prolong_add(coarse: &[f64], cnx: usize, cny: usize, f: &mut [f64]) {
+    prolong_with(coarse, cnx, cny, f, |t, v| *t += v);
+}
+
+fn prolong_with(
+    coarse: &[f64],
+    cnx: usize,
+    cny: usize,
+    f: &mut [f64],
+    put: impl Fn(&mut f64, f64),
+) {
     let (fnx, fny) = (2 * cnx - 1, 2 * cny - 1);
-    let mut f = vec![0.0; fnx * fny];
     for j in 0..fny {
         let (j0, j1) = (j / 2, j.div_ceil(2));
         for i in 0..fnx {
             let (i0, i1) = (i / 2, i.div_ceil(2));
-            f[j * fnx + i] = 0.25
-                * (coarse[j0 * cnx + i0]
+            put(
+                &mut f[j * fnx + i],
+                0.25 * (coarse[j0 * cnx + i0]
                     + coarse[j0 * cnx + i1]
                     + coarse[j1 * cnx + i0]
-                    + coarse[j1 * cnx + i1]);
+                    + coarse[j1 * cnx + i1]),
+            );
         }
     }
-    f
 }
 
 #[cfg(test)]

@@ -376,9 +376,11 @@ fn solve_with(
     let copied = |a: &Cell, b: &Cell| copy[a.plate * np + b.plate].is_some();
     let nm = mesh.modes;
     // Every mode's matrix element side by side (element-major: a cell pair's contributions
-    // to one element, mode by mode, are contiguous), then taken apart mode by mode.
+    // to one element, mode by mode, are contiguous), then taken apart mode by mode. Only the
+    // lower triangle (row ≥ column) is stored, row after row: element (i, j) at `tri(i, j)`.
     let modes = nm + 1;
-    let mut k_all = vec![0.0; nu * nu * modes];
+    let tri = |i: usize, j: usize| i * (i + 1) / 2 + j;
+    let mut k_all = vec![0.0; tri(nu, 0) * modes];
     let mut q_self = Vec::with_capacity(nm + 2);
     // Per cell pair, each mode's three angular terms with the constant factor μ0/(4π)·π·wa·wb
     // (m = 0: the factor 2π, no m² or cross term): a node pair's element is then
@@ -447,7 +449,7 @@ fn solve_with(
                     for (((x, p), q), r) in v.iter_mut().zip(&c1).zip(&c2).zip(&c3) {
                         *x = rr_ss * p + ff * q + cross * r;
                     }
-                    let at = (ia.max(ib) * nu + ia.min(ib)) * modes;
+                    let at = tri(ia.max(ib), ia.min(ib)) * modes;
                     let times = if !same && ia == ib { 2 } else { 1 };
                     for _ in 0..times {
                         for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
@@ -472,35 +474,31 @@ fn solve_with(
                 if a == b && u < v {
                     continue;
                 }
-                let at = |i: usize, j: usize| (i.max(j) * nu + i.min(j)) * modes;
+                let at = |i: usize, j: usize| tri(i.max(j), i.min(j)) * modes;
                 let (to, from) = (at(*u, *v), at(u0, v0));
                 k_all.copy_within(from..from + modes, to);
             }
         }
     }
-    // Mode by mode, the lower triangle (the upper is left at zero: unread).
-    let k_m: Vec<Vec<f64>> = (0..modes)
-        .map(|m| {
-            let mut k = vec![0.0; nu * nu];
-            for i in 0..nu {
-                for j in 0..=i {
-                    k[i * nu + j] = k_all[(i * nu + j) * modes + m];
-                }
-            }
-            k
-        })
-        .collect();
-    drop(k_all);
+    // Mode by mode, the lower triangle (the upper is left at zero: unread), inverted as it is
+    // taken out (one mode's matrix at a time beside the stored elements and the inverses).
     // On a very small loop the highest modes vary faster across a cell than the cells'
     // centres sample (the plate's inner radius over m against the cell width) and their
     // matrices stop being positive definite: M is then lowered to the modes that are.
-    let mut inv = Vec::with_capacity(k_m.len());
-    for k in &k_m {
-        match spd_inverse(k, nu) {
+    let mut inv = Vec::with_capacity(modes);
+    let mut k = vec![0.0; nu * nu];
+    for m in 0..modes {
+        for i in 0..nu {
+            for j in 0..=i {
+                k[i * nu + j] = k_all[tri(i, j) * modes + m];
+            }
+        }
+        match spd_inverse(&k, nu) {
             Some(i) => inv.push(i),
             None => break,
         }
     }
+    drop((k, k_all));
     let mm = nm.min(inv.len().saturating_sub(1));
     if mm < MIN_MODES {
         return None;
@@ -528,7 +526,10 @@ fn solve_with(
         da += coef[0][u] * 2.0 * PI * (m_left + m_right);
     }
     // Samples: each element's midpoint, at evenly spaced angles.
-    let mut points = Vec::new();
+    // Sized at once: the result is kept for the process, and doubling would leave it up to
+    // half empty (and copy it as it grew).
+    let elements: usize = nodes.iter().map(|x| x.len() - 1).sum();
+    let mut points = Vec::with_capacity(elements * mesh.angles);
     let dth = 2.0 * PI / mesh.angles as f64;
     // cos(mθ) for every sample angle and mode, once (the same values the loop would compute).
     let cos_mt: Vec<Vec<f64>> = (0..mesh.angles)
