@@ -518,24 +518,49 @@ pub fn ground_charge(
 /// needs two or three full solutions.
 /// Kept as [`solve`]'s are.
 pub fn rough_z0(cs: &CrossSection) -> Result<f64, Error> {
-    kept_or(format!("rough|{cs:?}"), || {
-        let (r, g) = base_grid(cs, Accuracy::Draft, true, false)?;
-        let half = r.half;
-        let factor = half.c_factor() * EPS0;
-        let run = run_mesh(&g, None, factor, true, Accuracy::Draft.cg_tol())?;
-        let result = run.result(1, &g);
-        Ok(FieldSolution {
-            z0_ohms: result.z0_ohms,
-            eps_eff: run.c / run.c0,
-            c_per_m: run.c,
-            c0_per_m: run.c0,
-            nodes: g.nx() * g.ny(),
-            estimated_error: f64::NAN,
-            half_domain: half != Half::Whole,
-            meshes: [result, result],
-        })
-    })
-    .map(|s| s.z0_ohms)
+    kept_or(format!("rough|{cs:?}"), || rough_solution(cs, None)).map(|s| s.z0_ohms)
+}
+
+/// [`rough_z0`] for the next section of a search, started from `warm`'s last rough solution
+/// where the mesh has its shape, as [`solve_warm`] (and not kept, for the same reason); from an
+/// empty `warm`, the very bits of [`rough_z0`]. A `warm` serves one kind of solution: a rough
+/// one never starts a full one, nor the reverse.
+pub fn rough_z0_warm(cs: &CrossSection, warm: &mut Warm) -> Result<f64, Error> {
+    rough_solution(cs, Some(warm)).map(|s| s.z0_ohms)
+}
+
+fn rough_solution(cs: &CrossSection, warm: Option<&mut Warm>) -> Result<FieldSolution, Error> {
+    let (r, g) = base_grid(cs, Accuracy::Draft, true, false)?;
+    let half = r.half;
+    let factor = half.c_factor() * EPS0;
+    let shape = (g.nx(), g.ny());
+    let mut warm = warm;
+    let last = warm
+        .as_mut()
+        .and_then(|w| w.last.take())
+        .filter(|l| l.shape == shape && l.fine[0].is_empty());
+    let start = last.as_ref().map(|l| (&l.coarse[0][..], &l.coarse[1][..]));
+    let run = run_mesh(&g, start, factor, true, Accuracy::Draft.cg_tol())?;
+    drop(last);
+    let result = run.result(1, &g);
+    let solution = FieldSolution {
+        z0_ohms: result.z0_ohms,
+        eps_eff: run.c / run.c0,
+        c_per_m: run.c,
+        c0_per_m: run.c0,
+        nodes: g.nx() * g.ny(),
+        estimated_error: f64::NAN,
+        half_domain: half != Half::Whole,
+        meshes: [result, result],
+    };
+    if let Some(w) = warm {
+        w.last = Some(WarmRuns {
+            shape,
+            coarse: [run.phi, run.phi0],
+            fine: [Vec::new(), Vec::new()],
+        });
+    }
+    Ok(solution)
 }
 
 /// [`solve_uncached`]; without `vacuum` only C is solved (C0, Z0 and εeff are then NaN); without
@@ -560,7 +585,7 @@ fn solve_mesh(
     let last = warm
         .as_mut()
         .and_then(|w| w.last.take())
-        .filter(|l| vacuum && l.shape == shape);
+        .filter(|l| vacuum && l.shape == shape && !l.fine[0].is_empty());
     let start = last.as_ref().map(|l| (&l.coarse[0][..], &l.coarse[1][..]));
     let rc = run_mesh(&coarse, start, factor, vacuum, acc.cg_tol())?;
     let prolonged = |v: &[f64]| solver::prolong(v, coarse.nx(), coarse.ny());
@@ -767,6 +792,18 @@ mod tests {
         assert_eq!(runs.load(Ordering::SeqCst), 3);
     }
 
+    /// A centre pad's kind of section: a 0.35 mm grounded CPW on 0.2 mm of εr 4.3, `gap` wide.
+    fn pad_like(gap: f64) -> CrossSection {
+        use crate::model::line::{Cpwg, Line};
+        cross_section_for_line(&Line::Cpwg(Cpwg {
+            width: 0.35,
+            gap,
+            h: 0.2,
+            t: 0.035,
+            er: 4.3,
+        }))
+    }
+
     // A search's warm solves: from nothing, the very bits of a cold solve; the next section of
     // a gap polish (a µm wider: the same mesh shape) starts from the last and takes fewer
     // iterations (6 against 39) to the same answer within the solver's tolerance (Z0 and εeff
@@ -774,16 +811,7 @@ mod tests {
     // bit for bit.
     #[test]
     fn warm_solves_start_from_the_last_and_agree_with_cold_ones() {
-        use crate::model::line::{Cpwg, Line};
-        let cs = |gap: f64| {
-            cross_section_for_line(&Line::Cpwg(Cpwg {
-                width: 0.35,
-                gap,
-                h: 0.2,
-                t: 0.035,
-                er: 4.3,
-            }))
-        };
+        let cs = pad_like;
         let acc = Accuracy::Standard;
         let bits = |s: &FieldSolution| format!("{s:?}");
         let iterations = |s: &FieldSolution| s.meshes.iter().map(|m| m.iterations).sum::<usize>();
@@ -821,6 +849,53 @@ mod tests {
         }
         // Both kinds met: 0.233 mm takes another column.
         assert!(kinds[0] >= 1 && kinds[1] >= 2, "{kinds:?}");
+    }
+
+    // The rough solutions of a search chain the same way: from nothing, the bits of the kept
+    // one; the next gap (the same mesh shape) in fewer iterations to within 2e-6; and a chain of
+    // rough solutions never starts a full one (whose solution stays that of a cold solve).
+    #[test]
+    fn warm_rough_solutions_chain_and_stay_apart_from_full_ones() {
+        let cs = pad_like;
+        let mut warm = Warm::default();
+        let first = rough_solution(&cs(0.208), Some(&mut warm)).unwrap();
+        let kept = rough_z0(&cs(0.208)).unwrap();
+        assert_eq!(first.z0_ohms.to_bits(), kept.to_bits());
+        let cold = rough_solution(&cs(0.209), None).unwrap();
+        let next = rough_solution(&cs(0.209), Some(&mut warm)).unwrap();
+        assert_eq!(next.meshes[0].size, first.meshes[0].size, "the same shape");
+        assert!(
+            next.meshes[0].iterations < cold.meshes[0].iterations,
+            "{} warm, {} cold",
+            next.meshes[0].iterations,
+            cold.meshes[0].iterations
+        );
+        assert!((next.z0_ohms / cold.z0_ohms - 1.0).abs() < 2e-6);
+        // A rough chain's last solution shaped as the full solve's coarser mesh (set by hand,
+        // of nonsense values) is not its start, and a full one shaped as the rough mesh is not a
+        // rough solution's.
+        let full_cold = solve_uncached(&cs(0.21), Accuracy::Standard).unwrap();
+        let [cx, cy] = full_cold.meshes[0].size;
+        let mut rough_like = Warm {
+            last: Some(WarmRuns {
+                shape: (cx, cy),
+                coarse: [vec![7.0; cx * cy], vec![7.0; cx * cy]],
+                fine: [Vec::new(), Vec::new()],
+            }),
+        };
+        let full = solve_warm(&cs(0.21), Accuracy::Standard, &mut rough_like).unwrap();
+        assert_eq!(format!("{full:?}"), format!("{full_cold:?}"));
+        let [rx, ry] = cold.meshes[0].size;
+        let [fx, fy] = [2 * rx - 1, 2 * ry - 1];
+        let mut full_like = Warm {
+            last: Some(WarmRuns {
+                shape: (rx, ry),
+                coarse: [vec![7.0; rx * ry], vec![7.0; rx * ry]],
+                fine: [vec![7.0; fx * fy], vec![7.0; fx * fy]],
+            }),
+        };
+        let rough = rough_solution(&cs(0.209), Some(&mut full_like)).unwrap();
+        assert_eq!(format!("{rough:?}"), format!("{cold:?}"));
     }
 
     /// Z0 boxed (`solve_uncached`) and whole (`solve_whole`) at `acc`, and their nodes.

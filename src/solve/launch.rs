@@ -239,9 +239,25 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
     // rounded gap's own; should they not settle, the search runs again on the full solution.
     // Where the rough solution fails (a coarser mesh of the same section), the full one stands
     // in for it.
+    // Each rough solution starts from the one before (`field::rough_z0_warm`: the search's
+    // later gaps keep the mesh's shape), and each is made once (the slope at the rough root
+    // asks for the root's again).
+    let chain = std::cell::RefCell::new((
+        crate::field::Warm::default(),
+        Vec::<((u64, usize), f64)>::new(),
+    ));
     let rough = |g: f64, depth: usize| -> Result<f64, Error> {
-        crate::field::rough_z0(&pad_cross_section(p, g, depth))
-            .or_else(|_| z(g, depth).map(|s| s.0))
+        let key = (g.to_bits(), depth);
+        if let Some(&(_, v)) = chain.borrow().1.iter().find(|(k, _)| *k == key) {
+            return Ok(v);
+        }
+        let made = {
+            let mut c = chain.borrow_mut();
+            crate::field::rough_z0_warm(&pad_cross_section(p, g, depth), &mut c.0)
+        };
+        let v = made.or_else(|_| z(g, depth).map(|s| s.0))?;
+        chain.borrow_mut().1.push((key, v));
+        Ok(v)
     };
     let (g_lo, g_hi) = pad_gap_range(p);
     let (x_lo, x_hi) = (g_lo.ln(), g_hi.ln());
