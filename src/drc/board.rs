@@ -319,8 +319,8 @@ pub(super) fn check_board_with(fab: &FabProfile, art: &Artwork, cu: &Coppers) ->
             let mut ink = None;
             for o in openings.iter() {
                 let (hw, hh) = match o.shape {
-                    crate::artwork::Shape::Circle(d) => (d / 2.0, d / 2.0),
-                    crate::artwork::Shape::Rect(w, h) => (w / 2.0, h / 2.0),
+                    crate::artwork::Shape::Circle(d) => (d.abs() / 2.0, d.abs() / 2.0),
+                    crate::artwork::Shape::Rect(w, h) => (w.abs() / 2.0, h.abs() / 2.0),
                 };
                 let gap_x = (o.at.x - hw - x1).max(x0 - o.at.x - hw) - 2.0 * grow;
                 let gap_y = (o.at.y - hh - y1).max(y0 - o.at.y - hh) - 2.0 * grow;

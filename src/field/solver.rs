@@ -572,6 +572,10 @@ fn prolong_with(
     put: impl Fn(&mut f64, f64),
 ) {
     let (fnx, fny) = (2 * cnx - 1, 2 * cny - 1);
+    debug_assert!(
+        coarse.len() == cnx * cny && f.len() == fnx * fny,
+        "the grids' sizes"
+    );
     for j in 0..fny {
         let (j0, j1) = (j / 2, j.div_ceil(2));
         for i in 0..fnx {

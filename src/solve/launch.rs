@@ -383,7 +383,9 @@ fn solve_pad(p: &Probe, acc: Accuracy) -> Result<(usize, f64, f64, f64), Error> 
             (d, g)
         }
     };
-    // Round the gap to a µm, as the artwork will.
+    // Round the gap to a µm, as the artwork will. Its Z0 and εeff are the polish's own
+    // solution where the polish solved that gap (also when the full search, after a polish that
+    // did not settle, rounds onto one of its gaps): a fixed function of this search's inputs.
     let pad_gap = round_um(pad_gap);
     let (pad_z0, pad_eps_eff) = match polished
         .iter()
