@@ -279,7 +279,8 @@ struct WarmRuns {
     shape: (usize, usize),
     /// The coarser mesh's potentials with and without the dielectrics.
     coarse: [Vec<f64>; 2],
-    /// The finer mesh's.
+    /// The finer mesh's (empty after a rough solution, which has no finer mesh: a rough
+    /// solution never starts a full one, nor the reverse).
     fine: [Vec<f64>; 2],
 }
 
