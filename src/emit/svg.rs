@@ -184,30 +184,34 @@ fn escape_into(out: &mut String, s: &str, attr: bool) {
 
 /// Appends a path's moves and lines through `pts` (y flipped), and a close when the ring is
 /// closed (first point = last; a panel's routed edge broken at its tabs is not).
-fn push_ring(d: &mut String, pts: impl ExactSizeIterator<Item = (f64, f64)> + Clone) {
-    let n = pts.len();
-    let (mut first, mut last) = (None, None);
-    for (i, (x, y)) in pts.enumerate() {
-        d.push(if i == 0 { 'M' } else { 'L' });
+fn push_ring(d: &mut String, pts: impl Iterator<Item = (f64, f64)>) {
+    push_path(d, pts, true);
+}
+
+/// Appends a path's moves and lines through `pts` (y flipped); with `close_ring`, a close when
+/// the path is a closed ring (more than two points, the first equal to the last).
+fn push_path(d: &mut String, pts: impl Iterator<Item = (f64, f64)>, close_ring: bool) {
+    let (mut n, mut first, mut last) = (0, None, None);
+    for (x, y) in pts {
+        d.push(if n == 0 { 'M' } else { 'L' });
         push_num(d, x);
         d.push(' ');
         push_num(d, -y);
         d.push(' ');
-        if i == 0 {
-            first = Some((x, y));
-        }
+        first = first.or(Some((x, y)));
         last = Some((x, y));
+        n += 1;
     }
-    if n > 2 && first == last {
+    if close_ring && n > 2 && first == last {
         d.push('Z');
     }
 }
 
-fn points(pts: &[Point]) -> impl ExactSizeIterator<Item = (f64, f64)> + Clone + '_ {
+fn points(pts: &[Point]) -> impl Iterator<Item = (f64, f64)> + '_ {
     pts.iter().map(|p| (p.x, p.y))
 }
 
-fn coords(ls: &geo::LineString<f64>) -> impl ExactSizeIterator<Item = (f64, f64)> + Clone + '_ {
+fn coords(ls: &geo::LineString<f64>) -> impl Iterator<Item = (f64, f64)> + '_ {
     ls.0.iter().map(|c| (c.x, c.y))
 }
 
@@ -274,15 +278,7 @@ fn strokes_group(doc: &mut Doc, strokes: &[Vec<Point>], width: f64, colour: &str
     for s in strokes {
         // An open stroke: never closed, even when it ends where it began.
         doc.path(
-            |d| {
-                for (i, p) in s.iter().enumerate() {
-                    d.push(if i == 0 { 'M' } else { 'L' });
-                    push_num(d, p.x);
-                    d.push(' ');
-                    push_num(d, -p.y);
-                    d.push(' ');
-                }
-            },
+            |d| push_path(d, points(s), false),
             &[
                 ("fill", Val::Str("none")),
                 ("stroke", Val::Str(colour)),
