@@ -100,20 +100,14 @@ fn benches(c: &mut Criterion) {
 
 criterion_group!(pipeline, benches);
 
-/// The command's allocator settings, as `src/main.rs` sets them (repeated here: the library
-/// has no unsafe code, so it cannot offer them), so that these whole jobs run as `loopwright`
-/// runs them. Without them glibc's own thresholds follow the largest buffers freed so far, and
-/// a job's time moves with what ran before it (the warm `predict` here paid 5× the page faults
-/// once the gap correction's buffers shrank).
+// The command's allocator settings (`keep_freed_memory`), so that these whole jobs run as
+// `loopwright` runs them. Without them glibc's own thresholds follow the largest buffers freed
+// so far, and a job's time moves with what ran before it (the warm `predict` here paid 5× the
+// page faults once the gap correction's buffers shrank).
+include!("../src/keep_freed_memory.rs");
+
 fn main() {
-    #[cfg(all(target_os = "linux", target_env = "gnu"))]
-    // SAFETY: mallopt only sets allocator parameters; it is called before any thread starts.
-    unsafe {
-        const KEEP: libc::c_int = 32 << 20;
-        libc::mallopt(libc::M_ARENA_MAX, 1);
-        libc::mallopt(libc::M_MMAP_THRESHOLD, KEEP);
-        libc::mallopt(libc::M_TRIM_THRESHOLD, KEEP);
-    }
+    keep_freed_memory();
     pipeline();
     Criterion::default().configure_from_args().final_summary();
 }
