@@ -222,14 +222,19 @@ fn least_energy(
 ) -> Option<(f64, Vec<Vec<f64>>)> {
     let nc = lines.len();
     let mut s = vec![0.0; nc * nc];
-    let mut cm = vec![0.0; nc];
-    for (m, k) in inv.iter().enumerate() {
-        for (c, &(_, th)) in cm.iter_mut().zip(lines) {
-            *c = (m as f64 * th).cos();
-        }
-        for (a, &(ka, _)) in lines.iter().enumerate() {
-            for (b, &(kb, _)) in lines.iter().enumerate().take(a + 1) {
-                s[a * nc + b] += cm[a] * cm[b] * k[ka * nu + kb];
+    // cos(mθ) of every line, mode by mode.
+    let cos: Vec<f64> = (0..inv.len())
+        .flat_map(|m| lines.iter().map(move |&(_, th)| (m as f64 * th).cos()))
+        .collect();
+    // Row by row, each element summed over the modes in their order: one row of S stays in
+    // the cache while every mode adds to it (rather than all of S passed over once per mode).
+    for (a, &(ka, _)) in lines.iter().enumerate() {
+        let row = &mut s[a * nc..a * nc + a + 1];
+        for (m, k) in inv.iter().enumerate() {
+            let cm = &cos[m * nc..(m + 1) * nc];
+            let (ca, k_row) = (cm[a], &k[ka * nu..(ka + 1) * nu]);
+            for ((x, &(kb, _)), &cb) in row.iter_mut().zip(lines).zip(cm) {
+                *x += ca * cb * k_row[kb];
             }
         }
     }
