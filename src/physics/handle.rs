@@ -439,18 +439,16 @@ impl Circulant {
         self.ix.process(&mut t);
         let scale = 1.0 / (px * py) as f64;
         let mut out = vec![0.0; nx * ny];
-        let mut spec = vec![Complex::new(0.0, 0.0); q];
+        // The first nx columns of the q × px spectrum, as nx rows of q.
+        let mut rows = transpose_first(&t, q, px, nx);
         let mut row = vec![0.0; py];
-        for i in 0..nx {
-            for j in 0..q {
-                spec[j] = t[j * px + i];
-            }
+        for (i, spec) in rows.chunks_exact_mut(q).enumerate() {
             // A real row's spectrum: the first bin is real, and so is the last when py is even.
             spec[0].im = 0.0;
             if py % 2 == 0 {
                 spec[q - 1].im = 0.0;
             }
-            let _ = self.c2r.process(&mut spec, &mut row);
+            let _ = self.c2r.process(spec, &mut row);
             for j in 0..ny {
                 out[i * ny + j] = row[j] * scale;
             }
@@ -474,12 +472,25 @@ fn smooth_len(n: usize) -> usize {
         .unwrap_or(n)
 }
 
-/// The transpose of a `rows` × `cols` row-major array.
+/// The transpose of a `rows` × `cols` row-major array, tile by tile (a tile's rows and columns
+/// both within the cache: written column by column over a whole row, each value would land on
+/// a cache line of its own).
 fn transpose(a: &[Complex<f64>], rows: usize, cols: usize) -> Vec<Complex<f64>> {
-    let mut t = vec![Complex::new(0.0, 0.0); rows * cols];
-    for i in 0..rows {
-        for j in 0..cols {
-            t[j * rows + i] = a[i * cols + j];
+    transpose_first(a, rows, cols, cols)
+}
+
+/// The transpose of the first `take` columns of a `rows` × `cols` row-major array (`take` rows
+/// of `rows`), tile by tile as [`transpose`].
+fn transpose_first(a: &[Complex<f64>], rows: usize, cols: usize, take: usize) -> Vec<Complex<f64>> {
+    const TILE: usize = 16;
+    let mut t = vec![Complex::new(0.0, 0.0); rows * take];
+    for i0 in (0..rows).step_by(TILE) {
+        for j0 in (0..take).step_by(TILE) {
+            for i in i0..(i0 + TILE).min(rows) {
+                for j in j0..(j0 + TILE).min(take) {
+                    t[j * rows + i] = a[i * cols + j];
+                }
+            }
         }
     }
     t
@@ -796,5 +807,29 @@ mod tests {
         assert!(h <= 1.108 / 2.0 + 1e-12, "{h}");
         let r = ratio_of(&big).unwrap();
         assert!(r > 1.0 && 20.0 * r.log10() < 0.2, "{r}");
+    }
+
+    /// The tiled transposes move every value where the plain loops put it: whole arrays and
+    /// their first columns, on sizes below, at and across the tile's (16), square or not.
+    #[test]
+    fn tiled_transposes_put_every_value_in_its_place() {
+        for (rows, cols) in [(1, 1), (3, 5), (16, 16), (17, 33), (40, 7), (271, 192)] {
+            let a: Vec<Complex<f64>> = (0..rows * cols)
+                .map(|k| Complex::new(k as f64, -(k as f64) - 0.5))
+                .collect();
+            for take in [1, cols / 2 + 1, cols] {
+                let t = transpose_first(&a, rows, cols, take);
+                assert_eq!(t.len(), rows * take);
+                for i in 0..rows {
+                    for j in 0..take {
+                        assert_eq!(t[j * rows + i], a[i * cols + j], "{rows} × {cols}, {take}");
+                    }
+                }
+            }
+            assert_eq!(
+                transpose(&a, rows, cols),
+                transpose_first(&a, rows, cols, cols)
+            );
+        }
     }
 }
