@@ -31,6 +31,21 @@ pub fn disc_charge(columns: &[ChargeColumn], r: f64, x0: f64) -> f64 {
     disc_charge_of(&nodal_density(columns), r, x0)
 }
 
+/// sin θ and cos²θ at the rule's points θ = −π/2 + (k + ½)·π/[`DISC_POINTS`], k ascending:
+/// the same for every disc, made once.
+fn disc_rule() -> &'static [(f64, f64)] {
+    static RULE: std::sync::OnceLock<Vec<(f64, f64)>> = std::sync::OnceLock::new();
+    RULE.get_or_init(|| {
+        let dt = std::f64::consts::PI / DISC_POINTS as f64;
+        (0..DISC_POINTS)
+            .map(|k| {
+                let t = -std::f64::consts::FRAC_PI_2 + (k as f64 + 0.5) * dt;
+                (t.sin(), t.cos().powi(2))
+            })
+            .collect()
+    })
+}
+
 /// [`disc_charge`] from the columns' [`nodal_density`] (taken once for many discs).
 fn disc_charge_of(cols: &[(f64, f64)], r: f64, x0: f64) -> f64 {
     if !(r.is_finite() && x0.is_finite() && r >= 0.0) {
@@ -39,9 +54,14 @@ fn disc_charge_of(cols: &[(f64, f64)], r: f64, x0: f64) -> f64 {
     if cols.is_empty() || r == 0.0 {
         return 0.0;
     }
-    // Density (F/m per mm of x) at x, linear between node columns, held beyond the ends.
-    let density = |x: f64| -> f64 {
-        let k = cols.partition_point(|c| c.0 <= x);
+    // Density (F/m per mm of x) at x, linear between node columns, held beyond the ends; the
+    // columns at or left of x counted on from the last point's (x rises with θ), the count a
+    // search from the start would find.
+    let mut k = 0;
+    let mut density = |x: f64| -> f64 {
+        while k < cols.len() && cols[k].0 <= x {
+            k += 1;
+        }
         match k {
             0 => cols[0].1,
             k if k == cols.len() => cols[k - 1].1,
@@ -52,11 +72,9 @@ fn disc_charge_of(cols: &[(f64, f64)], r: f64, x0: f64) -> f64 {
         }
     };
     let dt = std::f64::consts::PI / DISC_POINTS as f64;
-    let sum: f64 = (0..DISC_POINTS)
-        .map(|k| {
-            let t = -std::f64::consts::FRAC_PI_2 + (k as f64 + 0.5) * dt;
-            density(x0 + r * t.sin()) * 2.0 * r * r * t.cos().powi(2)
-        })
+    let sum: f64 = disc_rule()
+        .iter()
+        .map(|&(sin_t, cos2_t)| density(x0 + r * sin_t) * 2.0 * r * r * cos2_t)
         .sum();
     // (F/m per mm) × mm² = mm·F/m.
     sum * dt * 1e-3
