@@ -210,9 +210,10 @@ fn spd_inverse(a: &[f64], n: usize) -> Option<Vec<f64>> {
     Some(b)
 }
 
-/// The least energy of δψ with the modes whose inverse matrices are `inv`, taking the values
-/// `g` (per unknown node) on every constraint line `(node, θ)`: ΔL and each mode's
-/// coefficients. With C_m the lines' cos(mθ) rows, S = Σ_m C_m·K_m⁻¹·C_mᵀ, λ = S⁻¹·G,
+/// The least energy of δψ with the modes whose inverse matrices are `inv` (each its lower
+/// triangle, row after row: element (i, j), j ≤ i, at i(i + 1)/2 + j), taking the values `g` (per
+/// unknown node) on every constraint line `(node, θ)`, the lines in the order of their nodes:
+/// ΔL and each mode's coefficients. With C_m the lines' cos(mθ) rows, S = Σ_m C_m·K_m⁻¹·C_mᵀ, λ = S⁻¹·G,
 /// a_m = K_m⁻¹·C_mᵀ·λ and ΔL = Gᵀλ.
 fn least_energy(
     inv: &[Vec<f64>],
@@ -221,6 +222,15 @@ fn least_energy(
     nu: usize,
 ) -> Option<(f64, Vec<Vec<f64>>)> {
     let nc = lines.len();
+    debug_assert!(
+        lines.windows(2).all(|w| w[0].0 <= w[1].0),
+        "lines in node order"
+    );
+    // Element (i, j) of a symmetric matrix kept as its lower triangle.
+    let low = |i: usize, j: usize| {
+        let (i, j) = (i.max(j), i.min(j));
+        i * (i + 1) / 2 + j
+    };
     let mut s = vec![0.0; nc * nc];
     // cos(mθ) of every line, mode by mode.
     let cos: Vec<f64> = (0..inv.len())
@@ -228,11 +238,12 @@ fn least_energy(
         .collect();
     // Row by row, each element summed over the modes in their order: one row of S stays in
     // the cache while every mode adds to it (rather than all of S passed over once per mode).
+    // A row's lines are of nodes up to its own: row ka of each inverse's triangle holds them.
     for (a, &(ka, _)) in lines.iter().enumerate() {
         let row = &mut s[a * nc..a * nc + a + 1];
         for (m, k) in inv.iter().enumerate() {
             let cm = &cos[m * nc..(m + 1) * nc];
-            let (ca, k_row) = (cm[a], &k[ka * nu..(ka + 1) * nu]);
+            let (ca, k_row) = (cm[a], &k[ka * (ka + 1) / 2..]);
             for ((x, &(kb, _)), &cb) in row.iter_mut().zip(lines).zip(cm) {
                 *x += ca * cb * k_row[kb];
             }
@@ -259,7 +270,7 @@ fn least_energy(
                 rhs[kb] += (m as f64 * th).cos() * l;
             }
             (0..nu)
-                .map(|i| (0..nu).map(|j| k[i * nu + j] * rhs[j]).sum())
+                .map(|i| (0..nu).map(|j| k[low(i, j)] * rhs[j]).sum())
                 .collect()
         })
         .collect();
@@ -499,7 +510,12 @@ fn solve_with(
             }
         }
         match spd_inverse(&k, nu) {
-            Some(i) => inv.push(i),
+            // Kept as its lower triangle, row after row (half the memory of the full matrix).
+            Some(i) => inv.push(
+                (0..nu)
+                    .flat_map(|r| i[r * nu..=r * nu + r].iter().copied())
+                    .collect(),
+            ),
             None => break,
         }
     }
