@@ -439,18 +439,23 @@ impl Circulant {
         self.ix.process(&mut t);
         let scale = 1.0 / (px * py) as f64;
         let mut out = vec![0.0; nx * ny];
-        // The first nx columns of the q × px spectrum, as nx rows of q.
-        let mut rows = transpose_first(&t, q, px, nx);
         let mut row = vec![0.0; py];
-        for (i, spec) in rows.chunks_exact_mut(q).enumerate() {
-            // A real row's spectrum: the first bin is real, and so is the last when py is even.
-            spec[0].im = 0.0;
-            if py % 2 == 0 {
-                spec[q - 1].im = 0.0;
-            }
-            let _ = self.c2r.process(spec, &mut row);
-            for j in 0..ny {
-                out[i * ny + j] = row[j] * scale;
+        // The first nx columns of the q × px spectrum, a tile's width of them at a time, as rows
+        // of q (a tiled transpose, not a cache line per value).
+        let mut rows = Vec::new();
+        for i0 in (0..nx).step_by(TILE) {
+            transpose_first(&t[i0..], q, px, TILE.min(nx - i0), &mut rows);
+            for (i, spec) in (i0..).zip(rows.chunks_exact_mut(q)) {
+                // A real row's spectrum: the first bin is real, and so is the last when py is
+                // even.
+                spec[0].im = 0.0;
+                if py % 2 == 0 {
+                    spec[q - 1].im = 0.0;
+                }
+                let _ = self.c2r.process(spec, &mut row);
+                for j in 0..ny {
+                    out[i * ny + j] = row[j] * scale;
+                }
             }
         }
         out
@@ -472,18 +477,29 @@ fn smooth_len(n: usize) -> usize {
         .unwrap_or(n)
 }
 
-/// The transpose of a `rows` × `cols` row-major array, tile by tile (a tile's rows and columns
-/// both within the cache: written column by column over a whole row, each value would land on
-/// a cache line of its own).
+/// The side of the square tiles the transposes go by (a tile's rows and columns both within
+/// the cache: written column by column over a whole row, each value would land on a cache line
+/// of its own).
+const TILE: usize = 16;
+
+/// The transpose of a `rows` × `cols` row-major array, tile by tile.
 fn transpose(a: &[Complex<f64>], rows: usize, cols: usize) -> Vec<Complex<f64>> {
-    transpose_first(a, rows, cols, cols)
+    let mut t = Vec::new();
+    transpose_first(a, rows, cols, cols, &mut t);
+    t
 }
 
-/// The transpose of the first `take` columns of a `rows` × `cols` row-major array (`take` rows
-/// of `rows`), tile by tile as [`transpose`].
-fn transpose_first(a: &[Complex<f64>], rows: usize, cols: usize, take: usize) -> Vec<Complex<f64>> {
-    const TILE: usize = 16;
-    let mut t = vec![Complex::new(0.0, 0.0); rows * take];
+/// The transpose of the first `take` columns of a `rows` × `cols` row-major array `a` (`take` rows
+/// of `rows`) into `t` (resized; every value written), tile by tile. `a` may start part way
+/// along its first row (its columns then start there); it holds `rows` rows of `cols` from there.
+fn transpose_first(
+    a: &[Complex<f64>],
+    rows: usize,
+    cols: usize,
+    take: usize,
+    t: &mut Vec<Complex<f64>>,
+) {
+    t.resize(rows * take, Complex::new(0.0, 0.0));
     for i0 in (0..rows).step_by(TILE) {
         for j0 in (0..take).step_by(TILE) {
             for i in i0..(i0 + TILE).min(rows) {
@@ -493,7 +509,6 @@ fn transpose_first(a: &[Complex<f64>], rows: usize, cols: usize, take: usize) ->
             }
         }
     }
-    t
 }
 
 /// The handle's copper of a probe in the centreline's frame: half width, and its y range from
@@ -818,7 +833,8 @@ mod tests {
                 .map(|k| Complex::new(k as f64, -(k as f64) - 0.5))
                 .collect();
             for take in [1, cols / 2 + 1, cols] {
-                let t = transpose_first(&a, rows, cols, take);
+                let mut t = vec![Complex::new(7.0, 7.0); 3];
+                transpose_first(&a, rows, cols, take, &mut t);
                 assert_eq!(t.len(), rows * take);
                 for i in 0..rows {
                     for j in 0..take {
@@ -826,10 +842,25 @@ mod tests {
                     }
                 }
             }
-            assert_eq!(
-                transpose(&a, rows, cols),
-                transpose_first(&a, rows, cols, cols)
-            );
+            let whole = transpose(&a, rows, cols);
+            for i in 0..rows {
+                for j in 0..cols {
+                    assert_eq!(whole[j * rows + i], a[i * cols + j], "{rows} × {cols}");
+                }
+            }
+            // Columns from part way along: the last `take` of them.
+            let from = cols / 3;
+            let mut t = Vec::new();
+            transpose_first(&a[from..], rows, cols, cols - from, &mut t);
+            for i in 0..rows {
+                for j in 0..cols - from {
+                    assert_eq!(
+                        t[j * rows + i],
+                        a[i * cols + from + j],
+                        "{rows} × {cols} from {from}"
+                    );
+                }
+            }
         }
     }
 }
