@@ -28,26 +28,24 @@ const DISC_POINTS: usize = 4000;
 /// midpoint rule in θ.
 /// NaN when `r` or `x0` is not a finite number or `r` is negative.
 pub fn disc_charge(columns: &[ChargeColumn], r: f64, x0: f64) -> f64 {
-    disc_charge_of(&nodal_density(columns), r, x0)
+    disc_charge_of(&nodal_density(columns), &disc_rule(), r, x0)
 }
 
-/// sin θ and cos²θ at the rule's points θ = −π/2 + (k + ½)·π/[`DISC_POINTS`], k ascending:
-/// the same for every disc, made once.
-fn disc_rule() -> &'static [(f64, f64)] {
-    static RULE: std::sync::OnceLock<Vec<(f64, f64)>> = std::sync::OnceLock::new();
-    RULE.get_or_init(|| {
-        let dt = std::f64::consts::PI / DISC_POINTS as f64;
-        (0..DISC_POINTS)
-            .map(|k| {
-                let t = -std::f64::consts::FRAC_PI_2 + (k as f64 + 0.5) * dt;
-                (t.sin(), t.cos().powi(2))
-            })
-            .collect()
-    })
+/// sin θ and cos²θ at the rule's points θ = −π/2 + (k + ½)·π/[`DISC_POINTS`], k ascending: the
+/// same for every disc, made once for many.
+fn disc_rule() -> Vec<(f64, f64)> {
+    let dt = std::f64::consts::PI / DISC_POINTS as f64;
+    (0..DISC_POINTS)
+        .map(|k| {
+            let t = -std::f64::consts::FRAC_PI_2 + (k as f64 + 0.5) * dt;
+            (t.sin(), t.cos().powi(2))
+        })
+        .collect()
 }
 
-/// [`disc_charge`] from the columns' [`nodal_density`] (taken once for many discs).
-fn disc_charge_of(cols: &[(f64, f64)], r: f64, x0: f64) -> f64 {
+/// [`disc_charge`] from the columns' [`nodal_density`] and the [`disc_rule`] (each taken once
+/// for many discs).
+fn disc_charge_of(cols: &[(f64, f64)], rule: &[(f64, f64)], r: f64, x0: f64) -> f64 {
     if !(r.is_finite() && x0.is_finite() && r >= 0.0) {
         return f64::NAN;
     }
@@ -72,7 +70,7 @@ fn disc_charge_of(cols: &[(f64, f64)], r: f64, x0: f64) -> f64 {
         }
     };
     let dt = std::f64::consts::PI / DISC_POINTS as f64;
-    let sum: f64 = disc_rule()
+    let sum: f64 = rule
         .iter()
         .map(|&(sin_t, cos2_t)| density(x0 + r * sin_t) * 2.0 * r * r * cos2_t)
         .sum();
@@ -187,9 +185,10 @@ pub fn line_coupling(
 pub fn surface_coupling(line: &Line, gap: f64, r: f64, offsets: &[f64]) -> Result<Vec<f64>, Error> {
     let (cs, face) = face_section(line, gap)?;
     let density = nodal_density(&ground_charge(&cs, face, ACCURACY)?);
+    let rule = disc_rule();
     Ok(offsets
         .iter()
-        .map(|&x0| disc_charge_of(&density, r, x0))
+        .map(|&x0| disc_charge_of(&density, &rule, r, x0))
         .collect())
 }
 
