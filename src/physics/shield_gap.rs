@@ -353,23 +353,10 @@ fn solve_with(
         for e in 0..x.len() - 1 {
             let (x0, x1) = (x[e], x[e + 1]);
             let h = x1 - x0;
-            let mid = 0.5 * (x0 + x1);
-            whole.push(Cell {
-                plate: pi,
-                z: p.z,
-                d0: x0,
-                d1: x1,
-                nodes: [
-                    (index[pi][e], (x1 - mid) / h, -1.0 / h),
-                    (index[pi][e + 1], (mid - x0) / h, 1.0 / h),
-                ],
-            });
-            for s in 0..mesh.cells {
-                elem_of.push((whole.len() - 1, s == 0));
-                let c0 = x0 + h * s as f64 / mesh.cells as f64;
-                let c1 = x0 + h * (s + 1) as f64 / mesh.cells as f64;
+            // The part [c0, c1] of element e, its nodes' hat values at its middle and slopes.
+            let part = |c0: f64, c1: f64| {
                 let mid = 0.5 * (c0 + c1);
-                cells.push(Cell {
+                Cell {
                     plate: pi,
                     z: p.z,
                     d0: c0,
@@ -378,7 +365,14 @@ fn solve_with(
                         (index[pi][e], (x1 - mid) / h, -1.0 / h),
                         (index[pi][e + 1], (mid - x0) / h, 1.0 / h),
                     ],
-                });
+                }
+            };
+            whole.push(part(x0, x1));
+            for s in 0..mesh.cells {
+                elem_of.push((whole.len() - 1, s == 0));
+                let c0 = x0 + h * s as f64 / mesh.cells as f64;
+                let c1 = x0 + h * (s + 1) as f64 / mesh.cells as f64;
+                cells.push(part(c0, c1));
             }
         }
     }
