@@ -251,7 +251,7 @@ pub fn flux_filaments(
     x: f64,
     z0: f64,
 ) -> f64 {
-    FluxSampler::new(shape, fil, &[], 0.0).flux_filaments(&field, x, z0)
+    FluxSampler::new(shape, fil, &Default::default(), 0.0).flux_filaments(&field, x, z0)
 }
 
 /// [`loop_nodes`]' list: (u m, weight·chord m²).
@@ -274,7 +274,7 @@ impl FluxSampler {
     pub fn new(
         shape: &LoopShape,
         fil: &[(f64, f64, f64)],
-        points: &[shield_gap::GapPoint],
+        points: &shield_gap::GapSamples,
         r_eq: f64,
     ) -> FluxSampler {
         let filaments = fil

@@ -188,7 +188,7 @@ pub struct Response {
     /// factor); a test line's or a trace's field under the apex does not (not in `mutual`).
     pub handle_area_m2: f64,
     /// Its stream function sampled over the plates, for the flux of a non-uniform field.
-    pub gap_points: Vec<shield_gap::GapPoint>,
+    pub gap_points: shield_gap::GapSamples,
     /// Radius of the round loop the correction was solved on, m ([`shield_radius_m`]).
     pub gap_radius_m: f64,
     /// The connector launch's budget: its return loss to f_max and its effect on the probe

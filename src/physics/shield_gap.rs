@@ -112,7 +112,55 @@ pub struct GapCurrent {
     /// Added effective area, m².
     pub d_area: f64,
     /// The correction's stream function sampled over the plates.
-    pub points: Vec<GapPoint>,
+    pub points: GapSamples,
+}
+
+/// The samples of [`GapCurrent::points`]: each element's midpoint at `angles` evenly spaced
+/// angles θ = t·2π/angles from the gap. Kept as each element's offset and height and each
+/// sample's weight (a quarter of the memory of a [`GapPoint`] per sample, the same values:
+/// [`GapSamples::iter`]): a family's kept corrections and predictions hold them to the end.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct GapSamples {
+    /// Angles per element.
+    angles: usize,
+    /// Each element's (offset d, plate height z), m, in the order of the weights' rows.
+    elements: Vec<(f64, f64)>,
+    /// δψ·dS of element e at angle t at `e·angles + t`.
+    w: Vec<f64>,
+}
+
+impl GapSamples {
+    /// Every sample, element by element and angle by angle from the gap.
+    pub fn iter(&self) -> impl Iterator<Item = GapPoint> + '_ {
+        let dth = 2.0 * PI / self.angles as f64;
+        self.elements
+            .iter()
+            .zip(self.w.chunks_exact(self.angles.max(1)))
+            .flat_map(move |(&(d, z), ws)| {
+                ws.iter().enumerate().map(move |(t, &w)| GapPoint {
+                    d,
+                    theta: t as f64 * dth,
+                    z,
+                    w,
+                })
+            })
+    }
+
+    /// How many samples.
+    pub fn len(&self) -> usize {
+        self.w.len()
+    }
+
+    /// Whether there are none.
+    pub fn is_empty(&self) -> bool {
+        self.w.is_empty()
+    }
+
+    /// Drops every sample.
+    pub fn clear(&mut self) {
+        self.elements.clear();
+        self.w.clear();
+    }
 }
 
 /// One integration cell of a plate.
@@ -548,11 +596,15 @@ fn solve_with(
         }
         match spd_inverse(&k, nu) {
             // Kept as its lower triangle, row after row (half the memory of the full matrix).
-            Some(i) => inv.push(
-                (0..nu)
-                    .flat_map(|r| i[r * nu..=r * nu + r].iter().copied())
-                    .collect(),
-            ),
+            Some(i) => {
+                // Sized at once (a collected iterator of unknown length would double its way
+                // up, to as much as the full matrix).
+                let mut low = Vec::with_capacity(tri(nu, 0));
+                for r in 0..nu {
+                    low.extend_from_slice(&i[r * nu..=r * nu + r]);
+                }
+                inv.push(low);
+            }
             None => break,
         }
     }
@@ -587,7 +639,11 @@ fn solve_with(
     // Sized at once: the result is kept for the process, and doubling would leave it up to
     // half empty (and copy it as it grew).
     let elements: usize = nodes.iter().map(|x| x.len() - 1).sum();
-    let mut points = Vec::with_capacity(elements * mesh.angles);
+    let mut points = GapSamples {
+        angles: mesh.angles,
+        elements: Vec::with_capacity(elements),
+        w: Vec::with_capacity(elements * mesh.angles),
+    };
     let dth = 2.0 * PI / mesh.angles as f64;
     // cos(mθ) for every sample angle and mode, once (the same values the loop would compute).
     let cos_mt: Vec<Vec<f64>> = (0..mesh.angles)
@@ -614,18 +670,13 @@ fn solve_with(
                     a
                 })
                 .collect();
-            for (t, cos_m) in cos_mt.iter().enumerate() {
-                let th = t as f64 * dth;
+            points.elements.push((mid, p.z));
+            for cos_m in &cos_mt {
                 let mut v = 0.0;
                 for (a, c) in a_m.iter().zip(cos_m) {
                     v += a * c;
                 }
-                points.push(GapPoint {
-                    d: mid,
-                    theta: th,
-                    z: p.z,
-                    w: v * (r + mid) * h * dth,
-                });
+                points.w.push(v * (r + mid) * h * dth);
             }
         }
     }
@@ -720,6 +771,28 @@ mod tests {
             assert!(rel(f, e) < 3e-3, "{f} vs {e}");
             assert!(rel(f, e) < 0.25 * rel(e, x), "{f} vs {e} (four cells: {x})");
         }
+    }
+
+    /// The samples come out element by element, angle by angle from the gap, each with its
+    /// element's offset and height and its own weight; cleared, none.
+    #[test]
+    fn samples_iterate_element_by_element() {
+        let mut s = GapSamples {
+            angles: 4,
+            elements: vec![(1.0, -2.0), (3.0, 5.0)],
+            w: (0..8).map(|k| k as f64 * 0.5).collect(),
+        };
+        let pts: Vec<GapPoint> = s.iter().collect();
+        assert_eq!(pts.len(), 8);
+        assert_eq!(s.len(), 8);
+        for (k, q) in pts.iter().enumerate() {
+            let (e, t) = (k / 4, k % 4);
+            assert_eq!((q.d, q.z), s.elements[e]);
+            assert_eq!(q.theta, t as f64 * (2.0 * PI / 4.0));
+            assert_eq!(q.w, k as f64 * 0.5);
+        }
+        s.clear();
+        assert!(s.is_empty() && s.iter().next().is_none());
     }
 
     /// The inverse times the matrix is the identity, on symmetric positive-definite matrices
