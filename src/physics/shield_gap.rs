@@ -33,9 +33,10 @@
 //! (m = 0: 2π·rr′a′b′·q_1). The logarithmic singularity of every q_n at r = r′ on one plate is
 //! the same, −ln((r − r′)² + Δz²)/√(rr′), and is integrated exactly over each pair of cells with
 //! [`ln_gmd`]; the rest is taken at the cells' centres (for two elements far apart against their
-//! size, [`GapMesh::far`], at the elements' centres: one cell each). The cut's values are imposed on lines
-//! spaced about π/M apart across it at every node (the modes cannot resolve closer lines); the
-//! least energy is then ½·Gᵀ(Σ_m C_m·K_m⁻¹·C_mᵀ)⁻¹·G with C_m the lines' cos(mθ) rows.
+//! size, [`GapMesh::far`], at the elements' centres: one cell each). The cut's values are
+//! imposed on lines spaced about π/M apart across it at every node (the modes cannot resolve
+//! closer lines); the least energy is then ½·Gᵀ(Σ_m C_m·K_m⁻¹·C_mᵀ)⁻¹·G with C_m the lines'
+//! cos(mθ) rows.
 //!
 //! From it: ΔL (for 1 A) adds to the outer inductance, ΔA = ∫δψ dS (the m = 0 part) to the
 //! effective area, and the flux of a non-uniform field through δψ to the mutual inductance
@@ -269,10 +270,10 @@ fn spd_inverse(a: &[f64], n: usize) -> Option<Vec<f64>> {
 }
 
 /// The least energy of δψ with the modes whose inverse matrices are `inv` (each its lower
-/// triangle, row after row: element (i, j), j ≤ i, at i(i + 1)/2 + j), taking the values `g` (per
-/// unknown node) on every constraint line `(node, θ)`, the lines in the order of their nodes:
-/// ΔL and each mode's coefficients. With C_m the lines' cos(mθ) rows, S = Σ_m C_m·K_m⁻¹·C_mᵀ, λ = S⁻¹·G,
-/// a_m = K_m⁻¹·C_mᵀ·λ and ΔL = Gᵀλ.
+/// triangle, row after row: element (i, j), j ≤ i, at i(i + 1)/2 + j), taking the values `g`
+/// (per unknown node) on every constraint line `(node, θ)`, the lines in the order of their
+/// nodes: ΔL and each mode's coefficients. With C_m the lines' cos(mθ) rows,
+/// S = Σ_m C_m·K_m⁻¹·C_mᵀ, λ = S⁻¹·G, a_m = K_m⁻¹·C_mᵀ·λ and ΔL = Gᵀλ.
 fn least_energy(
     inv: &[Vec<f64>],
     g: &[f64],
