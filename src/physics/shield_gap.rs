@@ -147,16 +147,6 @@ impl GapSamples {
             })
     }
 
-    /// How many samples.
-    pub fn len(&self) -> usize {
-        self.w.len()
-    }
-
-    /// Whether there are none.
-    pub fn is_empty(&self) -> bool {
-        self.w.is_empty()
-    }
-
     /// Drops every sample.
     pub fn clear(&mut self) {
         self.elements.clear();
@@ -224,12 +214,20 @@ fn plate_nodes(p: &Plate, n: usize, wf: f64) -> Vec<f64> {
     x
 }
 
-/// Inverts a symmetric positive-definite matrix (row-major, n × n; its lower triangle is read).
-/// `None` when it is not positive definite.
+/// Where a symmetric matrix kept as its lower triangle, row after row, holds element (i, j)
+/// (either order).
+fn tri(i: usize, j: usize) -> usize {
+    let (i, j) = (i.max(j), i.min(j));
+    i * (i + 1) / 2 + j
+}
+
+/// Inverts a symmetric positive-definite matrix (row-major, n × n; its lower triangle is read),
+/// giving the inverse's lower triangle, row after row (element (i, j) at [`tri`]). `None` when
+/// it is not positive definite.
 ///
 /// From its Cholesky factor: W = L⁻¹ row by row (lower triangular), then A⁻¹ = Wᵀ·W on the
-/// lower triangle, mirrored: about n³/2 multiply-adds, each step a vectorisable update of a
-/// row by a multiple of another.
+/// lower triangle: about n³/2 multiply-adds, each step a vectorisable update of a row by a
+/// multiple of another.
 fn spd_inverse(a: &[f64], n: usize) -> Option<Vec<f64>> {
     let mut l = a.to_vec();
     if !cholesky_factor(&mut l, n) {
@@ -251,29 +249,24 @@ fn spd_inverse(a: &[f64], n: usize) -> Option<Vec<f64>> {
         row[..=i].iter_mut().for_each(|x| *x /= d);
     }
     // (WᵀW)_ab = Σ_{k ≥ a} W_ka·W_kb for b ≤ a: row a gathers W_ka times W_k's first a + 1.
-    let mut b = vec![0.0; n * n];
+    let mut b = vec![0.0; tri(n, 0)];
     for k in 0..n {
         let wk = &w[k * n..k * n + n];
         for (ai, &wka) in wk[..=k].iter().enumerate() {
-            let row = &mut b[ai * n..=ai * n + ai];
+            let row = &mut b[tri(ai, 0)..=tri(ai, ai)];
             for (x, y) in row.iter_mut().zip(&wk[..=ai]) {
                 *x += wka * y;
             }
-        }
-    }
-    for i in 0..n {
-        for j in 0..i {
-            b[j * n + i] = b[i * n + j];
         }
     }
     Some(b)
 }
 
 /// The least energy of δψ with the modes whose inverse matrices are `inv` (each its lower
-/// triangle, row after row: element (i, j), j ≤ i, at i(i + 1)/2 + j), taking the values `g`
-/// (per unknown node) on every constraint line `(node, θ)`, the lines in the order of their
-/// nodes: ΔL and each mode's coefficients. With C_m the lines' cos(mθ) rows,
-/// S = Σ_m C_m·K_m⁻¹·C_mᵀ, λ = S⁻¹·G, a_m = K_m⁻¹·C_mᵀ·λ and ΔL = Gᵀλ.
+/// triangle, row after row, as [`spd_inverse`] gives it), taking the values `g` (per unknown
+/// node) on every constraint line `(node, θ)`, the lines in the order of their nodes: ΔL and
+/// each mode's coefficients. With C_m the lines' cos(mθ) rows, S = Σ_m C_m·K_m⁻¹·C_mᵀ,
+/// λ = S⁻¹·G, a_m = K_m⁻¹·C_mᵀ·λ and ΔL = Gᵀλ.
 fn least_energy(
     inv: &[Vec<f64>],
     g: &[f64],
@@ -285,11 +278,6 @@ fn least_energy(
         lines.windows(2).all(|w| w[0].0 <= w[1].0),
         "lines in node order"
     );
-    // Element (i, j) of a symmetric matrix kept as its lower triangle.
-    let low = |i: usize, j: usize| {
-        let (i, j) = (i.max(j), i.min(j));
-        i * (i + 1) / 2 + j
-    };
     let mut s = vec![0.0; nc * nc];
     // cos(mθ) of every line, mode by mode.
     let cos: Vec<f64> = (0..inv.len())
@@ -302,7 +290,7 @@ fn least_energy(
         let row = &mut s[a * nc..a * nc + a + 1];
         for (m, k) in inv.iter().enumerate() {
             let cm = &cos[m * nc..(m + 1) * nc];
-            let (ca, k_row) = (cm[a], &k[ka * (ka + 1) / 2..]);
+            let (ca, k_row) = (cm[a], &k[tri(ka, 0)..]);
             for ((x, &(kb, _)), &cb) in row.iter_mut().zip(lines).zip(cm) {
                 *x += ca * cb * k_row[kb];
             }
@@ -329,7 +317,7 @@ fn least_energy(
                 rhs[kb] += (m as f64 * th).cos() * l;
             }
             (0..nu)
-                .map(|i| (0..nu).map(|j| k[low(i, j)] * rhs[j]).sum())
+                .map(|i| (0..nu).map(|j| k[tri(i, j)] * rhs[j]).sum())
                 .collect()
         })
         .collect();
@@ -462,7 +450,6 @@ fn solve_with(
     // to one element, mode by mode, are contiguous), then taken apart mode by mode. Only the
     // lower triangle (row ≥ column) is stored, row after row: element (i, j) at `tri(i, j)`.
     let modes = nm + 1;
-    let tri = |i: usize, j: usize| i * (i + 1) / 2 + j;
     let mut k_all = vec![0.0; tri(nu, 0) * modes];
     let mut q_self = Vec::with_capacity(nm + 2);
     // Per cell pair, each mode's three angular terms with the constant factor μ0/(4π)·π·wa·wb
@@ -551,7 +538,7 @@ fn solve_with(
                     for (((x, p), q), r) in v.iter_mut().zip(&c1).zip(&c2).zip(&c3) {
                         *x = rr_ss * p + ff * q + cross * r;
                     }
-                    let at = tri(ia.max(ib), ia.min(ib)) * modes;
+                    let at = tri(ia, ib) * modes;
                     let times = if !same && ia == ib { 2 } else { 1 };
                     for _ in 0..times {
                         for (k, x) in k_all[at..at + modes].iter_mut().zip(&v) {
@@ -576,7 +563,7 @@ fn solve_with(
                 if a == b && u < v {
                     continue;
                 }
-                let at = |i: usize, j: usize| tri(i.max(j), i.min(j)) * modes;
+                let at = |i: usize, j: usize| tri(i, j) * modes;
                 let (to, from) = (at(*u, *v), at(u0, v0));
                 k_all.copy_within(from..from + modes, to);
             }
@@ -595,17 +582,9 @@ fn solve_with(
                 k[i * nu + j] = k_all[tri(i, j) * modes + m];
             }
         }
+        // Each inverse kept as its lower triangle (half the memory of the full matrix).
         match spd_inverse(&k, nu) {
-            // Kept as its lower triangle, row after row (half the memory of the full matrix).
-            Some(i) => {
-                // Sized at once (a collected iterator of unknown length would double its way
-                // up, to as much as the full matrix).
-                let mut low = Vec::with_capacity(tri(nu, 0));
-                for r in 0..nu {
-                    low.extend_from_slice(&i[r * nu..=r * nu + r]);
-                }
-                inv.push(low);
-            }
+            Some(i) => inv.push(i),
             None => break,
         }
     }
@@ -785,7 +764,6 @@ mod tests {
         };
         let pts: Vec<GapPoint> = s.iter().collect();
         assert_eq!(pts.len(), 8);
-        assert_eq!(s.len(), 8);
         for (k, q) in pts.iter().enumerate() {
             let (e, t) = (k / 4, k % 4);
             assert_eq!((q.d, q.z), s.elements[e]);
@@ -793,7 +771,7 @@ mod tests {
             assert_eq!(q.w, k as f64 * 0.5);
         }
         s.clear();
-        assert!(s.is_empty() && s.iter().next().is_none());
+        assert!(s.iter().next().is_none());
     }
 
     /// The inverse times the matrix is the identity, on symmetric positive-definite matrices
@@ -823,7 +801,7 @@ mod tests {
                 let inv = spd_inverse(a, n).expect("positive definite");
                 for i in 0..n {
                     for j in 0..n {
-                        let p: f64 = (0..n).map(|k| a[i * n + k] * inv[k * n + j]).sum();
+                        let p: f64 = (0..n).map(|k| a[i * n + k] * inv[tri(k, j)]).sum();
                         let want = if i == j { 1.0 } else { 0.0 };
                         assert!((p - want).abs() < 1e-10, "n {n} ({i}, {j}): {p}");
                     }
@@ -850,7 +828,7 @@ mod tests {
         let inv = spd_inverse(&lower, n).expect("positive definite");
         for i in 0..n {
             for j in 0..n {
-                let p: f64 = (0..n).map(|k| full[i * n + k] * inv[k * n + j]).sum();
+                let p: f64 = (0..n).map(|k| full[i * n + k] * inv[tri(k, j)]).sum();
                 let want = if i == j { 1.0 } else { 0.0 };
                 assert!((p - want).abs() < 1e-12, "lower only ({i}, {j}): {p}");
             }
