@@ -172,10 +172,16 @@ impl System {
     }
 
     /// y = A·x on the unknowns (identity on held nodes), gathered row by row; returns x·y.
+    ///
+    /// Each node's terms in the order centre, east, west, south, north. A row's inner nodes
+    /// are taken in one pass over windows of its arrays cut to the row's inner length (the
+    /// compiler then drops the bounds checks); a missing row below or above stands as a
+    /// coupling of zero to a potential of zero, whose +0 changes no sum.
     fn apply(&self, x: &[f64], y: &mut [f64]) -> f64 {
         let nx = self.nx;
         let n = x.len();
         let rows = n / nx;
+        let zeros = vec![0.0; nx];
         let mut xy = 0.0;
         for j in 0..rows {
             let o = j * nx;
@@ -183,26 +189,33 @@ impl System {
             let xr = &x[o..o + nx];
             let dr = &self.diag[o..o + nx];
             let gr = &self.ax[o..o + nx];
-            // Centre, east and west.
-            yr[0] = dr[0] * xr[0] - gr[0] * xr[1];
-            for i in 1..nx - 1 {
-                yr[i] = dr[i] * xr[i] - gr[i] * xr[i + 1] - gr[i - 1] * xr[i - 1];
-            }
-            yr[nx - 1] = dr[nx - 1] * xr[nx - 1] - gr[nx - 2] * xr[nx - 2];
-            // South.
-            if j > 0 {
-                let xs = &x[o - nx..o];
-                let gs = &self.ay[o - nx..o];
-                for i in 0..nx {
-                    yr[i] -= gs[i] * xs[i];
-                }
-            }
-            // North.
-            if j + 1 < rows {
-                let xn = &x[o + nx..o + 2 * nx];
-                let gn = &self.ay[o..o + nx];
-                for i in 0..nx {
-                    yr[i] -= gn[i] * xn[i];
+            let (xs, gs) = if j > 0 {
+                (&x[o - nx..o], &self.ay[o - nx..o])
+            } else {
+                (&zeros[..], &zeros[..])
+            };
+            let (xn, gn) = if j + 1 < rows {
+                (&x[o + nx..o + 2 * nx], &self.ay[o..o + nx])
+            } else {
+                (&zeros[..], &zeros[..])
+            };
+            if nx == 1 {
+                yr[0] = dr[0] * xr[0] - gs[0] * xs[0] - gn[0] * xn[0];
+            } else {
+                yr[0] = dr[0] * xr[0] - gr[0] * xr[1] - gs[0] * xs[0] - gn[0] * xn[0];
+                let m = nx - 1;
+                yr[m] = dr[m] * xr[m] - gr[m - 1] * xr[m - 1] - gs[m] * xs[m] - gn[m] * xn[m];
+                let l = nx - 2;
+                let (yw, xc, xe, xw) = (&mut yr[1..1 + l], &xr[1..1 + l], &xr[2..2 + l], &xr[..l]);
+                let (dw, ge, gw) = (&dr[1..1 + l], &gr[1..1 + l], &gr[..l]);
+                let (xsw, gsw, xnw, gnw) =
+                    (&xs[1..1 + l], &gs[1..1 + l], &xn[1..1 + l], &gn[1..1 + l]);
+                for i in 0..l {
+                    yw[i] = dw[i] * xc[i]
+                        - ge[i] * xe[i]
+                        - gw[i] * xw[i]
+                        - gsw[i] * xsw[i]
+                        - gnw[i] * xnw[i];
                 }
             }
             xy += dot(xr, yr);
