@@ -407,10 +407,10 @@ impl Circulant {
     }
 
     /// The row transforms of the first `rows` rows of `data` (px × py), the rest zero,
-    /// transposed.
+    /// transposed. The zero rows' transforms (zeros) are not made: the transpose writes them.
     fn rows_forward(&self, data: &mut [f64], rows: usize) -> Vec<Complex<f64>> {
         let q = self.py / 2 + 1;
-        let mut spec = vec![Complex::new(0.0, 0.0); self.px * q];
+        let mut spec = vec![Complex::new(0.0, 0.0); rows * q];
         for i in 0..rows {
             // Lengths match the plan, so the transform cannot fail.
             let _ = self.r2c.process(
@@ -418,7 +418,7 @@ impl Circulant {
                 &mut spec[i * q..(i + 1) * q],
             );
         }
-        transpose(&spec, self.px, q)
+        transpose_padded(&spec, rows, q, self.px)
     }
 
     /// The product with `v` given on an `nx` × `ny` grid (nx ≤ px, ny ≤ py) placed at the
@@ -483,9 +483,30 @@ fn smooth_len(n: usize) -> usize {
 const TILE: usize = 16;
 
 /// The transpose of a `rows` × `cols` row-major array, tile by tile.
+#[cfg(test)]
 fn transpose(a: &[Complex<f64>], rows: usize, cols: usize) -> Vec<Complex<f64>> {
-    let mut t = Vec::new();
-    transpose_first(a, rows, cols, cols, &mut t);
+    transpose_padded(a, rows, cols, rows)
+}
+
+/// The transpose of a `rows` × `cols` row-major array as `cols` rows of `width` ≥ `rows`, the
+/// values beyond the first `rows` of each zero, tile by tile.
+fn transpose_padded(
+    a: &[Complex<f64>],
+    rows: usize,
+    cols: usize,
+    width: usize,
+) -> Vec<Complex<f64>> {
+    debug_assert!(width >= rows);
+    let mut t = vec![Complex::new(0.0, 0.0); cols * width];
+    for i0 in (0..rows).step_by(TILE) {
+        for j0 in (0..cols).step_by(TILE) {
+            for i in i0..(i0 + TILE).min(rows) {
+                for j in j0..(j0 + TILE).min(cols) {
+                    t[j * width + i] = a[i * cols + j];
+                }
+            }
+        }
+    }
     t
 }
 
@@ -824,8 +845,9 @@ mod tests {
         assert!(r > 1.0 && 20.0 * r.log10() < 0.2, "{r}");
     }
 
-    /// The tiled transposes move every value where the plain loops put it: whole arrays and
-    /// their first columns, on sizes below, at and across the tile's (16), square or not.
+    /// The tiled transposes move every value where the plain loops put it: whole arrays, padded
+    /// ones and their first columns, on sizes below, at and across the tile's (16), square or
+    /// not.
     #[test]
     fn tiled_transposes_put_every_value_in_its_place() {
         for (rows, cols) in [(1, 1), (3, 5), (16, 16), (17, 33), (40, 7), (271, 192)] {
@@ -846,6 +868,19 @@ mod tests {
             for i in 0..rows {
                 for j in 0..cols {
                     assert_eq!(whole[j * rows + i], a[i * cols + j], "{rows} × {cols}");
+                }
+            }
+            // Padded to rows of rows + 5, zeros beyond the first `rows`.
+            let padded = transpose_padded(&a, rows, cols, rows + 5);
+            assert_eq!(padded.len(), cols * (rows + 5));
+            for j in 0..cols {
+                for i in 0..rows + 5 {
+                    let want = if i < rows {
+                        a[i * cols + j]
+                    } else {
+                        Complex::new(0.0, 0.0)
+                    };
+                    assert_eq!(padded[j * (rows + 5) + i], want, "{rows} × {cols} padded");
                 }
             }
             // Columns from part way along: the last `take` of them.
