@@ -674,24 +674,31 @@ fn skewed(
 ) {
     // The sweeps' `middle`s are written out for four rows.
     const { assert!(ROWS == 4) };
-    let ends = |z: &mut [f64], s: usize| {
+    // The front's ends node by node (every step when no row is long enough for a middle),
+    // written out twice rather than as a closure, which the compiler left uninlined.
+    let whole = group == ROWS && nx > ROWS;
+    for s in 0..if whole { ROWS } else { nx + group - 1 } {
         for q in 0..group {
             if s >= q && s - q < nx {
                 node(z, at(s, q), s == q);
             }
         }
-    };
-    if group < ROWS || nx <= ROWS {
-        (0..nx + group - 1).for_each(|s| ends(z, s));
+    }
+    if !whole {
         return;
     }
-    (0..ROWS).for_each(|s| ends(z, s));
     let mut last = [0.0; ROWS];
     for (q, v) in last.iter_mut().enumerate() {
         *v = z[at(ROWS - 1, q)];
     }
     middle(z, last);
-    (nx..nx + ROWS - 1).for_each(|s| ends(z, s));
+    for s in nx..nx + ROWS - 1 {
+        for q in 0..group {
+            if s - q < nx {
+                node(z, at(s, q), false);
+            }
+        }
+    }
 }
 
 /// The conjugate-gradient step x += α·p, r −= α·q, which [`System::precondition`] makes
