@@ -222,7 +222,11 @@ pub fn aperture_flux_with(
             "{cells} cells of {h} mm (at most {MAX_GRID}; the outline is too large for the cells)"
         ));
     }
-    let nx = 2 * half_x as usize;
+    // The outline is mirror-symmetric about the loop's axis (x = 0), and so are the grid (its
+    // columns either side of it) and the sheet's current: only the m columns right of the
+    // axis are solved, the operator taking their mirror images into account ([`Mirrored`]).
+    let m = half_x as usize;
+    let nx = 2 * m;
     let ny = (j_hi - j_lo) as usize;
     let x0 = (-half_x + 0.5) * h;
     let y0 = (j_lo + 0.5) * h;
@@ -232,8 +236,8 @@ pub fn aperture_flux_with(
     // where the three outlines cross it.
     let outer = closed(&o.shape, o.ring_half_width);
     let inner = closed(&o.shape, -o.ring_half_width);
-    let mut copper = vec![false; nx * ny];
-    let mut flux = vec![false; nx * ny];
+    let mut copper = vec![false; m * ny];
+    let mut flux = vec![false; m * ny];
     for j in 0..ny {
         let y = y0 + j as f64 * h;
         let (xo, xi, xc) = (
@@ -241,8 +245,8 @@ pub fn aperture_flux_with(
             crossings(&inner, y),
             crossings(&centre, y),
         );
-        for i in 0..nx {
-            let x = x0 + i as f64 * h;
+        for u in 0..m {
+            let x = x0 + (m + u) as f64 * h;
             let in_gap = if o.side_gaps {
                 y.abs() < o.gap / 2.0 && x.abs() > 0.5 * o.shape.half_width()
             } else {
@@ -252,13 +256,14 @@ pub fn aperture_flux_with(
             let hand = o
                 .handle
                 .is_some_and(|(hw, a, b)| x.abs() <= hw && y >= a && y <= b);
-            let k = i * ny + j;
+            let k = u * ny + j;
             copper[k] = ring || hand;
             flux[k] = !copper[k] && odd_left(&xc, x);
         }
     }
-    // The kernel over every offset, embedded in a 2nx × 2ny circulant: a square loop's field
-    // is even in each offset, so it is taken from the quadrant of offsets ≥ 0.
+    // The kernel over every offset of the whole grid, embedded in a circulant of twice its size
+    // or more each way: a square loop's field is even in each offset, so it is taken from the
+    // quadrant of offsets ≥ 0.
     let quadrant = kernel.filter(|k| k.fits(nx, ny, h));
     let own;
     let quadrant = match quadrant {
@@ -268,8 +273,8 @@ pub fn aperture_flux_with(
             &own
         }
     };
-    let operator = Circulant::new(
-        smooth_len(2 * nx),
+    let operator = Mirrored::new(
+        smooth_len(nx),
         smooth_len(2 * ny),
         |di, dj| {
             if di < nx && dj < ny {
@@ -280,26 +285,27 @@ pub fn aperture_flux_with(
         },
         false,
     );
-    // The preconditioner: the inverse of the kernel wrapped onto a circulant of the grid's own
-    // size (Strang's circulant: each offset's value taken from the nearer of its images, the
+    // The preconditioner: the inverse of the kernel wrapped onto a circulant about the grid's
+    // own size (Strang's circulant: each offset's value taken from the nearer of its images, the
     // field of a cell's loop falling as the cube of the distance), whose spectrum is real (the
     // kernel is even) and positive (a floor guards the inverse should some grid give a value near
     // or below zero). A quarter of the operator's transform size (an eighth to a third of its
     // time per application): 7 to 10 iterations on the demo's sheets to [`CG_TOL`] against 7 to
     // 9 with the padded inverse (measured 2026-12-05), the ratios moved by at most 2e-6 of
     // themselves.
-    let (qx, qy) = (smooth_len(nx), smooth_len(ny));
-    // The nearer image's offset is at most half the size, within the grid's (a smooth length
+    let (qx, qy) = (smooth_len(m), smooth_len(ny));
+    // The nearer image's offset is at most half the period, within the grid's (a smooth length
     // is below twice its least).
-    debug_assert!(qx / 2 < nx.max(1) && qy / 2 < ny.max(1));
-    let preconditioner = Circulant::new(qx, qy, |di, dj| quadrant.at(di, dj), true);
-    let conv = |v: &[f64], c: &Circulant| c.apply(v, nx, ny);
+    debug_assert!(qx < nx.max(1) && qy / 2 < ny.max(1));
+    let preconditioner = Mirrored::new(qx, qy, |di, dj| quadrant.at(di, dj), true);
+    let conv = |v: &[f64], c: &Mirrored| c.apply(v, m, ny);
     let apply = |v: &[f64]| conv(v, &operator);
     // Conjugate gradients on the copper cells: K·ψ = −1 (B_z = −B0 from the sheet's current),
     // preconditioned by the grid's inverse circulant kernel restricted to the copper (the
     // copper is part of the grid, so this inverts the operator's order and its long reach: 7 to
     // 10 iterations on the demo's sheets to [`CG_TOL`], where plain conjugate gradients took 23
-    // to 51 to 1e-7).
+    // to 51 to 1e-7). Every sum is over the half: the whole's is twice it, and the iteration
+    // reads only their ratios.
     let mask = |v: &mut [f64]| {
         for (x, &c) in v.iter_mut().zip(&copper) {
             if !c {
@@ -307,7 +313,7 @@ pub fn aperture_flux_with(
             }
         }
     };
-    let n = nx * ny;
+    let n = m * ny;
     let mut psi = vec![0.0; n];
     let mut r: Vec<f64> = copper.iter().map(|&c| if c { -1.0 } else { 0.0 }).collect();
     let precond = |r: &[f64]| -> Vec<f64> {
@@ -348,9 +354,10 @@ pub fn aperture_flux_with(
         ));
     }
     let b = apply(&psi);
-    let area_mm2 = (0..n).filter(|&k| flux[k]).map(|k| 1.0 + b[k]).sum::<f64>() * h * h;
+    // Both halves.
+    let area_mm2 = 2.0 * (0..n).filter(|&k| flux[k]).map(|k| 1.0 + b[k]).sum::<f64>() * h * h;
     // ψ solves K·ψ = −1 with K in units of μ0/(4π): the current is 4π·H0·ψ.
-    let moment_mm3 = 4.0 * std::f64::consts::PI * psi.iter().sum::<f64>() * h * h;
+    let moment_mm3 = 2.0 * 4.0 * std::f64::consts::PI * psi.iter().sum::<f64>() * h * h;
     Ok(SheetFlux {
         area_mm2,
         moment_mm3,
@@ -368,6 +375,7 @@ struct Circulant {
     r2c: std::sync::Arc<dyn realfft::RealToComplex<f64>>,
     c2r: std::sync::Arc<dyn realfft::ComplexToReal<f64>>,
     fx: std::sync::Arc<dyn rustfft::Fft<f64>>,
+    #[cfg(test)]
     ix: std::sync::Arc<dyn rustfft::Fft<f64>>,
 }
 
@@ -386,6 +394,7 @@ impl Circulant {
             r2c: real.plan_fft_forward(py),
             c2r: real.plan_fft_inverse(py),
             fx: planner.plan_fft_forward(px),
+            #[cfg(test)]
             ix: planner.plan_fft_inverse(px),
         };
         let mut k = vec![0.0; px * py];
@@ -424,6 +433,8 @@ impl Circulant {
     /// The product with `v` given on an `nx` × `ny` grid (nx ≤ px, ny ≤ py) placed at the
     /// circulant's origin, read back on the same grid. Only the first nx rows carry data in, and
     /// only they are wanted out: the row transforms skip the rest.
+    /// (The sheets solve on [`Mirrored`]; this stands as its reference in the tests.)
+    #[cfg(test)]
     fn apply(&self, v: &[f64], nx: usize, ny: usize) -> Vec<f64> {
         let (px, py) = (self.px, self.py);
         let q = py / 2 + 1;
@@ -456,6 +467,183 @@ impl Circulant {
                 for j in 0..ny {
                     out[i * ny + j] = row[j] * scale;
                 }
+            }
+        }
+        out
+    }
+}
+
+/// DCT-II and DCT-III of length `n` applied to complex data (to its real and imaginary parts
+/// alike), each by one complex transform of length `n` (J. Makhoul, "A fast cosine transform in
+/// one and two dimensions", IEEE Trans. ASSP 28, 1980, from memory; the module tests hold both
+/// to their definitions):
+///
+/// ```text
+///     DCT-II:  X_k = Σ_{j<n} x_j·cos(π(2j + 1)k / 2n)
+///     DCT-III: y_j = X_0/2 + Σ_{0<k<n} X_k·cos(π(2j + 1)k / 2n)
+/// ```
+struct Cosine {
+    n: usize,
+    fwd: std::sync::Arc<dyn rustfft::Fft<f64>>,
+    inv: std::sync::Arc<dyn rustfft::Fft<f64>>,
+    /// e^(−iπk/2n).
+    twiddle: Vec<Complex<f64>>,
+}
+
+impl Cosine {
+    fn new(n: usize) -> Cosine {
+        let mut planner = FftPlanner::<f64>::new();
+        Cosine {
+            n,
+            fwd: planner.plan_fft_forward(n),
+            inv: planner.plan_fft_inverse(n),
+            twiddle: (0..n)
+                .map(|k| {
+                    Complex::from_polar(1.0, -std::f64::consts::PI * k as f64 / (2 * n) as f64)
+                })
+                .collect(),
+        }
+    }
+
+    /// The scratch the transforms need beside their own.
+    fn scratch_len(&self) -> usize {
+        self.fwd
+            .get_inplace_scratch_len()
+            .max(self.inv.get_inplace_scratch_len())
+    }
+
+    /// DCT-II of `x` in place (`v`: scratch of the same length, `work` of [`Cosine::scratch_len`]).
+    fn forward(&self, x: &mut [Complex<f64>], v: &mut [Complex<f64>], work: &mut [Complex<f64>]) {
+        let n = self.n;
+        // Even samples in order, then odd ones backwards.
+        for j in 0..n.div_ceil(2) {
+            v[j] = x[2 * j];
+        }
+        for j in 0..n / 2 {
+            v[n - 1 - j] = x[2 * j + 1];
+        }
+        self.fwd.process_with_scratch(v, work);
+        // V = Vr + i·Vi, the transforms of the real and imaginary parts; each part's DCT-II is
+        // Re(e^(−iπk/2n)·V_part[k]).
+        for k in 0..n {
+            let a = v[k];
+            let b = v[(n - k) % n].conj();
+            let (re, im) = ((a + b) * 0.5, (a - b) * Complex::new(0.0, -0.5));
+            let w = self.twiddle[k];
+            x[k] = Complex::new((w * re).re, (w * im).re);
+        }
+    }
+
+    /// DCT-III of `x` in place (`v`, `work`: as [`Cosine::forward`]'s).
+    fn inverse(&self, x: &mut [Complex<f64>], v: &mut [Complex<f64>], work: &mut [Complex<f64>]) {
+        let n = self.n;
+        // Each part's V[k] = e^(iπk/2n)·(X_k − i·X_(n−k)) (X_n = 0) gives back its DCT-II's
+        // input as a real sequence; the two parts ride on one complex transform.
+        let zero = Complex::new(0.0, 0.0);
+        for k in 0..n {
+            let back = if k == 0 { zero } else { x[n - k] };
+            v[k] = self.twiddle[k].conj() * (x[k] - Complex::new(0.0, 1.0) * back);
+        }
+        self.inv.process_with_scratch(v, work);
+        for j in 0..n.div_ceil(2) {
+            x[2 * j] = v[j] * 0.5;
+        }
+        for j in 0..n / 2 {
+            x[2 * j + 1] = v[n - 1 - j] * 0.5;
+        }
+    }
+}
+
+/// A circulant of period 2n × py whose value at offset (di, dj) is `kernel(|di|, |dj|)` for the
+/// nearer image (as [`Circulant`]'s), applied to data that is mirror-symmetric about an axis
+/// between two columns: given on the `m` ≤ n columns right of the axis (the left ones their
+/// mirror images, placed from the axis outwards), read back on the same columns. Along the
+/// axis's normal the mirror pair's transform is a DCT-II of length n and its inverse a DCT-III
+/// (S. A. Martucci, "Symmetric convolution and the discrete sine and cosine transforms", IEEE
+/// Trans. SP 42, 1994, from memory; the module tests hold the product to [`Circulant`]'s on the
+/// whole mirrored data): half the rows' transforms and half the columns' length of the whole
+/// circulant.
+struct Mirrored {
+    n: usize,
+    py: usize,
+    /// The whole circulant's spectrum (real: the kernel is even) at the first n frequencies
+    /// across the axis, `q` = py/2 + 1 rows of n.
+    spectrum: Vec<f64>,
+    cosine: Cosine,
+    r2c: std::sync::Arc<dyn realfft::RealToComplex<f64>>,
+    c2r: std::sync::Arc<dyn realfft::ComplexToReal<f64>>,
+}
+
+impl Mirrored {
+    /// As [`Circulant::new`] with px = 2n (or its inverse, `invert`).
+    fn new(n: usize, py: usize, kernel: impl Fn(usize, usize) -> f64, invert: bool) -> Mirrored {
+        let whole = Circulant::new(2 * n, py, kernel, invert);
+        let q = py / 2 + 1;
+        let spectrum = (0..q)
+            .flat_map(|ky| {
+                whole.spectrum[ky * 2 * n..ky * 2 * n + n]
+                    .iter()
+                    .map(|c| c.re)
+            })
+            .collect();
+        Mirrored {
+            n,
+            py,
+            spectrum,
+            cosine: Cosine::new(n),
+            r2c: whole.r2c,
+            c2r: whole.c2r,
+        }
+    }
+
+    /// The product with `v` given on `m` × `ny` cells (m ≤ n, ny ≤ py; column u at distance
+    /// u + ½ cells from the axis), read back on the same cells.
+    fn apply(&self, v: &[f64], m: usize, ny: usize) -> Vec<f64> {
+        let (n, py) = (self.n, self.py);
+        let q = py / 2 + 1;
+        let mut g = vec![0.0; m * py];
+        for u in 0..m {
+            g[u * py..u * py + ny].copy_from_slice(&v[u * ny..(u + 1) * ny]);
+        }
+        let mut rows = vec![Complex::new(0.0, 0.0); m * q];
+        let mut real_work = self.r2c.make_scratch_vec();
+        for u in 0..m {
+            // Lengths match the plan, so the transform cannot fail.
+            let _ = self.r2c.process_with_scratch(
+                &mut g[u * py..(u + 1) * py],
+                &mut rows[u * q..(u + 1) * q],
+                &mut real_work,
+            );
+        }
+        // Across the axis, each of the q frequencies along it: DCT-II, the spectrum, DCT-III.
+        let mut t = transpose_padded(&rows, m, q, n);
+        let mut scratch = vec![Complex::new(0.0, 0.0); n];
+        let mut work = vec![Complex::new(0.0, 0.0); self.cosine.scratch_len()];
+        for (line, s) in t.chunks_exact_mut(n).zip(self.spectrum.chunks_exact(n)) {
+            self.cosine.forward(line, &mut scratch, &mut work);
+            for (a, &b) in line.iter_mut().zip(s) {
+                *a *= b;
+            }
+            self.cosine.inverse(line, &mut scratch, &mut work);
+        }
+        // The product's scale: 2/n across the axis (the mirror pair's sum and the DCT-III's
+        // half weights), 1/py along it.
+        let scale = 2.0 / (n * py) as f64;
+        let mut out = vec![0.0; m * ny];
+        let mut row = vec![0.0; py];
+        transpose_first(&t, q, n, m, &mut rows);
+        let mut back_work = self.c2r.make_scratch_vec();
+        for (u, spec) in rows.chunks_exact_mut(q).enumerate() {
+            // A real row's spectrum: the first bin is real, and so is the last when py is even.
+            spec[0].im = 0.0;
+            if py % 2 == 0 {
+                spec[q - 1].im = 0.0;
+            }
+            let _ = self
+                .c2r
+                .process_with_scratch(spec, &mut row, &mut back_work);
+            for j in 0..ny {
+                out[u * ny + j] = row[j] * scale;
             }
         }
         out
@@ -843,6 +1031,88 @@ mod tests {
         assert!(h <= 1.108 / 2.0 + 1e-12, "{h}");
         let r = ratio_of(&big).unwrap();
         assert!(r > 1.0 && 20.0 * r.log10() < 0.2, "{r}");
+    }
+
+    /// The cosine transforms by one complex FFT are the DCT-II and DCT-III of their
+    /// definitions (sums written out here), on complex data of even and odd lengths 1 to 16.
+    #[test]
+    fn cosine_transforms_match_their_definitions() {
+        use std::f64::consts::PI;
+        for n in [1, 2, 3, 4, 5, 6, 7, 8, 12, 15, 16] {
+            let c = Cosine::new(n);
+            let x: Vec<Complex<f64>> = (0..n)
+                .map(|j| {
+                    Complex::new(
+                        1.0 + (j * 7 % 5) as f64 * 0.3,
+                        -0.5 + (j * 3 % 4) as f64 * 0.7,
+                    )
+                })
+                .collect();
+            let mut v = vec![Complex::new(0.0, 0.0); n];
+            let mut work = vec![Complex::new(0.0, 0.0); c.scratch_len()];
+            let arg = |j: usize, k: usize| PI * ((2 * j + 1) * k) as f64 / (2 * n) as f64;
+            let mut f = x.clone();
+            c.forward(&mut f, &mut v, &mut work);
+            for (k, got) in f.iter().enumerate() {
+                let want: Complex<f64> = (0..n).map(|j| x[j] * arg(j, k).cos()).sum();
+                assert!(
+                    (got - want).norm() < 1e-12 * n as f64,
+                    "II, n = {n}, k = {k}: {got} vs {want}"
+                );
+            }
+            let mut b = x.clone();
+            c.inverse(&mut b, &mut v, &mut work);
+            for (j, got) in b.iter().enumerate() {
+                let want =
+                    x[0] * 0.5 + (1..n).map(|k| x[k] * arg(j, k).cos()).sum::<Complex<f64>>();
+                assert!(
+                    (got - want).norm() < 1e-12 * n as f64,
+                    "III, n = {n}, j = {j}: {got} vs {want}"
+                );
+            }
+        }
+    }
+
+    /// The mirrored product equals the whole circulant's on the mirrored data (the columns
+    /// right of the axis), for the padded operator and the wrapped inverse kernel, on half
+    /// widths below, at and above the period's half, odd and even lengths along the axis.
+    #[test]
+    fn the_mirrored_product_is_the_whole_circulants() {
+        let kernel = |di: usize, dj: usize| loop_field(di as f64 * 0.3, dj as f64 * 0.3, 0.3);
+        for (m, ny, n, py, invert) in [
+            (1, 1, 2, 2, false),
+            (3, 5, 6, 10, false),
+            (4, 7, 8, 15, false),
+            (5, 4, 5, 9, true),
+            (6, 9, 8, 9, true),
+            (12, 20, 25, 40, false),
+        ] {
+            let mirrored = Mirrored::new(n, py, kernel, invert);
+            let whole = Circulant::new(2 * n, py, kernel, invert);
+            let half: Vec<f64> = (0..m * ny)
+                .map(|k| 0.5 + ((k * 11) % 7) as f64 * 0.25)
+                .collect();
+            // The whole data: column m + u is the half's column u, column m − 1 − u its mirror.
+            let mut full = vec![0.0; 2 * m * ny];
+            for u in 0..m {
+                for j in 0..ny {
+                    full[(m + u) * ny + j] = half[u * ny + j];
+                    full[(m - 1 - u) * ny + j] = half[u * ny + j];
+                }
+            }
+            let want = whole.apply(&full, 2 * m, ny);
+            let got = mirrored.apply(&half, m, ny);
+            let top = want.iter().fold(0.0_f64, |a, v| a.max(v.abs()));
+            for u in 0..m {
+                for j in 0..ny {
+                    let (g, w) = (got[u * ny + j], want[(m + u) * ny + j]);
+                    assert!(
+                        (g - w).abs() < 1e-12 * top,
+                        "{m} × {ny} in {n} × {py}: {g} vs {w}"
+                    );
+                }
+            }
+        }
     }
 
     /// The tiled transposes move every value where the plain loops put it: whole arrays, padded
