@@ -19,8 +19,10 @@
 //! the copper cells' ψ; the kernel depends on the offset between cells only, so it is applied
 //! by FFT (realfft and rustfft) and solved by conjugate gradients, preconditioned by the inverse
 //! of the same kernel wrapped onto a circulant of the grid's size (Strang's circulant). The
-//! flux through the loop (the cells
-//! inside the centreline that are not copper) follows from ψ.
+//! outline is mirror-symmetric about the loop's axis, and so is ψ: only the half of the grid
+//! right of the axis is solved, its transforms across the axis cosine transforms that take the
+//! mirror images into account ([`Mirrored`]). The flux through the loop (the cells inside the
+//! centreline that are not copper) follows from ψ.
 //!
 //! A thin sheet is not the board: its ring alone passes 12–17 % more flux (with the cells) than the 1.5 mm
 //! shield of the FDTD, whose thickness the axisymmetric solution takes into account. The
