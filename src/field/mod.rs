@@ -511,10 +511,11 @@ pub fn ground_charge(
 
 /// The rough solutions' conjugate-gradient tolerance (the preconditioned residual relative to
 /// the right-hand side's): ten times `Draft`'s 1e-5. A rough solution is 3–4 % off the full
-/// one and serves only to bracket a root and give a slope; the tolerance moves it by parts in
-/// 10⁵ of itself at most, and a search's result (polished on full solutions to 1 mΩ, the pad's
-/// gap rounded to a µm) moves by parts in 10⁹ (the demo's widths by a few nm), for about a
-/// quarter fewer iterations (`predict` 2 % less CPU).
+/// one and serves only to bracket a root and give a slope. Cold, on the pad-like CPWG of this
+/// module's tests (gaps 0.15–0.45 mm), it moves Z0 by 0.8–1.9e-5 of itself for 13–14 iterations
+/// instead of 20–21; a search's result (polished on full solutions to 1 mΩ, the pad's gap
+/// rounded to a µm) moved by parts in 10⁹ (the demo's widths by a few nm; `predict` 2 % less
+/// CPU).
 const ROUGH_CG_TOL: f64 = 1e-4;
 
 /// A rough characteristic impedance, Ω, for searches that a full solution then polishes
