@@ -38,6 +38,9 @@ pub(crate) struct System {
     /// Held potentials (0 on free nodes).
     held: Vec<f64>,
     free: Vec<bool>,
+    /// A row of zeros: the couplings and neighbours beyond the grid's first and last rows, for
+    /// the loops over row windows (the product, the pivots, the sweeps).
+    zeros: Vec<f64>,
 }
 
 impl System {
@@ -168,6 +171,7 @@ impl System {
             rhs,
             held,
             free,
+            zeros: vec![0.0; nx],
         }
     }
 
@@ -181,7 +185,7 @@ impl System {
         let nx = self.nx;
         let n = x.len();
         let rows = n / nx;
-        let zeros = vec![0.0; nx];
+        let zeros = &self.zeros[..];
         let mut xy = 0.0;
         for j in 0..rows {
             let o = j * nx;
@@ -192,12 +196,12 @@ impl System {
             let (xs, gs) = if j > 0 {
                 (&x[o - nx..o], &self.ay[o - nx..o])
             } else {
-                (&zeros[..], &zeros[..])
+                (zeros, zeros)
             };
             let (xn, gn) = if j + 1 < rows {
                 (&x[o + nx..o + 2 * nx], &self.ay[o..o + nx])
             } else {
-                (&zeros[..], &zeros[..])
+                (zeros, zeros)
             };
             if nx == 1 {
                 yr[0] = dr[0] * xr[0] - gs[0] * xs[0] - gn[0] * xn[0];
@@ -263,7 +267,7 @@ impl System {
             };
             1.0 / d
         };
-        let zeros = vec![0.0; nx];
+        let zeros = &self.zeros[..];
         for j0 in (0..rows).step_by(ROWS) {
             let group = ROWS.min(rows - j0);
             // Row j0 + r is at node s − r: its west neighbour was done at step s − 1, and so
@@ -289,10 +293,7 @@ impl System {
             let base = j0 * nx;
             let o = |q: usize| base + q * nx + ROWS - q;
             let (diag, ax, ay) = (&self.diag[..], &self.ax[..], &self.ay[..]);
-            fn cut(v: &[f64], at: usize, l: usize) -> &[f64] {
-                &v[at..at + l]
-            }
-            let win = |v, at| cut(v, at, l);
+            let win = |v, at| window(v, at, l);
             let (dg0, dg1, dg2, dg3) = (
                 win(diag, o(0)),
                 win(diag, o(1)),
@@ -360,7 +361,6 @@ impl System {
     fn factor(&self, omega: f64) -> Factor {
         Factor {
             dinv: self.mic_inverse(omega),
-            zeros: vec![0.0; self.nx],
         }
     }
 
@@ -412,7 +412,7 @@ impl System {
     /// The forward sweep over rows j0 … j0 + [`ROWS`] − 1 (or fewer at the top; those below
     /// are done): u_k = e_k·r_k + a_(k−nx,k)·e_k·u_(k−nx) + a_(k−1,k)·e_k·u_(k−1), e_k the
     /// inverse pivot (`dinv`), row j0 + q at node s − q at step s.
-    fn forward<'s>(&'s self, f: &'s Factor, r: &'s [f64], z: &mut [f64], j0: usize) {
+    fn forward(&self, f: &Factor, r: &[f64], z: &mut [f64], j0: usize) {
         let nx = self.nx;
         let group = ROWS.min(z.len() / nx - j0);
         let base = j0 * nx;
@@ -438,7 +438,7 @@ impl System {
                 let south0: &[f64] = if j0 > 0 {
                     &below[base - nx + ROWS..base - nx + ROWS + l]
                 } else {
-                    &f.zeros[..l]
+                    &self.zeros[..l]
                 };
                 let (z0, rest) = rest.split_at_mut(nx);
                 let (z1, rest) = rest.split_at_mut(nx);
@@ -450,12 +450,12 @@ impl System {
                 let z3 = &mut z3[ROWS - 3..ROWS - 3 + l];
                 // Row q's node at step ROWS + t: column ROWS − q + t, from offset o(q) + t.
                 let o = |q: usize| base + q * nx + ROWS - q;
-                let win = |v: &'s [f64], at: usize| &v[at..at + l];
+                let win = |v, at| window(v, at, l);
                 let south_at = |q: usize| {
                     if j0 + q > 0 {
                         win(ay, o(q) - nx)
                     } else {
-                        win(&f.zeros, 0)
+                        win(&self.zeros, 0)
                     }
                 };
                 let (r0, r1, r2, r3) = (win(r, o(0)), win(r, o(1)), win(r, o(2)), win(r, o(3)));
@@ -486,7 +486,7 @@ impl System {
     /// The backward sweep over rows j0 … top − 1 (those above are done):
     /// z_k = u_k + e_k·a_(k,k+nx)·z_(k+nx) + e_k·a_(k,k+1)·z_(k+1), e_k the inverse pivot,
     /// row top − 1 − q at node nx − 1 − (s − q) at step s.
-    fn backward<'s>(&'s self, f: &'s Factor, z: &mut [f64], j0: usize, top: usize) {
+    fn backward(&self, f: &Factor, z: &mut [f64], j0: usize, top: usize) {
         let nx = self.nx;
         let n = z.len();
         let (d, ax, ay) = (&f.dinv, &self.ax, &self.ay);
@@ -511,7 +511,7 @@ impl System {
                 let north0: &[f64] = if top * nx < n {
                     &above[..l]
                 } else {
-                    &f.zeros[..l]
+                    &self.zeros[..l]
                 };
                 let blk = &mut lower[(top - ROWS) * nx..];
                 let (z3, rest) = blk.split_at_mut(nx);
@@ -524,14 +524,14 @@ impl System {
                 let z2 = &mut z2[2..2 + l];
                 let z3 = &mut z3[3..3 + l];
                 let o = |q: usize| (top - 1 - q) * nx + q;
-                let win = |v: &'s [f64], at: usize| &v[at..at + l];
+                let win = |v, at| window(v, at, l);
                 let (d0, d1, d2, d3) = (win(d, o(0)), win(d, o(1)), win(d, o(2)), win(d, o(3)));
                 let (e0a, e1a, e2a, e3a) =
                     (win(ax, o(0)), win(ax, o(1)), win(ax, o(2)), win(ax, o(3)));
                 let n0a = if top * nx < n {
                     win(ay, o(0))
                 } else {
-                    win(&f.zeros, 0)
+                    win(&self.zeros, 0)
                 };
                 let (n1a, n2a, n3a) = (win(ay, o(1)), win(ay, o(2)), win(ay, o(3)));
                 let [mut e0, mut e1, mut e2, mut e3] = last;
@@ -650,6 +650,11 @@ impl System {
     }
 }
 
+/// The `len` values of `v` from `at`: a row's window for the loops indexed by the step alone.
+fn window(v: &[f64], at: usize, len: usize) -> &[f64] {
+    &v[at..at + len]
+}
+
 /// One triangular sweep over `group` rows on a front skewed by one node per row: row q is at
 /// node `at(s, q)` at step s, for s − q in 0…nx − 1, so each node's neighbour along its row and
 /// its neighbour in the row before it on the front were both done at the step before.
@@ -717,9 +722,6 @@ const ROWS: usize = 4;
 struct Factor {
     /// Inverse pivots.
     dinv: Vec<f64>,
-    /// A row of zeros: the coupling and the neighbour beyond the grid's first row (forward)
-    /// and last row (backward), for the sweeps' windows.
-    zeros: Vec<f64>,
 }
 
 /// Bilinear prolongation of a potential from a grid to the grid with every cell halved.
